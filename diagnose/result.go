@@ -1,0 +1,113 @@
+package diagnose
+
+import "github.com/beatnote/beatnote/parse"
+
+// Verdict is the judgement of one port or one criterion.
+type Verdict string
+
+// The verdicts, from best to worst; NoData means nothing could be judged.
+const (
+	Pass     Verdict = "pass"
+	Marginal Verdict = "marginal"
+	Fail     Verdict = "fail"
+	NoData   Verdict = "no-data"
+)
+
+// Severity orders verdicts for worst-first sorting: fail 3, marginal 2, no-data 1, pass 0.
+func (v Verdict) Severity() int {
+	switch v {
+	case Fail:
+		return 3
+	case Marginal:
+		return 2
+	case NoData:
+		return 1
+	}
+	return 0
+}
+
+// The cause ids of the design contract.
+const (
+	CauseOSNRLow      = "osnr-low"
+	CauseRxPowerLow   = "rx-power-low"
+	CauseRxOverload   = "rx-overload"
+	CauseCDMismatch   = "cd-mismatch"
+	CauseCDOverLimit  = "cd-over-limit"
+	CausePMD          = "pmd"
+	CauseSOPTransient = "sop-transient"
+	CausePDLHigh      = "pdl-high"
+	CauseLOOffset     = "lo-offset"
+	CauseNonlinear    = "nonlinear"
+	CauseSignalLoss   = "signal-loss"
+)
+
+// Result is the machine-readable outcome of check and triage (the JSON of the design contract).
+type Result struct {
+	Tool     string             `json:"tool"`
+	Version  string             `json:"version"`
+	Inputs   []parse.InputStats `json:"inputs"`
+	Ports    []PortResult       `json:"ports"`
+	Rejected []parse.Rejection  `json:"rejected"`
+}
+
+// PortResult is the judgement of one port.
+type PortResult struct {
+	Port    string            `json:"port"`
+	Profile string            `json:"profile"`
+	Circuit string            `json:"circuit,omitempty"`
+	Samples int               `json:"samples"`
+	From    string            `json:"from"` // RFC 3339, UTC
+	To      string            `json:"to"`
+	Verdict Verdict           `json:"verdict"`
+	Causes  []Cause           `json:"causes"`
+	Metrics map[string]Metric `json:"metrics"`
+	// Criteria is the criteria table: one row per judged limit.
+	Criteria []Criterion `json:"criteria,omitempty"`
+	// PlanVsMeasured compares the link plan's expectations with the measurements.
+	PlanVsMeasured []PlanComparison `json:"plan_vs_measured,omitempty"`
+	// NotJudged says what could not be judged and why (no plan, quantity missing, …).
+	NotJudged []string `json:"not_judged,omitempty"`
+}
+
+// Cause is one likely physical cause with the evidence for it.
+type Cause struct {
+	ID         string   `json:"id"`
+	Confidence float64  `json:"confidence"` // 0…1
+	Evidence   []string `json:"evidence"`
+	Actions    []string `json:"actions,omitempty"`
+}
+
+// Metric summarises one quantity of a port, measured or derived. Limit and Margin are nil where
+// no limit applies. Margin is positive when inside the limit.
+type Metric struct {
+	Min     float64  `json:"min"`
+	P50     float64  `json:"p50"`
+	P99     float64  `json:"p99"`
+	Max     float64  `json:"max"`
+	Limit   *float64 `json:"limit"`
+	Margin  *float64 `json:"margin"`
+	Unit    string   `json:"unit,omitempty"`
+	Derived bool     `json:"derived,omitempty"`
+}
+
+// Criterion is one row of the criteria table.
+type Criterion struct {
+	Name      string  `json:"name"`      // e.g. "Q-factor margin to FEC threshold"
+	Metric    string  `json:"metric"`    // canonical column name or derived metric key
+	Statistic string  `json:"statistic"` // which statistic is judged: min, p99, max, …
+	Measured  float64 `json:"measured"`
+	Limit     float64 `json:"limit"`
+	Margin    float64 `json:"margin"`
+	Unit      string  `json:"unit"`
+	Verdict   Verdict `json:"verdict"`
+	Source    string  `json:"source,omitempty"` // where the limit comes from
+}
+
+// PlanComparison is one quantity the link plan predicts, next to what was measured.
+type PlanComparison struct {
+	Quantity string  `json:"quantity"`
+	Expected float64 `json:"expected"`
+	Measured float64 `json:"measured"`
+	Unit     string  `json:"unit"`
+	Note     string  `json:"note,omitempty"`
+}

@@ -1,0 +1,140 @@
+// Package parse reads coherent-transceiver telemetry exports (canonical CSV, JSON Lines and
+// OpenConfig-shaped telemetry JSON) into normalised per-port time series, accounting for every
+// input row: each is used, or rejected with its file, line and reason.
+//
+// Units are normalised once, on read, to the units of the canonical CSV (see docs/formats.md).
+package parse
+
+import (
+	"fmt"
+	"math"
+	"strings"
+)
+
+// Quantity identifies one measured quantity of the canonical CSV (every column but time and port).
+type Quantity uint8
+
+// The quantities, in canonical column order. Each is stored in the unit its column name carries.
+const (
+	PreFECBER         Quantity = iota // pre-FEC bit error ratio, 0…0.5
+	PostFECBER                        // post-FEC bit error ratio
+	UncorrectedBlocks                 // uncorrectable FEC blocks in the interval, count
+	QdB                               // Q-factor, dB (20·log10 Q)
+	ESNRdB                            // electrical SNR estimate, dB
+	OSNRdB                            // OSNR in 0.1 nm (12.5 GHz), dB
+	CDpsPerNm                         // chromatic dispersion, ps/nm
+	DGDps                             // differential group delay, ps
+	PDLdB                             // polarization dependent loss, dB
+	SOPRateKradPerS                   // state-of-polarization rate of change, krad/s
+	LOOffsetMHz                       // carrier frequency offset, MHz
+	RxPowerDBm                        // received optical power, dBm
+	TxPowerDBm                        // transmitted optical power, dBm
+	FrequencyTHz                      // channel centre frequency, THz
+	NumQuantities                     // number of quantities; not a quantity
+)
+
+var quantityColumns = [NumQuantities]string{
+	"pre_fec_ber", "post_fec_ber", "uncorrected_blocks", "q_db", "esnr_db", "osnr_db",
+	"cd_ps_nm", "dgd_ps", "pdl_db", "sop_rate_krad_s", "lo_offset_mhz", "rx_power_dbm",
+	"tx_power_dbm", "frequency_thz",
+}
+
+var quantityUnits = [NumQuantities]string{
+	"", "", "blocks", "dB", "dB", "dB", "ps/nm", "ps", "dB", "krad/s", "MHz", "dBm", "dBm", "THz",
+}
+
+// Column is the canonical CSV column name of q, e.g. "rx_power_dbm".
+func (q Quantity) Column() string {
+	if q >= NumQuantities {
+		return fmt.Sprintf("quantity(%d)", q)
+	}
+	return quantityColumns[q]
+}
+
+// String is the canonical column name.
+func (q Quantity) String() string { return q.Column() }
+
+// Unit is the unit q is stored and printed in ("" for ratios).
+func (q Quantity) Unit() string {
+	if q >= NumQuantities {
+		return ""
+	}
+	return quantityUnits[q]
+}
+
+// QuantityByColumn finds a quantity by its exact canonical column name.
+func QuantityByColumn(name string) (Quantity, bool) {
+	for i, c := range quantityColumns {
+		if c == strings.ToLower(name) {
+			return Quantity(i), true
+		}
+	}
+	return 0, false
+}
+
+// Series is the time-ordered telemetry of one port. TimesMs holds Unix milliseconds (UTC),
+// strictly ascending. Values[q] is nil when the port never reported q, otherwise it has the
+// length of TimesMs with NaN where a sample lacks q.
+type Series struct {
+	Port    string
+	TimesMs []int64
+	Values  [NumQuantities][]float64
+}
+
+// Len is the number of sample times.
+func (s *Series) Len() int { return len(s.TimesMs) }
+
+// Has reports whether the port has at least one finite value of q.
+func (s *Series) Has(q Quantity) bool {
+	for _, v := range s.Values[q] {
+		if !math.IsNaN(v) {
+			return true
+		}
+	}
+	return false
+}
+
+// Present returns the finite values of q, in time order, with their times.
+func (s *Series) Present(q Quantity) (timesMs []int64, values []float64) {
+	for i, v := range s.Values[q] {
+		if !math.IsNaN(v) {
+			timesMs = append(timesMs, s.TimesMs[i])
+			values = append(values, v)
+		}
+	}
+	return timesMs, values
+}
+
+// Dataset is everything read from a set of inputs: the per-port series, sorted by port, and the
+// accounting of every input.
+type Dataset struct {
+	Series   []*Series
+	Inputs   []InputStats
+	Rejected []Rejection // in input order; at most MaxRejectionsKept are kept, the counts stay complete
+}
+
+// MaxRejectionsKept bounds the rejections a Dataset keeps in memory; the counts in Inputs stay
+// complete. Output writers show at most the first 1000.
+const MaxRejectionsKept = 10000
+
+// InputStats accounts for one input file: RowsRead = RowsUsed + RowsRejected always holds.
+// RowsRead counts data records, not the header and not blank lines.
+type InputStats struct {
+	File         string `json:"file"`
+	SHA256       string `json:"sha256"`
+	Format       string `json:"format"`
+	RowsRead     int    `json:"rows_read"`
+	RowsUsed     int    `json:"rows_used"`
+	RowsRejected int    `json:"rows_rejected"`
+	// Duplicates counts used rows whose (port, time) an earlier row already had; the later row wins.
+	Duplicates int `json:"duplicates_replaced"`
+}
+
+// Rejection says why one input row was not used.
+type Rejection struct {
+	File   string `json:"file"`
+	Line   int    `json:"line"`
+	Column int    `json:"column,omitempty"`
+	Field  string `json:"field,omitempty"`
+	Reason string `json:"reason"`
+}
