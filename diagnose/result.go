@@ -67,6 +67,8 @@ type PortResult struct {
 	PlanVsMeasured []PlanComparison `json:"plan_vs_measured,omitempty"`
 	// NotJudged says what could not be judged and why (no plan, quantity missing, …).
 	NotJudged []string `json:"not_judged,omitempty"`
+	// Analysis holds the time-series findings for charts (change points, bursts, trends, fits).
+	Analysis *PortAnalysis `json:"-"`
 }
 
 // Cause is one likely physical cause with the evidence for it.
