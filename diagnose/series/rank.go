@@ -1,0 +1,121 @@
+package series
+
+import (
+	"math"
+	"sort"
+
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// Ranks returns the 1-based ranks of v, ties given their average rank (the "fractional" ranking
+// Spearman's coefficient needs). v must not hold NaN.
+func Ranks(v []float64) []float64 {
+	order := make([]int, len(v))
+	for i := range order {
+		order[i] = i
+	}
+	sort.SliceStable(order, func(a, b int) bool { return v[order[a]] < v[order[b]] })
+	r := make([]float64, len(v))
+	for i := 0; i < len(order); {
+		j := i
+		for j+1 < len(order) && v[order[j+1]] == v[order[i]] {
+			j++
+		}
+		avg := float64(i+j)/2 + 1
+		for k := i; k <= j; k++ {
+			r[order[k]] = avg
+		}
+		i = j + 1
+	}
+	return r
+}
+
+// Spearman returns Spearman's rank correlation ρ of the pairs where x and y are both finite —
+// Pearson's correlation of their fractional ranks, which handles ties — with the number of pairs
+// and the two-sided p-value of ρ = 0 from the approximation t = ρ·√((n−2)/(1−ρ²)) with Student's t
+// on n−2 degrees of freedom. Sources: C. Spearman, Amer. J. Psychol. 15(1), 1904; J. H. Zar,
+// Biostatistical Analysis, 5th ed., §19.9 (the t approximation; the method of scipy.stats.spearmanr).
+// ρ is NaN with fewer than 3 pairs or when either side is constant; p is NaN with fewer than 4 pairs.
+func Spearman(x, y []float64) (rho float64, n int, p float64) {
+	if len(x) != len(y) {
+		panic("series: Spearman: x and y differ in length")
+	}
+	var xs, ys []float64
+	for i := range x {
+		if ok(x[i]) && ok(y[i]) {
+			xs = append(xs, x[i])
+			ys = append(ys, y[i])
+		}
+	}
+	n = len(xs)
+	if n < 3 {
+		return math.NaN(), n, math.NaN()
+	}
+	rx, ry := Ranks(xs), Ranks(ys)
+	mean := float64(n+1) / 2
+	var sxy, sxx, syy float64
+	for i := range rx {
+		dx, dy := rx[i]-mean, ry[i]-mean
+		sxy += dx * dy
+		sxx += dx * dx
+		syy += dy * dy
+	}
+	if sxx == 0 || syy == 0 {
+		return math.NaN(), n, math.NaN()
+	}
+	rho = sxy / math.Sqrt(sxx*syy)
+	rho = math.Max(-1, math.Min(1, rho))
+	if n < 4 {
+		return rho, n, math.NaN()
+	}
+	if math.Abs(rho) == 1 {
+		return rho, n, 0
+	}
+	t := rho * math.Sqrt(float64(n-2)/(1-rho*rho))
+	st := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(n - 2)}
+	p = 2 * st.Survival(math.Abs(t))
+	return rho, n, p
+}
+
+// KSStatistic returns the Kolmogorov–Smirnov statistic D = sup|F_n(x) − F(x)| of the ascending
+// sample `sorted` (no NaN) against the continuous distribution function cdf:
+// D = max_i max(i/n − F(x_i), F(x_i) − (i−1)/n). NaN for an empty sample.
+// Source: W. H. Press et al., Numerical Recipes, 3rd ed., §14.3.3.
+func KSStatistic(sorted []float64, cdf func(float64) float64) float64 {
+	n := len(sorted)
+	if n == 0 {
+		return math.NaN()
+	}
+	d := 0.0
+	for i, x := range sorted {
+		f := cdf(x)
+		d = math.Max(d, math.Max(float64(i+1)/float64(n)-f, f-float64(i)/float64(n)))
+	}
+	return d
+}
+
+// KSPValue returns the asymptotic significance of a one-sample Kolmogorov–Smirnov statistic d
+// from n samples: Q_KS(λ) = 2·Σ_{k≥1} (−1)^{k−1}·exp(−2k²λ²) with Stephens' correction
+// λ = (√n + 0.12 + 0.11/√n)·d. Sources: M. A. Stephens, J. Roy. Statist. Soc. B 32(1), 1970;
+// Numerical Recipes, 3rd ed., §14.3.3. When the distribution's parameter was estimated from
+// the same sample the value is conservative (too large). NaN for n < 1 or NaN d.
+func KSPValue(d float64, n int) float64 {
+	if n < 1 || math.IsNaN(d) {
+		return math.NaN()
+	}
+	sn := math.Sqrt(float64(n))
+	lambda := (sn + 0.12 + 0.11/sn) * d
+	if lambda < 0.2 {
+		return 1
+	}
+	sum, sign := 0.0, 1.0
+	for k := 1; k <= 100; k++ {
+		term := sign * math.Exp(-2*float64(k*k)*lambda*lambda)
+		sum += term
+		if math.Abs(term) < 1e-12*math.Abs(sum) {
+			break
+		}
+		sign = -sign
+	}
+	return math.Max(0, math.Min(1, 2*sum))
+}

@@ -1,0 +1,111 @@
+// Package series holds the time-series statistics the diagnosis engine uses: order statistics,
+// straight-line trends with their standard error, change points in the mean, runs above a
+// threshold and their coincidence across two series, Spearman rank correlation, and the
+// Kolmogorov–Smirnov goodness-of-fit statistic.
+//
+// Conventions: values are float64 with NaN meaning "missing"; functions that summarise a series
+// skip NaN and return NaN when nothing finite is left. Times are Unix milliseconds (UTC), in
+// ascending order. Misuse (slices of different lengths) panics with a "series:" message.
+package series
+
+import (
+	"math"
+	"sort"
+)
+
+// Finite returns the finite values of v in order (a new slice).
+func Finite(v []float64) []float64 {
+	out := make([]float64, 0, len(v))
+	for _, x := range v {
+		if !math.IsNaN(x) && !math.IsInf(x, 0) {
+			out = append(out, x)
+		}
+	}
+	return out
+}
+
+// Quantile returns the p-quantile (0 ≤ p ≤ 1) of sorted, an ascending slice without NaN, by
+// linear interpolation between order statistics: with h = (n−1)·p, Q = x[⌊h⌋] + (h−⌊h⌋)·(x[⌊h⌋+1] − x[⌊h⌋]).
+// This is definition 7 of R. J. Hyndman and Y. Fan, "Sample quantiles in statistical packages",
+// The American Statistician 50(4), 1996 — the default of R and of numpy.percentile.
+// Empty input or p outside [0, 1] gives NaN.
+func Quantile(sorted []float64, p float64) float64 {
+	n := len(sorted)
+	if n == 0 || !(p >= 0 && p <= 1) {
+		return math.NaN()
+	}
+	h := float64(n-1) * p
+	lo := int(math.Floor(h))
+	if lo >= n-1 {
+		return sorted[n-1]
+	}
+	return sorted[lo] + (h-float64(lo))*(sorted[lo+1]-sorted[lo])
+}
+
+// Summary holds order statistics of a series (quantiles by Hyndman–Fan definition 7).
+type Summary struct {
+	N                  int
+	Min, P01, P50, P99 float64
+	Max, Mean          float64
+}
+
+// Summarize returns the order statistics and mean of the finite values of v; with none, N is
+// 0 and every statistic NaN.
+func Summarize(v []float64) Summary {
+	f := Finite(v)
+	if len(f) == 0 {
+		nan := math.NaN()
+		return Summary{Min: nan, P01: nan, P50: nan, P99: nan, Max: nan, Mean: nan}
+	}
+	sort.Float64s(f)
+	sum := 0.0
+	for _, x := range f {
+		sum += x
+	}
+	return Summary{
+		N: len(f), Min: f[0], Max: f[len(f)-1],
+		P01: Quantile(f, 0.01), P50: Quantile(f, 0.5), P99: Quantile(f, 0.99),
+		Mean: sum / float64(len(f)),
+	}
+}
+
+// MedianAbsDev returns the median absolute deviation from the median of the finite values of v
+// (unscaled; multiply by 1.4826 for a consistent estimate of a Gaussian σ — F. R. Hampel,
+// J. Amer. Statist. Assoc. 69(346), 1974). NaN when v has no finite value.
+func MedianAbsDev(v []float64) float64 {
+	f := Finite(v)
+	if len(f) == 0 {
+		return math.NaN()
+	}
+	sort.Float64s(f)
+	med := Quantile(f, 0.5)
+	d := make([]float64, len(f))
+	for i, x := range f {
+		d[i] = math.Abs(x - med)
+	}
+	sort.Float64s(d)
+	return Quantile(d, 0.5)
+}
+
+// NoiseSigma estimates the standard deviation of the white noise on a piecewise-constant or
+// slowly varying series from its first differences: σ ≈ 1.4826·MAD(Δx)/√2. Steps and trends
+// barely affect it because they touch few differences. Source: the estimator used for change-point
+// thresholds in P. Fryzlewicz, "Wild binary segmentation for multiple change-point detection",
+// Ann. Statist. 42(6), 2014, §3. NaN with fewer than 3 finite values.
+func NoiseSigma(v []float64) float64 {
+	f := Finite(v)
+	if len(f) < 3 {
+		return math.NaN()
+	}
+	d := make([]float64, len(f)-1)
+	for i := 1; i < len(f); i++ {
+		d[i-1] = f[i] - f[i-1]
+	}
+	sort.Float64s(d)
+	med := Quantile(d, 0.5)
+	for i := range d {
+		d[i] = math.Abs(d[i] - med)
+	}
+	sort.Float64s(d)
+	return 1.4826 * Quantile(d, 0.5) / math.Sqrt2
+}
