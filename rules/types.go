@@ -35,6 +35,9 @@ type Profile struct {
 	RxPowerMaxDBm    float64 `yaml:"rx_power_max_dbm" json:"rx_power_max_dbm"`
 	TxPowerMinDBm    float64 `yaml:"tx_power_min_dbm" json:"tx_power_min_dbm"`
 	TxPowerMaxDBm    float64 `yaml:"tx_power_max_dbm" json:"tx_power_max_dbm"`
+	// FrequencyMinTHz and FrequencyMaxTHz bound the tunable range (0 when not stated).
+	FrequencyMinTHz float64 `yaml:"frequency_min_thz" json:"frequency_min_thz,omitempty"`
+	FrequencyMaxTHz float64 `yaml:"frequency_max_thz" json:"frequency_max_thz,omitempty"`
 	// HazardLevel is the IEC 60825-2 hazard level of the interface, e.g. "1M".
 	HazardLevel string `yaml:"hazard_level" json:"hazard_level"`
 	// Sources names where each figure comes from, keyed by the figure's name.

@@ -1,0 +1,305 @@
+package rules
+
+import (
+	_ "embed"
+	"fmt"
+	"os"
+	"reflect"
+	"strings"
+)
+
+//go:embed thresholds.yaml
+var builtinThresholdsYAML []byte
+
+// Statistic names which per-port statistic a criterion judges. For signed quantities (CD, LO
+// offset) the statistic is taken of the absolute value.
+type Statistic string
+
+// The statistics a criterion may judge: those of diagnose.Metric.
+const (
+	StatMin Statistic = "min"
+	StatP50 Statistic = "p50"
+	StatP99 Statistic = "p99"
+	StatMax Statistic = "max"
+)
+
+func (s Statistic) valid() bool {
+	return s == StatMin || s == StatP50 || s == StatP99 || s == StatMax
+}
+
+// Rules are the thresholds the diagnosis judges by: where pass turns marginal (beyond a module
+// limit is always fail), which statistic each criterion judges, the evidence tests of the cause
+// engine, and defaults for link plans. Every value names its source in Sources, keyed by its YAML
+// name. The built-in values live in rules/thresholds.yaml; docs/rules.md explains each.
+type Rules struct {
+	// Marginal bands: a port inside the limit but closer to it than this is marginal.
+
+	// QMarginalMarginDB: Q-factor margin to the FEC-threshold Q (dB, 20·log10 Q) below which the
+	// port is marginal; below 0 dB it fails.
+	QMarginalMarginDB float64 `yaml:"q_marginal_margin_db" json:"q_marginal_margin_db"`
+	// OSNRMarginalMarginDB: OSNR margin to the profile's required OSNR (dB) below which the port
+	// is marginal; below 0 dB it fails.
+	OSNRMarginalMarginDB float64 `yaml:"osnr_marginal_margin_db" json:"osnr_marginal_margin_db"`
+	// RxPowerMarginalBandDB: distance (dB) to either edge of the receiver window within which
+	// the port is marginal; outside the window it fails.
+	RxPowerMarginalBandDB float64 `yaml:"rx_power_marginal_band_db" json:"rx_power_marginal_band_db"`
+	// Fractions of the module tolerance above which the quantity is marginal (fail above 1).
+	CDMarginalFraction       float64 `yaml:"cd_marginal_fraction" json:"cd_marginal_fraction"`
+	DGDMarginalFraction      float64 `yaml:"dgd_marginal_fraction" json:"dgd_marginal_fraction"`
+	PDLMarginalFraction      float64 `yaml:"pdl_marginal_fraction" json:"pdl_marginal_fraction"`
+	SOPRateMarginalFraction  float64 `yaml:"sop_rate_marginal_fraction" json:"sop_rate_marginal_fraction"`
+	LOOffsetMarginalFraction float64 `yaml:"lo_offset_marginal_fraction" json:"lo_offset_marginal_fraction"`
+
+	// Statistics judged per criterion.
+	QStatistic           Statistic `yaml:"q_statistic" json:"q_statistic"`
+	OSNRStatistic        Statistic `yaml:"osnr_statistic" json:"osnr_statistic"`
+	RxPowerLowStatistic  Statistic `yaml:"rx_power_low_statistic" json:"rx_power_low_statistic"`
+	RxPowerHighStatistic Statistic `yaml:"rx_power_high_statistic" json:"rx_power_high_statistic"`
+	CDStatistic          Statistic `yaml:"cd_statistic" json:"cd_statistic"`
+	DGDStatistic         Statistic `yaml:"dgd_statistic" json:"dgd_statistic"`
+	PDLStatistic         Statistic `yaml:"pdl_statistic" json:"pdl_statistic"`
+	SOPRateStatistic     Statistic `yaml:"sop_rate_statistic" json:"sop_rate_statistic"`
+	LOOffsetStatistic    Statistic `yaml:"lo_offset_statistic" json:"lo_offset_statistic"`
+
+	// Cause evidence.
+
+	// CDMismatchRelativeTolerance: |measured − planned| CD above this fraction of |planned| (and
+	// above CDMismatchFloorPsNm) is cd-mismatch evidence.
+	CDMismatchRelativeTolerance float64 `yaml:"cd_mismatch_relative_tolerance" json:"cd_mismatch_relative_tolerance"`
+	CDMismatchFloorPsNm         float64 `yaml:"cd_mismatch_floor_ps_nm" json:"cd_mismatch_floor_ps_nm"`
+	// PMDOutageProbability: the probability of the instantaneous DGD exceeding the module's DGD
+	// tolerance that is accepted; with the Maxwellian it sets the largest mean DGD allowed.
+	PMDOutageProbability float64 `yaml:"pmd_outage_probability" json:"pmd_outage_probability"`
+	// BERBurstFactor: a pre-FEC BER sample above this multiple of the port's median BER is a burst.
+	BERBurstFactor float64 `yaml:"ber_burst_factor" json:"ber_burst_factor"`
+	// SOPSpikeFraction: an SOP-rate sample above this fraction of the module's tracking speed is a
+	// spike.
+	SOPSpikeFraction float64 `yaml:"sop_spike_fraction" json:"sop_spike_fraction"`
+	// CoincidenceWindowS: a BER burst and an SOP spike (or power step) closer than this in time
+	// coincide; the engine widens it to one sample interval when samples are sparser.
+	CoincidenceWindowS float64 `yaml:"coincidence_window_s" json:"coincidence_window_s"`
+	// TrendSignificanceSigma: a trend counts when its slope is this many standard errors from 0.
+	TrendSignificanceSigma float64 `yaml:"trend_significance_sigma" json:"trend_significance_sigma"`
+	// LODriftHorizonH: an LO offset trend projected this far ahead that reaches the capture range
+	// is lo-offset evidence.
+	LODriftHorizonH float64 `yaml:"lo_drift_horizon_h" json:"lo_drift_horizon_h"`
+	// PowerStepDB: a change point in received power at least this large is a step loss (or gain).
+	PowerStepDB float64 `yaml:"power_step_db" json:"power_step_db"`
+	// SignalLossFloorDBm: received power below this means no signal (signal-loss).
+	SignalLossFloorDBm float64 `yaml:"signal_loss_floor_dbm" json:"signal_loss_floor_dbm"`
+	// OSNRGapVsPlanDB: measured (or BER-implied) OSNR this far below the plan's expected OSNR,
+	// with received power normal, is osnr-low evidence.
+	OSNRGapVsPlanDB float64 `yaml:"osnr_gap_vs_plan_db" json:"osnr_gap_vs_plan_db"`
+	// NonlinearSNRGapDB: eSNR this far below the SNR implied by the measured OSNR (after the
+	// module's implementation penalty) is nonlinear evidence.
+	NonlinearSNRGapDB float64 `yaml:"nonlinear_snr_gap_db" json:"nonlinear_snr_gap_db"`
+	// NonlinearLaunchPowerDBm: per-channel launch power above which fibre nonlinearity is a
+	// plausible cause.
+	NonlinearLaunchPowerDBm float64 `yaml:"nonlinear_launch_power_dbm" json:"nonlinear_launch_power_dbm"`
+	// CorrelationMinSpearman: rank correlation of BER with another quantity (DGD, power) at least
+	// this strong counts as evidence.
+	CorrelationMinSpearman float64 `yaml:"correlation_min_spearman" json:"correlation_min_spearman"`
+	// MinSamplesForTrend: fewer samples than this give no trend, change point or fit.
+	MinSamplesForTrend int `yaml:"min_samples_for_trend" json:"min_samples_for_trend"`
+
+	// Link-plan defaults.
+
+	ConnectorLossDB        float64 `yaml:"connector_loss_db" json:"connector_loss_db"`
+	SpliceLossDB           float64 `yaml:"splice_loss_db" json:"splice_loss_db"`
+	AmplifierNoiseFigureDB float64 `yaml:"amplifier_noise_figure_db" json:"amplifier_noise_figure_db"`
+	// Fibers holds typical figures at 1550 nm per fibre type of a plan's span.
+	Fibers Fibers `yaml:"fibers" json:"fibers"`
+
+	// Sources names where each value comes from, keyed by its YAML name ("fibers.g652.…" for
+	// fibre figures).
+	Sources map[string]string `yaml:"sources" json:"sources"`
+}
+
+// Fibers are the fibre types a plan's span may name (besides "custom").
+type Fibers struct {
+	G652  Fiber `yaml:"g652" json:"g652"`
+	G654E Fiber `yaml:"g654e" json:"g654e"`
+	G655  Fiber `yaml:"g655" json:"g655"`
+}
+
+// Fiber holds the typical figures of one fibre type at 1550 nm.
+type Fiber struct {
+	DispersionPsNmKm   float64 `yaml:"dispersion_ps_nm_km" json:"dispersion_ps_nm_km"`
+	SlopePsNm2Km       float64 `yaml:"slope_ps_nm2_km" json:"slope_ps_nm2_km"`
+	AttenuationDBPerKm float64 `yaml:"attenuation_db_per_km" json:"attenuation_db_per_km"`
+	PMDPsSqrtKm        float64 `yaml:"pmd_ps_sqrt_km" json:"pmd_ps_sqrt_km"`
+	EffectiveAreaUm2   float64 `yaml:"effective_area_um2" json:"effective_area_um2"`
+}
+
+// FiberTypes are the fibre type names a plan's span may use.
+var FiberTypes = []string{"g652", "g654e", "g655", "custom"}
+
+// Fiber returns the typical figures of a fibre type; ok is false for "custom" and unknown names.
+func (r Rules) Fiber(name string) (Fiber, bool) {
+	switch strings.ToLower(name) {
+	case "g652":
+		return r.Fibers.G652, true
+	case "g654e":
+		return r.Fibers.G654E, true
+	case "g655":
+		return r.Fibers.G655, true
+	}
+	return Fiber{}, false
+}
+
+// ruleKeys lists every value of Rules by dotted YAML name, with its reflect path, for source
+// checks and range checks.
+func ruleValues(r *Rules) []ruleValue {
+	var out []ruleValue
+	var walk func(v reflect.Value, prefix string)
+	walk = func(v reflect.Value, prefix string) {
+		t := v.Type()
+		for i := 0; i < t.NumField(); i++ {
+			name, _, _ := strings.Cut(t.Field(i).Tag.Get("yaml"), ",")
+			if name == "sources" {
+				continue
+			}
+			f := v.Field(i)
+			if f.Kind() == reflect.Struct {
+				walk(f, joinPath(prefix, name))
+				continue
+			}
+			out = append(out, ruleValue{key: joinPath(prefix, name), v: f})
+		}
+	}
+	walk(reflect.ValueOf(r).Elem(), "")
+	return out
+}
+
+type ruleValue struct {
+	key string
+	v   reflect.Value
+}
+
+// Validate checks every value's range and that every value names a source. Its error is a
+// *FieldError naming the value at fault.
+func (r Rules) Validate() error {
+	type rng struct {
+		key    string
+		v      float64
+		lo, hi float64
+		unit   string
+	}
+	// Bounds are sanity limits; !(v >= lo && v <= hi) lets NaN fail too.
+	checks := []rng{
+		{"q_marginal_margin_db", r.QMarginalMarginDB, 0, 10, "dB"},
+		{"osnr_marginal_margin_db", r.OSNRMarginalMarginDB, 0, 20, "dB"},
+		{"rx_power_marginal_band_db", r.RxPowerMarginalBandDB, 0, 20, "dB"},
+		{"cd_marginal_fraction", r.CDMarginalFraction, 0, 1, ""},
+		{"dgd_marginal_fraction", r.DGDMarginalFraction, 0, 1, ""},
+		{"pdl_marginal_fraction", r.PDLMarginalFraction, 0, 1, ""},
+		{"sop_rate_marginal_fraction", r.SOPRateMarginalFraction, 0, 1, ""},
+		{"lo_offset_marginal_fraction", r.LOOffsetMarginalFraction, 0, 1, ""},
+		{"cd_mismatch_relative_tolerance", r.CDMismatchRelativeTolerance, 0.001, 1, ""},
+		{"cd_mismatch_floor_ps_nm", r.CDMismatchFloorPsNm, 0, 10000, "ps/nm"},
+		{"ber_burst_factor", r.BERBurstFactor, 1.0001, 1e6, ""},
+		{"sop_spike_fraction", r.SOPSpikeFraction, 0.001, 10, ""},
+		{"coincidence_window_s", r.CoincidenceWindowS, 0, 86400, "s"},
+		{"trend_significance_sigma", r.TrendSignificanceSigma, 0.5, 20, "σ"},
+		{"lo_drift_horizon_h", r.LODriftHorizonH, 0.01, 24 * 365, "h"},
+		{"power_step_db", r.PowerStepDB, 0.05, 40, "dB"},
+		{"signal_loss_floor_dbm", r.SignalLossFloorDBm, -80, 0, "dBm"},
+		{"osnr_gap_vs_plan_db", r.OSNRGapVsPlanDB, 0.1, 30, "dB"},
+		{"nonlinear_snr_gap_db", r.NonlinearSNRGapDB, 0.1, 30, "dB"},
+		{"nonlinear_launch_power_dbm", r.NonlinearLaunchPowerDBm, -20, 30, "dBm"},
+		{"correlation_min_spearman", r.CorrelationMinSpearman, 0.05, 1, ""},
+		{"min_samples_for_trend", float64(r.MinSamplesForTrend), 3, 1e7, "samples"},
+		{"connector_loss_db", r.ConnectorLossDB, 0, 5, "dB"},
+		{"splice_loss_db", r.SpliceLossDB, 0, 5, "dB"},
+		{"amplifier_noise_figure_db", r.AmplifierNoiseFigureDB, 3, 20, "dB"},
+	}
+	for name, f := range map[string]Fiber{"g652": r.Fibers.G652, "g654e": r.Fibers.G654E, "g655": r.Fibers.G655} {
+		p := "fibers." + name + "."
+		checks = append(checks,
+			rng{p + "dispersion_ps_nm_km", f.DispersionPsNmKm, -30, 30, "ps/(nm·km)"},
+			rng{p + "slope_ps_nm2_km", f.SlopePsNm2Km, -1, 1, "ps/(nm²·km)"},
+			rng{p + "attenuation_db_per_km", f.AttenuationDBPerKm, 0.1, 1, "dB/km"},
+			rng{p + "pmd_ps_sqrt_km", f.PMDPsSqrtKm, 0, 5, "ps/√km"},
+			rng{p + "effective_area_um2", f.EffectiveAreaUm2, 10, 500, "µm²"},
+		)
+	}
+	for _, c := range checks {
+		if !(c.v >= c.lo && c.v <= c.hi) {
+			return fieldErr(c.key, ErrRange, "%g %s is outside %g…%g %s", c.v, c.unit, c.lo, c.hi, c.unit)
+		}
+	}
+	if !(r.PMDOutageProbability > 0 && r.PMDOutageProbability < 0.1) {
+		return fieldErr("pmd_outage_probability", ErrRange, "%g is outside (0, 0.1)", r.PMDOutageProbability)
+	}
+	for _, s := range []struct {
+		key string
+		v   Statistic
+	}{
+		{"q_statistic", r.QStatistic}, {"osnr_statistic", r.OSNRStatistic},
+		{"rx_power_low_statistic", r.RxPowerLowStatistic}, {"rx_power_high_statistic", r.RxPowerHighStatistic},
+		{"cd_statistic", r.CDStatistic}, {"dgd_statistic", r.DGDStatistic}, {"pdl_statistic", r.PDLStatistic},
+		{"sop_rate_statistic", r.SOPRateStatistic}, {"lo_offset_statistic", r.LOOffsetStatistic},
+	} {
+		if !s.v.valid() {
+			return fieldErr(s.key, ErrRange, "%q is not one of min, p50, p99, max", s.v)
+		}
+	}
+	known := map[string]bool{}
+	for _, rv := range ruleValues(&r) {
+		known[rv.key] = true
+		if strings.TrimSpace(r.Sources[rv.key]) == "" {
+			return fieldErr("sources."+rv.key, ErrMissing, "value %s has no source (a standard, \"from memory\", \"common practice\" or \"derived: …\")", rv.key)
+		}
+	}
+	for key := range r.Sources {
+		if !known[key] {
+			return fieldErr("sources."+key, ErrUnknownField, "no value is named %q", key)
+		}
+	}
+	return nil
+}
+
+// DefaultRules returns the built-in threshold rules (rules/thresholds.yaml), validated.
+func DefaultRules() (Rules, error) {
+	var r Rules
+	if _, _, err := decodeStrict("thresholds.yaml (built in)", builtinThresholdsYAML, &r); err != nil {
+		return Rules{}, err
+	}
+	if err := r.Validate(); err != nil {
+		return Rules{}, fmt.Errorf("thresholds.yaml (built in): %w", err)
+	}
+	return r, nil
+}
+
+// LoadRules returns the built-in rules with the values of the file at path overriding them one
+// by one. A value the file sets without a source gets the source "user rules file <path>".
+func LoadRules(path string) (Rules, error) {
+	r, err := DefaultRules()
+	if err != nil {
+		return Rules{}, err
+	}
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return Rules{}, &FileError{File: path, Err: err}
+	}
+	// Decode into a fresh value first to know which keys the file sets, then onto the defaults.
+	var probe Rules
+	_, ix, err := decodeStrict(path, data, &probe)
+	if err != nil {
+		return Rules{}, err
+	}
+	if _, _, err := decodeStrict(path, data, &r); err != nil {
+		return Rules{}, err
+	}
+	for _, rv := range ruleValues(&r) {
+		if _, set := ix[rv.key]; set {
+			if _, sourced := ix["sources."+rv.key]; !sourced {
+				r.Sources[rv.key] = "user rules file " + path
+			}
+		}
+	}
+	if err := r.Validate(); err != nil {
+		return Rules{}, ix.toFileError(path, err)
+	}
+	return r, nil
+}
