@@ -6,6 +6,28 @@ import (
 	"strings"
 )
 
+// FiberTypes are the fibre type names a plan's span may use; the figures of each live with the
+// physics models (diagnose/optics.FiberByName). An empty name means g652.
+var FiberTypes = []string{"g652", "g652-bound", "g654e", "g655", "custom"}
+
+// fiberAliases are further spellings diagnose/optics.FiberByName accepts, after dropping case,
+// dots, dashes, underscores and spaces ("G.652.D" is g652d).
+var fiberAliases = []string{"", "g652", "g652d", "smf", "g652bound", "g655", "g655d", "g655e", "nzdsf", "g654e", "g654"}
+
+// KnownFiber reports whether name is a fibre type a plan's span may use.
+func KnownFiber(name string) bool {
+	if name == "custom" {
+		return true
+	}
+	k := strings.NewReplacer(".", "", "-", "", "_", "", " ", "").Replace(strings.ToLower(name))
+	for _, a := range fiberAliases {
+		if a == k {
+			return true
+		}
+	}
+	return false
+}
+
 // Validate checks a link plan's structure and ranges: at least one span, positive lengths, known
 // fibre types (a "custom" span gives its own dispersion), non-negative counts and losses,
 // amplifiers placed after an existing span with a noise figure of at least 0 dB, and a channel
@@ -74,19 +96,11 @@ func (s Span) validate() error {
 	if !(s.LengthKm > 0 && s.LengthKm <= 20000) {
 		return fieldErr("length_km", ErrRange, "%g km: a span is longer than 0 and at most 20000 km", s.LengthKm)
 	}
-	fiber := strings.ToLower(s.Fiber)
-	known := false
-	for _, f := range FiberTypes {
-		known = known || f == fiber
-	}
-	if !known {
+	if !KnownFiber(s.Fiber) {
 		return fieldErr("fiber", ErrRange, "%q is not one of %s", s.Fiber, strings.Join(FiberTypes, ", "))
 	}
-	if fiber == "custom" && s.DispersionPsNmKm == nil {
+	if s.Fiber == "custom" && s.DispersionPsNmKm == nil {
 		return fieldErr("dispersion_ps_nm_km", ErrMissing, "a custom fibre needs its dispersion")
-	}
-	if fiber == "custom" && s.AttenuationDBPerKm == nil && s.MeasuredLossDB == nil {
-		return fieldErr("attenuation_db_per_km", ErrMissing, "a custom fibre needs its attenuation or a measured loss")
 	}
 	type opt struct {
 		key    string

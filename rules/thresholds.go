@@ -29,7 +29,8 @@ func (s Statistic) valid() bool {
 
 // Rules are the thresholds the diagnosis judges by: where pass turns marginal (beyond a module
 // limit is always fail), which statistic each criterion judges, the evidence tests of the cause
-// engine, and defaults for link plans. Every value names its source in Sources, keyed by its YAML
+// engine. (Fibre figures and the connector, splice and noise-figure defaults of link plans belong
+// to the physics models, diagnose/optics.) Every value names its source in Sources, keyed by its YAML
 // name. The built-in values live in rules/thresholds.yaml; docs/rules.md explains each.
 type Rules struct {
 	// Marginal bands: a port inside the limit but closer to it than this is marginal.
@@ -102,53 +103,11 @@ type Rules struct {
 	// MinSamplesForTrend: fewer samples than this give no trend, change point or fit.
 	MinSamplesForTrend int `yaml:"min_samples_for_trend" json:"min_samples_for_trend"`
 
-	// Link-plan defaults.
-
-	ConnectorLossDB        float64 `yaml:"connector_loss_db" json:"connector_loss_db"`
-	SpliceLossDB           float64 `yaml:"splice_loss_db" json:"splice_loss_db"`
-	AmplifierNoiseFigureDB float64 `yaml:"amplifier_noise_figure_db" json:"amplifier_noise_figure_db"`
-	// Fibers holds typical figures at 1550 nm per fibre type of a plan's span.
-	Fibers Fibers `yaml:"fibers" json:"fibers"`
-
-	// Sources names where each value comes from, keyed by its YAML name ("fibers.g652.…" for
-	// fibre figures).
+	// Sources names where each value comes from, keyed by its YAML name.
 	Sources map[string]string `yaml:"sources" json:"sources"`
 }
 
-// Fibers are the fibre types a plan's span may name (besides "custom").
-type Fibers struct {
-	G652  Fiber `yaml:"g652" json:"g652"`
-	G654E Fiber `yaml:"g654e" json:"g654e"`
-	G655  Fiber `yaml:"g655" json:"g655"`
-}
-
-// Fiber holds the typical figures of one fibre type at 1550 nm.
-type Fiber struct {
-	DispersionPsNmKm   float64 `yaml:"dispersion_ps_nm_km" json:"dispersion_ps_nm_km"`
-	SlopePsNm2Km       float64 `yaml:"slope_ps_nm2_km" json:"slope_ps_nm2_km"`
-	AttenuationDBPerKm float64 `yaml:"attenuation_db_per_km" json:"attenuation_db_per_km"`
-	PMDPsSqrtKm        float64 `yaml:"pmd_ps_sqrt_km" json:"pmd_ps_sqrt_km"`
-	EffectiveAreaUm2   float64 `yaml:"effective_area_um2" json:"effective_area_um2"`
-}
-
-// FiberTypes are the fibre type names a plan's span may use.
-var FiberTypes = []string{"g652", "g654e", "g655", "custom"}
-
-// Fiber returns the typical figures of a fibre type; ok is false for "custom" and unknown names.
-func (r Rules) Fiber(name string) (Fiber, bool) {
-	switch strings.ToLower(name) {
-	case "g652":
-		return r.Fibers.G652, true
-	case "g654e":
-		return r.Fibers.G654E, true
-	case "g655":
-		return r.Fibers.G655, true
-	}
-	return Fiber{}, false
-}
-
-// ruleKeys lists every value of Rules by dotted YAML name, with its reflect path, for source
-// checks and range checks.
+// ruleValues lists every value of Rules by dotted YAML name, for the source checks.
 func ruleValues(r *Rules) []ruleValue {
 	var out []ruleValue
 	var walk func(v reflect.Value, prefix string)
@@ -209,19 +168,6 @@ func (r Rules) Validate() error {
 		{"nonlinear_launch_power_dbm", r.NonlinearLaunchPowerDBm, -20, 30, "dBm"},
 		{"correlation_min_spearman", r.CorrelationMinSpearman, 0.05, 1, ""},
 		{"min_samples_for_trend", float64(r.MinSamplesForTrend), 3, 1e7, "samples"},
-		{"connector_loss_db", r.ConnectorLossDB, 0, 5, "dB"},
-		{"splice_loss_db", r.SpliceLossDB, 0, 5, "dB"},
-		{"amplifier_noise_figure_db", r.AmplifierNoiseFigureDB, 3, 20, "dB"},
-	}
-	for name, f := range map[string]Fiber{"g652": r.Fibers.G652, "g654e": r.Fibers.G654E, "g655": r.Fibers.G655} {
-		p := "fibers." + name + "."
-		checks = append(checks,
-			rng{p + "dispersion_ps_nm_km", f.DispersionPsNmKm, -30, 30, "ps/(nm·km)"},
-			rng{p + "slope_ps_nm2_km", f.SlopePsNm2Km, -1, 1, "ps/(nm²·km)"},
-			rng{p + "attenuation_db_per_km", f.AttenuationDBPerKm, 0.1, 1, "dB/km"},
-			rng{p + "pmd_ps_sqrt_km", f.PMDPsSqrtKm, 0, 5, "ps/√km"},
-			rng{p + "effective_area_um2", f.EffectiveAreaUm2, 10, 500, "µm²"},
-		)
 	}
 	for _, c := range checks {
 		if !(c.v >= c.lo && c.v <= c.hi) {
