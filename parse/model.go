@@ -111,6 +111,9 @@ type Dataset struct {
 	Series   []*Series
 	Inputs   []InputStats
 	Rejected []Rejection // in input order; at most MaxRejectionsKept are kept, the counts stay complete
+	// Skipped lists files found while walking folders that were not read because their name
+	// does not look like telemetry (see docs/formats.md).
+	Skipped []string
 }
 
 // MaxRejectionsKept bounds the rejections a Dataset keeps in memory; the counts in Inputs stay
@@ -128,6 +131,11 @@ type InputStats struct {
 	RowsRejected int    `json:"rows_rejected"`
 	// Duplicates counts used rows whose (port, time) an earlier row already had; the later row wins.
 	Duplicates int `json:"duplicates_replaced"`
+	// Notes are things worth knowing that reject nothing, e.g. an unknown column ignored.
+	Notes []string `json:"notes,omitempty"`
+	// Error is set when the input could not be read completely (unreadable, damaged, no usable
+	// header); the counts cover what was read before it.
+	Error string `json:"error,omitempty"`
 }
 
 // Rejection says why one input row was not used.

@@ -1,0 +1,61 @@
+package parse
+
+import (
+	"errors"
+	"fmt"
+)
+
+// Sentinel errors wrapped by ParseError.Err; test for them with errors.Is.
+var (
+	ErrEmpty           = errors.New("empty input")
+	ErrNoHeader        = errors.New("no header row")
+	ErrMissingColumn   = errors.New("required column missing")
+	ErrDuplicateColumn = errors.New("duplicate column")
+	ErrFieldCount      = errors.New("wrong number of fields")
+	ErrQuote           = errors.New("unterminated quoted field")
+	ErrMissingValue    = errors.New("required value missing")
+	ErrNotNumber       = errors.New("not a number")
+	ErrBadTime         = errors.New("unparsable time")
+	ErrImpossible      = errors.New("physically impossible value")
+	ErrEncoding        = errors.New("not valid UTF-8")
+	ErrTruncated       = errors.New("input truncated")
+	ErrJSON            = errors.New("invalid JSON")
+	ErrNoData          = errors.New("no optical-channel or OTN data")
+)
+
+// ParseError says where an input went wrong, like encoding/csv's ParseError. Line is 1-based;
+// Column is the 1-based field number in a CSV row (0 when not known); Field is the column or
+// leaf name as written in the input.
+type ParseError struct {
+	File   string
+	Line   int
+	Column int
+	Field  string
+	Err    error
+}
+
+func (e *ParseError) Error() string {
+	loc := e.File
+	if e.Line > 0 {
+		loc = fmt.Sprintf("%s:%d", loc, e.Line)
+		if e.Column > 0 {
+			loc = fmt.Sprintf("%s:%d", loc, e.Column)
+		}
+	}
+	if e.Field != "" {
+		return fmt.Sprintf("%s: %s: %v", loc, e.Field, e.Err)
+	}
+	return fmt.Sprintf("%s: %v", loc, e.Err)
+}
+
+// Unwrap returns the underlying error, usually wrapping one of the sentinel errors.
+func (e *ParseError) Unwrap() error { return e.Err }
+
+// rejection turns e into the Rejection recorded for its row.
+func (e *ParseError) rejection() Rejection {
+	reason := e.Err.Error()
+	if e.Field != "" {
+		reason = e.Field + ": " + reason
+	}
+	return Rejection{File: e.File, Line: e.Line, Column: e.Column, Field: e.Field, Reason: reason}
+}

@@ -1,0 +1,582 @@
+package parse
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"sort"
+	"strings"
+	"unicode/utf8"
+)
+
+// readJSON reads JSON Lines, a JSON document, a stream of documents or an array of documents.
+// Each document is either a canonical record (same field names as the CSV) or an
+// OpenConfig-shaped telemetry document; see docs/formats.md.
+func readJSON(res *fileResult, r io.Reader, opt Options) {
+	data, readErr := io.ReadAll(r)
+	jr := &jsonReader{res: res, opt: opt, unknown: map[string]bool{}}
+	jr.stat, _ = opt.statistic()
+	start := skipSpace(data, 0)
+	switch {
+	case start < len(data) && data[start] == '{' && json.Valid(bytes.TrimSpace(firstLine(data[start:]))):
+		res.stats.Format = strings.Replace(res.stats.Format, "json", "jsonl", 1)
+		jr.readLines(data)
+	default:
+		jr.readDocuments(data, start)
+	}
+	if len(jr.unknown) > 0 {
+		names := make([]string, 0, len(jr.unknown))
+		for n := range jr.unknown {
+			names = append(names, n)
+		}
+		sort.Strings(names)
+		for _, n := range names {
+			res.stats.Notes = append(res.stats.Notes, fmt.Sprintf("unknown field %q ignored", n))
+		}
+	}
+	res.stats.Notes = append(res.stats.Notes, jr.notes...)
+	if readErr != nil {
+		res.fail(&ParseError{File: res.stats.File, Line: jr.line, Err: fmt.Errorf("%w: %v", ErrTruncated, readErr)}, nil)
+	}
+}
+
+func firstLine(b []byte) []byte {
+	if i := bytes.IndexByte(b, '\n'); i >= 0 {
+		return b[:i]
+	}
+	return b
+}
+
+func skipSpace(b []byte, i int) int {
+	for i < len(b) && (b[i] == ' ' || b[i] == '\t' || b[i] == '\r' || b[i] == '\n') {
+		i++
+	}
+	return i
+}
+
+type jsonReader struct {
+	res     *fileResult
+	opt     Options
+	stat    string
+	unknown map[string]bool
+	notes   []string
+	line    int // last line reached, for messages
+	stopped bool
+}
+
+// readLines treats every non-blank line as one document.
+func (jr *jsonReader) readLines(data []byte) {
+	lineNo := 0
+	for len(data) > 0 && !jr.stopped {
+		lineNo++
+		ln := data
+		if i := bytes.IndexByte(data, '\n'); i >= 0 {
+			ln, data = data[:i], data[i+1:]
+		} else {
+			data = nil
+		}
+		jr.line = lineNo
+		ln = bytes.TrimSpace(ln)
+		if len(ln) == 0 {
+			continue
+		}
+		if bytes.Equal(ln, []byte{0xef, 0xbb, 0xbf}) {
+			continue
+		}
+		dec := json.NewDecoder(bytes.NewReader(ln))
+		dec.UseNumber()
+		var v any
+		err := dec.Decode(&v)
+		if err == nil && dec.More() {
+			err = errors.New("more than one value on the line")
+		}
+		if err != nil {
+			jr.res.stats.RowsRead++
+			jr.reject(&ParseError{File: jr.res.stats.File, Line: lineNo, Err: fmt.Errorf("%w: %v", ErrJSON, err)})
+			continue
+		}
+		jr.document(v, lineNo)
+	}
+}
+
+// readDocuments reads a stream of JSON values (or one array of them); a syntax error stops the
+// file because the decoder cannot find the next value after it.
+func (jr *jsonReader) readDocuments(data []byte, start int) {
+	lc := lineCounter{data: data, line: 1}
+	dec := json.NewDecoder(bytes.NewReader(data))
+	dec.UseNumber()
+	inArray := false
+	if start < len(data) && data[start] == '[' {
+		if _, err := dec.Token(); err != nil {
+			jr.fileErr(lc.at(start), err)
+			return
+		}
+		inArray = true
+	}
+	for !jr.stopped {
+		if inArray && !dec.More() {
+			if _, err := dec.Token(); err != nil {
+				jr.fileErr(lc.at(int(dec.InputOffset())), err)
+			}
+			break
+		}
+		off := int(dec.InputOffset())
+		for off < len(data) && (data[off] == ',' || data[off] == ' ' || data[off] == '\t' || data[off] == '\r' || data[off] == '\n') {
+			off++
+		}
+		if !inArray && off >= len(data) {
+			break
+		}
+		lineNo := lc.at(off)
+		jr.line = lineNo
+		var v any
+		if err := dec.Decode(&v); err != nil {
+			jr.fileErr(lineNo, err)
+			return
+		}
+		jr.document(v, lineNo)
+	}
+}
+
+func (jr *jsonReader) fileErr(line int, err error) {
+	jr.res.fail(&ParseError{File: jr.res.stats.File, Line: line, Err: fmt.Errorf("%w: %v", ErrJSON, err)}, nil)
+	jr.stopped = true
+}
+
+// lineCounter maps byte offsets (non-decreasing) to 1-based line numbers.
+type lineCounter struct {
+	data []byte
+	off  int
+	line int
+}
+
+func (lc *lineCounter) at(off int) int {
+	if off > len(lc.data) {
+		off = len(lc.data)
+	}
+	if off > lc.off {
+		lc.line += bytes.Count(lc.data[lc.off:off], []byte{'\n'})
+		lc.off = off
+	}
+	return lc.line
+}
+
+func (jr *jsonReader) reject(pe *ParseError) {
+	if jr.opt.Strict {
+		if jr.res.strictErr == nil {
+			jr.res.strictErr = pe
+		}
+		jr.res.stats.RowsRead-- // the bad row stops the read and is not counted
+		jr.stopped = true
+		return
+	}
+	jr.res.stats.RowsRejected++
+	jr.res.addRejection(pe.rejection())
+}
+
+func (jr *jsonReader) use(port string, t int64, rec *record) {
+	jr.res.stats.RowsUsed++
+	qs := make([]Quantity, 0, NumQuantities)
+	vals := make([]float64, 0, NumQuantities)
+	for q := Quantity(0); q < NumQuantities; q++ {
+		if rec.mask&(1<<q) != 0 {
+			qs = append(qs, q)
+			vals = append(vals, rec.vals[q])
+		}
+	}
+	jr.res.fb.port([]byte(port)).addDense(t, qs, vals, rec.mask)
+}
+
+// record is one port's values at one time; mask marks the quantities it carries a column for.
+type record struct {
+	vals [NumQuantities]float64
+	mask uint32
+}
+
+func (rec *record) set(q Quantity, v float64) {
+	rec.vals[q] = v
+	rec.mask |= 1 << q
+}
+
+// document dispatches one decoded JSON value.
+func (jr *jsonReader) document(v any, lineNo int) {
+	obj, ok := v.(map[string]any)
+	if !ok {
+		jr.res.stats.RowsRead++
+		jr.reject(&ParseError{File: jr.res.stats.File, Line: lineNo, Err: fmt.Errorf("%w: a record must be a JSON object", ErrJSON)})
+		return
+	}
+	if member(obj, "terminal-device") != nil || member(obj, "components") != nil {
+		if !strings.Contains(jr.res.stats.Format, "openconfig") {
+			jr.res.stats.Format = strings.Replace(strings.Replace(jr.res.stats.Format, "jsonl", "json", 1), "json", "openconfig-json", 1)
+		}
+		jr.openConfig(obj, lineNo)
+		return
+	}
+	jr.canonical(obj, lineNo)
+}
+
+// canonical reads a flat record with CSV field names.
+func (jr *jsonReader) canonical(obj map[string]any, lineNo int) {
+	jr.res.stats.RowsRead++
+	file := jr.res.stats.File
+	keys := make([]string, 0, len(obj))
+	for k := range obj {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	var rec record
+	var t int64
+	var port string
+	haveTime, havePort := false, false
+	seen := map[column]string{}
+	for _, k := range keys {
+		c := lookupColumn(k)
+		if c.kind == colUnknown {
+			jr.unknown[k] = true
+			continue
+		}
+		key := column{kind: c.kind, q: c.q}
+		if prev, dup := seen[key]; dup {
+			jr.reject(&ParseError{File: file, Line: lineNo, Field: k,
+				Err: fmt.Errorf("%w: fields %q and %q are the same quantity", ErrDuplicateColumn, prev, k)})
+			return
+		}
+		seen[key] = k
+		val := obj[k]
+		switch c.kind {
+		case colTime:
+			b, missing := scalarBytes(val)
+			if missing {
+				continue
+			}
+			ms, ok := parseTime(b)
+			if !ok {
+				jr.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: fmt.Errorf("%w: %s", ErrBadTime, quoteShort(b))})
+				return
+			}
+			t, haveTime = ms, true
+		case colPort:
+			b, missing := scalarBytes(val)
+			if missing {
+				continue
+			}
+			if !utf8.Valid(b) {
+				jr.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: fmt.Errorf("%w: port name %s", ErrEncoding, quoteShort(b))})
+				return
+			}
+			port, havePort = string(b), true
+		case colQuantity:
+			v, err := jsonValue(val, c)
+			if err != nil {
+				jr.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: err})
+				return
+			}
+			rec.set(c.q, v)
+		}
+	}
+	if !haveTime {
+		jr.reject(&ParseError{File: file, Line: lineNo, Field: "time", Err: ErrMissingValue})
+		return
+	}
+	if !havePort {
+		jr.reject(&ParseError{File: file, Line: lineNo, Field: "port", Err: ErrMissingValue})
+		return
+	}
+	jr.use(port, t, &rec)
+}
+
+// scalarBytes gives the text of a JSON string or number; missing is true for null and the
+// missing-value spellings.
+func scalarBytes(v any) (b []byte, missing bool) {
+	switch x := v.(type) {
+	case nil:
+		return nil, true
+	case json.Number:
+		return []byte(x.String()), false
+	case string:
+		b := bytes.TrimSpace([]byte(x))
+		return b, isMissing(b)
+	case bool:
+		return []byte(fmt.Sprint(x)), false
+	}
+	return []byte("(object or array)"), false
+}
+
+// jsonValue converts a JSON value of column c to the stored unit and checks it; NaN means missing.
+func jsonValue(val any, c column) (float64, error) {
+	b, missing := scalarBytes(val)
+	if missing {
+		return math.NaN(), nil
+	}
+	v, ok := parseFloat(b)
+	if !ok {
+		return 0, fmt.Errorf("%w: %s", ErrNotNumber, quoteShort(b))
+	}
+	out, ok := c.convert(v)
+	if !ok {
+		return 0, c.convFailure(v)
+	}
+	if err := checkRange(c.q, out); err != nil {
+		return 0, err
+	}
+	return out, nil
+}
+
+// member finds obj[name], also when the member name carries a module prefix ("module:name").
+func member(obj map[string]any, name string) any {
+	if obj == nil {
+		return nil
+	}
+	if v, ok := obj[name]; ok {
+		return v
+	}
+	for k, v := range obj {
+		if i := strings.LastIndexByte(k, ':'); i >= 0 && k[i+1:] == name {
+			return v
+		}
+	}
+	return nil
+}
+
+func memberObj(obj map[string]any, name string) map[string]any {
+	m, _ := member(obj, name).(map[string]any)
+	return m
+}
+
+// listEntry is one entry of a YANG list, with its key.
+type listEntry struct {
+	key string
+	obj map[string]any
+}
+
+// listEntries reads a YANG list given as a JSON array of entries (RFC 7951) or as an object
+// keyed by the list key. keyLeaf is "index" or "name".
+func listEntries(v any, keyLeaf string) []listEntry {
+	keyOf := func(obj map[string]any, fallback string) string {
+		for _, src := range []map[string]any{obj, memberObj(obj, "state"), memberObj(obj, "config")} {
+			if b, missing := scalarBytes(member(src, keyLeaf)); src != nil && !missing && member(src, keyLeaf) != nil {
+				return string(b)
+			}
+		}
+		return fallback
+	}
+	var out []listEntry
+	switch x := v.(type) {
+	case []any:
+		for i, e := range x {
+			if obj, ok := e.(map[string]any); ok {
+				out = append(out, listEntry{keyOf(obj, fmt.Sprint(i)), obj})
+			}
+		}
+	case map[string]any:
+		keys := make([]string, 0, len(x))
+		for k := range x {
+			keys = append(keys, k)
+		}
+		sort.Strings(keys)
+		for _, k := range keys {
+			if obj, ok := x[k].(map[string]any); ok {
+				out = append(out, listEntry{keyOf(obj, k), obj})
+			}
+		}
+	}
+	return out
+}
+
+// ocLeaf maps one OpenConfig leaf (or statistics container) to a canonical column.
+type ocLeaf struct {
+	name string
+	col  column
+}
+
+var ocOpticalLeaves = []ocLeaf{
+	{"frequency", column{kind: colQuantity, q: FrequencyTHz, conv: convDiv1e6}}, // MHz → THz
+	{"input-power", column{kind: colQuantity, q: RxPowerDBm}},
+	{"output-power", column{kind: colQuantity, q: TxPowerDBm}},
+	{"chromatic-dispersion", column{kind: colQuantity, q: CDpsPerNm}},
+	{"polarization-mode-dispersion", column{kind: colQuantity, q: DGDps}},
+	{"polarization-dependent-loss", column{kind: colQuantity, q: PDLdB}},
+	{"osnr", column{kind: colQuantity, q: OSNRdB}},
+	{"carrier-frequency-offset", column{kind: colQuantity, q: LOOffsetMHz}},
+	{"sop-roc", column{kind: colQuantity, q: SOPRateKradPerS}},
+}
+
+var ocFECLeaves = []ocLeaf{
+	{"pre-fec-ber", column{kind: colQuantity, q: PreFECBER}},
+	{"post-fec-ber", column{kind: colQuantity, q: PostFECBER}},
+	{"q-value", column{kind: colQuantity, q: QdB}},
+	{"esnr", column{kind: colQuantity, q: ESNRdB}},
+	{"fec-uncorrectable-blocks", column{kind: colQuantity, q: UncorrectedBlocks}},
+}
+
+// statValue picks the chosen statistic out of an instant/avg/min/max container (falling back
+// to instant), or takes a plain value as is. present is false when there is no value.
+func statValue(v any, stat string) (val any, present bool) {
+	if m, ok := v.(map[string]any); ok {
+		if x, ok := m[stat]; ok && x != nil {
+			return x, true
+		}
+		if x, ok := m["instant"]; ok && x != nil {
+			return x, true
+		}
+		return nil, false
+	}
+	if v == nil {
+		return nil, false
+	}
+	return v, true
+}
+
+// ocRecord is one port's values from one document, with the first bad leaf if any.
+type ocRecord struct {
+	rec   record
+	bad   *ParseError
+	order int
+}
+
+// openConfig reads one OpenConfig-shaped document: one record per optical channel (port).
+func (jr *jsonReader) openConfig(obj map[string]any, lineNo int) {
+	file := jr.res.stats.File
+	recs := map[string]*ocRecord{}
+	get := func(port string) *ocRecord {
+		r := recs[port]
+		if r == nil {
+			r = &ocRecord{order: len(recs)}
+			recs[port] = r
+		}
+		return r
+	}
+	readLeaves := func(r *ocRecord, state map[string]any, leaves []ocLeaf, path string, overwrite bool) {
+		for _, l := range leaves {
+			raw := member(state, l.name)
+			val, present := statValue(raw, jr.stat)
+			if !present {
+				continue
+			}
+			if !overwrite && r.rec.mask&(1<<l.col.q) != 0 {
+				continue
+			}
+			v, err := jsonValue(val, l.col)
+			if err != nil {
+				if r.bad == nil {
+					r.bad = &ParseError{File: file, Line: lineNo, Field: path + "/" + l.name, Err: err}
+				}
+				continue
+			}
+			r.rec.set(l.col.q, v)
+		}
+	}
+	lcToPort := map[string]string{}
+	if comps := memberObj(obj, "components"); comps != nil {
+		for _, e := range listEntries(member(comps, "component"), "name") {
+			och := memberObj(e.obj, "optical-channel")
+			if och == nil {
+				continue
+			}
+			state := memberObj(och, "state")
+			r := get(e.key)
+			path := "components/component[" + e.key + "]/optical-channel/state"
+			readLeaves(r, state, ocOpticalLeaves, path, true)
+			readLeaves(r, state, ocFECLeaves, path, true)
+			readLeaves(r, e.obj, ocFECLeaves[4:], "components/component["+e.key+"]", false)
+			if b, missing := scalarBytes(member(state, "logical-channel-assignment")); state != nil && member(state, "logical-channel-assignment") != nil && !missing {
+				lcToPort[string(b)] = e.key
+			}
+		}
+	}
+	if td := memberObj(obj, "terminal-device"); td != nil {
+		for _, e := range listEntries(member(memberObj(td, "logical-channels"), "channel"), "index") {
+			state := memberObj(memberObj(e.obj, "otn"), "state")
+			if state == nil {
+				continue
+			}
+			port := ""
+			for _, a := range listEntries(member(memberObj(e.obj, "logical-channel-assignments"), "assignment"), "index") {
+				for _, src := range []map[string]any{memberObj(a.obj, "state"), memberObj(a.obj, "config")} {
+					if src == nil || port != "" {
+						continue
+					}
+					at, _ := member(src, "assignment-type").(string)
+					if b, missing := scalarBytes(member(src, "optical-channel")); member(src, "optical-channel") != nil && !missing &&
+						(at == "" || strings.HasSuffix(at, "OPTICAL_CHANNEL")) {
+						port = string(b)
+					}
+				}
+			}
+			if port == "" {
+				port = lcToPort[e.key]
+			}
+			if port == "" {
+				hasData := false
+				for _, l := range ocFECLeaves {
+					if member(state, l.name) != nil {
+						hasData = true
+					}
+				}
+				if !hasData {
+					continue
+				}
+				port = "logical-channel-" + e.key
+				jr.noteOnce(fmt.Sprintf("logical channel %s has OTN data but no optical-channel assignment; read as port %q", e.key, port))
+			}
+			r := get(port)
+			readLeaves(r, state, ocFECLeaves, "terminal-device/logical-channels/channel["+e.key+"]/otn/state", false)
+		}
+	}
+	if len(recs) == 0 {
+		jr.res.stats.RowsRead++
+		jr.reject(&ParseError{File: file, Line: lineNo, Err: ErrNoData})
+		return
+	}
+	ports := make([]string, 0, len(recs))
+	for p := range recs {
+		ports = append(ports, p)
+	}
+	sort.Slice(ports, func(i, j int) bool { return recs[ports[i]].order < recs[ports[j]].order })
+
+	var t int64
+	var timeErr *ParseError
+	tv := member(obj, "timestamp")
+	tname := "timestamp"
+	if tv == nil {
+		tv, tname = member(obj, "time"), "time"
+	}
+	if b, missing := scalarBytes(tv); missing {
+		timeErr = &ParseError{File: file, Line: lineNo, Field: "timestamp", Err: ErrMissingValue}
+	} else if ms, ok := parseTime(b); !ok {
+		timeErr = &ParseError{File: file, Line: lineNo, Field: tname, Err: fmt.Errorf("%w: %s", ErrBadTime, quoteShort(b))}
+	} else {
+		t = ms
+	}
+	for _, p := range ports {
+		if jr.stopped {
+			return
+		}
+		r := recs[p]
+		jr.res.stats.RowsRead++
+		switch {
+		case timeErr != nil:
+			pe := *timeErr
+			jr.reject(&pe)
+		case r.bad != nil:
+			jr.reject(r.bad)
+		case !utf8.ValidString(p):
+			jr.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: port name %q", ErrEncoding, p)})
+		default:
+			jr.use(p, t, &r.rec)
+		}
+	}
+}
+
+func (jr *jsonReader) noteOnce(s string) {
+	for _, n := range jr.notes {
+		if n == s {
+			return
+		}
+	}
+	jr.notes = append(jr.notes, s)
+}

@@ -1,0 +1,333 @@
+package parse
+
+import (
+	"bufio"
+	"bytes"
+	"compress/gzip"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"sync"
+)
+
+// Options control reading. The zero value reads leniently with instant OpenConfig statistics.
+type Options struct {
+	// Strict makes the first rejected row an error: reading stops there.
+	Strict bool
+	// Statistic selects the OpenConfig statistic: "instant" (default, also ""), "avg", "min" or
+	// "max". When the selected one is absent the instant value is used.
+	Statistic string
+	// Progress, when set, is called now and then with the input bytes read so far (compressed
+	// bytes for gzip) and the total size of the inputs (-1 when unknown, e.g. stdin). Calls are
+	// serialised.
+	Progress func(done, total int64)
+	// Workers bounds the goroutines parsing one CSV input; 0 means GOMAXPROCS.
+	Workers int
+}
+
+func (o Options) workers() int {
+	if o.Workers > 0 {
+		return o.Workers
+	}
+	return runtime.GOMAXPROCS(0)
+}
+
+func (o Options) statistic() (string, error) {
+	switch strings.ToLower(o.Statistic) {
+	case "", "instant":
+		return "instant", nil
+	case "avg", "min", "max":
+		return strings.ToLower(o.Statistic), nil
+	}
+	return "", fmt.Errorf("parse: unknown statistic %q (want instant, avg, min or max)", o.Statistic)
+}
+
+// fileResult is what reading one input produced.
+type fileResult struct {
+	stats     InputStats
+	fb        *fileBuilder
+	lay       *csvLayout
+	rejects   []Rejection
+	strictErr error // first bad row in strict mode
+	fileErr   error // input not read completely
+}
+
+func (res *fileResult) addRejection(r Rejection) {
+	if len(res.rejects) < MaxRejectionsKept {
+		res.rejects = append(res.rejects, r)
+	}
+}
+
+// fail records that the input could not be read completely. extra is a read error met on the
+// way, reported alongside.
+func (res *fileResult) fail(err error, extra error) {
+	if extra != nil {
+		err = fmt.Errorf("%w (and %v)", err, extra)
+	}
+	if res.fileErr == nil {
+		res.fileErr = err
+		res.stats.Error = err.Error()
+	}
+}
+
+// telemetryExts are the file name endings read when walking folders (each also with ".gz").
+var telemetryExts = []string{".csv", ".tsv", ".txt", ".jsonl", ".ndjson", ".json"}
+
+// isTelemetryName reports whether a file found in a folder should be read.
+func isTelemetryName(name string) bool {
+	n := strings.ToLower(name)
+	n = strings.TrimSuffix(n, ".gz")
+	for _, e := range telemetryExts {
+		if strings.HasSuffix(n, e) {
+			return true
+		}
+	}
+	return false
+}
+
+// expandPaths turns files, folders and "-" into the list of inputs, in order: folders are
+// walked recursively in lexical order, skipping hidden entries and non-telemetry names.
+func expandPaths(paths []string) (files []string, skipped []string, err error) {
+	for _, p := range paths {
+		if p == "-" {
+			files = append(files, p)
+			continue
+		}
+		fi, err := os.Stat(p)
+		if err != nil {
+			return nil, nil, err
+		}
+		if !fi.IsDir() {
+			files = append(files, p)
+			continue
+		}
+		err = filepath.WalkDir(p, func(path string, d fs.DirEntry, err error) error {
+			if err != nil {
+				return err
+			}
+			if path != p && strings.HasPrefix(d.Name(), ".") {
+				if d.IsDir() {
+					return filepath.SkipDir
+				}
+				skipped = append(skipped, path)
+				return nil
+			}
+			if d.IsDir() {
+				return nil
+			}
+			if d.Type().IsRegular() && isTelemetryName(d.Name()) {
+				files = append(files, path)
+			} else {
+				skipped = append(skipped, path)
+			}
+			return nil
+		})
+		if err != nil {
+			return nil, nil, err
+		}
+	}
+	return files, skipped, nil
+}
+
+// progressMeter serialises progress reports from concurrent readers.
+type progressMeter struct {
+	mu          sync.Mutex
+	fn          func(done, total int64)
+	done, total int64
+	last        int64
+}
+
+func (m *progressMeter) add(n int64) {
+	if m == nil || m.fn == nil {
+		return
+	}
+	m.mu.Lock()
+	m.done += n
+	if m.done-m.last >= 1<<20 || n == 0 {
+		m.last = m.done
+		m.fn(m.done, m.total)
+	}
+	m.mu.Unlock()
+}
+
+type countingReader struct {
+	r io.Reader
+	m *progressMeter
+}
+
+func (c countingReader) Read(p []byte) (int, error) {
+	n, err := c.r.Read(p)
+	c.m.add(int64(n))
+	return n, err
+}
+
+// ReadPaths reads every input named in paths — files, folders (recursively) and "-" for
+// standard input — and merges them into one Dataset. Files are read in parallel and merged in
+// the order given, so that of two rows with the same port and time the later one wins.
+//
+// The Dataset holds everything that could be read. err is non-nil when some input could not be
+// read completely (it joins one *ParseError per such input; InputStats.Error says the same) or,
+// with Options.Strict, at the first rejected row. A path that does not exist is an error before
+// anything is read.
+func ReadPaths(paths []string, opt Options) (*Dataset, error) {
+	if _, err := opt.statistic(); err != nil {
+		return nil, err
+	}
+	files, skipped, err := expandPaths(paths)
+	if err != nil {
+		return nil, err
+	}
+	meter := &progressMeter{fn: opt.Progress}
+	for _, f := range files {
+		if f == "-" {
+			meter.total = -1
+			break
+		}
+		if fi, err := os.Stat(f); err == nil && meter.total >= 0 {
+			meter.total += fi.Size()
+		}
+	}
+	results := make([]*fileResult, len(files))
+	sem := make(chan struct{}, opt.workers())
+	var wg sync.WaitGroup
+	for i, f := range files {
+		wg.Add(1)
+		sem <- struct{}{}
+		go func() {
+			defer wg.Done()
+			defer func() { <-sem }()
+			results[i] = readNamed(f, opt, meter)
+		}()
+	}
+	wg.Wait()
+	meter.add(0)
+	ds, err := assemble(results)
+	ds.Skipped = skipped
+	return ds, err
+}
+
+// readNamed opens and reads one named input ("-" is standard input).
+func readNamed(name string, opt Options, meter *progressMeter) *fileResult {
+	if name == "-" {
+		return readInput(name, countingReader{os.Stdin, meter}, opt)
+	}
+	f, err := os.Open(name)
+	if err != nil {
+		res := &fileResult{stats: InputStats{File: name}, fb: newFileBuilder()}
+		res.fail(&ParseError{File: name, Err: err}, nil)
+		return res
+	}
+	defer f.Close()
+	return readInput(name, countingReader{f, meter}, opt)
+}
+
+// ReadFile reads one input from r; name is used in messages and in the accounting. Gzip is
+// recognised by its magic bytes, the format by content (see docs/formats.md). The error rules
+// are those of ReadPaths.
+func ReadFile(name string, r io.Reader, opt Options) (*Dataset, error) {
+	if _, err := opt.statistic(); err != nil {
+		return nil, err
+	}
+	return assemble([]*fileResult{readInput(name, r, opt)})
+}
+
+// assemble merges per-file results, in order, into a Dataset.
+func assemble(results []*fileResult) (*Dataset, error) {
+	ds := &Dataset{}
+	db := &datasetBuilder{ports: map[string]*portBuf{}}
+	var errs []error
+	for i, res := range results {
+		ds.Inputs = append(ds.Inputs, res.stats)
+		for _, r := range res.rejects {
+			if len(ds.Rejected) < MaxRejectionsKept {
+				ds.Rejected = append(ds.Rejected, r)
+			}
+		}
+		db.absorb(res.fb, i)
+		if res.strictErr != nil {
+			errs = append(errs, res.strictErr)
+		}
+		if res.fileErr != nil {
+			errs = append(errs, res.fileErr)
+		}
+	}
+	ds.Series = db.finish(ds.Inputs)
+	return ds, errors.Join(errs...)
+}
+
+var gzipMagic = []byte{0x1f, 0x8b}
+
+// readInput hashes the raw bytes, unpacks gzip, drops a BOM and dispatches on content.
+func readInput(name string, raw io.Reader, opt Options) *fileResult {
+	res := &fileResult{stats: InputStats{File: name}, fb: newFileBuilder()}
+	h := sha256.New()
+	br := bufio.NewReaderSize(io.TeeReader(raw, h), 64*1024)
+	defer func() {
+		// Hash what is left so the digest covers the whole input even after an early stop.
+		_, _ = io.Copy(io.Discard, br)
+		res.stats.SHA256 = hex.EncodeToString(h.Sum(nil))
+	}()
+	var r io.Reader = br
+	gz := false
+	if magic, _ := br.Peek(2); bytes.Equal(magic, gzipMagic) {
+		zr, err := gzip.NewReader(br)
+		if err != nil {
+			res.stats.Format = "gzip"
+			res.fail(&ParseError{File: name, Err: fmt.Errorf("%w: gzip header: %v", ErrTruncated, err)}, nil)
+			return res
+		}
+		r = bufio.NewReaderSize(zr, 64*1024)
+		gz = true
+	}
+	cr := r.(*bufio.Reader)
+	if bom, _ := cr.Peek(3); bytes.Equal(bom, []byte{0xef, 0xbb, 0xbf}) {
+		_, _ = cr.Discard(3)
+	}
+	first := firstNonSpace(cr)
+	suffix := ""
+	if gz {
+		suffix = "+gzip"
+	}
+	switch first {
+	case 0:
+		res.stats.Format = "empty" + suffix
+		_, err := cr.Peek(1)
+		if err != nil && err != io.EOF {
+			res.fail(&ParseError{File: name, Err: fmt.Errorf("%w: %v", ErrTruncated, err)}, nil)
+		} else {
+			res.fail(&ParseError{File: name, Err: ErrEmpty}, nil)
+		}
+	case '{', '[':
+		res.stats.Format = "json" + suffix
+		readJSON(res, cr, opt)
+	default:
+		res.stats.Format = "csv" + suffix
+		readCSV(res, cr, opt)
+	}
+	return res
+}
+
+// firstNonSpace peeks at the first byte that is not white space, or 0 when there is none.
+func firstNonSpace(br *bufio.Reader) byte {
+	for n := 64; ; n *= 2 {
+		b, err := br.Peek(n)
+		for _, c := range b {
+			if c != ' ' && c != '\t' && c != '\r' && c != '\n' {
+				return c
+			}
+		}
+		if err != nil || n >= br.Size() {
+			if len(b) == br.Size() { // a buffer full of blanks: let the reader decide
+				return ' '
+			}
+			return 0
+		}
+	}
+}
