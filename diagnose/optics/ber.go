@@ -85,7 +85,18 @@ func QFromBER(ber float64) float64 {
 	if !(ber >= 0 && ber <= 0.5) {
 		return math.NaN()
 	}
-	return math.Sqrt2 * math.Erfcinv(2*ber)
+	q := math.Sqrt2 * math.Erfcinv(2*ber)
+	// math.Erfcinv(x) is computed as Erfinv(1−x), which loses relative precision when x is
+	// tiny (about 1e-5 dB of Q at BER 1e-15). Polish with Newton steps on ln BER(q), using
+	// math.Erfc, which stays accurate in the tail.
+	if ber > 0 && ber < 0.1 {
+		for range 3 {
+			p := 0.5 * math.Erfc(q/math.Sqrt2)
+			phi := math.Exp(-q*q/2) / math.Sqrt(2*math.Pi)
+			q += (math.Log(p) - math.Log(ber)) * p / phi
+		}
+	}
+	return q
 }
 
 // QdBFromBER returns Q in dB, 20·log10 Q with Q = √2·erfc⁻¹(2·BER). Domain 0 < BER < 0.5
