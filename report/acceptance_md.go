@@ -1,0 +1,255 @@
+package report
+
+import (
+	"bufio"
+	"fmt"
+	"io"
+	"math"
+	"strings"
+
+	"github.com/beatnote/beatnote/diagnose"
+)
+
+// VerdictWords is how a verdict is written out in a report, never by colour alone.
+func VerdictWords(v diagnose.Verdict) string {
+	switch v {
+	case diagnose.Pass:
+		return "PASS"
+	case diagnose.Marginal:
+		return "MARGINAL"
+	case diagnose.Fail:
+		return "FAIL"
+	case diagnose.NoData:
+		return "NO DATA"
+	}
+	return strings.ToUpper(string(v))
+}
+
+// verdictMeaning is the one-line explanation printed under the overall verdict.
+func verdictMeaning(v diagnose.Verdict) string {
+	switch v {
+	case diagnose.Pass:
+		return "Every judged criterion is inside its limit with the required margin."
+	case diagnose.Marginal:
+		return "No limit is exceeded, but at least one criterion has less margin than required."
+	case diagnose.Fail:
+		return "At least one criterion exceeds its limit."
+	case diagnose.NoData:
+		return "The telemetry did not allow any criterion to be judged."
+	}
+	return ""
+}
+
+// formatValue prints a number in a way that suits its unit: ratios (BER) in scientific
+// notation, counts as integers, everything else with two decimals.
+func formatValue(v float64, unit string) string {
+	switch {
+	case math.IsNaN(v):
+		return "n/a"
+	case math.IsInf(v, 0):
+		return fmt.Sprint(v)
+	case unit == "":
+		return fmt.Sprintf("%.3g", v)
+	case unit == "blocks":
+		return fmt.Sprintf("%.0f", v)
+	case math.Abs(v) >= 1000:
+		return fmt.Sprintf("%.0f", v)
+	}
+	return fmt.Sprintf("%.2f", v)
+}
+
+// withUnit is formatValue followed by the unit, if any.
+func withUnit(v float64, unit string) string {
+	s := formatValue(v, unit)
+	if unit != "" && unit != "blocks" && !math.IsNaN(v) {
+		s += " " + unit
+	}
+	return s
+}
+
+// formatMargin prints a criterion's margin; ratios get no unit, the rest keep theirs.
+func formatMargin(c diagnose.Criterion) string {
+	s := formatValue(c.Margin, c.Unit)
+	if c.Unit != "" && c.Unit != "blocks" && !math.IsNaN(c.Margin) {
+		s += " " + c.Unit
+	}
+	if c.Margin > 0 && !strings.HasPrefix(s, "+") {
+		s = "+" + s
+	}
+	return s
+}
+
+func orBlank(s, blank string) string {
+	if strings.TrimSpace(s) == "" {
+		return blank
+	}
+	return s
+}
+
+func mdCell(s string) string {
+	s = strings.ReplaceAll(s, "\\", "\\\\")
+	s = strings.ReplaceAll(s, "|", "\\|")
+	s = strings.ReplaceAll(s, "\r", "")
+	return strings.ReplaceAll(s, "\n", "<br>")
+}
+
+func mdText(s string) string {
+	return strings.ReplaceAll(s, "\r", "")
+}
+
+// WriteMarkdown writes the report as Markdown for tickets: the same content as the PDF, less
+// the charts.
+func (a *Acceptance) WriteMarkdown(w io.Writer) error {
+	b := bufio.NewWriter(w)
+	p := func(format string, args ...any) { fmt.Fprintf(b, format, args...) }
+
+	p("# Coherent link acceptance report — %s\n\n", mdText(a.Circuit))
+	p("**Verdict: %s** — %s\n\n", VerdictWords(a.Verdict), verdictMeaning(a.Verdict))
+	p("| | |\n| --- | --- |\n")
+	p("| Circuit | %s |\n", mdCell(a.Circuit))
+	p("| End A | %s |\n", mdCell(orBlank(a.EndA, "not stated")))
+	p("| End Z | %s |\n", mdCell(orBlank(a.EndZ, "not stated")))
+	p("| Period (UTC) | %s to %s |\n", mdCell(a.From), mdCell(a.To))
+	if a.Profile != nil {
+		p("| Module profile | %s |\n", mdCell(profileLine(a.Profile)))
+	} else {
+		p("| Module profile | not stated |\n")
+	}
+	p("| Report id | %s |\n", a.ReportID)
+	p("| Report time | %s |\n", a.GeneratedAt)
+	if a.Signing != nil {
+		p("| Signer | %s |\n", mdCell(a.Signing.Signer))
+		p("| Signing key | `%s` |\n", a.Signing.KeyFingerprint)
+	} else {
+		p("| Signing key | not signed |\n")
+	}
+	p("\n")
+
+	if a.Plan != nil {
+		p("## Link plan\n\n%s: %d span(s), %.1f km, %d amplifier(s)", mdText(a.Plan.Circuit), a.Plan.Spans, a.Plan.LengthKm, a.Plan.Amplifiers)
+		if a.Plan.FrequencyTHz > 0 {
+			p(", channel %.5g THz", a.Plan.FrequencyTHz)
+		}
+		p(".")
+		if a.Plan.Description != "" {
+			p(" %s", mdText(a.Plan.Description))
+		}
+		p("\n\n")
+	}
+
+	for _, port := range a.Ports {
+		p("## Port %s — %s\n\n", mdText(port.Port), VerdictWords(port.Verdict))
+		p("Profile %s; %d samples from %s to %s.\n\n", orBlank(port.Profile, "not stated"), port.Samples, port.From, port.To)
+		if len(port.Criteria) > 0 {
+			p("### Criteria\n\n| criterion | statistic | measured | limit | margin | verdict |\n| --- | --- | ---: | ---: | ---: | --- |\n")
+			for _, c := range port.Criteria {
+				p("| %s | %s | %s | %s | %s | %s |\n", mdCell(c.Name), mdCell(c.Statistic), withUnit(c.Measured, c.Unit),
+					withUnit(c.Limit, c.Unit), formatMargin(c), VerdictWords(c.Verdict))
+			}
+			p("\n")
+		}
+		if len(port.PlanVsMeasured) > 0 {
+			p("### Plan vs measured\n\n| quantity | planned | measured | difference | note |\n| --- | ---: | ---: | ---: | --- |\n")
+			for _, pc := range port.PlanVsMeasured {
+				p("| %s | %s | %s | %s | %s |\n", mdCell(pc.Quantity), withUnit(pc.Expected, pc.Unit), withUnit(pc.Measured, pc.Unit),
+					withUnit(pc.Measured-pc.Expected, pc.Unit), mdCell(pc.Note))
+			}
+			p("\n")
+		}
+		p("### Likely causes\n\n")
+		if len(port.Causes) == 0 {
+			p("None: nothing in the telemetry points at a physical fault.\n\n")
+		}
+		for i, c := range port.Causes {
+			p("%d. **%s** (confidence %.0f %%)\n", i+1, c.ID, 100*c.Confidence)
+			for _, e := range c.Evidence {
+				p("   - evidence: %s\n", mdText(e))
+			}
+			for _, act := range c.Actions {
+				p("   - action: %s\n", mdText(act))
+			}
+		}
+		p("\n")
+		if len(port.NotJudged) > 0 {
+			p("Not judged:\n\n")
+			for _, n := range port.NotJudged {
+				p("- %s\n", mdText(n))
+			}
+			p("\n")
+		}
+		if keys := sortedMetricKeys(port.Metrics); len(keys) > 0 {
+			p("### Measurements\n\n| quantity | min | median | p99 | max |\n| --- | ---: | ---: | ---: | ---: |\n")
+			for _, k := range keys {
+				m := port.Metrics[k]
+				name := k
+				if m.Derived {
+					name += " (derived)"
+				}
+				p("| %s | %s | %s | %s | %s |\n", mdCell(name), withUnit(m.Min, m.Unit), withUnit(m.P50, m.Unit), withUnit(m.P99, m.Unit), withUnit(m.Max, m.Unit))
+			}
+			p("\n")
+		}
+	}
+
+	p("## Inputs\n\n| file | SHA-256 | rows read | used | rejected |\n| --- | --- | ---: | ---: | ---: |\n")
+	for _, in := range a.Inputs {
+		p("| %s | `%s` | %d | %d | %d |\n", mdCell(in.File), in.SHA256, in.RowsRead, in.RowsUsed, in.RowsRejected)
+	}
+	p("\n")
+	if a.Rejected.Total > 0 {
+		p("%d row(s) rejected; the first %d:\n\n", a.Rejected.Total, len(a.Rejected.First))
+		for _, r := range a.Rejected.First {
+			p("- %s\n", mdText(rejectionLine(r.File, r.Line, r.Field, r.Reason)))
+		}
+		p("\n")
+	} else {
+		p("No row was rejected.\n\n")
+	}
+
+	p("## Laser safety\n\n")
+	for _, c := range a.Safety.Cautions {
+		p("- %s\n", c)
+	}
+	p("\n## Sign-off\n\n| | |\n| --- | --- |\n")
+	p("| Technician | %s |\n", mdCell(a.SignOff.Technician))
+	p("| Organisation | %s |\n", mdCell(a.SignOff.Organisation))
+	p("| Accepting party | %s |\n", mdCell(a.SignOff.AcceptingParty))
+	p("| End A | %s |\n", mdCell(a.SignOff.EndA))
+	p("| End Z | %s |\n", mdCell(a.SignOff.EndZ))
+	p("| Notes | %s |\n", mdCell(a.SignOff.Notes))
+	p("\nHanded over by: ______________________  date: ____________\n\n")
+	p("Accepted by: ______________________  date: ____________\n")
+	return b.Flush()
+}
+
+func profileLine(ps *ProfileSummary) string {
+	s := ps.ID
+	if ps.Name != "" {
+		s += " (" + ps.Name + ")"
+	}
+	var parts []string
+	if ps.Modulation != "" {
+		parts = append(parts, ps.Modulation)
+	}
+	if ps.BaudGBd > 0 {
+		parts = append(parts, fmt.Sprintf("%.5g GBd", ps.BaudGBd))
+	}
+	if ps.FEC != "" {
+		parts = append(parts, ps.FEC)
+	}
+	if ps.FECThresholdBER > 0 {
+		parts = append(parts, fmt.Sprintf("FEC threshold BER %.3g", ps.FECThresholdBER))
+	}
+	if len(parts) > 0 {
+		s += ": " + strings.Join(parts, ", ")
+	}
+	return s
+}
+
+func rejectionLine(file string, line int, field, reason string) string {
+	s := fmt.Sprintf("%s:%d", file, line)
+	if field != "" {
+		s += " [" + field + "]"
+	}
+	return s + ": " + reason
+}

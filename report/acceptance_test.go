@@ -1,0 +1,167 @@
+package report
+
+import (
+	"bytes"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/ledongthuc/pdf"
+
+	"github.com/beatnote/beatnote/diagnose"
+	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/rules"
+)
+
+// The fixtures below are hand-built layout material, not checks of any computation: the report
+// prints what the engine judged, and these tests check that it is printed, readable and
+// reproducible.
+
+func ptr(v float64) *float64 { return &v }
+
+func fixtureProfile() *rules.Profile {
+	return &rules.Profile{
+		ID: "test-16qam-60g", Name: "layout fixture", Modulation: "dp-16qam", BaudGBd: 59.84375, FEC: "cfec",
+		FECThresholdBER: 1.22e-2, DGDTolerancePs: 28, SOPTrackingKradS: 50, LOOffsetRangeMHz: 3600,
+		RxPowerMinDBm: -12, RxPowerMaxDBm: 0, HazardLevel: "1M",
+	}
+}
+
+func fixtureResult() *diagnose.Result {
+	return &diagnose.Result{
+		Tool: "beatnote", Version: "test",
+		Inputs: []parse.InputStats{{File: "logs/circuit-a.csv", SHA256: strings.Repeat("ab", 32), Format: "csv", RowsRead: 300, RowsUsed: 298, RowsRejected: 2}},
+		Ports: []diagnose.PortResult{{
+			Port: "line-1/1", Profile: "test-16qam-60g", Samples: 298,
+			From: "2026-03-01T00:00:00Z", To: "2026-03-01T04:57:00Z", Verdict: diagnose.Marginal,
+			Causes: []diagnose.Cause{{ID: diagnose.CauseSOPTransient, Confidence: 0.72,
+				Evidence: []string{"3 pre-FEC BER bursts coincide with SOP rate above 40 krad/s"}}},
+			Metrics: map[string]diagnose.Metric{
+				"q_db":         {Min: 8.1, P50: 9.0, P99: 9.4, Max: 9.5, Limit: ptr(7.05), Margin: ptr(1.05), Unit: "dB"},
+				"rx_power_dbm": {Min: -9.8, P50: -8.2, P99: -7.9, Max: -7.8, Limit: ptr(-12), Margin: ptr(2.2), Unit: "dBm"},
+			},
+			Criteria: []diagnose.Criterion{
+				{Name: "Q-factor margin to FEC threshold", Metric: "q_db", Statistic: "min", Measured: 8.1, Limit: 7.05, Margin: 1.05, Unit: "dB", Verdict: diagnose.Marginal, Source: "profile fec_threshold_ber"},
+				{Name: "Received power above sensitivity", Metric: "rx_power_dbm", Statistic: "min", Measured: -9.8, Limit: -12, Margin: 2.2, Unit: "dBm", Verdict: diagnose.Pass},
+			},
+			PlanVsMeasured: []diagnose.PlanComparison{{Quantity: "cd_ps_nm", Expected: 1360, Measured: 1372, Unit: "ps/nm", Note: "within 2 %"}},
+		}},
+		Rejected: []parse.Rejection{
+			{File: "logs/circuit-a.csv", Line: 17, Field: "pre_fec_ber", Reason: "BER 0.7 outside 0…0.5"},
+			{File: "logs/circuit-a.csv", Line: 90, Field: "time", Reason: "unparsable time \"yesterday\""},
+		},
+	}
+}
+
+// fixtureSeries is a smooth invented trace for the charts (no check value depends on it).
+func fixtureSeries() *parse.Dataset {
+	n := 300
+	s := &parse.Series{Port: "line-1/1", TimesMs: make([]int64, n)}
+	start := time.Date(2026, 3, 1, 0, 0, 0, 0, time.UTC).UnixMilli()
+	for _, q := range []parse.Quantity{parse.QdB, parse.RxPowerDBm, parse.DGDps, parse.SOPRateKradPerS, parse.LOOffsetMHz} {
+		s.Values[q] = make([]float64, n)
+	}
+	for i := 0; i < n; i++ {
+		t := float64(i)
+		s.TimesMs[i] = start + int64(i)*60_000
+		s.Values[parse.QdB][i] = 9 + 0.3*math.Sin(t/17)
+		s.Values[parse.RxPowerDBm][i] = -8 + 0.1*math.Cos(t/9)
+		if i > 180 {
+			s.Values[parse.RxPowerDBm][i] -= 1.5
+		}
+		s.Values[parse.DGDps][i] = 3 + 1.5*math.Abs(math.Sin(t*0.37)) + 0.8*math.Abs(math.Cos(t*1.3))
+		s.Values[parse.SOPRateKradPerS][i] = 2 + 1.5*math.Abs(math.Sin(t/5))
+		s.Values[parse.LOOffsetMHz][i] = 120 - 0.2*t + 8*math.Sin(t/7)
+	}
+	return &parse.Dataset{Series: []*parse.Series{s}}
+}
+
+func fixtureMarks() map[string]ChartMarks {
+	start := time.Date(2026, 3, 1, 0, 0, 0, 0, time.UTC).UnixMilli()
+	const a = 2.0
+	return map[string]ChartMarks{"line-1/1": {
+		RxPowerChanges: []int64{start + 181*60_000},
+		BERBursts:      []TimeSpan{{FromMs: start + 60*60_000, ToMs: start + 64*60_000}},
+		LOTrend:        &LinearTrend{OriginMs: start, Intercept: 120, SlopePerHour: -12},
+		DGDFit: &DensityCurve{Label: "Maxwellian fit (layout only)", PDF: func(x float64) float64 {
+			return math.Sqrt(2/math.Pi) * x * x / (a * a * a) * math.Exp(-x*x/(2*a*a))
+		}},
+		QLimitDB: ptr(7.05),
+	}}
+}
+
+var fixtureTime = time.Date(2026, 3, 2, 10, 30, 0, 0, time.UTC)
+
+func fixtureAcceptance(t *testing.T, fields SignOff, signing *Signing) *Acceptance {
+	t.Helper()
+	a, err := NewAcceptance(AcceptanceInput{
+		Result: fixtureResult(), Dataset: fixtureSeries(), Profile: fixtureProfile(),
+		Fields: fields, Time: fixtureTime, Signing: signing, Marks: fixtureMarks(),
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return a
+}
+
+// pdfText extracts the plain text of every page with github.com/ledongthuc/pdf.
+func pdfText(t *testing.T, data []byte) (text string, pages int) {
+	t.Helper()
+	r, err := pdf.NewReader(bytes.NewReader(data), int64(len(data)))
+	if err != nil {
+		t.Fatalf("read back PDF: %v", err)
+	}
+	var b strings.Builder
+	for i := 1; i <= r.NumPage(); i++ {
+		p := r.Page(i)
+		if p.V.IsNull() {
+			continue
+		}
+		rows, err := p.GetTextByRow()
+		if err != nil {
+			t.Fatalf("page %d: %v", i, err)
+		}
+		for _, row := range rows {
+			for _, w := range row.Content {
+				b.WriteString(w.S)
+			}
+			b.WriteByte('\n')
+		}
+	}
+	return b.String(), r.NumPage()
+}
+
+func keepPDF(t *testing.T, name string, data []byte) {
+	if dir := os.Getenv("BEATNOTE_KEEP_PDF"); dir != "" {
+		if err := os.WriteFile(filepath.Join(dir, name), data, 0o644); err != nil {
+			t.Log(err)
+		}
+	}
+}
+
+func TestPDFReadsBack(t *testing.T) {
+	signing := &Signing{Signer: "Field Tech One", KeyFingerprint: "SHA256:" + strings.Repeat("0f", 32)}
+	a := fixtureAcceptance(t, SignOff{Technician: "Field Tech One", Organisation: "Example Fibre Works"}, signing)
+	var buf bytes.Buffer
+	if err := a.WritePDF(&buf, PDFOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	keepPDF(t, "fixture.pdf", buf.Bytes())
+	text, pages := pdfText(t, buf.Bytes())
+	squashed := strings.Join(strings.Fields(text), "")
+	for _, want := range []string{
+		"Verdict: MARGINAL", "Q-factor margin to FEC threshold", "+1.05 dB", "+2.20 dBm",
+		"sop-transient", "Laser safety", "IEC 60825-2", "1M", "IEC 61300-3-35", "G.664",
+		signing.KeyFingerprint, a.ReportID, "Handed over by", "Accepted by",
+	} {
+		if !strings.Contains(squashed, strings.Join(strings.Fields(want), "")) {
+			t.Errorf("PDF text lacks %q", want)
+		}
+	}
+	if pages < 2 || pages > 12 {
+		t.Errorf("%d pages, want 2…12", pages)
+	}
+}

@@ -1,0 +1,464 @@
+package report
+
+import (
+	"bytes"
+	"fmt"
+	"image/color"
+	"math"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+
+	"github.com/beatnote/beatnote/parse"
+)
+
+// TimeSpan is an interval of Unix milliseconds, From ≤ To.
+type TimeSpan struct {
+	FromMs, ToMs int64
+}
+
+// LinearTrend is a straight line over time: value = Intercept + SlopePerHour·(t − OriginMs)/3.6e6.
+type LinearTrend struct {
+	OriginMs     int64
+	Intercept    float64
+	SlopePerHour float64
+	Label        string // legend text, e.g. "trend −1.2 MHz/h"
+}
+
+// DensityCurve is a fitted probability density to draw over a histogram.
+type DensityCurve struct {
+	PDF   func(x float64) float64 // density in 1/unit of x
+	Label string                  // legend text, e.g. "Maxwellian fit, mean 3.1 ps"
+}
+
+// ChartMarks are the engine's findings a port's charts annotate. Every member is optional.
+type ChartMarks struct {
+	RxPowerChanges []int64      // change points in received power, Unix ms
+	BERBursts      []TimeSpan   // intervals of pre-FEC BER bursts
+	SOPSpikes      []int64      // SOP-rate spikes, Unix ms
+	LOTrend        *LinearTrend // carrier-offset trend
+	DGDFit         *DensityCurve
+	// QLimitDB is the Q-factor limit (FEC threshold as Q) when the engine knows it.
+	QLimitDB *float64
+}
+
+// Chart is one rendered chart.
+type Chart struct {
+	Title   string
+	Caption string
+	PNG     []byte
+	// WidthMM and HeightMM are the size the image was drawn for.
+	WidthMM, HeightMM float64
+}
+
+// Chart geometry: drawn once at a fixed size and resolution so the bytes are reproducible.
+const (
+	chartWidthMM  = 180
+	chartHeightMM = 62
+	chartDPI      = 150
+)
+
+var (
+	colData    = color.RGBA{R: 0x1f, G: 0x4e, B: 0x79, A: 0xff}
+	colLimit   = color.RGBA{R: 0xc0, G: 0x1c, B: 0x28, A: 0xff}
+	colMark    = color.RGBA{R: 0xe0, G: 0x7a, B: 0x10, A: 0xff}
+	colShade   = color.RGBA{R: 0xfb, G: 0xd9, B: 0xb0, A: 0xff}
+	colFit     = color.RGBA{R: 0x2a, G: 0x7f, B: 0x3e, A: 0xff}
+	colHistBar = color.RGBA{R: 0xb8, G: 0xcc, B: 0xe4, A: 0xff}
+)
+
+// portCharts renders the charts the port's data allows, in a fixed order.
+func (a *Acceptance) portCharts(port string) ([]Chart, error) {
+	s := a.series[port]
+	if s == nil {
+		return nil, nil
+	}
+	m := a.marks[port]
+	var out []Chart
+	add := func(c *Chart, err error) error {
+		if err != nil {
+			return err
+		}
+		if c != nil {
+			out = append(out, *c)
+		}
+		return nil
+	}
+	if err := add(a.chartQ(s, m)); err != nil {
+		return nil, err
+	}
+	if err := add(a.chartRxPower(s, m)); err != nil {
+		return nil, err
+	}
+	if err := add(a.chartDGD(s, m)); err != nil {
+		return nil, err
+	}
+	if err := add(a.chartSOP(s, m)); err != nil {
+		return nil, err
+	}
+	if err := add(a.chartLO(s, m)); err != nil {
+		return nil, err
+	}
+	return out, nil
+}
+
+// newPlot makes a plot in the report's chart style: sans-serif text sized for a printed page.
+func newPlot(title string) *plot.Plot {
+	p := plot.New()
+	sans := func(size vg.Length) font.Font {
+		return font.Font{Typeface: "Liberation", Variant: "Sans", Size: size}
+	}
+	p.Title.Text = title
+	p.Title.TextStyle.Font = sans(11)
+	p.Title.Padding = vg.Points(4)
+	for _, ax := range []*plot.Axis{&p.X, &p.Y} {
+		ax.Label.TextStyle.Font = sans(9)
+		ax.Tick.Label.Font = sans(8)
+	}
+	p.Legend.TextStyle.Font = sans(8)
+	p.Legend.Top = true
+	p.Legend.Left = false
+	p.Legend.Padding = vg.Points(1)
+	p.Add(plotter.NewGrid())
+	return p
+}
+
+// legendRoom raises hi so the legend in the top right corner sits above the data.
+func legendRoom(lo, hi float64) float64 { return hi + 0.3*(hi-lo) }
+
+func newTimePlot(title, yLabel string, spanMs int64) *plot.Plot {
+	p := newPlot(title)
+	p.Y.Label.Text = yLabel
+	p.X.Label.Text = "time (UTC)"
+	format := "15:04"
+	if spanMs > 20*3600*1000 {
+		format = "Jan 02 15:04"
+	}
+	p.X.Tick.Marker = plot.TimeTicks{Format: format}
+	return p
+}
+
+func timeXY(ts []int64, vs []float64) plotter.XYs {
+	xy := make(plotter.XYs, len(ts))
+	for i := range ts {
+		xy[i].X = float64(ts[i]) / 1000
+		xy[i].Y = vs[i]
+	}
+	return xy
+}
+
+func rangeOf(vs []float64, extra ...float64) (lo, hi float64) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for _, v := range append(append([]float64(nil), vs...), extra...) {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			continue
+		}
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	if lo == hi {
+		lo, hi = lo-1, hi+1
+	}
+	pad := (hi - lo) * 0.08
+	return lo - pad, hi + pad
+}
+
+func addLine(p *plot.Plot, xy plotter.XYs, c color.Color, width vg.Length, dashes []vg.Length, label string) error {
+	l, err := plotter.NewLine(xy)
+	if err != nil {
+		return err
+	}
+	l.Color, l.Width, l.Dashes = c, width, dashes
+	p.Add(l)
+	if label != "" {
+		p.Legend.Add(label, l)
+	}
+	return nil
+}
+
+func addHLine(p *plot.Plot, x0, x1, y float64, c color.Color, label string) error {
+	return addLine(p, plotter.XYs{{X: x0, Y: y}, {X: x1, Y: y}}, c, vg.Points(1.2), []vg.Length{vg.Points(5), vg.Points(3)}, label)
+}
+
+func addVMarks(p *plot.Plot, timesMs []int64, lo, hi float64, label string) error {
+	for i, t := range timesMs {
+		x := float64(t) / 1000
+		l := ""
+		if i == 0 {
+			l = label
+		}
+		if err := addLine(p, plotter.XYs{{X: x, Y: lo}, {X: x, Y: hi}}, colMark, vg.Points(1.5), nil, l); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func addSpans(p *plot.Plot, spans []TimeSpan, lo, hi float64, label string) error {
+	for i, sp := range spans {
+		x0, x1 := float64(sp.FromMs)/1000, float64(sp.ToMs)/1000
+		if x1 <= x0 {
+			x1 = x0 + 1
+		}
+		poly, err := plotter.NewPolygon(plotter.XYs{{X: x0, Y: lo}, {X: x1, Y: lo}, {X: x1, Y: hi}, {X: x0, Y: hi}})
+		if err != nil {
+			return err
+		}
+		poly.Color = colShade
+		poly.LineStyle.Width = 0
+		p.Add(poly)
+		if i == 0 && label != "" {
+			p.Legend.Add(label, poly)
+		}
+	}
+	return nil
+}
+
+func renderChart(p *plot.Plot, title, caption string) (*Chart, error) {
+	c := vgimg.NewWith(vgimg.UseWH(chartWidthMM*vg.Millimeter, chartHeightMM*vg.Millimeter),
+		vgimg.UseDPI(chartDPI), vgimg.UseBackgroundColor(color.White))
+	p.Draw(draw.New(c))
+	var buf bytes.Buffer
+	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
+		return nil, fmt.Errorf("report: chart %q: %w", title, err)
+	}
+	return &Chart{Title: title, Caption: caption, PNG: buf.Bytes(), WidthMM: chartWidthMM, HeightMM: chartHeightMM}, nil
+}
+
+// chartQ draws the Q-factor over time with its limit, or the pre-FEC BER on a log axis with the
+// FEC threshold when the log has no Q.
+func (a *Acceptance) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
+	if ts, vs := s.Present(parse.QdB); len(ts) >= 2 {
+		span := ts[len(ts)-1] - ts[0]
+		p := newTimePlot("Q-factor over time", "Q (dB)", span)
+		var extra []float64
+		if m.QLimitDB != nil {
+			extra = append(extra, *m.QLimitDB)
+		}
+		lo, hi := rangeOf(vs, extra...)
+		hi = legendRoom(lo, hi)
+		if err := addSpans(p, m.BERBursts, lo, hi, "BER burst"); err != nil {
+			return nil, err
+		}
+		if err := addLine(p, timeXY(ts, vs), colData, vg.Points(1), nil, "Q"); err != nil {
+			return nil, err
+		}
+		caption := "Q-factor as reported by the module."
+		if m.QLimitDB != nil {
+			if err := addHLine(p, float64(ts[0])/1000, float64(ts[len(ts)-1])/1000, *m.QLimitDB, colLimit, fmt.Sprintf("FEC limit %.2f dB", *m.QLimitDB)); err != nil {
+				return nil, err
+			}
+			caption = fmt.Sprintf("Q-factor as reported; dashed line: the FEC limit expressed as Q (%.2f dB).", *m.QLimitDB)
+		}
+		p.Y.Min, p.Y.Max = lo, hi
+		return renderChart(p, "Q-factor over time", caption)
+	}
+	ts, vs := s.Present(parse.PreFECBER)
+	var pts []int64
+	var pvs []float64
+	zeros := 0
+	for i, v := range vs {
+		if v > 0 {
+			pts, pvs = append(pts, ts[i]), append(pvs, v)
+		} else {
+			zeros++
+		}
+	}
+	if len(pts) < 2 {
+		return nil, nil
+	}
+	span := pts[len(pts)-1] - pts[0]
+	p := newTimePlot("Pre-FEC BER over time", "pre-FEC BER", span)
+	p.Y.Scale = plot.LogScale{}
+	p.Y.Tick.Marker = plot.LogTicks{Prec: -1}
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, v := range pvs {
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	limit := 0.0
+	if a.profile != nil && a.profile.FECThresholdBER > 0 {
+		limit = a.profile.FECThresholdBER
+		lo, hi = math.Min(lo, limit), math.Max(hi, limit)
+	}
+	lo, hi = lo/2, hi*30
+	if err := addSpans(p, m.BERBursts, lo, hi, "BER burst"); err != nil {
+		return nil, err
+	}
+	if err := addLine(p, timeXY(pts, pvs), colData, vg.Points(1), nil, "pre-FEC BER"); err != nil {
+		return nil, err
+	}
+	caption := "Pre-FEC BER as reported by the module (log scale)."
+	if limit > 0 {
+		if err := addHLine(p, float64(pts[0])/1000, float64(pts[len(pts)-1])/1000, limit, colLimit, fmt.Sprintf("FEC threshold %.3g", limit)); err != nil {
+			return nil, err
+		}
+		caption = fmt.Sprintf("Pre-FEC BER as reported (log scale); dashed line: the FEC threshold %.3g of profile %s.", limit, a.profile.ID)
+	}
+	if zeros > 0 {
+		caption += fmt.Sprintf(" %d samples with BER 0 cannot be drawn on a log scale and are left out of the chart only.", zeros)
+	}
+	p.Y.Min, p.Y.Max = lo, hi
+	return renderChart(p, "Pre-FEC BER over time", caption)
+}
+
+func (a *Acceptance) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error) {
+	ts, vs := s.Present(parse.RxPowerDBm)
+	if len(ts) < 2 {
+		return nil, nil
+	}
+	p := newTimePlot("Received power over time", "Rx power (dBm)", ts[len(ts)-1]-ts[0])
+	var extra []float64
+	if a.profile != nil && a.profile.RxPowerMinDBm < a.profile.RxPowerMaxDBm {
+		extra = append(extra, a.profile.RxPowerMinDBm)
+	}
+	lo, hi := rangeOf(vs, extra...)
+	hi = legendRoom(lo, hi)
+	if err := addLine(p, timeXY(ts, vs), colData, vg.Points(1), nil, "Rx power"); err != nil {
+		return nil, err
+	}
+	caption := "Total received optical power."
+	if len(extra) > 0 {
+		x0, x1 := float64(ts[0])/1000, float64(ts[len(ts)-1])/1000
+		if err := addHLine(p, x0, x1, a.profile.RxPowerMinDBm, colLimit, fmt.Sprintf("sensitivity %.1f dBm", a.profile.RxPowerMinDBm)); err != nil {
+			return nil, err
+		}
+		caption += fmt.Sprintf(" Dashed line: the module's sensitivity limit %.1f dBm.", a.profile.RxPowerMinDBm)
+	}
+	if err := addVMarks(p, m.RxPowerChanges, lo, hi, "change point"); err != nil {
+		return nil, err
+	}
+	if n := len(m.RxPowerChanges); n > 0 {
+		caption += fmt.Sprintf(" Orange vertical lines: %d change point(s) found by the analysis.", n)
+	} else {
+		caption += " The analysis found no change point."
+	}
+	p.Y.Min, p.Y.Max = lo, hi
+	return renderChart(p, "Received power over time", caption)
+}
+
+func (a *Acceptance) chartDGD(s *parse.Series, m ChartMarks) (*Chart, error) {
+	_, vs := s.Present(parse.DGDps)
+	if len(vs) < 10 {
+		return nil, nil
+	}
+	p := newPlot("DGD distribution")
+	p.X.Label.Text = "DGD (ps)"
+	p.Y.Label.Text = "probability density (1/ps)"
+	bins := int(math.Ceil(math.Sqrt(float64(len(vs)))))
+	bins = max(8, min(bins, 40))
+	h, err := plotter.NewHist(plotter.Values(vs), bins)
+	if err != nil {
+		return nil, err
+	}
+	h.Normalize(1)
+	h.FillColor = colHistBar
+	h.LineStyle.Color = colData
+	h.LineStyle.Width = vg.Points(0.5)
+	p.Add(h)
+	p.Legend.Add(fmt.Sprintf("measured (%d samples)", len(vs)), h)
+	caption := fmt.Sprintf("Histogram of %d DGD samples, normalised to unit area.", len(vs))
+	if m.DGDFit != nil && m.DGDFit.PDF != nil {
+		_, hi := rangeOf(vs)
+		n := 200
+		xy := make(plotter.XYs, n+1)
+		for i := 0; i <= n; i++ {
+			x := hi * float64(i) / float64(n)
+			xy[i].X, xy[i].Y = x, m.DGDFit.PDF(x)
+		}
+		if err := addLine(p, xy, colFit, vg.Points(1.5), nil, m.DGDFit.Label); err != nil {
+			return nil, err
+		}
+		caption += " Green curve: " + m.DGDFit.Label + "."
+	}
+	if a.profile != nil && a.profile.DGDTolerancePs > 0 {
+		caption += fmt.Sprintf(" The module tolerates up to %.0f ps instantaneous DGD.", a.profile.DGDTolerancePs)
+	}
+	top := 0.0
+	for _, b := range h.Bins {
+		top = math.Max(top, b.Weight) // after Normalize the bar height is the density
+	}
+	if m.DGDFit != nil && m.DGDFit.PDF != nil {
+		_, hi := rangeOf(vs)
+		for i := 0; i <= 200; i++ {
+			if d := m.DGDFit.PDF(hi * float64(i) / 200); d > top && !math.IsInf(d, 0) {
+				top = d
+			}
+		}
+	}
+	p.X.Min, p.Y.Min, p.Y.Max = 0, 0, legendRoom(0, top*1.05)
+	return renderChart(p, "DGD distribution", caption)
+}
+
+func (a *Acceptance) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
+	ts, vs := s.Present(parse.SOPRateKradPerS)
+	if len(ts) < 2 {
+		return nil, nil
+	}
+	p := newTimePlot("SOP rate of change over time", "SOP rate (krad/s)", ts[len(ts)-1]-ts[0])
+	var extra []float64
+	if a.profile != nil && a.profile.SOPTrackingKradS > 0 {
+		extra = append(extra, a.profile.SOPTrackingKradS)
+	}
+	lo, hi := rangeOf(vs, extra...)
+	hi = legendRoom(lo, hi)
+	lo = math.Min(lo, 0)
+	if err := addSpans(p, m.BERBursts, lo, hi, "BER burst"); err != nil {
+		return nil, err
+	}
+	if err := addLine(p, timeXY(ts, vs), colData, vg.Points(1), nil, "SOP rate"); err != nil {
+		return nil, err
+	}
+	caption := "Rate of change of the state of polarization."
+	if len(extra) > 0 {
+		if err := addHLine(p, float64(ts[0])/1000, float64(ts[len(ts)-1])/1000, extra[0], colLimit, fmt.Sprintf("tracking limit %.0f krad/s", extra[0])); err != nil {
+			return nil, err
+		}
+		caption += fmt.Sprintf(" Dashed line: the module's SOP tracking limit %.0f krad/s.", extra[0])
+	}
+	if err := addVMarks(p, m.SOPSpikes, lo, hi, "SOP spike"); err != nil {
+		return nil, err
+	}
+	if n := len(m.BERBursts); n > 0 {
+		caption += fmt.Sprintf(" Shaded: %d pre-FEC BER burst(s) found by the analysis.", n)
+	} else {
+		caption += " The analysis found no BER burst."
+	}
+	p.Y.Min, p.Y.Max = lo, hi
+	return renderChart(p, "SOP rate of change over time", caption)
+}
+
+func (a *Acceptance) chartLO(s *parse.Series, m ChartMarks) (*Chart, error) {
+	ts, vs := s.Present(parse.LOOffsetMHz)
+	if len(ts) < 2 {
+		return nil, nil
+	}
+	p := newTimePlot("Carrier (LO) frequency offset over time", "LO offset (MHz)", ts[len(ts)-1]-ts[0])
+	lo, hi := rangeOf(vs)
+	hi = legendRoom(lo, hi)
+	if err := addLine(p, timeXY(ts, vs), colData, vg.Points(1), nil, "LO offset"); err != nil {
+		return nil, err
+	}
+	caption := "Carrier frequency offset between signal and local oscillator."
+	if tr := m.LOTrend; tr != nil {
+		at := func(t int64) float64 { return tr.Intercept + tr.SlopePerHour*float64(t-tr.OriginMs)/3.6e6 }
+		y0, y1 := at(ts[0]), at(ts[len(ts)-1])
+		lo, hi = rangeOf(vs, y0, y1)
+		hi = legendRoom(lo, hi)
+		label := tr.Label
+		if label == "" {
+			label = fmt.Sprintf("trend %+.3g MHz/h", tr.SlopePerHour)
+		}
+		if err := addLine(p, plotter.XYs{{X: float64(ts[0]) / 1000, Y: y0}, {X: float64(ts[len(ts)-1]) / 1000, Y: y1}}, colFit, vg.Points(1.5), nil, label); err != nil {
+			return nil, err
+		}
+		caption += " Green line: " + label + "."
+	}
+	if a.profile != nil && a.profile.LOOffsetRangeMHz > 0 {
+		caption += fmt.Sprintf(" The receiver captures offsets within ±%.0f MHz.", a.profile.LOOffsetRangeMHz)
+	}
+	p.Y.Min, p.Y.Max = lo, hi
+	return renderChart(p, "Carrier (LO) frequency offset over time", caption)
+}

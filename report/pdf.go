@@ -1,0 +1,685 @@
+package report
+
+import (
+	"bytes"
+	"fmt"
+	"io"
+	"sort"
+	"strings"
+	"time"
+	"unicode"
+
+	"codeberg.org/go-fonts/liberation/liberationmonoregular"
+	"codeberg.org/go-fonts/liberation/liberationsansbold"
+	"codeberg.org/go-fonts/liberation/liberationsansitalic"
+	"codeberg.org/go-fonts/liberation/liberationsansregular"
+	"codeberg.org/go-pdf/fpdf"
+	"golang.org/x/image/font/sfnt"
+
+	"github.com/beatnote/beatnote/diagnose"
+)
+
+// Paper is a page size for the PDF report.
+type Paper string
+
+// The supported paper sizes.
+const (
+	PaperA4     Paper = "a4"
+	PaperLetter Paper = "letter"
+)
+
+// PDFOptions control the PDF layout.
+type PDFOptions struct {
+	Paper Paper // default A4
+}
+
+// Layout constants, in millimetres and points.
+const (
+	pdfMargin     = 15.0
+	pdfBottom     = 16.0 // space kept free for the footer
+	pdfLineH      = 4.4  // body line height at 9 pt
+	pdfCellPad    = 1.2
+	pdfBodySize   = 9.0
+	pdfSmallSize  = 7.5
+	pdfFooterSize = 6.5
+)
+
+// fontCoverage knows which runes the embedded font can draw.
+type fontCoverage struct {
+	font *sfnt.Font
+	buf  sfnt.Buffer
+	memo map[rune]bool
+}
+
+func newFontCoverage(ttf []byte) (*fontCoverage, error) {
+	f, err := sfnt.Parse(ttf)
+	if err != nil {
+		return nil, err
+	}
+	return &fontCoverage{font: f, memo: map[rune]bool{}}, nil
+}
+
+func (c *fontCoverage) has(r rune) bool {
+	if ok, seen := c.memo[r]; seen {
+		return ok
+	}
+	idx, err := c.font.GlyphIndex(&c.buf, r)
+	ok := err == nil && idx != 0
+	c.memo[r] = ok
+	return ok
+}
+
+// pdfWriter lays out one acceptance report.
+type pdfWriter struct {
+	a        *Acceptance
+	pdf      *fpdf.Fpdf
+	cover    *fontCoverage
+	missing  map[rune]bool // runes replaced because the font lacks them
+	pageW    float64
+	contentW float64
+}
+
+// WritePDF writes the report as a PDF. The output depends only on the report content and the
+// options: the same content gives byte-identical files.
+func (a *Acceptance) WritePDF(w io.Writer, opt PDFOptions) error {
+	size := "A4"
+	switch opt.Paper {
+	case "", PaperA4:
+	case PaperLetter:
+		size = "Letter"
+	default:
+		return fmt.Errorf("report: unknown paper %q (a4 or letter)", opt.Paper)
+	}
+	cover, err := newFontCoverage(liberationsansregular.TTF)
+	if err != nil {
+		return fmt.Errorf("report: font: %w", err)
+	}
+	pdf := fpdf.New("P", "mm", size, "")
+	when, err := time.Parse(time.RFC3339, a.GeneratedAt)
+	if err != nil {
+		return fmt.Errorf("report: report time %q: %w", a.GeneratedAt, err)
+	}
+	pdf.SetCreationDate(when)
+	pdf.SetModificationDate(when)
+	pdf.SetCatalogSort(true)
+	pdf.SetProducer("beatnote "+a.Version, true)
+	pdf.SetCreator("beatnote "+a.Version, true)
+	pdf.AddUTF8FontFromBytes("sans", "", liberationsansregular.TTF)
+	pdf.AddUTF8FontFromBytes("sans", "B", liberationsansbold.TTF)
+	pdf.AddUTF8FontFromBytes("sans", "I", liberationsansitalic.TTF)
+	pdf.AddUTF8FontFromBytes("mono", "", liberationmonoregular.TTF)
+	pdf.SetMargins(pdfMargin, pdfMargin, pdfMargin)
+	pdf.SetAutoPageBreak(true, pdfBottom+4)
+	pdf.SetCellMargin(pdfCellPad)
+	pdf.AliasNbPages("{nb}")
+
+	pw := &pdfWriter{a: a, pdf: pdf, cover: cover, missing: map[rune]bool{}}
+	pw.pageW, _ = pdf.GetPageSize()
+	pw.contentW = pw.pageW - 2*pdfMargin
+	pdf.SetTitle(pw.text("Acceptance report "+a.Circuit), true)
+	pdf.SetSubject(a.ReportID, true)
+	if a.Signing != nil {
+		pdf.SetAuthor(pw.text(a.Signing.Signer), true)
+	}
+	pdf.SetHeaderFunc(pw.header)
+	pdf.SetFooterFunc(pw.footer)
+
+	if err := pw.body(); err != nil {
+		return err
+	}
+	if pdf.Err() {
+		return fmt.Errorf("report: pdf: %w", pdf.Error())
+	}
+	var buf bytes.Buffer
+	if err := pdf.Output(&buf); err != nil {
+		return fmt.Errorf("report: pdf: %w", err)
+	}
+	_, err = w.Write(buf.Bytes())
+	return err
+}
+
+// text makes s drawable: control characters become spaces and runes the font lacks become
+// <U+XXXX>, remembered so the report can say so.
+func (pw *pdfWriter) text(s string) string {
+	var b strings.Builder
+	for _, r := range s {
+		switch {
+		case r == '\n':
+			b.WriteRune(r)
+		case r == '\t' || unicode.IsControl(r):
+			b.WriteByte(' ')
+		case r == ' ' || pw.cover.has(r):
+			b.WriteRune(r)
+		default:
+			pw.missing[r] = true
+			fmt.Fprintf(&b, "<U+%04X>", r)
+		}
+	}
+	return b.String()
+}
+
+func (pw *pdfWriter) header() {
+	if pw.pdf.PageNo() == 1 {
+		return
+	}
+	pdf := pw.pdf
+	pdf.SetFont("sans", "", pdfSmallSize)
+	pdf.SetTextColor(90, 90, 90)
+	left := pw.fit("Acceptance report · "+pw.a.Circuit, pw.contentW*0.7)
+	pdf.CellFormat(pw.contentW*0.7, 4, left, "", 0, "L", false, 0, "")
+	pdf.CellFormat(pw.contentW*0.3, 4, pw.a.ReportID, "", 1, "R", false, 0, "")
+	pdf.SetDrawColor(180, 180, 180)
+	pdf.Line(pdfMargin, pdf.GetY()+0.5, pw.pageW-pdfMargin, pdf.GetY()+0.5)
+	pdf.Ln(4)
+	pdf.SetTextColor(0, 0, 0)
+}
+
+// fit shortens s with an ellipsis to width w; only for the running header, whose full text
+// appears on the first page.
+func (pw *pdfWriter) fit(s string, w float64) string {
+	s = pw.text(strings.ReplaceAll(s, "\n", " "))
+	if pw.pdf.GetStringWidth(s) <= w-2*pdfCellPad {
+		return s
+	}
+	r := []rune(s)
+	for len(r) > 0 && pw.pdf.GetStringWidth(string(r)+"…") > w-2*pdfCellPad {
+		r = r[:len(r)-1]
+	}
+	return string(r) + "…"
+}
+
+func (pw *pdfWriter) footer() {
+	pdf := pw.pdf
+	_, pageH := pdf.GetPageSize()
+	y := pageH - pdfBottom + 2
+	pdf.SetDrawColor(180, 180, 180)
+	pdf.Line(pdfMargin, y, pw.pageW-pdfMargin, y)
+	pdf.SetXY(pdfMargin, y+1)
+	pdf.SetFont("sans", "", pdfFooterSize)
+	pdf.SetTextColor(70, 70, 70)
+	key := "not signed"
+	if pw.a.Signing != nil {
+		key = pw.a.Signing.KeyFingerprint
+	}
+	pdf.CellFormat(pw.contentW-22, 3.2, "Report "+pw.a.ReportID+" · "+pw.a.GeneratedAt, "", 2, "L", false, 0, "")
+	pdf.CellFormat(pw.contentW-22, 3.2, "Signing key "+key, "", 0, "L", false, 0, "")
+	pdf.SetXY(pw.pageW-pdfMargin-22, y+1)
+	pdf.CellFormat(22, 3.2, fmt.Sprintf("page %d of {nb}", pdf.PageNo()), "", 0, "R", false, 0, "")
+	pdf.SetTextColor(0, 0, 0)
+}
+
+// ensure starts a new page unless h millimetres are left above the footer.
+func (pw *pdfWriter) ensure(h float64) {
+	_, pageH := pw.pdf.GetPageSize()
+	if pw.pdf.GetY()+h > pageH-pdfBottom-4 {
+		pw.pdf.AddPage()
+	}
+}
+
+func (pw *pdfWriter) heading(s string, size float64) {
+	pw.ensure(size*0.8 + 14)
+	pdf := pw.pdf
+	pdf.Ln(2)
+	pdf.SetFont("sans", "B", size)
+	pdf.SetTextColor(0x1f, 0x4e, 0x79)
+	pdf.MultiCell(pw.contentW, size*0.45, pw.text(s), "", "L", false)
+	pdf.SetTextColor(0, 0, 0)
+	pdf.Ln(1)
+}
+
+func (pw *pdfWriter) para(s string, style string, size float64) {
+	pdf := pw.pdf
+	pdf.SetFont("sans", style, size)
+	pdf.MultiCell(pw.contentW, size*0.48, pw.text(s), "", "L", false)
+}
+
+// bullet writes one bulleted paragraph, wrapped under its own indent.
+func (pw *pdfWriter) bullet(indent float64, mark, s string) {
+	pdf := pw.pdf
+	pdf.SetFont("sans", "", pdfBodySize)
+	lines := pdf.SplitText(pw.text(s), pw.contentW-indent-5)
+	pw.ensure(float64(min(len(lines), 3)) * pdfLineH)
+	pdf.SetX(pdfMargin + indent)
+	pdf.CellFormat(5, pdfLineH, mark, "", 0, "L", false, 0, "")
+	pdf.MultiCell(pw.contentW-indent-5, pdfLineH, pw.text(s), "", "L", false)
+}
+
+// verdictColours gives a light fill and a strong colour per verdict; the word and the drawn mark
+// carry the meaning, colour only helps.
+func verdictColours(v diagnose.Verdict) (fill, strong [3]int) {
+	switch v {
+	case diagnose.Pass:
+		return [3]int{0xdf, 0xf2, 0xe1}, [3]int{0x1e, 0x7b, 0x34}
+	case diagnose.Marginal:
+		return [3]int{0xfd, 0xf0, 0xd5}, [3]int{0xa0, 0x5a, 0x00}
+	case diagnose.Fail:
+		return [3]int{0xfb, 0xe0, 0xe0}, [3]int{0xb0, 0x1c, 0x1c}
+	}
+	return [3]int{0xea, 0xea, 0xea}, [3]int{0x55, 0x55, 0x55}
+}
+
+// verdictMark draws a shape for a verdict in a square of side s at (x, y): a tick for pass,
+// an exclamation mark in a triangle for marginal, a cross for fail, a dash in a circle for no
+// data.
+func (pw *pdfWriter) verdictMark(v diagnose.Verdict, x, y, s float64) {
+	pdf := pw.pdf
+	_, c := verdictColours(v)
+	pdf.SetDrawColor(c[0], c[1], c[2])
+	pdf.SetFillColor(c[0], c[1], c[2])
+	pdf.SetLineWidth(s * 0.12)
+	pdf.SetLineCapStyle("round")
+	pdf.SetLineJoinStyle("round")
+	switch v {
+	case diagnose.Pass:
+		pdf.Line(x+0.15*s, y+0.55*s, x+0.4*s, y+0.8*s)
+		pdf.Line(x+0.4*s, y+0.8*s, x+0.88*s, y+0.2*s)
+	case diagnose.Fail:
+		pdf.Line(x+0.2*s, y+0.2*s, x+0.8*s, y+0.8*s)
+		pdf.Line(x+0.8*s, y+0.2*s, x+0.2*s, y+0.8*s)
+	case diagnose.Marginal:
+		pdf.SetLineWidth(s * 0.07)
+		pdf.Polygon([]fpdf.PointType{{X: x + 0.5*s, Y: y + 0.08*s}, {X: x + 0.95*s, Y: y + 0.9*s}, {X: x + 0.05*s, Y: y + 0.9*s}}, "D")
+		pdf.SetLineWidth(s * 0.1)
+		pdf.Line(x+0.5*s, y+0.35*s, x+0.5*s, y+0.62*s)
+		pdf.Circle(x+0.5*s, y+0.76*s, s*0.045, "F")
+	default:
+		pdf.SetLineWidth(s * 0.07)
+		pdf.Circle(x+0.5*s, y+0.5*s, 0.42*s, "D")
+		pdf.SetLineWidth(s * 0.1)
+		pdf.Line(x+0.3*s, y+0.5*s, x+0.7*s, y+0.5*s)
+	}
+	pdf.SetLineWidth(0.2)
+	pdf.SetDrawColor(0, 0, 0)
+}
+
+// column describes one table column.
+type column struct {
+	title string
+	width float64 // fraction of the content width
+	align string  // L, R or C
+	mono  bool
+}
+
+// table draws a table with wrapped cells; rows never split across pages and the header row is
+// repeated after a page break. Every cell's text is wrapped, none is cut.
+func (pw *pdfWriter) table(cols []column, rows [][]string, size float64) {
+	pdf := pw.pdf
+	lineH := size * 0.47
+	widths := make([]float64, len(cols))
+	for i, c := range cols {
+		widths[i] = c.width * pw.contentW
+	}
+	setFont := func(c column, bold bool) {
+		switch {
+		case bold:
+			pdf.SetFont("sans", "B", size)
+		case c.mono:
+			pdf.SetFont("mono", "", size-0.5)
+		default:
+			pdf.SetFont("sans", "", size)
+		}
+	}
+	layout := func(cells []string, bold bool) ([][]string, float64) {
+		out := make([][]string, len(cols))
+		n := 1
+		for i, c := range cols {
+			setFont(c, bold)
+			txt := ""
+			if i < len(cells) {
+				txt = pw.text(cells[i])
+			}
+			var lines []string
+			for _, para := range strings.Split(txt, "\n") {
+				sl := pdf.SplitText(para, widths[i])
+				if len(sl) == 0 {
+					sl = []string{""}
+				}
+				lines = append(lines, sl...)
+			}
+			out[i] = lines
+			n = max(n, len(lines))
+		}
+		return out, float64(n)*lineH + 2*pdfCellPad*0.6
+	}
+	draw := func(cells [][]string, h float64, bold bool, fill bool) {
+		x0, y0 := pdfMargin, pdf.GetY()
+		x := x0
+		for i, c := range cols {
+			if fill {
+				pdf.SetFillColor(0xe8, 0xee, 0xf5)
+				pdf.Rect(x, y0, widths[i], h, "F")
+			}
+			pdf.SetDrawColor(190, 190, 190)
+			pdf.SetLineWidth(0.2)
+			pdf.Rect(x, y0, widths[i], h, "D")
+			setFont(c, bold)
+			for j, line := range cells[i] {
+				pdf.SetXY(x, y0+pdfCellPad*0.6+float64(j)*lineH)
+				pdf.CellFormat(widths[i], lineH, line, "", 0, c.align, false, 0, "")
+			}
+			x += widths[i]
+		}
+		pdf.SetXY(x0, y0+h)
+	}
+	titles := make([]string, len(cols))
+	for i, c := range cols {
+		titles[i] = c.title
+	}
+	head, headH := layout(titles, true)
+	_, pageH := pdf.GetPageSize()
+	limit := pageH - pdfBottom - 4
+	pw.ensure(headH + 2*lineH + 3)
+	draw(head, headH, true, true)
+	for _, r := range rows {
+		cells, h := layout(r, false)
+		if pdf.GetY()+h > limit {
+			pdf.AddPage()
+			draw(head, headH, true, true)
+		}
+		draw(cells, h, false, false)
+	}
+	pdf.Ln(2)
+}
+
+func (pw *pdfWriter) body() error {
+	a, pdf := pw.a, pw.pdf
+	pdf.AddPage()
+
+	// Title block.
+	pdf.SetFont("sans", "B", 17)
+	pdf.MultiCell(pw.contentW, 8, "Coherent link acceptance report", "", "L", false)
+	pdf.SetFont("sans", "", 10.5)
+	pdf.MultiCell(pw.contentW, 5, pw.text(a.Circuit), "", "L", false)
+	pdf.Ln(3)
+
+	// Verdict box: mark, word and meaning.
+	fill, strong := verdictColours(a.Verdict)
+	y := pdf.GetY()
+	pdf.SetFont("sans", "", pdfBodySize)
+	meaning := verdictMeaning(a.Verdict)
+	boxH := 20.0
+	pdf.SetFillColor(fill[0], fill[1], fill[2])
+	pdf.SetDrawColor(strong[0], strong[1], strong[2])
+	pdf.SetLineWidth(0.6)
+	pdf.Rect(pdfMargin, y, pw.contentW, boxH, "FD")
+	pdf.SetLineWidth(0.2)
+	pw.verdictMark(a.Verdict, pdfMargin+4, y+3, 14)
+	pdf.SetXY(pdfMargin+22, y+3)
+	pdf.SetTextColor(strong[0], strong[1], strong[2])
+	pdf.SetFont("sans", "B", 20)
+	pdf.CellFormat(pw.contentW-26, 8, "Verdict: "+VerdictWords(a.Verdict), "", 2, "L", false, 0, "")
+	pdf.SetTextColor(0, 0, 0)
+	pdf.SetFont("sans", "", pdfBodySize)
+	pdf.SetX(pdfMargin + 22)
+	pdf.MultiCell(pw.contentW-26, pdfLineH, meaning, "", "L", false)
+	pdf.SetY(y + boxH + 3)
+
+	// Summary.
+	profile := "not stated"
+	if a.Profile != nil {
+		profile = profileLine(a.Profile)
+	}
+	signing := "not signed"
+	if a.Signing != nil {
+		signing = a.Signing.KeyFingerprint + "\nsigner: " + orBlank(a.Signing.Signer, "not named")
+	}
+	var ports []string
+	for _, p := range a.Ports {
+		ports = append(ports, fmt.Sprintf("%s: %s (%d samples)", p.Port, VerdictWords(p.Verdict), p.Samples))
+	}
+	kv := [][]string{
+		{"Circuit", a.Circuit},
+		{"End A", orBlank(a.EndA, "not stated")},
+		{"End Z", orBlank(a.EndZ, "not stated")},
+		{"Period (UTC)", a.From + " to " + a.To},
+		{"Module profile", profile},
+		{"Ports", strings.Join(ports, "\n")},
+		{"Report id", a.ReportID},
+		{"Report time (UTC)", a.GeneratedAt},
+		{"Signing key", signing},
+	}
+	pw.table([]column{{title: "Summary", width: 0.22, align: "L"}, {title: "", width: 0.78, align: "L"}}, kv, pdfBodySize)
+
+	if a.Plan != nil {
+		pw.heading("Link plan", 12)
+		s := fmt.Sprintf("%s: %d span(s), %.1f km of fibre, %d amplifier(s)", a.Plan.Circuit, a.Plan.Spans, a.Plan.LengthKm, a.Plan.Amplifiers)
+		if a.Plan.FrequencyTHz > 0 {
+			s += fmt.Sprintf(", channel at %.5g THz", a.Plan.FrequencyTHz)
+		}
+		s += "."
+		if a.Plan.Description != "" {
+			s += " " + a.Plan.Description
+		}
+		pw.para(s, "", pdfBodySize)
+	}
+
+	for _, port := range a.Ports {
+		if err := pw.portSection(port); err != nil {
+			return err
+		}
+	}
+	pw.inputsSection()
+	pw.safetySection()
+	pw.signOffSection()
+	return nil
+}
+
+func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
+	pdf := pw.pdf
+	pw.ensure(40)
+	pdf.Ln(3)
+	y := pdf.GetY()
+	pw.verdictMark(port.Verdict, pdfMargin, y, 7)
+	pdf.SetXY(pdfMargin+9, y)
+	pdf.SetFont("sans", "B", 13)
+	_, strong := verdictColours(port.Verdict)
+	pdf.SetTextColor(0x1f, 0x4e, 0x79)
+	pdf.MultiCell(pw.contentW-9, 6, pw.text("Port "+port.Port), "", "L", false)
+	pdf.SetX(pdfMargin + 9)
+	pdf.SetTextColor(strong[0], strong[1], strong[2])
+	pdf.SetFont("sans", "B", 10)
+	pdf.CellFormat(pw.contentW-9, 5, "Port verdict: "+VerdictWords(port.Verdict), "", 1, "L", false, 0, "")
+	pdf.SetTextColor(0, 0, 0)
+	pw.para(fmt.Sprintf("Profile %s; %d samples from %s to %s.", orBlank(port.Profile, "not stated"), port.Samples, port.From, port.To), "", pdfBodySize)
+	pdf.Ln(1)
+
+	if len(port.Criteria) > 0 {
+		pw.heading("Criteria", 11)
+		rows := make([][]string, len(port.Criteria))
+		for i, c := range port.Criteria {
+			name := c.Name
+			if c.Source != "" {
+				name += "\nlimit: " + c.Source
+			}
+			rows[i] = []string{name, c.Statistic, withUnit(c.Measured, c.Unit), withUnit(c.Limit, c.Unit), formatMargin(c), VerdictWords(c.Verdict)}
+		}
+		pw.table([]column{
+			{title: "criterion", width: 0.37, align: "L"}, {title: "statistic", width: 0.1, align: "L"},
+			{title: "measured", width: 0.14, align: "R"}, {title: "limit", width: 0.14, align: "R"},
+			{title: "margin", width: 0.13, align: "R"}, {title: "verdict", width: 0.12, align: "L"},
+		}, rows, pdfBodySize-0.5)
+	}
+	if len(port.PlanVsMeasured) > 0 {
+		pw.heading("Plan vs measured", 11)
+		rows := make([][]string, len(port.PlanVsMeasured))
+		for i, pc := range port.PlanVsMeasured {
+			rows[i] = []string{pc.Quantity, withUnit(pc.Expected, pc.Unit), withUnit(pc.Measured, pc.Unit), withUnit(pc.Measured-pc.Expected, pc.Unit), pc.Note}
+		}
+		pw.table([]column{
+			{title: "quantity", width: 0.22, align: "L"}, {title: "planned", width: 0.15, align: "R"},
+			{title: "measured", width: 0.15, align: "R"}, {title: "difference", width: 0.15, align: "R"},
+			{title: "note", width: 0.33, align: "L"},
+		}, rows, pdfBodySize-0.5)
+	}
+
+	pw.heading("Likely causes", 11)
+	if len(port.Causes) == 0 {
+		pw.para("None: nothing in the telemetry points at a physical fault.", "", pdfBodySize)
+	}
+	for i, c := range port.Causes {
+		pw.ensure(3 * pdfLineH)
+		pdf.SetFont("sans", "B", pdfBodySize+0.5)
+		pdf.MultiCell(pw.contentW, pdfLineH+0.4, pw.text(fmt.Sprintf("%d. %s — confidence %.0f %%", i+1, c.ID, 100*c.Confidence)), "", "L", false)
+		if len(c.Evidence) > 0 {
+			pdf.SetFont("sans", "I", pdfBodySize)
+			pdf.SetX(pdfMargin + 4)
+			pdf.CellFormat(40, pdfLineH, "Evidence", "", 1, "L", false, 0, "")
+			for _, e := range c.Evidence {
+				pw.bullet(4, "•", e)
+			}
+		}
+		if len(c.Actions) > 0 {
+			pdf.SetFont("sans", "I", pdfBodySize)
+			pdf.SetX(pdfMargin + 4)
+			pdf.CellFormat(40, pdfLineH, "Recommended actions", "", 1, "L", false, 0, "")
+			for _, act := range c.Actions {
+				pw.bullet(4, "→", act)
+			}
+		}
+		pdf.Ln(1.5)
+	}
+	if len(port.NotJudged) > 0 {
+		pw.heading("Not judged", 11)
+		for _, n := range port.NotJudged {
+			pw.bullet(0, "•", n)
+		}
+	}
+	if keys := sortedMetricKeys(port.Metrics); len(keys) > 0 {
+		pw.heading("Measurements", 11)
+		rows := make([][]string, len(keys))
+		for i, k := range keys {
+			m := port.Metrics[k]
+			name := k
+			if m.Derived {
+				name += " (derived)"
+			}
+			rows[i] = []string{name, withUnit(m.Min, m.Unit), withUnit(m.P50, m.Unit), withUnit(m.P99, m.Unit), withUnit(m.Max, m.Unit)}
+		}
+		pw.table([]column{
+			{title: "quantity", width: 0.28, align: "L"}, {title: "min", width: 0.18, align: "R"},
+			{title: "median", width: 0.18, align: "R"}, {title: "p99", width: 0.18, align: "R"},
+			{title: "max", width: 0.18, align: "R"},
+		}, rows, pdfBodySize-0.5)
+	}
+
+	charts, err := pw.a.portCharts(port.Port)
+	if err != nil {
+		return err
+	}
+	if len(charts) > 0 {
+		pw.heading("Charts — port "+port.Port, 11)
+	}
+	for i, c := range charts {
+		name := fmt.Sprintf("chart-%s-%d", port.Port, i)
+		w := pw.contentW
+		h := w * c.HeightMM / c.WidthMM
+		pdf.SetFont("sans", "I", pdfSmallSize+0.5)
+		capLines := pdf.SplitText(pw.text(c.Caption), w)
+		pw.ensure(h + float64(len(capLines))*3.6 + 4)
+		pdf.RegisterImageOptionsReader(name, fpdf.ImageOptions{ImageType: "PNG"}, bytes.NewReader(c.PNG))
+		y := pdf.GetY()
+		pdf.ImageOptions(name, pdfMargin, y, w, h, false, fpdf.ImageOptions{ImageType: "PNG"}, 0, "")
+		pdf.SetXY(pdfMargin, y+h+0.5)
+		pdf.SetFont("sans", "I", pdfSmallSize+0.5)
+		pdf.MultiCell(w, 3.6, pw.text(c.Caption), "", "L", false)
+		pdf.Ln(3)
+	}
+	return nil
+}
+
+func (pw *pdfWriter) inputsSection() {
+	a, pdf := pw.a, pw.pdf
+	pw.heading("Inputs", 12)
+	rows := make([][]string, len(a.Inputs))
+	for i, in := range a.Inputs {
+		rows[i] = []string{in.File + "\nSHA-256 " + in.SHA256, fmt.Sprint(in.RowsRead), fmt.Sprint(in.RowsUsed), fmt.Sprint(in.RowsRejected)}
+	}
+	pw.table([]column{
+		{title: "file and SHA-256", width: 0.64, align: "L", mono: true}, {title: "rows read", width: 0.12, align: "R"},
+		{title: "used", width: 0.12, align: "R"}, {title: "rejected", width: 0.12, align: "R"},
+	}, rows, pdfSmallSize+0.5)
+	if a.Rejected.Total == 0 {
+		pw.para("Every row read was used; none was rejected.", "", pdfBodySize)
+		return
+	}
+	pw.para(fmt.Sprintf("%d row(s) were rejected and not used. The first %d, with their reasons:", a.Rejected.Total, len(a.Rejected.First)), "", pdfBodySize)
+	for _, r := range a.Rejected.First {
+		pw.bullet(2, "•", rejectionLine(r.File, r.Line, r.Field, r.Reason))
+	}
+	pdf.Ln(1)
+}
+
+func (pw *pdfWriter) safetySection() {
+	a, pdf := pw.a, pw.pdf
+	pdf.SetFont("sans", "", pdfBodySize)
+	h := 12.0
+	for _, c := range a.Safety.Cautions {
+		h += float64(len(pdf.SplitText(pw.text(c), pw.contentW-13))) * pdfLineH
+	}
+	pw.ensure(h + 12)
+	pw.heading("Laser safety", 12)
+	y := pdf.GetY()
+	// A warning triangle beside the heading text block.
+	pdf.SetDrawColor(0xa0, 0x5a, 0x00)
+	pdf.SetFillColor(0xfd, 0xf0, 0xd5)
+	pdf.SetLineWidth(0.5)
+	pdf.Rect(pdfMargin, y, pw.contentW, h-4, "FD")
+	pw.verdictMark(diagnose.Marginal, pdfMargin+2, y+2, 7)
+	pdf.SetXY(pdfMargin+11, y+2)
+	pdf.SetFont("sans", "B", pdfBodySize+1)
+	pdf.CellFormat(pw.contentW-13, 5, "Hazard level: "+pw.text(a.Safety.HazardLevel)+" — invisible infrared radiation", "", 2, "L", false, 0, "")
+	pdf.Ln(1)
+	for _, c := range a.Safety.Cautions {
+		pdf.SetX(pdfMargin + 11)
+		pdf.SetFont("sans", "", pdfBodySize)
+		pdf.MultiCell(pw.contentW-13, pdfLineH, pw.text(c), "", "L", false)
+	}
+	pdf.SetY(y + h - 1)
+}
+
+func (pw *pdfWriter) signOffSection() {
+	a, pdf := pw.a, pw.pdf
+	so := a.SignOff
+	rows := [][]string{
+		{"Technician", so.Technician},
+		{"Organisation", so.Organisation},
+		{"Accepting party", so.AcceptingParty},
+		{"Site, end A", so.EndA},
+		{"Site, end Z", so.EndZ},
+		{"Notes", so.Notes},
+	}
+	pw.ensure(70)
+	pw.heading("Sign-off", 12)
+	pw.table([]column{{title: "field", width: 0.22, align: "L"}, {title: "entry", width: 0.78, align: "L"}}, rows, pdfBodySize)
+	if len(pw.missing) > 0 {
+		rs := make([]rune, 0, len(pw.missing))
+		for r := range pw.missing {
+			rs = append(rs, r)
+		}
+		sort.Slice(rs, func(i, j int) bool { return rs[i] < rs[j] })
+		codes := make([]string, len(rs))
+		for i, r := range rs {
+			codes[i] = fmt.Sprintf("U+%04X", r)
+		}
+		pw.para("Note on characters: the embedded font (Liberation Sans) has no glyph for "+strings.Join(codes, ", ")+
+			"; these are printed as <U+XXXX> codes. The Markdown and JSON forms of this report hold the original text.", "I", pdfSmallSize+0.5)
+		pdf.Ln(1)
+	}
+	pw.ensure(34)
+	pdf.Ln(8)
+	half := (pw.contentW - 10) / 2
+	y := pdf.GetY()
+	for i, who := range []string{"Handed over by (signature)", "Accepted by (signature)"} {
+		x := pdfMargin + float64(i)*(half+10)
+		pdf.SetDrawColor(0, 0, 0)
+		pdf.SetLineWidth(0.3)
+		pdf.Line(x, y+10, x+half, y+10)
+		pdf.SetXY(x, y+11)
+		pdf.SetFont("sans", "", pdfSmallSize+0.5)
+		pdf.CellFormat(half, 4, who, "", 0, "L", false, 0, "")
+		pdf.Line(x, y+24, x+half*0.6, y+24)
+		pdf.SetXY(x, y+25)
+		pdf.CellFormat(half, 4, "Name and date", "", 0, "L", false, 0, "")
+	}
+	pdf.SetY(y + 30)
+}

@@ -1,0 +1,443 @@
+package report
+
+import (
+	"bytes"
+	"crypto/ed25519"
+	"crypto/rand"
+	"crypto/sha256"
+	"crypto/x509"
+	"encoding/base64"
+	"encoding/hex"
+	"encoding/json"
+	"encoding/pem"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
+)
+
+// Signing of acceptance reports.
+//
+// Keys are Ed25519 (RFC 8032). The private key is stored as PEM "PRIVATE KEY" holding PKCS #8
+// (RFC 5208, RFC 8410), the public key as PEM "PUBLIC KEY" holding a PKIX SubjectPublicKeyInfo
+// (RFC 5280, RFC 8410). A key's fingerprint is "SHA256:" followed by the lowercase hex SHA-256
+// of that SubjectPublicKeyInfo DER.
+//
+// A signature is a detached JSON file (SignatureFile) beside the report. Its Ed25519 signature
+// covers the canonical encoding of every other field (see SignatureFile.Canonical).
+
+// SignatureFormat is the value of the "format" member of a signature file this version writes.
+const SignatureFormat = "beatnote-signature/1"
+
+// KeyFingerprintPrefix starts every key fingerprint.
+const KeyFingerprintPrefix = "SHA256:"
+
+// SignedFile is one file a signature vouches for, by path and SHA-256.
+type SignedFile struct {
+	// Path is relative to the directory of the signature file when possible (slash-separated),
+	// otherwise absolute.
+	Path   string `json:"path"`
+	SHA256 string `json:"sha256"` // lowercase hex
+}
+
+// SignatureFile is the detached signature of a report: beatnote's own small JSON format.
+type SignatureFile struct {
+	Format         string       `json:"format"`
+	Signer         string       `json:"signer"`
+	KeyFingerprint string       `json:"key_fingerprint"`
+	PublicKey      string       `json:"public_key"` // base64 (standard, padded) of the PKIX DER
+	SignedAt       string       `json:"signed_at"`  // RFC 3339, UTC
+	Document       SignedFile   `json:"document"`
+	Inputs         []SignedFile `json:"inputs"`
+	Signature      string       `json:"signature"` // base64 (standard, padded) of the 64-byte Ed25519 signature
+}
+
+// Canonical is the byte string the Ed25519 signature covers: the line
+// "beatnote-signature/1" and then one line per field, in this fixed order, each written as
+// NAME ":" LENGTH ":" VALUE "\n" where LENGTH is the decimal byte length of VALUE:
+// format, signer, key_fingerprint, public_key, signed_at, document.path, document.sha256,
+// inputs.count, and for each input i (0-based, in file order) input.i.path and input.i.sha256.
+// The length prefix makes the encoding unambiguous whatever the values hold.
+func (s *SignatureFile) Canonical() []byte {
+	var b bytes.Buffer
+	b.WriteString(SignatureFormat + "\n")
+	field := func(name, value string) {
+		b.WriteString(name)
+		b.WriteByte(':')
+		b.WriteString(strconv.Itoa(len(value)))
+		b.WriteByte(':')
+		b.WriteString(value)
+		b.WriteByte('\n')
+	}
+	field("format", s.Format)
+	field("signer", s.Signer)
+	field("key_fingerprint", s.KeyFingerprint)
+	field("public_key", s.PublicKey)
+	field("signed_at", s.SignedAt)
+	field("document.path", s.Document.Path)
+	field("document.sha256", s.Document.SHA256)
+	field("inputs.count", strconv.Itoa(len(s.Inputs)))
+	for i, in := range s.Inputs {
+		field("input."+strconv.Itoa(i)+".path", in.Path)
+		field("input."+strconv.Itoa(i)+".sha256", in.SHA256)
+	}
+	return b.Bytes()
+}
+
+// KeyFingerprint is "SHA256:" + lowercase hex of the SHA-256 of pub's PKIX DER encoding.
+func KeyFingerprint(pub ed25519.PublicKey) (string, error) {
+	der, err := x509.MarshalPKIXPublicKey(pub)
+	if err != nil {
+		return "", fmt.Errorf("report: encode public key: %w", err)
+	}
+	sum := sha256.Sum256(der)
+	return KeyFingerprintPrefix + hex.EncodeToString(sum[:]), nil
+}
+
+// ErrKeyExists is returned by WriteKeyPair when a key file exists and overwriting was not asked for.
+var ErrKeyExists = errors.New("key file exists")
+
+// WriteKeyPair creates a new Ed25519 key pair and writes prefix+".key" (PEM PKCS #8, mode 0600)
+// and prefix+".pub" (PEM PKIX, mode 0644). Without force it refuses, writing nothing, when
+// either file exists. It returns the key's fingerprint.
+func WriteKeyPair(prefix string, force bool, random io.Reader) (fingerprint string, err error) {
+	if random == nil {
+		random = rand.Reader
+	}
+	keyPath, pubPath := prefix+".key", prefix+".pub"
+	if !force {
+		for _, p := range []string{keyPath, pubPath} {
+			if _, err := os.Lstat(p); err == nil {
+				return "", fmt.Errorf("%s: %w (use --force to replace it)", p, ErrKeyExists)
+			} else if !errors.Is(err, fs.ErrNotExist) {
+				return "", err
+			}
+		}
+	}
+	pub, priv, err := ed25519.GenerateKey(random)
+	if err != nil {
+		return "", fmt.Errorf("report: generate key: %w", err)
+	}
+	privDER, err := x509.MarshalPKCS8PrivateKey(priv)
+	if err != nil {
+		return "", fmt.Errorf("report: encode private key: %w", err)
+	}
+	pubDER, err := x509.MarshalPKIXPublicKey(pub)
+	if err != nil {
+		return "", fmt.Errorf("report: encode public key: %w", err)
+	}
+	flags := os.O_WRONLY | os.O_CREATE | os.O_EXCL
+	if force {
+		flags = os.O_WRONLY | os.O_CREATE | os.O_TRUNC
+	}
+	if err := writePEM(keyPath, flags, 0o600, "PRIVATE KEY", privDER); err != nil {
+		return "", err
+	}
+	if err := writePEM(pubPath, flags, 0o644, "PUBLIC KEY", pubDER); err != nil {
+		return "", err
+	}
+	return KeyFingerprint(pub)
+}
+
+func writePEM(path string, flags int, mode os.FileMode, kind string, der []byte) error {
+	f, err := os.OpenFile(path, flags, mode)
+	if err != nil {
+		if errors.Is(err, fs.ErrExist) {
+			return fmt.Errorf("%s: %w (use --force to replace it)", path, ErrKeyExists)
+		}
+		return err
+	}
+	// A replaced file keeps its old mode under O_TRUNC; set it explicitly.
+	if err := f.Chmod(mode); err != nil {
+		f.Close()
+		return err
+	}
+	if err := pem.Encode(f, &pem.Block{Type: kind, Bytes: der}); err != nil {
+		f.Close()
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	return f.Close()
+}
+
+// LoadPrivateKey reads an Ed25519 private key written by WriteKeyPair (PEM PKCS #8).
+func LoadPrivateKey(path string) (ed25519.PrivateKey, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	block, _ := pem.Decode(data)
+	if block == nil || block.Type != "PRIVATE KEY" {
+		return nil, fmt.Errorf("%s: not a PEM \"PRIVATE KEY\" file (create one with beatnote keygen)", path)
+	}
+	k, err := x509.ParsePKCS8PrivateKey(block.Bytes)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	priv, ok := k.(ed25519.PrivateKey)
+	if !ok {
+		return nil, fmt.Errorf("%s: the key is %T, beatnote signs with Ed25519 keys only", path, k)
+	}
+	return priv, nil
+}
+
+// LoadPublicKey reads an Ed25519 public key written by WriteKeyPair (PEM PKIX).
+func LoadPublicKey(path string) (ed25519.PublicKey, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	block, _ := pem.Decode(data)
+	if block == nil || block.Type != "PUBLIC KEY" {
+		return nil, fmt.Errorf("%s: not a PEM \"PUBLIC KEY\" file", path)
+	}
+	k, err := x509.ParsePKIXPublicKey(block.Bytes)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	pub, ok := k.(ed25519.PublicKey)
+	if !ok {
+		return nil, fmt.Errorf("%s: the key is %T, beatnote verifies Ed25519 keys only", path, k)
+	}
+	return pub, nil
+}
+
+// FileSHA256 is the lowercase hex SHA-256 of a file's bytes.
+func FileSHA256(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", err
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", fmt.Errorf("%s: %w", path, err)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// SignaturePath is where the detached signature of document goes: document + ".sig".
+func SignaturePath(document string) string { return document + ".sig" }
+
+// Sign hashes document and inputs, signs them with priv and writes the signature file to
+// sigPath (normally SignaturePath(document)). Paths inside the file are stored relative to the
+// directory of sigPath where possible.
+func Sign(priv ed25519.PrivateKey, signer string, signedAt time.Time, document string, inputs []string, sigPath string) (*SignatureFile, error) {
+	pub, ok := priv.Public().(ed25519.PublicKey)
+	if !ok {
+		return nil, errors.New("report: not an Ed25519 key")
+	}
+	fp, err := KeyFingerprint(pub)
+	if err != nil {
+		return nil, err
+	}
+	der, err := x509.MarshalPKIXPublicKey(pub)
+	if err != nil {
+		return nil, err
+	}
+	sigDir, err := filepath.Abs(filepath.Dir(sigPath))
+	if err != nil {
+		return nil, err
+	}
+	sf := &SignatureFile{
+		Format:         SignatureFormat,
+		Signer:         signer,
+		KeyFingerprint: fp,
+		PublicKey:      base64.StdEncoding.EncodeToString(der),
+		SignedAt:       signedAt.UTC().Format(time.RFC3339),
+	}
+	entry := func(path string) (SignedFile, error) {
+		sum, err := FileSHA256(path)
+		if err != nil {
+			return SignedFile{}, err
+		}
+		return SignedFile{Path: relativePath(sigDir, path), SHA256: sum}, nil
+	}
+	if sf.Document, err = entry(document); err != nil {
+		return nil, err
+	}
+	for _, in := range inputs {
+		e, err := entry(in)
+		if err != nil {
+			return nil, err
+		}
+		sf.Inputs = append(sf.Inputs, e)
+	}
+	sf.Signature = base64.StdEncoding.EncodeToString(ed25519.Sign(priv, sf.Canonical()))
+	data, err := json.MarshalIndent(sf, "", "  ")
+	if err != nil {
+		return nil, err
+	}
+	data = append(data, '\n')
+	if err := os.WriteFile(sigPath, data, 0o644); err != nil {
+		return nil, err
+	}
+	return sf, nil
+}
+
+// relativePath expresses path relative to dir (slash-separated) when it can, else absolute.
+func relativePath(dir, path string) string {
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return filepath.ToSlash(path)
+	}
+	rel, err := filepath.Rel(dir, abs)
+	if err != nil {
+		return filepath.ToSlash(abs)
+	}
+	return filepath.ToSlash(rel)
+}
+
+// CheckStatus is the outcome of one verification step.
+type CheckStatus string
+
+// The outcomes of a verification step.
+const (
+	CheckOK      CheckStatus = "ok"
+	CheckChanged CheckStatus = "changed" // hash differs: tampered or replaced
+	CheckMissing CheckStatus = "missing" // input no longer present: a warning only
+	CheckFailed  CheckStatus = "failed"  // signature or key check failed
+)
+
+// FileCheck is the verification of one signed file.
+type FileCheck struct {
+	Path     string      `json:"path"`     // as stored in the signature file
+	Resolved string      `json:"resolved"` // where it was looked for
+	Expected string      `json:"expected_sha256"`
+	Actual   string      `json:"actual_sha256,omitempty"`
+	Status   CheckStatus `json:"status"`
+}
+
+// Verification is the full outcome of Verify.
+type Verification struct {
+	Signer         string      `json:"signer"`
+	KeyFingerprint string      `json:"key_fingerprint"`
+	SignedAt       string      `json:"signed_at"`
+	Signature      CheckStatus `json:"signature"`
+	Document       FileCheck   `json:"document"`
+	Inputs         []FileCheck `json:"inputs"`
+	// Failures say, one sentence each, what does not match. Empty means verified.
+	Failures []string `json:"failures"`
+	// Warnings say what could not be checked (a signed input no longer present).
+	Warnings []string `json:"warnings"`
+}
+
+// OK reports whether nothing failed (warnings allowed).
+func (v *Verification) OK() bool { return len(v.Failures) == 0 }
+
+// VerifyError means verification could not be carried out (unreadable files, unknown format):
+// distinct from a verification that ran and found a mismatch.
+type VerifyError struct {
+	Path string
+	Err  error
+}
+
+func (e *VerifyError) Error() string { return e.Path + ": " + e.Err.Error() }
+func (e *VerifyError) Unwrap() error { return e.Err }
+
+// Verify checks document against the signature file at sigPath: the Ed25519 signature over the
+// canonical encoding, the document's SHA-256, and the SHA-256 of every signed input still
+// present (relative input paths are resolved against the signature file's directory). When pin
+// is not nil the signature must have been made with that public key. It returns a
+// *VerifyError when it cannot complete; a damaged signature file is a failure, not an error.
+func Verify(document, sigPath string, pin ed25519.PublicKey) (*Verification, error) {
+	raw, err := os.ReadFile(sigPath)
+	if err != nil {
+		return nil, &VerifyError{Path: sigPath, Err: err}
+	}
+	if _, err := os.Stat(document); err != nil {
+		return nil, &VerifyError{Path: document, Err: err}
+	}
+	v := &Verification{Signature: CheckFailed}
+	var sf SignatureFile
+	dec := json.NewDecoder(bytes.NewReader(raw))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&sf); err != nil {
+		v.Failures = append(v.Failures, fmt.Sprintf("signature file %s is damaged (%v)", sigPath, err))
+		return v, nil
+	}
+	if sf.Format != SignatureFormat {
+		if strings.HasPrefix(sf.Format, "beatnote-signature/") {
+			return nil, &VerifyError{Path: sigPath, Err: fmt.Errorf("signature format %q is newer than this beatnote understands (%s)", sf.Format, SignatureFormat)}
+		}
+		v.Failures = append(v.Failures, fmt.Sprintf("signature file %s is damaged or not a beatnote signature (format %q)", sigPath, sf.Format))
+		return v, nil
+	}
+	v.Signer, v.KeyFingerprint, v.SignedAt = sf.Signer, sf.KeyFingerprint, sf.SignedAt
+
+	// The key and the signature.
+	der, derErr := base64.StdEncoding.DecodeString(sf.PublicKey)
+	var pub ed25519.PublicKey
+	if derErr == nil {
+		if k, err := x509.ParsePKIXPublicKey(der); err == nil {
+			pub, _ = k.(ed25519.PublicKey)
+		}
+	}
+	sig, sigErr := base64.StdEncoding.DecodeString(sf.Signature)
+	switch {
+	case pub == nil:
+		v.Failures = append(v.Failures, "the public key in the signature file is damaged")
+	case sigErr != nil || len(sig) != ed25519.SignatureSize:
+		v.Failures = append(v.Failures, "the signature value in the signature file is damaged")
+	default:
+		fp, _ := KeyFingerprint(pub)
+		if fp != sf.KeyFingerprint {
+			v.Failures = append(v.Failures, fmt.Sprintf("the key fingerprint %s does not belong to the public key in the signature file (%s)", sf.KeyFingerprint, fp))
+		}
+		if pin != nil && !pub.Equal(pin) {
+			pinFP, _ := KeyFingerprint(pin)
+			v.Failures = append(v.Failures, fmt.Sprintf("signed with key %s, not with the expected key %s", fp, pinFP))
+		}
+		if ed25519.Verify(pub, sf.Canonical(), sig) {
+			v.Signature = CheckOK
+		} else {
+			v.Failures = append(v.Failures, "the signature does not match the signature file's contents: the signature file was altered after signing")
+		}
+	}
+
+	// The files.
+	sigDir, err := filepath.Abs(filepath.Dir(sigPath))
+	if err != nil {
+		return nil, &VerifyError{Path: sigPath, Err: err}
+	}
+	v.Document = checkFile(sf.Document, document)
+	switch v.Document.Status {
+	case CheckChanged:
+		v.Failures = append(v.Failures, fmt.Sprintf("report %s has changed since signing (SHA-256 %s, signed %s)", document, v.Document.Actual, v.Document.Expected))
+	case CheckMissing:
+		return nil, &VerifyError{Path: document, Err: errors.New("cannot be read")}
+	}
+	for _, in := range sf.Inputs {
+		p := filepath.FromSlash(in.Path)
+		if !filepath.IsAbs(p) {
+			p = filepath.Join(sigDir, p)
+		}
+		fc := checkFile(in, p)
+		v.Inputs = append(v.Inputs, fc)
+		switch fc.Status {
+		case CheckChanged:
+			v.Failures = append(v.Failures, fmt.Sprintf("input %s has changed since signing (SHA-256 %s, signed %s)", p, fc.Actual, fc.Expected))
+		case CheckMissing:
+			v.Warnings = append(v.Warnings, fmt.Sprintf("input %s is no longer present; its hash could not be checked", p))
+		}
+	}
+	return v, nil
+}
+
+func checkFile(sf SignedFile, path string) FileCheck {
+	fc := FileCheck{Path: sf.Path, Resolved: path, Expected: sf.SHA256}
+	sum, err := FileSHA256(path)
+	switch {
+	case err != nil:
+		fc.Status = CheckMissing
+	case sum != strings.ToLower(sf.SHA256):
+		fc.Actual, fc.Status = sum, CheckChanged
+	default:
+		fc.Actual, fc.Status = sum, CheckOK
+	}
+	return fc
+}

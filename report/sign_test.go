@@ -1,0 +1,257 @@
+package report
+
+import (
+	"crypto/ed25519"
+	"crypto/sha256"
+	"crypto/x509"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+)
+
+// signedFixture makes a key pair, a "report" and two inputs in a temporary directory and signs them.
+func signedFixture(t *testing.T) (dir, doc, sig string, inputs []string) {
+	t.Helper()
+	dir = t.TempDir()
+	if _, err := WriteKeyPair(filepath.Join(dir, "tech"), false, nil); err != nil {
+		t.Fatal(err)
+	}
+	doc = filepath.Join(dir, "out", "report.pdf")
+	if err := os.MkdirAll(filepath.Dir(doc), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	mustWrite(t, doc, "%PDF-1.3 not really a pdf\n")
+	inputs = []string{filepath.Join(dir, "a.csv"), filepath.Join(dir, "plan.yaml")}
+	mustWrite(t, inputs[0], "time,port,q_db\n2026-01-01T00:00:00Z,p1,9.5\n")
+	mustWrite(t, inputs[1], "circuit: x\n")
+	priv, err := LoadPrivateKey(filepath.Join(dir, "tech.key"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	sig = SignaturePath(doc)
+	if _, err := Sign(priv, "Signer Ω Ünïcode", time.Date(2026, 3, 2, 10, 0, 0, 0, time.UTC), doc, inputs, sig); err != nil {
+		t.Fatal(err)
+	}
+	return dir, doc, sig, inputs
+}
+
+func mustWrite(t *testing.T, path, s string) {
+	t.Helper()
+	if err := os.WriteFile(path, []byte(s), 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func flipByte(t *testing.T, path string, at int) {
+	t.Helper()
+	data, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if at < 0 {
+		at += len(data)
+	}
+	data[at] ^= 0x01
+	if err := os.WriteFile(path, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func TestKeygenFilesAndFingerprint(t *testing.T) {
+	dir := t.TempDir()
+	prefix := filepath.Join(dir, "k")
+	fp, err := WriteKeyPair(prefix, false, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	st, err := os.Stat(prefix + ".key")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if st.Mode().Perm() != 0o600 {
+		t.Errorf("private key mode %v, want 0600", st.Mode().Perm())
+	}
+	pub, err := LoadPublicKey(prefix + ".pub")
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The fingerprint definition, recomputed here with crypto/x509 and crypto/sha256 directly.
+	der, _ := x509.MarshalPKIXPublicKey(pub)
+	sum := sha256.Sum256(der)
+	if want := "SHA256:" + hex.EncodeToString(sum[:]); fp != want {
+		t.Errorf("fingerprint %s, want %s", fp, want)
+	}
+	// RFC 8410 §4: an Ed25519 SubjectPublicKeyInfo is 44 bytes, ending in the 32-byte key.
+	if len(der) != 44 || string(der[12:]) != string(pub) {
+		t.Errorf("PKIX DER has %d bytes, want 44 ending in the raw key", len(der))
+	}
+	priv, err := LoadPrivateKey(prefix + ".key")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !priv.Public().(ed25519.PublicKey).Equal(pub) {
+		t.Error("private and public key files do not belong together")
+	}
+
+	before, _ := os.ReadFile(prefix + ".key")
+	if _, err := WriteKeyPair(prefix, false, nil); !errors.Is(err, ErrKeyExists) {
+		t.Errorf("second keygen without force: err %v, want ErrKeyExists", err)
+	}
+	after, _ := os.ReadFile(prefix + ".key")
+	if string(before) != string(after) {
+		t.Error("key overwritten without force")
+	}
+	os.Chmod(prefix+".key", 0o644)
+	if _, err := WriteKeyPair(prefix, true, nil); err != nil {
+		t.Fatalf("keygen with force: %v", err)
+	}
+	again, _ := os.ReadFile(prefix + ".key")
+	if string(again) == string(before) {
+		t.Error("force did not replace the key")
+	}
+	if st, _ := os.Stat(prefix + ".key"); st.Mode().Perm() != 0o600 {
+		t.Errorf("replaced private key mode %v, want 0600", st.Mode().Perm())
+	}
+}
+
+func TestSignVerifyRoundTrip(t *testing.T) {
+	dir, doc, sig, _ := signedFixture(t)
+	pin, err := LoadPublicKey(filepath.Join(dir, "tech.pub"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	v, err := Verify(doc, sig, pin)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !v.OK() || v.Signature != CheckOK || len(v.Warnings) != 0 {
+		t.Fatalf("verification failed: %+v", v)
+	}
+	if v.Signer != "Signer Ω Ünïcode" {
+		t.Errorf("signer %q", v.Signer)
+	}
+	if len(v.Inputs) != 2 || v.Inputs[0].Status != CheckOK || v.Inputs[1].Status != CheckOK {
+		t.Errorf("inputs %+v", v.Inputs)
+	}
+	// The stored paths are relative to the signature's directory.
+	if v.Inputs[0].Path != "../a.csv" {
+		t.Errorf("stored input path %q, want ../a.csv", v.Inputs[0].Path)
+	}
+}
+
+func TestVerifyDetectsTampering(t *testing.T) {
+	cases := []struct {
+		name    string
+		tamper  func(t *testing.T, dir, doc, sig string, inputs []string)
+		wantMsg string
+		warning bool
+	}{
+		{"pdf byte", func(t *testing.T, dir, doc, sig string, in []string) { flipByte(t, doc, 5) }, "report", false},
+		{"input byte", func(t *testing.T, dir, doc, sig string, in []string) { flipByte(t, in[0], -3) }, "a.csv has changed", false},
+		{"signer in sig", func(t *testing.T, dir, doc, sig string, in []string) {
+			editSig(t, sig, func(s *SignatureFile) { s.Signer = "Somebody Else" })
+		}, "altered after signing", false},
+		{"hash in sig", func(t *testing.T, dir, doc, sig string, in []string) {
+			editSig(t, sig, func(s *SignatureFile) { s.Inputs[1].SHA256 = strings.Repeat("0", 64) })
+		}, "altered after signing", false},
+		{"signature value", func(t *testing.T, dir, doc, sig string, in []string) {
+			editSig(t, sig, func(s *SignatureFile) {
+				b := []byte(s.Signature)
+				if b[3] == 'A' {
+					b[3] = 'B'
+				} else {
+					b[3] = 'A'
+				}
+				s.Signature = string(b)
+			})
+		}, "altered after signing", false},
+		{"raw sig byte", func(t *testing.T, dir, doc, sig string, in []string) { flipByte(t, sig, 0) }, "damaged", false},
+		{"input removed", func(t *testing.T, dir, doc, sig string, in []string) { os.Remove(in[1]) }, "no longer present", true},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			dir, doc, sig, inputs := signedFixture(t)
+			c.tamper(t, dir, doc, sig, inputs)
+			v, err := Verify(doc, sig, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			all := strings.Join(append(append([]string{}, v.Failures...), v.Warnings...), "\n")
+			if c.warning {
+				if !v.OK() || len(v.Warnings) == 0 {
+					t.Errorf("want a warning only, got failures %q warnings %q", v.Failures, v.Warnings)
+				}
+			} else if v.OK() {
+				t.Errorf("tampering not detected")
+			}
+			if !strings.Contains(all, c.wantMsg) {
+				t.Errorf("messages %q lack %q", all, c.wantMsg)
+			}
+		})
+	}
+}
+
+func TestVerifyPinnedKey(t *testing.T) {
+	dir, doc, sig, _ := signedFixture(t)
+	if _, err := WriteKeyPair(filepath.Join(dir, "other"), false, nil); err != nil {
+		t.Fatal(err)
+	}
+	other, err := LoadPublicKey(filepath.Join(dir, "other.pub"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	v, err := Verify(doc, sig, other)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if v.OK() || !strings.Contains(strings.Join(v.Failures, " "), "not with the expected key") {
+		t.Errorf("pinned other key accepted: %q", v.Failures)
+	}
+}
+
+func TestVerifyCannotComplete(t *testing.T) {
+	_, doc, sig, _ := signedFixture(t)
+	var ve *VerifyError
+	if _, err := Verify(doc, sig+".nope", nil); !errors.As(err, &ve) {
+		t.Errorf("missing signature file: err %v, want *VerifyError", err)
+	}
+	if _, err := Verify(doc+".nope", sig, nil); !errors.As(err, &ve) {
+		t.Errorf("missing document: err %v, want *VerifyError", err)
+	}
+}
+
+// editSig rewrites one field of a signature file, keeping valid JSON, as a forger would.
+func editSig(t *testing.T, path string, edit func(*SignatureFile)) {
+	t.Helper()
+	data, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var s SignatureFile
+	if err := json.Unmarshal(data, &s); err != nil {
+		t.Fatal(err)
+	}
+	edit(&s)
+	out, _ := json.MarshalIndent(&s, "", "  ")
+	if err := os.WriteFile(path, out, 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// TestCanonicalEncoding pins the documented canonical form (docs/report.md), written out by hand.
+func TestCanonicalEncoding(t *testing.T) {
+	s := SignatureFile{Format: SignatureFormat, Signer: "A:B\n", KeyFingerprint: "SHA256:00", PublicKey: "pk",
+		SignedAt: "2026-01-01T00:00:00Z", Document: SignedFile{Path: "r.pdf", SHA256: "d"},
+		Inputs: []SignedFile{{Path: "x.csv", SHA256: "e"}}}
+	want := "beatnote-signature/1\nformat:20:beatnote-signature/1\nsigner:4:A:B\n\nkey_fingerprint:9:SHA256:00\n" +
+		"public_key:2:pk\nsigned_at:20:2026-01-01T00:00:00Z\ndocument.path:5:r.pdf\ndocument.sha256:1:d\n" +
+		"inputs.count:1:1\ninput.0.path:5:x.csv\ninput.0.sha256:1:e\n"
+	if got := string(s.Canonical()); got != want {
+		t.Errorf("canonical\n%q\nwant\n%q", got, want)
+	}
+}
