@@ -1,6 +1,7 @@
 package diagnose
 
 import (
+	"github.com/beatnote/beatnote/diagnose/optics"
 	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/rules"
 )
@@ -15,8 +16,8 @@ type PortAnalysis struct {
 	Profile rules.Profile
 	// Plan is the link plan, nil when none applies.
 	Plan *rules.Plan
-	// Expected holds what the plan predicts, nil without a plan.
-	Expected *PlanExpectation
+	// Expected holds what the plan predicts (optics.ExpectLink), nil without a plan.
+	Expected *optics.LinkExpectation
 
 	// FECLimitQdB is the profile's FEC threshold expressed as Q in dB (Q = √2·erfc⁻¹(2·BER)).
 	FECLimitQdB float64
@@ -48,26 +49,6 @@ type PortAnalysis struct {
 	DGDFit *MaxwellFit
 	// Correlations are Spearman rank correlations of pre-FEC BER with other quantities.
 	Correlations []Correlation
-}
-
-// PlanExpectation is what a link plan predicts for the port, next to the model assumptions made.
-type PlanExpectation struct {
-	RouteLengthKm float64
-	CDPsNm        float64
-	MeanDGDPs     float64
-	RxPowerDBm    float64
-	// OSNRdB is the ASE-limited OSNR in 0.1 nm; GSNRdB includes nonlinear interference when the
-	// plan allows computing it (NaN otherwise).
-	OSNRdB float64
-	GSNRdB float64
-	// LaunchPowerDBm is the per-channel launch power into the spans.
-	LaunchPowerDBm float64
-	// OptimumLaunchDBm is the model's optimum per-channel launch power (NaN when unknown).
-	OptimumLaunchDBm float64
-	// DispersionPsNmKm is the route-average fibre dispersion at the channel wavelength.
-	DispersionPsNmKm float64
-	// Assumptions lists defaults the model filled in.
-	Assumptions []string
 }
 
 // ChangePoint is a step in a series: the mean before and after a time.

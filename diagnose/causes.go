@@ -1,0 +1,706 @@
+package diagnose
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"github.com/beatnote/beatnote/diagnose/series"
+	"github.com/beatnote/beatnote/parse"
+)
+
+// Scoring. Each cause starts from prior log-odds and each evidence item adds a log-likelihood
+// ratio (natural log of how much more likely the observation is with the cause than without);
+// confidence = 1/(1 + e^(−(prior + Σ LLR))). This is the naive-Bayes "weight of evidence" of
+// I. J. Good, Probability and the Weighing of Evidence (1950); the strength levels follow the
+// scale of R. E. Kass and A. E. Raftery, "Bayes factors", J. Amer. Statist. Assoc. 90(430), 1995
+// (ln B of 1, 3, 5: positive, strong, very strong). The LLR assigned to each observation is our
+// engineering judgement (common practice), documented per test in docs/diagnosis.md.
+const (
+	priorLogOdds    = -3.0 // ≈ 4.7 % before any evidence
+	confidenceFloor = 0.55 // causes below this are not listed
+
+	llrWeak     = 1.0
+	llrModerate = 2.0
+	llrStrong   = 3.5
+	llrDecisive = 5.0
+)
+
+type item struct {
+	llr  float64
+	text string
+}
+
+type score struct {
+	id    string
+	items []item
+}
+
+func (s *score) add(llr float64, format string, a ...any) {
+	s.items = append(s.items, item{llr, fmt.Sprintf(format, a...)})
+}
+
+func (s *score) total() float64 {
+	t := priorLogOdds
+	for _, it := range s.items {
+		t += it.llr
+	}
+	return t
+}
+
+func (s *score) supported() bool {
+	for _, it := range s.items {
+		if it.llr > 0 {
+			return true
+		}
+	}
+	return false
+}
+
+func logistic(x float64) float64 { return 1 / (1 + math.Exp(-x)) }
+
+// impairments is what the other evidence tests saw, so that the noise-type causes (osnr-low,
+// nonlinear) can tell when a measured impairment already explains a low Q.
+type impairments struct {
+	powerLow, powerHigh, cdOver, dgdHigh, pdlHigh, sopBursts, loNear bool
+	names                                                            []string
+}
+
+func (im *impairments) note(flag *bool, on bool, name string) {
+	if on {
+		*flag = true
+		im.names = append(im.names, name)
+	}
+}
+
+// causes runs every evidence test and lists the causes above the floor, highest first.
+func (pc *portCtx) causes() {
+	im := pc.impairments()
+	scores := []*score{
+		pc.signalLoss(),
+		pc.rxPowerLow(),
+		pc.rxOverload(),
+		pc.cdMismatch(),
+		pc.cdOverLimit(),
+		pc.pmd(),
+		pc.sopTransient(),
+		pc.pdlHigh(),
+		pc.loOffset(),
+		pc.osnrLow(im),
+		pc.nonlinear(im),
+	}
+	for _, s := range scores {
+		if s == nil || !s.supported() {
+			continue
+		}
+		conf := logistic(s.total())
+		if conf < confidenceFloor {
+			continue
+		}
+		c := Cause{ID: s.id, Confidence: math.Round(conf*1000) / 1000, Actions: actions[s.id]}
+		items := append([]item(nil), s.items...)
+		sort.SliceStable(items, func(i, j int) bool { return items[i].llr > items[j].llr })
+		for _, it := range items {
+			if it.llr < 0 {
+				c.Evidence = append(c.Evidence, "Against: "+it.text)
+			} else {
+				c.Evidence = append(c.Evidence, it.text)
+			}
+		}
+		pc.res.Causes = append(pc.res.Causes, c)
+	}
+	sort.SliceStable(pc.res.Causes, func(i, j int) bool { return pc.res.Causes[i].Confidence > pc.res.Causes[j].Confidence })
+}
+
+func (pc *portCtx) has(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
+
+// qMarginP50 is the median Q margin of lit samples to the FEC-threshold Q (dB); NaN when unknown.
+func (pc *portCtx) qMarginP50() float64 {
+	if pc.qdb == nil || !(pc.prof.FECThresholdBER > 0) {
+		return math.NaN()
+	}
+	v := make([]float64, 0, pc.n)
+	for i, q := range pc.qdb {
+		if !pc.dark[i] {
+			v = append(v, q)
+		}
+	}
+	return series.Summarize(v).P50 - pc.qLimitDB
+}
+
+func (pc *portCtx) litPowerSummary() series.Summary { return series.Summarize(pc.litPower) }
+
+func (pc *portCtx) impairments() impairments {
+	var im impairments
+	p, r := pc.prof, pc.r
+	if pc.has(parse.RxPowerDBm) && p.RxPowerMaxDBm > p.RxPowerMinDBm {
+		s := pc.litPowerSummary()
+		im.note(&im.powerLow, s.N > 0 && s.P50 < p.RxPowerMinDBm, "received power below the sensitivity limit")
+		im.note(&im.powerHigh, s.N > 0 && s.P50 > p.RxPowerMaxDBm, "received power above the overload limit")
+	}
+	if pc.has(parse.CDpsPerNm) && p.CDTolerancePsNm > 0 {
+		im.note(&im.cdOver, pc.absSum[parse.CDpsPerNm].P50 > p.CDTolerancePsNm, "|CD| beyond the compensation range")
+	}
+	if pc.has(parse.DGDps) && p.DGDTolerancePs > 0 {
+		im.note(&im.dgdHigh, pc.sum[parse.DGDps].P99 > r.DGDMarginalFraction*p.DGDTolerancePs, "high DGD")
+	}
+	if pc.has(parse.PDLdB) && p.PDLTolerancedB > 0 {
+		im.note(&im.pdlHigh, pc.sum[parse.PDLdB].P99 > r.PDLMarginalFraction*p.PDLTolerancedB, "high PDL")
+	}
+	im.note(&im.sopBursts, len(pc.an.Coincidences) > 0, "BER bursts at SOP transients")
+	if pc.has(parse.LOOffsetMHz) && p.LOOffsetRangeMHz > 0 {
+		im.note(&im.loNear, pc.absSum[parse.LOOffsetMHz].P50 > r.LOOffsetMarginalFraction*p.LOOffsetRangeMHz, "LO offset near the capture limit")
+	}
+	return im
+}
+
+func pct(x float64) string { return fmt.Sprintf("%.0f %%", 100*x) }
+
+// signalLoss: power at the floor, no decoded signal, samples without readings, gaps in time.
+func (pc *portCtx) signalLoss() *score {
+	s := &score{id: CauseSignalLoss}
+	ts := pc.s.TimesMs
+	if pc.darkCount > 0 {
+		first, last := -1, -1
+		floorCount, noLock := 0, 0
+		pw := pc.s.Values[parse.RxPowerDBm]
+		minPw := math.Inf(1)
+		for i, d := range pc.dark {
+			if !d {
+				continue
+			}
+			if first < 0 {
+				first = i
+			}
+			last = i
+			if pw != nil && !math.IsNaN(pw[i]) && pw[i] <= pc.r.SignalLossFloorDBm {
+				floorCount++
+				minPw = math.Min(minPw, pw[i])
+			}
+			if pc.ber != nil && pc.ber[i] >= noLockBER {
+				noLock++
+			}
+		}
+		frac := float64(pc.darkCount) / float64(pc.n)
+		if floorCount > 0 {
+			s.add(llrDecisive, "Received power was at or below the %.1f dBm loss-of-signal floor in %d of %d samples (%s of the log, down to %.1f dBm) between %s and %s.",
+				pc.r.SignalLossFloorDBm, floorCount, pc.n, pct(frac), minPw, clock(ts[first]), clock(ts[last]))
+		}
+		if noLock > 0 {
+			s.add(llrStrong, "Pre-FEC BER was at or above %.2g (0.5 means random decisions: nothing decoded) in %d samples.", noLockBER, noLock)
+		}
+	}
+	// Samples present in time but without any performance or power reading.
+	empty := 0
+	for i := 0; i < pc.n; i++ {
+		if nanAt(pc.ber, i) && nanAt(pc.s.Values[parse.RxPowerDBm], i) && nanAt(pc.qdb, i) {
+			empty++
+		}
+	}
+	if empty > 0 && (pc.ber != nil || pc.has(parse.RxPowerDBm)) {
+		s.add(llrStrong, "%d of %d samples carry no BER, Q or power reading although the port reported them at other times.", empty, pc.n)
+	}
+	// Gaps in the sample times.
+	if pc.intervalMs > 0 && pc.n > 2 {
+		var missing int64
+		var worstFrom, worstTo int64
+		for i := 1; i < pc.n; i++ {
+			d := ts[i] - ts[i-1]
+			if d >= gapFactor*pc.intervalMs {
+				missing += d - pc.intervalMs
+				if d > worstTo-worstFrom {
+					worstFrom, worstTo = ts[i-1], ts[i]
+				}
+			}
+		}
+		span := ts[pc.n-1] - ts[0]
+		if missing > 0 && float64(missing) >= 0.02*float64(span) && missing >= 10*pc.intervalMs {
+			s.add(llrStrong, "Samples are missing for %s in all (%s of the log; the longest gap runs from %s to %s, against a usual interval of %s).",
+				dur(missing), pct(float64(missing)/float64(span)), clock(worstFrom), clock(worstTo), dur(pc.intervalMs))
+		}
+	}
+	return s
+}
+
+func nanAt(v []float64, i int) bool { return v == nil || math.IsNaN(v[i]) }
+
+func dur(ms int64) string {
+	sec := float64(ms) / 1000
+	switch {
+	case sec < 120:
+		return fmt.Sprintf("%.0f s", sec)
+	case sec < 7200:
+		return fmt.Sprintf("%.1f min", sec/60)
+	}
+	return fmt.Sprintf("%.1f h", sec/3600)
+}
+
+// rxPowerLow: lit power below the window or near it, a step loss, below the plan.
+func (pc *portCtx) rxPowerLow() *score {
+	s := &score{id: CauseRxPowerLow}
+	if !pc.has(parse.RxPowerDBm) {
+		pc.notJudged("%s: no rx_power_dbm in the log", CauseRxPowerLow)
+		return nil
+	}
+	p, r := pc.prof, pc.r
+	lp := pc.litPowerSummary()
+	if lp.N == 0 {
+		return s
+	}
+	if p.RxPowerMaxDBm > p.RxPowerMinDBm {
+		switch {
+		case lp.P50 < p.RxPowerMinDBm:
+			s.add(llrDecisive, "Median received power %.1f dBm is %.1f dB below the module's %.1f dBm sensitivity limit.", lp.P50, p.RxPowerMinDBm-lp.P50, p.RxPowerMinDBm)
+		case lp.Min < p.RxPowerMinDBm:
+			s.add(llrStrong, "Received power fell to %.1f dBm, %.1f dB below the module's %.1f dBm sensitivity limit.", lp.Min, p.RxPowerMinDBm-lp.Min, p.RxPowerMinDBm)
+		case lp.Min < p.RxPowerMinDBm+r.RxPowerMarginalBandDB:
+			s.add(llrModerate, "Received power went down to %.1f dBm, within %.1f dB of the %.1f dBm sensitivity limit.", lp.Min, lp.Min-p.RxPowerMinDBm, p.RxPowerMinDBm)
+		}
+	}
+	for _, st := range pc.an.PowerSteps {
+		if st.Step <= -r.PowerStepDB {
+			s.add(llrStrong, "Received power stepped down by %.1f dB at %s (%.1f → %.1f dBm): a sudden loss such as a dirty or disturbed connector or a bend.", -st.Step, clock(st.TimeMs), st.Before, st.After)
+			break
+		}
+	}
+	if t := pc.an.RxPowerTrend; t != nil && pc.trendSignificant(t) && t.Slope < 0 {
+		drop := -t.Slope * float64(t.EndMs-t.StartMs) / 3.6e6
+		if drop >= r.PowerStepDB && len(pc.an.PowerSteps) == 0 {
+			s.add(llrModerate, "Received power decays steadily by %.2f ± %.2f dB/h (%.1f dB over the log).", -t.Slope, t.SlopeSE, drop)
+		}
+	}
+	if pc.exp != nil && finite(pc.exp.RxPowerDBm) {
+		gap := pc.exp.RxPowerDBm - lp.P50
+		if gap > r.RxPowerMarginalBandDB+1 {
+			s.add(3.0, "Median received power %.1f dBm is %.1f dB below the %.1f dBm the link plan predicts: more loss than designed.", lp.P50, gap, pc.exp.RxPowerDBm)
+		}
+	}
+	if s.supported() {
+		if c := pc.correlation(parse.RxPowerDBm); c != nil && c.Rho <= -r.CorrelationMinSpearman && c.P < 0.01 {
+			s.add(llrWeak, "Pre-FEC BER rises as power falls (Spearman ρ = %.2f over %d samples).", c.Rho, c.N)
+		}
+		if qm := pc.qMarginP50(); finite(qm) && qm < r.QMarginalMarginDB {
+			s.add(llrWeak, "The Q margin is only %.1f dB (median) while power is low.", qm)
+		}
+	}
+	return s
+}
+
+func (pc *portCtx) correlation(q parse.Quantity) *Correlation {
+	for i := range pc.an.Correlations {
+		if pc.an.Correlations[i].B == q.Column() {
+			return &pc.an.Correlations[i]
+		}
+	}
+	return nil
+}
+
+// rxOverload: power above the window or near it, above the plan.
+func (pc *portCtx) rxOverload() *score {
+	s := &score{id: CauseRxOverload}
+	if !pc.has(parse.RxPowerDBm) {
+		return nil
+	}
+	p, r := pc.prof, pc.r
+	lp := pc.litPowerSummary()
+	if lp.N == 0 || !(p.RxPowerMaxDBm > p.RxPowerMinDBm) {
+		return s
+	}
+	switch {
+	case lp.P50 > p.RxPowerMaxDBm:
+		s.add(llrDecisive, "Median received power %+.1f dBm is %.1f dB above the module's %+.1f dBm overload limit.", lp.P50, lp.P50-p.RxPowerMaxDBm, p.RxPowerMaxDBm)
+	case lp.Max > p.RxPowerMaxDBm:
+		s.add(llrStrong, "Received power reached %+.1f dBm, %.1f dB above the module's %+.1f dBm overload limit.", lp.Max, lp.Max-p.RxPowerMaxDBm, p.RxPowerMaxDBm)
+	case lp.Max > p.RxPowerMaxDBm-r.RxPowerMarginalBandDB:
+		s.add(llrModerate, "Received power reached %+.1f dBm, within %.1f dB of the %+.1f dBm overload limit.", lp.Max, p.RxPowerMaxDBm-lp.Max, p.RxPowerMaxDBm)
+	}
+	if pc.exp != nil && finite(pc.exp.RxPowerDBm) {
+		if gap := lp.P50 - pc.exp.RxPowerDBm; gap > r.RxPowerMarginalBandDB+1 {
+			s.add(llrModerate, "Median received power %+.1f dBm is %.1f dB above the %+.1f dBm the link plan predicts: an attenuator missing or a shorter path.", lp.P50, gap, pc.exp.RxPowerDBm)
+		}
+	}
+	if s.supported() {
+		if c := pc.correlation(parse.RxPowerDBm); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < 0.01 {
+			s.add(llrWeak, "Pre-FEC BER rises with power (Spearman ρ = %.2f over %d samples), as receiver saturation would make it.", c.Rho, c.N)
+		}
+	}
+	return s
+}
+
+// cdMismatch: measured CD disagrees with the plan; the implied route length says by how much.
+func (pc *portCtx) cdMismatch() *score {
+	s := &score{id: CauseCDMismatch}
+	if pc.exp == nil {
+		pc.notJudged("%s: no link plan, so there is no expected CD to compare with", CauseCDMismatch)
+		return nil
+	}
+	if !pc.has(parse.CDpsPerNm) {
+		pc.notJudged("%s: no cd_ps_nm in the log", CauseCDMismatch)
+		return nil
+	}
+	r := pc.r
+	exp := pc.exp.CDPsNm
+	cs := pc.sum[parse.CDpsPerNm]
+	meas := cs.P50
+	diff := meas - exp
+	tol := math.Max(r.CDMismatchRelativeTolerance*math.Abs(exp), r.CDMismatchFloorPsNm)
+	if math.Abs(diff) <= tol {
+		return s
+	}
+	rel := math.Abs(diff) / math.Max(math.Abs(exp), 1)
+	d := exp / pc.exp.RouteLengthKm
+	implied := ""
+	if finite(d) && d != 0 {
+		implied = fmt.Sprintf(" At the plan's average %.2f ps/(nm·km) it implies a route of about %.0f km against %.0f km planned (%+.0f %%).",
+			d, meas/d, pc.exp.RouteLengthKm, 100*(meas/d-pc.exp.RouteLengthKm)/pc.exp.RouteLengthKm)
+	}
+	switch {
+	case exp != 0 && meas*exp < 0 && math.Abs(meas) > r.CDMismatchFloorPsNm:
+		s.add(4.0, "Measured CD %.0f ps/nm has the opposite sign to the %.0f ps/nm the plan expects.%s", meas, exp, implied)
+	case rel >= 2*r.CDMismatchRelativeTolerance:
+		s.add(4.0, "Measured CD %.0f ps/nm differs from the planned %.0f ps/nm by %+.0f ps/nm (%s, tolerance ±%.0f ps/nm).%s", meas, exp, diff, pct(rel), tol, implied)
+	default:
+		s.add(2.5, "Measured CD %.0f ps/nm differs from the planned %.0f ps/nm by %+.0f ps/nm (%s, tolerance ±%.0f ps/nm).%s", meas, exp, diff, pct(rel), tol, implied)
+	}
+	spread := (cs.P99 - cs.Min) / 2
+	if spread < math.Abs(diff)/3 {
+		s.add(llrWeak, "The CD estimate is steady (half-range %.0f ps/nm against a %.0f ps/nm difference), so estimator noise does not explain it.", spread, math.Abs(diff))
+	}
+	return s
+}
+
+// cdOverLimit: |CD| beyond the module's compensation range.
+func (pc *portCtx) cdOverLimit() *score {
+	s := &score{id: CauseCDOverLimit}
+	if !pc.has(parse.CDpsPerNm) {
+		pc.notJudged("%s: no cd_ps_nm in the log", CauseCDOverLimit)
+		return nil
+	}
+	tol := pc.prof.CDTolerancePsNm
+	if !(tol > 0) {
+		return nil
+	}
+	a := pc.absSum[parse.CDpsPerNm]
+	switch {
+	case a.P50 > tol:
+		s.add(llrDecisive, "Measured |CD| %.0f ps/nm (median) exceeds the module's %.0f ps/nm compensation range by %.0f ps/nm (%s).", a.P50, tol, a.P50-tol, pct((a.P50-tol)/tol))
+	case a.P99 > tol:
+		s.add(llrStrong, "Measured |CD| reaches %.0f ps/nm (p99), beyond the module's %.0f ps/nm compensation range.", a.P99, tol)
+	case a.P50 > pc.r.CDMarginalFraction*tol:
+		s.add(llrModerate, "Measured |CD| %.0f ps/nm (median) uses %s of the module's %.0f ps/nm compensation range.", a.P50, pct(a.P50/tol), tol)
+	}
+	if s.supported() {
+		if pc.exp != nil && math.Abs(pc.exp.CDPsNm) > tol {
+			s.add(3.0, "The link plan itself expects %.0f ps/nm: the route is longer than this module can compensate.", pc.exp.CDPsNm)
+		}
+		if qm := pc.qMarginP50(); finite(qm) && qm < pc.r.QMarginalMarginDB {
+			s.add(llrWeak, "The Q margin is %.1f dB (median) with CD at the edge of the range.", qm)
+		}
+	}
+	return s
+}
+
+// pmd: DGD near the tolerance, Maxwellian outage, Maxwellian-shaped spread, BER following DGD.
+func (pc *portCtx) pmd() *score {
+	s := &score{id: CausePMD}
+	if !pc.has(parse.DGDps) {
+		pc.notJudged("%s: no dgd_ps in the log", CausePMD)
+		return nil
+	}
+	p, r := pc.prof, pc.r
+	tol := p.DGDTolerancePs
+	if !(tol > 0) {
+		return nil
+	}
+	ds := pc.sum[parse.DGDps]
+	switch {
+	case ds.P99 >= tol:
+		s.add(llrStrong, "DGD reached %.1f ps (p99; max %.1f ps), at or beyond the module's %.0f ps instantaneous tolerance.", ds.P99, ds.Max, tol)
+	case ds.P99 >= r.DGDMarginalFraction*tol:
+		s.add(llrModerate, "DGD p99 %.1f ps is %s of the module's %.0f ps instantaneous tolerance.", ds.P99, pct(ds.P99/tol), tol)
+	}
+	f := pc.an.DGDFit
+	if f != nil && f.MeanPs > 0 {
+		pe := f.ExceedProbability
+		switch {
+		case pe > r.PMDOutageProbability:
+			s.add(3.0, "Mean DGD %.1f ps gives a Maxwellian probability of %.2g that the DGD exceeds the %.0f ps tolerance (allowed %.2g).", f.MeanPs, pe, tol, r.PMDOutageProbability)
+		case pe > r.PMDOutageProbability/10:
+			s.add(llrWeak, "Mean DGD %.1f ps gives a Maxwellian outage probability of %.2g, within a factor of 10 of the %.2g allowed.", f.MeanPs, pe, r.PMDOutageProbability)
+		}
+		if p.MeanDGDTolerancePs > 0 && f.MeanPs > p.MeanDGDTolerancePs {
+			s.add(llrModerate, "Mean DGD %.1f ps is above the %.0f ps mean DGD (PMD) the module class is specified for.", f.MeanPs, p.MeanDGDTolerancePs)
+		}
+	}
+	if !s.supported() {
+		return s
+	}
+	if f != nil && f.N >= 30 && finite(f.KSPValue) {
+		if f.KSPValue >= 0.01 {
+			s.add(llrWeak, "The DGD spread fits a Maxwellian of that mean (Kolmogorov–Smirnov D = %.3f, p = %.2f over %d samples), as fibre PMD does.", f.KS, f.KSPValue, f.N)
+		} else if f.KSPValue < 0.001 {
+			s.add(-0.5, "The DGD spread is not Maxwellian-shaped (Kolmogorov–Smirnov D = %.3f, p = %.1g), which fibre PMD alone would give.", f.KS, f.KSPValue)
+		}
+	}
+	if c := pc.correlation(parse.DGDps); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < 0.01 {
+		s.add(llrModerate, "Pre-FEC BER follows the DGD (Spearman ρ = %.2f over %d samples, p = %.1g).", c.Rho, c.N, c.P)
+	}
+	if pc.exp != nil && f != nil && pc.exp.MeanDGDPs > 0 && f.MeanPs > 2*pc.exp.MeanDGDPs {
+		s.add(llrWeak, "Mean DGD %.1f ps is %.1f× the %.1f ps the plan's fibre PMD coefficients predict.", f.MeanPs, f.MeanPs/pc.exp.MeanDGDPs, pc.exp.MeanDGDPs)
+	}
+	return s
+}
+
+// sopTransient: SOP-rate spikes near or above the tracking speed that coincide with BER bursts
+// or uncorrected blocks.
+func (pc *portCtx) sopTransient() *score {
+	s := &score{id: CauseSOPTransient}
+	an, p, r := pc.an, pc.prof, pc.r
+	if !pc.has(parse.SOPRateKradPerS) {
+		pc.notJudged("%s: no sop_rate_krad_s in the log", CauseSOPTransient)
+		if n := len(an.BERBursts) + len(an.BlockBursts); n > 0 {
+			s.add(llrWeak, "The log shows %d BER or uncorrected-block bursts on an otherwise steady link, the pattern of polarization transients, but has no SOP rate to confirm it.", n)
+		}
+		return s
+	}
+	if !(p.SOPTrackingKradS > 0) {
+		return nil
+	}
+	ss := pc.sum[parse.SOPRateKradPerS]
+	switch {
+	case ss.Max >= p.SOPTrackingKradS:
+		s.add(llrStrong, "SOP rate peaked at %.0f krad/s, %.1f× the module's %.0f krad/s tracking speed, in %d spike(s) above %.0f krad/s.",
+			ss.Max, ss.Max/p.SOPTrackingKradS, p.SOPTrackingKradS, len(an.SOPSpikes), an.SOPSpikeThresholdKradS)
+	case ss.Max >= r.SOPRateMarginalFraction*p.SOPTrackingKradS:
+		s.add(llrModerate, "SOP rate peaked at %.0f krad/s, %s of the module's %.0f krad/s tracking speed.", ss.Max, pct(ss.Max/p.SOPTrackingKradS), p.SOPTrackingKradS)
+	}
+	bursts := len(an.BERBursts)
+	kind := "BER bursts"
+	if bursts == 0 {
+		bursts, kind = len(an.BlockBursts), "uncorrected-block bursts"
+	}
+	matched, blocks := 0, 0
+	lagMin, lagMax := math.Inf(1), math.Inf(-1)
+	for _, c := range an.Coincidences {
+		if (kind == "BER bursts") == (c.Kind == "pre_fec_ber") {
+			matched++
+			lagMin, lagMax = math.Min(lagMin, c.LagS), math.Max(lagMax, c.LagS)
+		}
+		if c.Kind == "uncorrected_blocks" {
+			blocks++
+		}
+	}
+	if bursts > 0 && matched > 0 {
+		frac := float64(matched) / float64(bursts)
+		chance := series.ChanceCoincidence(toRuns(an.SOPSpikes), int64(an.CoincidenceWindowS*1000), pc.s.TimesMs[0], pc.s.TimesMs[pc.n-1])
+		msg := fmt.Sprintf("%d of %d %s fall within %.0f s of an SOP-rate spike (lag %+.0f…%+.0f s); chance alone would give about %s.",
+			matched, bursts, kind, an.CoincidenceWindowS, lagMin, lagMax, pct(chance))
+		switch {
+		case matched >= 2 && frac >= 0.5 && frac > 3*chance:
+			s.add(llrStrong, "%s", msg)
+		case frac >= 0.5 && frac > 2*chance:
+			s.add(llrModerate, "%s", msg)
+		}
+	}
+	if blocks > 0 && kind == "BER bursts" {
+		s.add(llrWeak, "%d burst(s) of uncorrected FEC blocks coincide with SOP-rate spikes.", blocks)
+	}
+	return s
+}
+
+// pdlHigh: PDL near or above the tolerance; BER following PDL.
+func (pc *portCtx) pdlHigh() *score {
+	s := &score{id: CausePDLHigh}
+	if !pc.has(parse.PDLdB) {
+		pc.notJudged("%s: no pdl_db in the log", CausePDLHigh)
+		return nil
+	}
+	tol, r := pc.prof.PDLTolerancedB, pc.r
+	if !(tol > 0) {
+		return nil
+	}
+	ps := pc.sum[parse.PDLdB]
+	switch {
+	case ps.P99 >= tol:
+		s.add(llrStrong, "PDL reached %.2f dB (p99), at or beyond the module's %.1f dB tolerance.", ps.P99, tol)
+	case ps.P99 >= r.PDLMarginalFraction*tol:
+		s.add(llrModerate, "PDL p99 %.2f dB is %s of the module's %.1f dB tolerance.", ps.P99, pct(ps.P99/tol), tol)
+	}
+	if !s.supported() {
+		return s
+	}
+	if ps.P50 >= r.PDLMarginalFraction*tol {
+		s.add(llrWeak, "PDL stays high: its median is %.2f dB.", ps.P50)
+	}
+	if c := pc.correlation(parse.PDLdB); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < 0.01 {
+		s.add(llrModerate, "Pre-FEC BER follows the PDL (Spearman ρ = %.2f over %d samples, p = %.1g).", c.Rho, c.N, c.P)
+	}
+	return s
+}
+
+// loOffset: carrier offset near the capture range, or drifting to reach it within the horizon.
+func (pc *portCtx) loOffset() *score {
+	s := &score{id: CauseLOOffset}
+	if !pc.has(parse.LOOffsetMHz) {
+		pc.notJudged("%s: no lo_offset_mhz in the log", CauseLOOffset)
+		return nil
+	}
+	rng, r := pc.prof.LOOffsetRangeMHz, pc.r
+	if !(rng > 0) {
+		return nil
+	}
+	a := pc.absSum[parse.LOOffsetMHz]
+	switch {
+	case a.Max >= rng:
+		s.add(llrDecisive, "|LO offset| reached %.0f MHz, at or beyond the module's ±%.0f MHz capture range.", a.Max, rng)
+	case a.Max >= r.LOOffsetMarginalFraction*rng:
+		s.add(llrStrong, "|LO offset| reached %.0f MHz, %s of the module's ±%.0f MHz capture range.", a.Max, pct(a.Max/rng), rng)
+	}
+	if t := pc.an.LOTrend; t != nil && pc.trendSignificant(t) {
+		switch {
+		case t.HoursToLimit > 0 && t.HoursToLimit <= r.LODriftHorizonH:
+			s.add(llrStrong, "The offset drifts %+.1f ± %.1f MHz/h (now about %+.0f MHz); at that rate it reaches the %+.0f MHz capture limit in about %.1f h, within the %.0f h horizon.",
+				t.Slope, t.SlopeSE, t.AtEnd, t.Limit, t.HoursToLimit, r.LODriftHorizonH)
+		case t.HoursToLimit > 0 && t.HoursToLimit <= 4*r.LODriftHorizonH:
+			s.add(llrWeak, "The offset drifts %+.1f ± %.1f MHz/h toward the %+.0f MHz capture limit (about %.0f h away at that rate).",
+				t.Slope, t.SlopeSE, t.Limit, t.HoursToLimit)
+		}
+	}
+	return s
+}
+
+// osnrLow: too little OSNR — reported OSNR low, or the BER-implied OSNR far below the plan,
+// with received power normal and no other measured impairment explaining the low Q.
+func (pc *portCtx) osnrLow(im impairments) *score {
+	s := &score{id: CauseOSNRLow}
+	r := pc.r
+	qm := pc.qMarginP50()
+	hasOSNR := pc.has(parse.OSNRdB) && pc.reqOSNRdB > 0
+	osnr := math.NaN()
+	if hasOSNR {
+		osnr = pick(pc.sum[parse.OSNRdB], r.OSNRStatistic)
+		switch {
+		case osnr < pc.reqOSNRdB:
+			s.add(llrDecisive, "Reported OSNR %.1f dB (%s) is %.1f dB below the %.1f dB the module needs at the FEC threshold.", osnr, r.OSNRStatistic, pc.reqOSNRdB-osnr, pc.reqOSNRdB)
+		case osnr < pc.reqOSNRdB+r.OSNRMarginalMarginDB:
+			s.add(llrStrong, "Reported OSNR %.1f dB (%s) leaves only %.1f dB over the %.1f dB the module needs.", osnr, r.OSNRStatistic, osnr-pc.reqOSNRdB, pc.reqOSNRdB)
+		}
+	}
+	if pc.exp != nil && finite(pc.exp.ASEOSNRdB) {
+		if hasOSNR {
+			med := pc.sum[parse.OSNRdB].P50
+			if gap := pc.exp.ASEOSNRdB - med; gap > r.OSNRGapVsPlanDB {
+				s.add(llrStrong, "Median reported OSNR %.1f dB is %.1f dB below the %.1f dB the plan's amplifier chain should give.", med, gap, pc.exp.ASEOSNRdB)
+			}
+		} else if impl := pc.impliedOSNRp50(); finite(impl) {
+			ref := pc.exp.GOSNRdB
+			if !finite(ref) {
+				ref = pc.exp.ASEOSNRdB
+			}
+			if gap := ref - impl; gap > r.OSNRGapVsPlanDB {
+				s.add(llrStrong, "The BER implies an OSNR of about %.1f dB, %.1f dB below the %.1f dB the plan predicts.", impl, gap, ref)
+			}
+		}
+	}
+	powerNormal := pc.has(parse.RxPowerDBm) && !im.powerLow && !im.powerHigh
+	if finite(qm) && qm < r.QMarginalMarginDB {
+		if powerNormal {
+			lp := pc.litPowerSummary()
+			s.add(llrModerate, "The Q margin is only %.1f dB (median) with received power normal (median %.1f dBm).", qm, lp.P50)
+		} else if !pc.has(parse.RxPowerDBm) {
+			s.add(llrWeak, "The Q margin is only %.1f dB (median); the log has no received power to rule a power problem in or out.", qm)
+		}
+		if len(im.names) == 0 && (pc.has(parse.CDpsPerNm) || pc.has(parse.DGDps) || pc.has(parse.PDLdB)) {
+			s.add(1.5, "None of the measured impairments (CD, DGD, PDL, SOP rate, LO offset) is out of line, so added noise is the likely reason.")
+		}
+		if qm < 0 {
+			s.add(llrWeak, "The median Q is %.1f dB below the FEC-threshold Q of %.2f dB.", -qm, pc.qLimitDB)
+		}
+	}
+	if !s.supported() {
+		return s
+	}
+	if hasOSNR && osnr >= pc.reqOSNRdB+r.OSNRMarginalMarginDB && finite(qm) && qm < r.QMarginalMarginDB {
+		s.add(-3, "Reported OSNR %.1f dB is comfortably above the %.1f dB required, so amplifier noise does not explain the low Q.", osnr, pc.reqOSNRdB)
+	}
+	if len(im.names) > 0 {
+		s.add(-math.Min(3, 1.5*float64(len(im.names))), "Other measured impairments can explain the low Q: %s.", strings.Join(im.names, ", "))
+	}
+	if pc.plan != nil && pc.launchDBm() > r.NonlinearLaunchPowerDBm {
+		s.add(-1.5, "The plan launches %+.1f dBm per channel, high enough for fibre nonlinearity to be the noise source.", pc.launchDBm())
+	}
+	return s
+}
+
+func (pc *portCtx) launchDBm() float64 {
+	if pc.plan == nil {
+		return math.NaN()
+	}
+	if pc.plan.LaunchPowerDBm != 0 {
+		return pc.plan.LaunchPowerDBm
+	}
+	return pc.plan.TxPowerDBm
+}
+
+// nonlinear: OSNR good but eSNR well below what that OSNR implies; high launch power in the plan.
+func (pc *portCtx) nonlinear(im impairments) *score {
+	s := &score{id: CauseNonlinear}
+	r := pc.r
+	esnr := pc.esnrP50()
+	ref, refName := math.NaN(), ""
+	if pc.has(parse.OSNRdB) {
+		ref, refName = pc.sum[parse.OSNRdB].P50, "reported OSNR"
+	} else if pc.exp != nil && finite(pc.exp.ASEOSNRdB) {
+		ref, refName = pc.exp.ASEOSNRdB, "plan's ASE OSNR"
+	}
+	if !finite(ref) || !finite(esnr) || !(pc.prof.BaudGBd > 0) {
+		pc.notJudged("%s: needs the eSNR (or BER) and an OSNR, reported or from a link plan", CauseNonlinear)
+		if pc.plan == nil {
+			return nil
+		}
+	}
+	gapOK := false
+	if finite(ref) && finite(esnr) && pc.prof.BaudGBd > 0 {
+		want := pc.expectedESNRdB(ref)
+		gap := want - esnr
+		osnrGood := ref >= pc.reqOSNRdB+r.OSNRMarginalMarginDB || !(pc.reqOSNRdB > 0)
+		src := "measured"
+		if pc.esnrDerived {
+			src = "implied by the BER"
+		}
+		if gap >= r.NonlinearSNRGapDB && osnrGood {
+			gapOK = true
+			s.add(llrStrong, "The %s of %.1f dB should give an eSNR of about %.1f dB with this module (%s); the eSNR %s is %.1f dB, %.1f dB lower: noise that is not amplifier noise.",
+				refName, ref, want, pc.trxAssumption, src, esnr, gap)
+			if gap >= 2*r.NonlinearSNRGapDB {
+				s.add(llrWeak, "The shortfall of %.1f dB is more than twice the %.1f dB threshold.", gap, r.NonlinearSNRGapDB)
+			}
+		}
+	}
+	if pc.plan != nil {
+		l := pc.launchDBm()
+		opt := math.NaN()
+		if pc.exp != nil {
+			opt = pc.exp.OptimumLaunchPowerDBm
+		}
+		switch {
+		case l > r.NonlinearLaunchPowerDBm:
+			s.add(3.0, "The plan launches %+.1f dBm per channel, above the %+.1f dBm where fibre nonlinearity sets in.", l, r.NonlinearLaunchPowerDBm)
+		case finite(opt) && l > opt+2:
+			s.add(llrModerate, "The plan launches %+.1f dBm per channel, %.1f dB above the model's optimum of %+.1f dBm.", l, l-opt, opt)
+		case finite(opt) && l <= opt && gapOK:
+			s.add(-1.5, "The plan launches %+.1f dBm per channel, at or below the model's optimum of %+.1f dBm.", l, opt)
+		}
+		if !gapOK {
+			// Launch power alone does not make a cause: it needs a performance shortfall.
+			if qm := pc.qMarginP50(); !(finite(qm) && qm < r.QMarginalMarginDB) {
+				return nil
+			}
+		}
+	}
+	if s.supported() && len(im.names) > 0 {
+		s.add(-math.Min(3, 2*float64(len(im.names))), "Other measured impairments can explain the eSNR shortfall: %s.", strings.Join(im.names, ", "))
+	}
+	return s
+}

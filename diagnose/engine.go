@@ -1,0 +1,153 @@
+// Package diagnose judges coherent-link telemetry: per-port metrics and criteria against the
+// module profile and the link plan, time-series findings, and the likely physical causes of
+// trouble with their evidence. The physics lives in diagnose/optics and the statistics in
+// diagnose/series; this package combines them. docs/diagnosis.md explains the method.
+package diagnose
+
+import (
+	"fmt"
+	"runtime"
+	"sort"
+	"sync"
+	"time"
+
+	"github.com/beatnote/beatnote/diagnose/optics"
+	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/rules"
+)
+
+// Setup is what one port is judged against: its module profile and, when known, its link plan.
+type Setup struct {
+	Profile rules.Profile
+	Plan    *rules.Plan
+}
+
+// Config says how to judge a Dataset.
+type Config struct {
+	// Version is written into Result.Version.
+	Version string
+	// Rules are the thresholds (rules.DefaultRules or a user's file).
+	Rules rules.Rules
+	// Default is the setup of every port that Lookup does not place.
+	Default Setup
+	// Lookup, when set, gives a port its own setup (triage with a port map); ok false means
+	// "use Default".
+	Lookup func(port string) (s Setup, ok bool)
+	// Workers bounds the ports analysed at once; 0 means GOMAXPROCS.
+	Workers int
+}
+
+// Analyze judges every port of ds and returns the Result of the design contract, ports sorted
+// worst first. It fails only when a link plan cannot be modelled (the error names the plan).
+func Analyze(ds *parse.Dataset, cfg Config) (*Result, error) {
+	res := &Result{Tool: "beatnote", Version: cfg.Version, Inputs: ds.Inputs, Rejected: ds.Rejected}
+	if res.Inputs == nil {
+		res.Inputs = []parse.InputStats{}
+	}
+	if len(res.Rejected) > 1000 {
+		res.Rejected = res.Rejected[:1000]
+	}
+	if res.Rejected == nil {
+		res.Rejected = []parse.Rejection{}
+	}
+	setups := make([]Setup, len(ds.Series))
+	expects := map[*rules.Plan]*optics.LinkExpectation{}
+	for i, s := range ds.Series {
+		setups[i] = cfg.Default
+		if cfg.Lookup != nil {
+			if st, ok := cfg.Lookup(s.Port); ok {
+				setups[i] = st
+			}
+		}
+		if p := setups[i].Plan; p != nil {
+			if _, done := expects[p]; !done {
+				e, err := optics.ExpectLink(*p, setups[i].Profile)
+				if err != nil {
+					name := p.Circuit
+					if name == "" {
+						name = "(unnamed circuit)"
+					}
+					return nil, fmt.Errorf("link plan %s: %w", name, err)
+				}
+				expects[p] = &e
+			}
+		}
+	}
+	res.Ports = make([]PortResult, len(ds.Series))
+	workers := cfg.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	var wg sync.WaitGroup
+	next := make(chan int)
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range next {
+				st := setups[i]
+				res.Ports[i] = AnalyzePort(ds.Series[i], st.Profile, st.Plan, expects[st.Plan], cfg.Rules)
+			}
+		}()
+	}
+	for i := range ds.Series {
+		next <- i
+	}
+	close(next)
+	wg.Wait()
+	SortWorstFirst(res.Ports)
+	return res, nil
+}
+
+// SortWorstFirst orders ports by verdict (fail, marginal, no-data, pass), then by the
+// confidence of the top cause, then by the smallest Q margin, then by port id.
+func SortWorstFirst(ports []PortResult) {
+	sort.SliceStable(ports, func(i, j int) bool {
+		a, b := &ports[i], &ports[j]
+		if sa, sb := a.Verdict.Severity(), b.Verdict.Severity(); sa != sb {
+			return sa > sb
+		}
+		if ca, cb := topConfidence(a), topConfidence(b); ca != cb {
+			return ca > cb
+		}
+		if qa, qb := qMargin(a), qMargin(b); qa != qb {
+			return qa < qb
+		}
+		return a.Port < b.Port
+	})
+}
+
+func topConfidence(p *PortResult) float64 {
+	if len(p.Causes) == 0 {
+		return 0
+	}
+	return p.Causes[0].Confidence
+}
+
+func qMargin(p *PortResult) float64 {
+	if m, ok := p.Metrics["q_db"]; ok && m.Margin != nil {
+		return *m.Margin
+	}
+	return 1e9
+}
+
+// AnalyzePort judges one port against a profile and an optional plan (with its expectation,
+// from optics.ExpectLink; nil when there is no plan).
+func AnalyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules) PortResult {
+	pc := newPortCtx(s, prof, plan, exp, r)
+	pc.metrics()
+	pc.criteria()
+	pc.planVsMeasured()
+	pc.causes()
+	pc.verdict()
+	return *pc.res
+}
+
+func rfc3339(ms int64) string {
+	return time.UnixMilli(ms).UTC().Format(time.RFC3339)
+}
+
+// clock formats a time for evidence sentences, to the second, UTC.
+func clock(ms int64) string {
+	return time.UnixMilli(ms).UTC().Format("2006-01-02 15:04:05 UTC")
+}

@@ -1,0 +1,369 @@
+package diagnose
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/beatnote/beatnote/diagnose/optics"
+	"github.com/beatnote/beatnote/diagnose/series"
+	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/rules"
+)
+
+// postFECLimitBER: post-FEC BER above this is not error-free. 1e-12 is the classic error-free
+// reference of FEC specifications such as ITU-T G.975 (common practice).
+const postFECLimitBER = 1e-12
+
+func pick(s series.Summary, st rules.Statistic) float64 {
+	switch st {
+	case rules.StatMin:
+		return s.Min
+	case rules.StatP50:
+		return s.P50
+	case rules.StatMax:
+		return s.Max
+	}
+	return s.P99
+}
+
+// mirror is the statistic of BER that matches a statistic of Q (low Q ↔ high BER).
+func mirror(s series.Summary, st rules.Statistic) float64 {
+	switch st {
+	case rules.StatMin:
+		return s.Max
+	case rules.StatP50:
+		return s.P50
+	case rules.StatMax:
+		return s.Min
+	}
+	return s.P01
+}
+
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+func ptr(x float64) *float64 {
+	if !finite(x) {
+		return nil
+	}
+	return &x
+}
+
+func (pc *portCtx) metric(key, unit string, s series.Summary, derived bool, limit, margin float64) {
+	if s.N == 0 {
+		return
+	}
+	pc.res.Metrics[key] = Metric{Min: s.Min, P50: s.P50, P99: s.P99, Max: s.Max,
+		Limit: ptr(limit), Margin: ptr(margin), Unit: unit, Derived: derived}
+}
+
+// metrics summarises every quantity the port has, measured or derived, with limit and margin
+// where a limit applies (margin positive inside the limit).
+func (pc *portCtx) metrics() {
+	p, r := pc.prof, pc.r
+	nan := math.NaN()
+	for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
+		s, ok := pc.sum[q]
+		if !ok {
+			continue
+		}
+		limit, margin := nan, nan
+		switch q {
+		case parse.PreFECBER:
+			limit = p.FECThresholdBER
+			margin = limit - mirror(s, r.QStatistic)
+		case parse.PostFECBER:
+			limit, margin = postFECLimitBER, postFECLimitBER-s.Max
+		case parse.UncorrectedBlocks:
+			limit, margin = 0, -s.Max
+		case parse.QdB:
+			limit = pc.qLimitDB
+			margin = pick(s, r.QStatistic) - limit
+		case parse.ESNRdB:
+			limit = pc.snrThDB
+			margin = pick(s, r.QStatistic) - limit
+		case parse.OSNRdB:
+			limit = pc.reqOSNRdB
+			margin = pick(s, r.OSNRStatistic) - limit
+		case parse.CDpsPerNm:
+			limit = p.CDTolerancePsNm
+			margin = limit - pick(pc.absSum[q], r.CDStatistic)
+		case parse.DGDps:
+			limit = p.DGDTolerancePs
+			margin = limit - pick(s, r.DGDStatistic)
+		case parse.PDLdB:
+			limit = p.PDLTolerancedB
+			margin = limit - pick(s, r.PDLStatistic)
+		case parse.SOPRateKradPerS:
+			limit = p.SOPTrackingKradS
+			margin = limit - pick(s, r.SOPRateStatistic)
+		case parse.LOOffsetMHz:
+			limit = p.LOOffsetRangeMHz
+			margin = limit - pick(pc.absSum[q], r.LOOffsetStatistic)
+		case parse.RxPowerDBm:
+			limit, margin = windowMargin(s, p.RxPowerMinDBm, p.RxPowerMaxDBm, r.RxPowerLowStatistic, r.RxPowerHighStatistic)
+		case parse.TxPowerDBm:
+			if p.TxPowerMaxDBm > p.TxPowerMinDBm {
+				limit, margin = windowMargin(s, p.TxPowerMinDBm, p.TxPowerMaxDBm, rules.StatMin, rules.StatMax)
+			}
+		}
+		if limit == 0 && q != parse.UncorrectedBlocks {
+			limit, margin = nan, nan // the profile does not give this limit
+		}
+		pc.metric(q.Column(), q.Unit(), s, false, limit, margin)
+	}
+	if pc.berDerived {
+		s := series.Summarize(pc.ber)
+		pc.metric("pre_fec_ber", "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, r.QStatistic))
+	}
+	if pc.qDerived {
+		s := series.Summarize(pc.qdb)
+		pc.metric("q_db", "dB", s, true, pc.qLimitDB, pick(s, r.QStatistic)-pc.qLimitDB)
+	}
+	if pc.esnrDerived {
+		s := series.Summarize(pc.esnr)
+		pc.metric("esnr_db", "dB", s, true, pc.snrThDB, pick(s, r.QStatistic)-pc.snrThDB)
+	}
+}
+
+// windowMargin gives the nearer edge of a power window and the margin to it.
+func windowMargin(s series.Summary, lo, hi float64, stLo, stHi rules.Statistic) (limit, margin float64) {
+	mLo, mHi := pick(s, stLo)-lo, hi-pick(s, stHi)
+	if lo == 0 && hi == 0 {
+		return math.NaN(), math.NaN()
+	}
+	if mLo <= mHi {
+		return lo, mLo
+	}
+	return hi, mHi
+}
+
+func (pc *portCtx) source(key string) string {
+	if s, ok := pc.prof.Sources[key]; ok && s != "" {
+		return fmt.Sprintf("profile %s: %s", pc.prof.ID, s)
+	}
+	return "profile " + pc.prof.ID
+}
+
+func (pc *portCtx) notJudged(format string, a ...any) {
+	pc.res.NotJudged = append(pc.res.NotJudged, fmt.Sprintf(format, a...))
+}
+
+// addCriterion appends a row judged "higher is better" (margin = measured − limit) or
+// "lower is better" (margin = limit − measured); marginal when the margin is below band.
+func (pc *portCtx) addCriterion(c Criterion, band float64) {
+	if !finite(c.Measured) || !finite(c.Limit) {
+		return
+	}
+	switch {
+	case c.Margin < 0:
+		c.Verdict = Fail
+	case c.Margin < band:
+		c.Verdict = Marginal
+	default:
+		c.Verdict = Pass
+	}
+	pc.res.Criteria = append(pc.res.Criteria, c)
+}
+
+// criteria builds the criteria table from the module limits and the rules' marginal bands.
+func (pc *portCtx) criteria() {
+	p, r := pc.prof, pc.r
+	has := func(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
+
+	if pc.qdb != nil && p.FECThresholdBER > 0 {
+		s := series.Summarize(pc.qdb)
+		m := pick(s, r.QStatistic)
+		pc.addCriterion(Criterion{Name: "Q-factor margin to the FEC threshold", Metric: "q_db", Statistic: string(r.QStatistic),
+			Measured: m, Limit: pc.qLimitDB, Margin: m - pc.qLimitDB, Unit: "dB",
+			Source: pc.source("fec_threshold_ber") + fmt.Sprintf("; limit = Q of BER %.3g", p.FECThresholdBER)}, r.QMarginalMarginDB)
+	} else {
+		pc.notJudged("Q-factor: the log has neither pre_fec_ber nor q_db")
+	}
+	if has(parse.OSNRdB) && pc.reqOSNRdB > 0 {
+		m := pick(pc.sum[parse.OSNRdB], r.OSNRStatistic)
+		pc.addCriterion(Criterion{Name: "OSNR margin to the required OSNR", Metric: "osnr_db", Statistic: string(r.OSNRStatistic),
+			Measured: m, Limit: pc.reqOSNRdB, Margin: m - pc.reqOSNRdB, Unit: "dB", Source: pc.source("required_osnr_db")}, r.OSNRMarginalMarginDB)
+	}
+	if has(parse.RxPowerDBm) && p.RxPowerMaxDBm > p.RxPowerMinDBm {
+		s := pc.sum[parse.RxPowerDBm]
+		lo, hi := pick(s, r.RxPowerLowStatistic), pick(s, r.RxPowerHighStatistic)
+		pc.addCriterion(Criterion{Name: "Received power above the sensitivity limit", Metric: "rx_power_dbm", Statistic: string(r.RxPowerLowStatistic),
+			Measured: lo, Limit: p.RxPowerMinDBm, Margin: lo - p.RxPowerMinDBm, Unit: "dBm", Source: pc.source("rx_power_min_dbm")}, r.RxPowerMarginalBandDB)
+		pc.addCriterion(Criterion{Name: "Received power below the overload limit", Metric: "rx_power_dbm", Statistic: string(r.RxPowerHighStatistic),
+			Measured: hi, Limit: p.RxPowerMaxDBm, Margin: p.RxPowerMaxDBm - hi, Unit: "dBm", Source: pc.source("rx_power_max_dbm")}, r.RxPowerMarginalBandDB)
+	} else if !has(parse.RxPowerDBm) {
+		pc.notJudged("received power: the log has no rx_power_dbm")
+	}
+	if has(parse.TxPowerDBm) && p.TxPowerMaxDBm > p.TxPowerMinDBm {
+		s := pc.sum[parse.TxPowerDBm]
+		pc.addCriterion(Criterion{Name: "Transmit power inside the module's range", Metric: "tx_power_dbm", Statistic: "min",
+			Measured: s.Min, Limit: p.TxPowerMinDBm, Margin: s.Min - p.TxPowerMinDBm, Unit: "dBm", Source: pc.source("tx_power_min_dbm")}, 0)
+		pc.addCriterion(Criterion{Name: "Transmit power inside the module's range", Metric: "tx_power_dbm", Statistic: "max",
+			Measured: s.Max, Limit: p.TxPowerMaxDBm, Margin: p.TxPowerMaxDBm - s.Max, Unit: "dBm", Source: pc.source("tx_power_max_dbm")}, 0)
+	}
+	upper := func(name string, q parse.Quantity, sum series.Summary, st rules.Statistic, limit, frac float64, unit, key string) {
+		if limit <= 0 {
+			pc.notJudged("%s: the profile gives no limit", name)
+			return
+		}
+		m := pick(sum, st)
+		pc.addCriterion(Criterion{Name: name, Metric: q.Column(), Statistic: string(st), Measured: m, Limit: limit,
+			Margin: limit - m, Unit: unit, Source: pc.source(key)}, (1-frac)*limit)
+	}
+	if has(parse.CDpsPerNm) {
+		upper("|CD| inside the compensation range", parse.CDpsPerNm, pc.absSum[parse.CDpsPerNm], r.CDStatistic, p.CDTolerancePsNm, r.CDMarginalFraction, "ps/nm", "cd_tolerance_ps_nm")
+	}
+	if has(parse.DGDps) {
+		upper("DGD inside the instantaneous tolerance", parse.DGDps, pc.sum[parse.DGDps], r.DGDStatistic, p.DGDTolerancePs, r.DGDMarginalFraction, "ps", "dgd_tolerance_ps")
+		if f := pc.an.DGDFit; f != nil && p.DGDTolerancePs > 0 && r.PMDOutageProbability > 0 {
+			allowed := p.DGDTolerancePs / optics.MaxwellQuantile(r.PMDOutageProbability, 1)
+			pc.addCriterion(Criterion{Name: fmt.Sprintf("Mean DGD (PMD) for outage probability ≤ %.2g", r.PMDOutageProbability), Metric: "dgd_ps", Statistic: "mean",
+				Measured: f.MeanPs, Limit: allowed, Margin: allowed - f.MeanPs, Unit: "ps",
+				Source: pc.source("dgd_tolerance_ps") + "; limit from the Maxwellian tail (M. Karlsson, J. Lightwave Technol. 19(3), 2001) and rules pmd_outage_probability"},
+				(1-r.DGDMarginalFraction)*allowed)
+		}
+	}
+	if has(parse.PDLdB) {
+		upper("PDL inside the tolerance", parse.PDLdB, pc.sum[parse.PDLdB], r.PDLStatistic, p.PDLTolerancedB, r.PDLMarginalFraction, "dB", "pdl_tolerance_db")
+	}
+	if has(parse.SOPRateKradPerS) {
+		upper("SOP rate inside the tracking speed", parse.SOPRateKradPerS, pc.sum[parse.SOPRateKradPerS], r.SOPRateStatistic, p.SOPTrackingKradS, r.SOPRateMarginalFraction, "krad/s", "sop_tracking_krad_s")
+	}
+	if has(parse.LOOffsetMHz) {
+		upper("|LO offset| inside the capture range", parse.LOOffsetMHz, pc.absSum[parse.LOOffsetMHz], r.LOOffsetStatistic, p.LOOffsetRangeMHz, r.LOOffsetMarginalFraction, "MHz", "lo_offset_range_mhz")
+		if t := pc.an.LOTrend; t != nil && pc.trendSignificant(t) && finite(t.HoursToLimit) && t.HoursToLimit > 0 {
+			c := Criterion{Name: "LO offset drift: hours until the capture limit", Metric: "lo_offset_mhz", Statistic: "trend",
+				Measured: t.HoursToLimit, Limit: r.LODriftHorizonH, Margin: t.HoursToLimit - r.LODriftHorizonH, Unit: "h",
+				Source: "rules lo_drift_horizon_h: " + r.Sources["lo_drift_horizon_h"]}
+			c.Verdict = Pass
+			if c.Margin < 0 {
+				c.Verdict = Marginal
+			}
+			pc.res.Criteria = append(pc.res.Criteria, c)
+		}
+	}
+	if has(parse.UncorrectedBlocks) {
+		total := 0.0
+		for _, v := range pc.s.Values[parse.UncorrectedBlocks] {
+			if !math.IsNaN(v) {
+				total += v
+			}
+		}
+		pc.addCriterion(Criterion{Name: "Uncorrected FEC blocks (total)", Metric: "uncorrected_blocks", Statistic: "sum",
+			Measured: total, Limit: 0, Margin: -total, Unit: "blocks", Source: "common practice: error-free after FEC"}, 0)
+	}
+	if has(parse.PostFECBER) {
+		m := pc.sum[parse.PostFECBER].Max
+		pc.addCriterion(Criterion{Name: "Post-FEC BER", Metric: "post_fec_ber", Statistic: "max",
+			Measured: m, Limit: postFECLimitBER, Margin: postFECLimitBER - m, Unit: "",
+			Source: "common practice: 1e-12, the error-free reference of FEC specifications such as ITU-T G.975"}, 0)
+	}
+	if pc.darkCount > 0 {
+		pc.addCriterion(Criterion{Name: "Samples without signal", Metric: "rx_power_dbm", Statistic: "count",
+			Measured: float64(pc.darkCount), Limit: 0, Margin: -float64(pc.darkCount), Unit: "samples",
+			Source: fmt.Sprintf("rules signal_loss_floor_dbm %.1f dBm, or pre-FEC BER ≥ %.2g", r.SignalLossFloorDBm, noLockBER)}, 0)
+	}
+	if pc.exp != nil && has(parse.CDpsPerNm) {
+		exp := pc.exp.CDPsNm
+		meas := pc.sum[parse.CDpsPerNm].P50
+		tol := math.Max(r.CDMismatchRelativeTolerance*math.Abs(exp), r.CDMismatchFloorPsNm)
+		c := Criterion{Name: "CD agrees with the link plan", Metric: "cd_ps_nm", Statistic: "p50",
+			Measured: meas, Limit: exp, Margin: tol - math.Abs(meas-exp), Unit: "ps/nm",
+			Source: fmt.Sprintf("plan %s via the fibre model; tolerance ±%.0f ps/nm (rules cd_mismatch_*)", pc.plan.Circuit, tol)}
+		c.Verdict = Pass
+		if c.Margin < 0 {
+			c.Verdict = Marginal
+		}
+		if finite(c.Measured) && finite(c.Limit) {
+			pc.res.Criteria = append(pc.res.Criteria, c)
+		}
+	}
+}
+
+func (pc *portCtx) trendSignificant(t *Trend) bool {
+	return t.SlopeSE >= 0 && math.Abs(t.Slope) > pc.r.TrendSignificanceSigma*t.SlopeSE
+}
+
+// planVsMeasured compares the plan's expectations with the measurements.
+func (pc *portCtx) planVsMeasured() {
+	if pc.plan == nil || pc.exp == nil {
+		return
+	}
+	e := pc.exp
+	add := func(q string, exp, meas float64, unit, note string) {
+		if !finite(exp) || !finite(meas) {
+			return
+		}
+		pc.res.PlanVsMeasured = append(pc.res.PlanVsMeasured, PlanComparison{Quantity: q, Expected: exp, Measured: meas, Unit: unit, Note: note})
+	}
+	if s, ok := pc.sum[parse.CDpsPerNm]; ok {
+		add("cd_ps_nm", e.CDPsNm, s.P50, "ps/nm", "median of the DSP estimate")
+		if d := e.CDPsNm / e.RouteLengthKm; finite(d) && d != 0 {
+			add("route_length_km", e.RouteLengthKm, s.P50/d, "km", fmt.Sprintf("implied by the measured CD at the plan's average %.2f ps/(nm·km)", d))
+		}
+	}
+	if f := pc.an.DGDFit; f != nil {
+		add("mean_dgd_ps", e.MeanDGDPs, f.MeanPs, "ps", "mean of the DGD samples")
+	}
+	if countFinite(pc.litPower) > 0 {
+		add("rx_power_dbm", e.RxPowerDBm, series.Summarize(pc.litPower).P50, "dBm", "median while the signal was present")
+	}
+	if s, ok := pc.sum[parse.OSNRdB]; ok {
+		add("osnr_db", e.ASEOSNRdB, s.P50, "dB", "median reported OSNR vs the ASE OSNR of the amplifier chain")
+	}
+	if v := pc.impliedOSNRp50(); finite(v) {
+		ref := e.GOSNRdB
+		if !finite(ref) {
+			ref = e.ASEOSNRdB
+		}
+		add("osnr_implied_db", ref, v, "dB", "OSNR implied by the median eSNR (after the transceiver ceiling) vs the plan's generalized OSNR")
+	}
+	if s, ok := pc.sum[parse.FrequencyTHz]; ok {
+		add("frequency_thz", e.FrequencyTHz, s.P50, "THz", "")
+	}
+	if s, ok := pc.sum[parse.TxPowerDBm]; ok && pc.plan.TxPowerDBm != 0 {
+		add("tx_power_dbm", pc.plan.TxPowerDBm, s.P50, "dBm", "")
+	}
+}
+
+// esnrP50 is the median eSNR of lit samples (measured or BER-implied); NaN when unknown.
+func (pc *portCtx) esnrP50() float64 {
+	if pc.esnr == nil {
+		return math.NaN()
+	}
+	v := make([]float64, 0, pc.n)
+	for i, x := range pc.esnr {
+		if !pc.dark[i] {
+			v = append(v, x)
+		}
+	}
+	return series.Summarize(v).P50
+}
+
+func (pc *portCtx) impliedOSNRp50() float64 {
+	e := pc.esnrP50()
+	if !finite(e) || !(pc.prof.BaudGBd > 0) {
+		return math.NaN()
+	}
+	return pc.impliedOSNRdB(e)
+}
+
+// verdict is the worst criterion; a listed cause makes the port at least marginal; nothing
+// judged is no-data.
+func (pc *portCtx) verdict() {
+	v := Pass
+	judged := false
+	for _, c := range pc.res.Criteria {
+		judged = true
+		if c.Verdict.Severity() > v.Severity() {
+			v = c.Verdict
+		}
+	}
+	if len(pc.res.Causes) > 0 && v == Pass {
+		v = Marginal
+	}
+	if !judged && len(pc.res.Causes) == 0 {
+		v = NoData
+	}
+	pc.res.Verdict = v
+}

@@ -1,0 +1,421 @@
+package diagnose
+
+import (
+	"fmt"
+	"math"
+	"sort"
+
+	"github.com/beatnote/beatnote/diagnose/optics"
+	"github.com/beatnote/beatnote/diagnose/series"
+	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/rules"
+)
+
+// Engine constants that are not module or rule figures. Each is common practice.
+const (
+	// noLockBER: a pre-FEC BER at or above this is treated as "no signal decoded" — half-way
+	// to the 0.5 of random decisions and far beyond any FEC (common practice).
+	noLockBER = 0.25
+	// burstFloorFraction: a BER burst must also exceed this fraction of the FEC threshold, so
+	// ports running at a tiny BER do not count counting noise as bursts (common practice).
+	burstFloorFraction = 0.01
+	// sopSpikeOverMedian: an SOP spike must also exceed this multiple of the port's median rate.
+	sopSpikeOverMedian = 5
+	// gapFactor: a time step this many times the usual sample interval is a gap in the samples.
+	gapFactor = 5
+)
+
+// portCtx carries one port through the analysis.
+type portCtx struct {
+	s    *parse.Series
+	prof rules.Profile
+	mod  optics.Modulation
+	plan *rules.Plan
+	exp  *optics.LinkExpectation
+	r    rules.Rules
+	res  *PortResult
+	an   *PortAnalysis
+
+	n          int
+	intervalMs int64
+	// Per-sample derived series (NaN where unknown).
+	ber, qdb, esnr []float64
+	berDerived     bool // ber computed from q_db
+	qDerived       bool
+	esnrDerived    bool
+	dark           []bool // sample without usable light (power at the floor or no lock)
+	darkCount      int
+	litPower       []float64 // rx power on lit samples, NaN elsewhere
+	sum            map[parse.Quantity]series.Summary
+	absSum         map[parse.Quantity]series.Summary // of |x|, for CD and LO offset
+
+	// Model figures of the profile.
+	qLimitDB      float64 // Q (dB) at the FEC threshold
+	snrThDB       float64 // theoretical Es/N0 at the FEC threshold
+	snrTrxDB      float64 // transceiver SNR ceiling
+	reqOSNRdB     float64
+	trxAssumption string
+}
+
+func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules) *portCtx {
+	pc := &portCtx{s: s, prof: prof, plan: plan, exp: exp, r: r, n: s.Len()}
+	pc.res = &PortResult{
+		Port: s.Port, Profile: prof.ID, Samples: s.Len(),
+		Causes: []Cause{}, Metrics: map[string]Metric{},
+	}
+	if plan != nil {
+		pc.res.Circuit = plan.Circuit
+	}
+	if pc.n > 0 {
+		pc.res.From, pc.res.To = rfc3339(s.TimesMs[0]), rfc3339(s.TimesMs[pc.n-1])
+	}
+	pc.an = &PortAnalysis{Series: s, Profile: prof, Plan: plan, Expected: exp}
+	pc.res.Analysis = pc.an
+	pc.intervalMs = medianInterval(s.TimesMs)
+
+	m, err := optics.ParseModulation(prof.Modulation)
+	if err == nil {
+		pc.mod = m
+	}
+	pc.qLimitDB = optics.QdBFromBER(prof.FECThresholdBER)
+	pc.an.FECLimitQdB = pc.qLimitDB
+	pc.snrThDB, pc.snrTrxDB, pc.reqOSNRdB = math.NaN(), math.Inf(1), prof.RequiredOSNRdB
+	if pc.mod.Valid() && prof.FECThresholdBER > 0 {
+		pc.snrThDB = optics.SNRdBFromBER(pc.mod, prof.FECThresholdBER)
+		pc.an.RequiredESNRdB = pc.snrThDB
+		pc.snrTrxDB, pc.trxAssumption = transceiverSNRdB(prof, pc.snrThDB)
+		if !(pc.reqOSNRdB > 0) && prof.BaudGBd > 0 {
+			pc.reqOSNRdB = optics.RequiredOSNRdB(pc.mod, prof.BaudGBd, polOf(prof), prof.FECThresholdBER, prof.ImplementationPenaltyDB)
+		}
+	} else {
+		pc.an.RequiredESNRdB = math.NaN()
+	}
+	pc.deriveSeries()
+	pc.analyseSeries()
+	return pc
+}
+
+func polOf(p rules.Profile) int {
+	if p.Polarizations == 0 {
+		return 2
+	}
+	return p.Polarizations
+}
+
+// transceiverSNRdB is the transceiver's own SNR ceiling SNR_trx. When the profile gives a
+// back-to-back SNR it is used; otherwise it is derived from the implementation penalty Δ at the
+// FEC threshold: the module needs SNR_th·10^(Δ/10) of line SNR to reach the theoretical SNR_th,
+// so 1/SNR_th = 1/(SNR_th·10^(Δ/10)) + 1/SNR_trx, i.e. SNR_trx = SNR_th/(1 − 10^(−Δ/10)) (linear).
+// With no penalty the ceiling is +Inf. This is a model of our own built on the additive-noise
+// combination 1/SNR = Σ 1/SNR_i (common practice); it is conservative (low) for modules whose
+// published required OSNR includes margin.
+func transceiverSNRdB(p rules.Profile, snrThDB float64) (float64, string) {
+	if p.BackToBackSNRdB > 0 {
+		return p.BackToBackSNRdB, fmt.Sprintf("transceiver SNR ceiling %.1f dB from the profile", p.BackToBackSNRdB)
+	}
+	if !(p.ImplementationPenaltyDB > 0) {
+		return math.Inf(1), "no transceiver SNR ceiling (the profile gives no implementation penalty)"
+	}
+	lin := optics.DBToLinear(snrThDB) / (1 - math.Pow(10, -p.ImplementationPenaltyDB/10))
+	v := optics.LinearToDB(lin)
+	return v, fmt.Sprintf("transceiver SNR ceiling %.1f dB derived from the %.2f dB implementation penalty", v, p.ImplementationPenaltyDB)
+}
+
+// expectedESNRdB is the eSNR (Es/N0, dB) the model expects from a line OSNR (dB, 0.1 nm):
+// SNR_line = OSNR − 10·log10(p·Rs/(2·Bref)) (optics.SNRdBFromOSNRdB) combined with the
+// transceiver ceiling, 1/SNR = 1/SNR_line + 1/SNR_trx.
+func (pc *portCtx) expectedESNRdB(osnrDB float64) float64 {
+	line := optics.SNRdBFromOSNRdB(osnrDB, pc.prof.BaudGBd, polOf(pc.prof))
+	if math.IsInf(pc.snrTrxDB, 1) {
+		return line
+	}
+	return optics.CombineSNRdB(line, pc.snrTrxDB)
+}
+
+// impliedOSNRdB inverts expectedESNRdB: the line OSNR that would leave eSNR esnrDB; +Inf when
+// the eSNR is at or above the transceiver ceiling.
+func (pc *portCtx) impliedOSNRdB(esnrDB float64) float64 {
+	line := esnrDB
+	if !math.IsInf(pc.snrTrxDB, 1) {
+		inv := 1/optics.DBToLinear(esnrDB) - 1/optics.DBToLinear(pc.snrTrxDB)
+		if inv <= 0 {
+			return math.Inf(1)
+		}
+		line = -optics.LinearToDB(inv)
+	}
+	return optics.OSNRdBFromSNRdB(line, pc.prof.BaudGBd, polOf(pc.prof))
+}
+
+func medianInterval(ts []int64) int64 {
+	if len(ts) < 2 {
+		return 0
+	}
+	d := make([]int64, len(ts)-1)
+	for i := 1; i < len(ts); i++ {
+		d[i-1] = ts[i] - ts[i-1]
+	}
+	sort.Slice(d, func(i, j int) bool { return d[i] < d[j] })
+	return d[len(d)/2]
+}
+
+func nanSlice(n int) []float64 {
+	v := make([]float64, n)
+	for i := range v {
+		v[i] = math.NaN()
+	}
+	return v
+}
+
+// deriveSeries fills BER, Q and eSNR per sample from whichever the port reports, and marks
+// dark samples.
+func (pc *portCtx) deriveSeries() {
+	s, n := pc.s, pc.n
+	pc.sum = map[parse.Quantity]series.Summary{}
+	pc.absSum = map[parse.Quantity]series.Summary{}
+	for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
+		if s.Has(q) {
+			pc.sum[q] = series.Summarize(s.Values[q])
+		}
+	}
+	for _, q := range []parse.Quantity{parse.CDpsPerNm, parse.LOOffsetMHz} {
+		if s.Has(q) {
+			a := make([]float64, n)
+			for i, v := range s.Values[q] {
+				a[i] = math.Abs(v)
+			}
+			pc.absSum[q] = series.Summarize(a)
+		}
+	}
+	hasBER, hasQ, hasESNR := s.Has(parse.PreFECBER), s.Has(parse.QdB), s.Has(parse.ESNRdB)
+	switch {
+	case hasBER:
+		pc.ber = s.Values[parse.PreFECBER]
+	case hasQ:
+		pc.ber, pc.berDerived = nanSlice(n), true
+		for i, q := range s.Values[parse.QdB] {
+			if !math.IsNaN(q) {
+				pc.ber[i] = optics.BERFromQdB(q)
+			}
+		}
+	}
+	switch {
+	case hasQ:
+		pc.qdb = s.Values[parse.QdB]
+	case hasBER:
+		pc.qdb, pc.qDerived = nanSlice(n), true
+		for i, b := range pc.ber {
+			if !math.IsNaN(b) {
+				pc.qdb[i] = qdBClamped(b)
+			}
+		}
+	}
+	switch {
+	case hasESNR:
+		pc.esnr = s.Values[parse.ESNRdB]
+	case pc.ber != nil && pc.mod.Valid():
+		pc.esnr, pc.esnrDerived = nanSlice(n), true
+		for i, b := range pc.ber {
+			if b > 0 && b < noLockBER {
+				pc.esnr[i] = optics.SNRdBFromBER(pc.mod, b)
+			}
+		}
+	}
+	pc.dark = make([]bool, n)
+	pc.litPower = nanSlice(n)
+	pw := s.Values[parse.RxPowerDBm]
+	for i := 0; i < n; i++ {
+		d := false
+		if pw != nil && !math.IsNaN(pw[i]) && pw[i] <= pc.r.SignalLossFloorDBm {
+			d = true
+		}
+		if pc.ber != nil && pc.ber[i] >= noLockBER {
+			d = true
+		}
+		pc.dark[i] = d
+		if d {
+			pc.darkCount++
+		} else if pw != nil {
+			pc.litPower[i] = pw[i]
+		}
+	}
+}
+
+// qdBClamped is Q in dB from BER, with BER 0 (no errors counted) mapped to the Q of BER 1e-15
+// rather than +Inf, and BER 0.5 to Q → −Inf mapped to −20 dB, so summaries stay finite.
+func qdBClamped(ber float64) float64 {
+	switch {
+	case ber <= 1e-15:
+		return optics.QdBFromBER(1e-15)
+	case ber >= 0.5:
+		return -20
+	}
+	q := optics.QdBFromBER(ber)
+	return math.Max(q, -20)
+}
+
+// analyseSeries computes the time-series findings of PortAnalysis.
+func (pc *portCtx) analyseSeries() {
+	s, an, r := pc.s, pc.an, pc.r
+	minN := max(r.MinSamplesForTrend, 3)
+
+	// Change points in received power (lit samples only: a signal loss is its own cause).
+	if pc.s.Has(parse.RxPowerDBm) && countFinite(pc.litPower) >= minN {
+		for _, st := range series.ChangePoints(pc.litPower, series.ChangePointOptions{MinStep: r.PowerStepDB}) {
+			an.PowerSteps = append(an.PowerSteps, ChangePoint{
+				TimeMs: s.TimesMs[st.Index], Index: st.Index, Quantity: "rx_power_dbm",
+				Before: st.Before, After: st.After, Step: st.Size(), Unit: "dB",
+			})
+		}
+		tr := pc.trend(pc.litPower, "rx_power_dbm", "dBm", math.NaN())
+		an.RxPowerTrend = tr
+	}
+
+	// BER bursts.
+	if pc.ber != nil {
+		lit := make([]float64, 0, pc.n)
+		for i, b := range pc.ber {
+			if !pc.dark[i] && !math.IsNaN(b) {
+				lit = append(lit, b)
+			}
+		}
+		med := series.Summarize(lit).P50
+		thr := math.Max(r.BERBurstFactor*med, burstFloorFraction*pc.prof.FECThresholdBER)
+		if !math.IsNaN(thr) && thr > 0 {
+			an.BurstThresholdBER = thr
+			v := make([]float64, pc.n)
+			for i, b := range pc.ber {
+				v[i] = b
+				if pc.dark[i] {
+					v[i] = math.NaN()
+				}
+			}
+			for _, run := range series.Runs(s.TimesMs, v, thr, 0) {
+				an.BERBursts = append(an.BERBursts, toInterval(run))
+			}
+		}
+	}
+	if s.Has(parse.UncorrectedBlocks) {
+		v := make([]float64, pc.n)
+		for i, b := range s.Values[parse.UncorrectedBlocks] {
+			v[i] = b
+			if pc.dark[i] {
+				v[i] = math.NaN()
+			}
+		}
+		for _, run := range series.Runs(s.TimesMs, v, 0, 0) {
+			an.BlockBursts = append(an.BlockBursts, toInterval(run))
+		}
+	}
+	var spikes []series.Run
+	if s.Has(parse.SOPRateKradPerS) && pc.prof.SOPTrackingKradS > 0 {
+		med := pc.sum[parse.SOPRateKradPerS].P50
+		thr := math.Max(r.SOPSpikeFraction*pc.prof.SOPTrackingKradS, sopSpikeOverMedian*med)
+		an.SOPSpikeThresholdKradS = thr
+		spikes = series.Runs(s.TimesMs, s.Values[parse.SOPRateKradPerS], thr, 0)
+		for _, run := range spikes {
+			an.SOPSpikes = append(an.SOPSpikes, toInterval(run))
+		}
+	}
+	an.CoincidenceWindowS = math.Max(r.CoincidenceWindowS, 1.5*float64(pc.intervalMs)/1000)
+	if len(spikes) > 0 {
+		win := int64(an.CoincidenceWindowS * 1000)
+		for _, kind := range []struct {
+			name   string
+			bursts []Interval
+		}{{"pre_fec_ber", an.BERBursts}, {"uncorrected_blocks", an.BlockBursts}} {
+			for _, p := range series.Coincide(toRuns(kind.bursts), spikes, win) {
+				an.Coincidences = append(an.Coincidences, Coincidence{
+					Kind: kind.name, Burst: toInterval(p.Burst), Spike: toInterval(p.Spike), LagS: float64(p.LagMs) / 1000,
+				})
+			}
+		}
+	}
+
+	if s.Has(parse.LOOffsetMHz) && pc.prof.LOOffsetRangeMHz > 0 {
+		an.LOTrend = pc.trend(s.Values[parse.LOOffsetMHz], "lo_offset_mhz", "MHz", pc.prof.LOOffsetRangeMHz)
+	}
+	if s.Has(parse.DGDps) {
+		_, v := s.Present(parse.DGDps)
+		if len(v) >= minN {
+			f := optics.FitMaxwell(v)
+			mf := &MaxwellFit{N: f.N, MeanPs: f.MeanPs, KS: f.KS, KSPValue: f.PValue,
+				TolerancePs: pc.prof.DGDTolerancePs, ExceedProbability: math.NaN()}
+			if pc.prof.DGDTolerancePs > 0 && f.MeanPs > 0 {
+				mf.ExceedProbability = optics.MaxwellExceedProbability(pc.prof.DGDTolerancePs, f.MeanPs)
+			}
+			an.DGDFit = mf
+		}
+	}
+	if pc.ber != nil {
+		litBER := make([]float64, pc.n)
+		for i, b := range pc.ber {
+			litBER[i] = b
+			if pc.dark[i] {
+				litBER[i] = math.NaN()
+			}
+		}
+		for _, q := range []parse.Quantity{parse.DGDps, parse.PDLdB, parse.RxPowerDBm, parse.SOPRateKradPerS} {
+			if !s.Has(q) {
+				continue
+			}
+			y := s.Values[q]
+			if q == parse.RxPowerDBm {
+				y = pc.litPower
+			}
+			rho, n, p := series.Spearman(litBER, y)
+			if n >= minN && !math.IsNaN(rho) {
+				an.Correlations = append(an.Correlations, Correlation{A: "pre_fec_ber", B: q.Column(), Rho: rho, N: n, P: p})
+			}
+		}
+	}
+}
+
+// trend fits v over time; limit > 0 projects toward ±limit in the direction of the slope.
+func (pc *portCtx) trend(v []float64, name, unit string, limit float64) *Trend {
+	if countFinite(v) < max(pc.r.MinSamplesForTrend, 3) {
+		return nil
+	}
+	f := series.FitTrendPerHour(pc.s.TimesMs, v)
+	if math.IsNaN(f.Slope) {
+		return nil
+	}
+	start, end := pc.s.TimesMs[0], pc.s.TimesMs[pc.n-1]
+	hours := float64(end-start) / 3.6e6
+	t := &Trend{Quantity: name, Method: "ordinary least squares", Unit: unit,
+		Slope: f.Slope, SlopeSE: f.SlopeSE, Intercept: f.Intercept, StartMs: start, EndMs: end,
+		AtEnd: f.Intercept + f.Slope*hours, Limit: math.NaN(), HoursToLimit: math.Inf(1)}
+	if limit > 0 {
+		t.Limit = limit
+		if f.Slope < 0 {
+			t.Limit = -limit
+		}
+		if math.Abs(t.AtEnd) >= limit {
+			t.HoursToLimit = 0
+		} else {
+			t.HoursToLimit = series.HoursToReach(t.AtEnd, f.Slope, t.Limit)
+		}
+	}
+	return t
+}
+
+func countFinite(v []float64) int {
+	n := 0
+	for _, x := range v {
+		if !math.IsNaN(x) && !math.IsInf(x, 0) {
+			n++
+		}
+	}
+	return n
+}
+
+func toInterval(r series.Run) Interval {
+	return Interval{FromMs: r.FromMs, ToMs: r.ToMs, Peak: r.Peak, Samples: r.Samples}
+}
+
+func toRuns(iv []Interval) []series.Run {
+	out := make([]series.Run, len(iv))
+	for i, x := range iv {
+		out[i] = series.Run{FromMs: x.FromMs, ToMs: x.ToMs, Peak: x.Peak, Samples: x.Samples}
+	}
+	return out
+}
