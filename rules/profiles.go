@@ -137,11 +137,11 @@ func (p Profile) Validate() error {
 		{"frequency_min_thz", p.FrequencyMinTHz, 0, 300, false, "THz"},
 		{"frequency_max_thz", p.FrequencyMaxTHz, 0, 300, false, "THz"},
 	} {
+		if r.required && r.v == 0 {
+			return fieldErr(r.key, ErrMissing, "give a value greater than 0 %s", r.unit)
+		}
 		if !(r.v >= r.lo && r.v <= r.hi) {
 			return fieldErr(r.key, ErrRange, "%g %s is outside %g…%g %s", r.v, r.unit, r.lo, r.hi, r.unit)
-		}
-		if r.required && r.v == 0 {
-			return fieldErr(r.key, ErrMissing, "must be greater than 0 %s", r.unit)
 		}
 	}
 	if !(p.FECThresholdBER > 0 && p.FECThresholdBER < 0.5) {
@@ -239,13 +239,16 @@ func decodeProfiles(file string, data []byte, base []Profile) ([]Profile, error)
 	}
 	items := profileItems(root)
 	seen := map[string]int{}
+	for i, p := range shape.Profiles {
+		key := fmt.Sprintf("profiles[%d].id", i)
+		if first, dup := seen[p.ID]; dup && p.ID != "" {
+			return nil, &FileError{File: file, Line: ix.lineOf(key), Field: key, Err: fmt.Errorf("%w profile id %q, first given on line %d", ErrDuplicate, p.ID, first)}
+		}
+		seen[p.ID] = ix.lineOf(key)
+	}
 	for i, item := range items {
 		prefix := fmt.Sprintf("profiles[%d]", i)
 		id := shape.Profiles[i].ID
-		if first, dup := seen[id]; dup && id != "" {
-			return nil, &FileError{File: file, Line: ix.lineOf(prefix + ".id"), Field: prefix + ".id", Err: fmt.Errorf("%w profile id %q, first given on line %d", ErrDuplicate, id, first)}
-		}
-		seen[id] = ix.lineOf(prefix + ".id")
 		at := -1
 		for j := range out {
 			if out[j].ID == id {
