@@ -526,3 +526,38 @@ func FuzzDecodePlan(f *testing.F) {
 		}
 	})
 }
+
+// The examples in docs/rules.md must load, so the user documentation cannot drift from the code.
+func TestDocExamplesLoad(t *testing.T) {
+	doc, err := os.ReadFile("../docs/rules.md")
+	if err != nil {
+		t.Skipf("docs/rules.md not found: %v", err)
+	}
+	blocks := regexp.MustCompile("(?s)```yaml\n(.*?)```").FindAllStringSubmatch(string(doc), -1)
+	if len(blocks) < 4 {
+		t.Fatalf("found %d yaml examples, want profile, rules, plan and port map", len(blocks))
+	}
+	dir := t.TempDir()
+	for i, b := range blocks {
+		path := writeFile(t, dir, "example.yaml", b[1])
+		var err error
+		switch body := b[1]; {
+		case strings.HasPrefix(body, "profiles:"):
+			_, err = LoadProfiles(path)
+		case strings.Contains(body, "circuit:"):
+			_, err = LoadPlan(path)
+		case strings.HasPrefix(body, "ports:"):
+			// Plans named in the example do not exist here: check shape and patterns only.
+			var m PortMap
+			var ix lineIndex
+			if _, ix, err = decodeStrict(path, []byte(body), &m); err == nil {
+				err = ix.toFileError(path, m.Validate())
+			}
+		default:
+			_, err = LoadRules(path)
+		}
+		if err != nil {
+			t.Errorf("example %d does not load: %v", i+1, err)
+		}
+	}
+}
