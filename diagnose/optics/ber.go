@@ -196,9 +196,11 @@ func pamBitErrors(I int, x float64) float64 {
 }
 
 // SNRdBFromBER returns the SNR per symbol Es/N0 in dB at which format m reaches the given BER in
-// AWGN: the numerical inverse of BERFromSNR, found by bisection on dB (BERFromSNR falls
-// monotonically with SNR), to 1e-9 dB. Domain 1e-300 < BER < 0.5 (it is robust over the working
-// range 1e-15…0.5); returns −Inf at BER 0.5 (zero SNR) and NaN outside the domain.
+// AWGN: the numerical inverse of BERFromSNR. BERFromSNR falls monotonically with SNR, so the root
+// of g(s) = ln BER(s) − ln BER is kept bracketed and found by the Illinois variant of regula falsi
+// (superlinear, never leaves the bracket) to 1e-9 dB. Domain 0 < BER ≤ 0.5, robust over the
+// working range 1e-15…0.5; −Inf at BER 0.5 (zero SNR); NaN outside the domain or when the BER is
+// below what a double can represent at 60 dB.
 func SNRdBFromBER(m Modulation, ber float64) float64 {
 	if !m.Valid() || !(ber > 0 && ber <= 0.5) {
 		return math.NaN()
@@ -206,26 +208,42 @@ func SNRdBFromBER(m Modulation, ber float64) float64 {
 	if ber == 0.5 {
 		return math.Inf(-1)
 	}
+	target := math.Log(ber)
+	g := func(sDB float64) float64 { return math.Log(BERFromSNRdB(m, sDB)) - target }
 	lo, hi := -60.0, 60.0
-	// BER at 60 dB is far below any double; at −60 dB it is within 1e-4 of ½.
-	if BERFromSNRdB(m, lo) < ber {
-		// Extremely close to ½: keep widening downward.
-		for BERFromSNRdB(m, lo) < ber && lo > -400 {
-			lo -= 60
-		}
-		if BERFromSNRdB(m, lo) < ber {
+	glo, ghi := g(lo), g(hi)
+	for glo < 0 { // BER within ~1e-4 of ½: widen downward
+		if lo < -400 {
 			return math.Inf(-1)
 		}
+		lo -= 60
+		glo = g(lo)
 	}
-	if BERFromSNRdB(m, hi) > ber {
+	if !(ghi < 0) {
 		return math.NaN()
 	}
-	for hi-lo > 1e-10 {
-		mid := 0.5 * (lo + hi)
-		if BERFromSNRdB(m, mid) > ber {
-			lo = mid
+	side := 0
+	for range 200 {
+		s := hi - ghi*(hi-lo)/(ghi-glo)
+		if !(s > lo && s < hi) {
+			s = 0.5 * (lo + hi)
+		}
+		gs := g(s)
+		if gs > 0 {
+			lo, glo = s, gs
+			if side == +1 {
+				ghi /= 2
+			}
+			side = +1
 		} else {
-			hi = mid
+			hi, ghi = s, gs
+			if side == -1 {
+				glo /= 2
+			}
+			side = -1
+		}
+		if hi-lo < 1e-9 || math.Abs(gs) < 1e-13 {
+			return s
 		}
 	}
 	return 0.5 * (lo + hi)
