@@ -1,7 +1,7 @@
 package rules
 
 // Plan is a link plan: the design of one circuit, from which the physics models give the expected
-// CD, mean DGD, received power and OSNR. Its YAML schema is beatnote's own (docs/plan.md).
+// CD, mean DGD, received power and OSNR. Its YAML schema is beatnote's own (docs/rules.md).
 type Plan struct {
 	Circuit     string `yaml:"circuit" json:"circuit"`
 	Description string `yaml:"description" json:"description"`
