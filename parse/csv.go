@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strings"
 	"sync"
 	"sync/atomic"
 	"unicode/utf8"
@@ -107,7 +108,7 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 		missing = append(missing, "any measured quantity")
 	}
 	if len(missing) > 0 {
-		return nil, nil, &ParseError{File: file, Line: lineNo, Err: fmt.Errorf("%w: no %v column in header", ErrMissingColumn, missing)}
+		return nil, nil, &ParseError{File: file, Line: lineNo, Err: fmt.Errorf("%w: header has no %s column", ErrMissingColumn, strings.Join(missing, ", no "))}
 	}
 	return lay, notes, nil
 }
