@@ -1,0 +1,225 @@
+package synth
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+
+	"github.com/beatnote/beatnote/diagnose"
+	"github.com/beatnote/beatnote/diagnose/optics"
+	"github.com/beatnote/beatnote/rules"
+)
+
+// sopEvent is a burst of fast polarization change: samples [at, at+length) reach peakKradS.
+type sopEvent struct {
+	at, length int
+	peakKradS  float64
+}
+
+// faults holds the time-varying parts of the injected trouble, for render. Fractions are of the
+// log's duration.
+type faults struct {
+	sev float64
+	rng *rand.Rand
+
+	pdlDB                float64 // mean PDL of the line
+	sopBaseKradS         float64 // median quiet SOP rate
+	sopEvents            []sopEvent
+	loStartMHz, loEndMHz float64
+	// stepAt ≥ 0: before this fraction the received power is stepDB higher than Actual's.
+	stepAt, stepDB float64
+	// lossFrom ≥ 0: light is gone from lossFrom to lossTo.
+	lossFrom, lossTo float64
+}
+
+// requiredOSNRdB is the profile's required OSNR, or the one its implementation penalty implies.
+func requiredOSNRdB(prof rules.Profile) float64 {
+	if prof.RequiredOSNRdB > 0 {
+		return prof.RequiredOSNRdB
+	}
+	mod, _ := optics.ParseModulation(prof.Modulation)
+	return optics.RequiredOSNRdB(mod, prof.BaudGBd, max(prof.Polarizations, 1), prof.FECThresholdBER, prof.ImplementationPenaltyDB)
+}
+
+// apply draws the healthy time-varying figures, then changes the link model for each cause of
+// c.Causes and records what it did in c.Notes. Severity s ∈ [0, 1] scales every fault from mild
+// but detectable to severe.
+func (f *faults) apply(m *linkModel, c *Case, prof rules.Profile) error {
+	rng, s := f.rng, f.sev
+	design := c.Design
+	// Healthy figures (common practice for a buried/aerial regional fleet): PDL about 0.5 dB,
+	// quiet SOP rate 0.3–3 krad/s, carrier offset within ±300 MHz (laser frequency accuracy),
+	// no step, no loss.
+	f.pdlDB = basePDLdB * (0.8 + 0.4*rng.Float64())
+	f.sopBaseKradS = 0.3 * math.Pow(10, rng.Float64())
+	f.loStartMHz = 600 * (rng.Float64() - 0.5)
+	f.loEndMHz = f.loStartMHz + 40*(rng.Float64()-0.5)
+	f.stepAt, f.lossFrom = -1, -1
+	rosnr := requiredOSNRdB(prof)
+	note := func(format string, a ...any) { c.Notes = append(c.Notes, fmt.Sprintf(format, a...)) }
+
+	for _, cause := range c.Causes {
+		switch cause {
+		case diagnose.CauseOSNRLow:
+			// A failing amplifier: its noise figure rises until the OSNR reaches the target, from
+			// 1 dB above the required OSNR (mild) to 3 dB below it (severe); power is unchanged
+			// because the amplifier holds its output.
+			target := rosnr + 1 - 4*s
+			k := len(m.amps) / 2
+			if len(m.amps) > 1 && m.amps[k].afterSpan == 0 {
+				k++
+			}
+			nf0 := m.amps[k].nfDB
+			lo, hi := nf0, nf0+60.0
+			for range 60 {
+				mid := (lo + hi) / 2
+				m.amps[k].nfDB = mid
+				if m.evaluate(prof).OSNRdB > target {
+					lo = mid
+				} else {
+					hi = mid
+				}
+			}
+			m.amps[k].nfDB = math.Max(hi, nf0+3)
+			note("amplifier %s noise figure %.1f → %.1f dB (extra ASE, e.g. a failing pump): OSNR %.1f → %.1f dB, power unchanged",
+				m.amps[k].name, nf0, m.amps[k].nfDB, design.OSNRdB, m.evaluate(prof).OSNRdB)
+
+		case diagnose.CauseRxPowerLow:
+			// Loss after the last amplifier (a dirty connector or a tight bend in the receive patch
+			// cord): the received power falls to 1.5 dB above the receiver's minimum (mild) … 4 dB
+			// below it (severe). Half the seeds see it appear as a step part-way through the log.
+			target := prof.RxPowerMinDBm + 1.5 - 5.5*s
+			loss := design.RxPowerDBm - target
+			m.rxOffsetDB -= loss
+			if rng.IntN(2) == 0 {
+				f.stepAt, f.stepDB = 0.3+0.4*rng.Float64(), loss
+				note("step loss of %.1f dB in the receive patch at %.0f %% of the log: received power %.1f → %.1f dBm", loss, 100*f.stepAt, design.RxPowerDBm, target)
+			} else {
+				note("extra loss of %.1f dB in the receive patch: received power %.1f → %.1f dBm (window %g…%g dBm)", loss, design.RxPowerDBm, target, prof.RxPowerMinDBm, prof.RxPowerMaxDBm)
+			}
+
+		case diagnose.CauseRxOverload:
+			// Too little attenuation before the receiver (a missing pad, a preamplifier set too
+			// high): the received power is 0.5 dB (mild) … 4.5 dB (severe) above the maximum.
+			target := prof.RxPowerMaxDBm + 0.5 + 4*s
+			m.rxOffsetDB += target - design.RxPowerDBm
+			note("receive attenuation %.1f dB short: received power %.1f → %.1f dBm (maximum %g dBm)", target-design.RxPowerDBm, design.RxPowerDBm, target, prof.RxPowerMaxDBm)
+
+		case diagnose.CauseCDMismatch:
+			// The circuit is patched onto another route 20 % (mild) … 50 % (severe) longer or
+			// shorter than planned; longer when the CD stays well inside the tolerance.
+			frac := 0.2 + 0.3*s
+			ratio := 1 + frac
+			if math.Abs(design.CDPsNm)*ratio > 0.85*prof.CDTolerancePsNm || rng.IntN(3) == 0 {
+				ratio = 1 - frac
+			}
+			scaleRoute(m, design.RouteKm*(ratio-1))
+			a := m.evaluate(prof)
+			note("route patched %+.0f %% (%.1f → %.1f km): CD %.0f → %.0f ps/nm", 100*(ratio-1), design.RouteKm, a.RouteKm, design.CDPsNm, a.CDPsNm)
+
+		case diagnose.CauseCDOverLimit:
+			// The plan itself is too long for the module (drawPlan made it so); the receiver's CD
+			// compensator runs out of range. The penalty model is in render.
+			note("route of %.1f km has %.0f ps/nm of CD, %.0f %% over the %g ps/nm tolerance", design.RouteKm, design.CDPsNm,
+				100*(math.Abs(design.CDPsNm)/prof.CDTolerancePsNm-1), prof.CDTolerancePsNm)
+
+		case diagnose.CausePMD:
+			// A legacy fibre section with a high PMD coefficient: mean DGD 36 % (mild) … 60 %
+			// (severe) of the module's instantaneous DGD tolerance.
+			target := prof.DGDTolerancePs * (0.36 + 0.24*s)
+			k, other := 0, 0.0
+			for i, sp := range m.spans {
+				if sp.lengthKm > m.spans[k].lengthKm {
+					k = i
+				}
+			}
+			for i, sp := range m.spans {
+				if i != k {
+					d := optics.MeanDGDPs(sp.pmd, sp.lengthKm)
+					other += d * d
+				}
+			}
+			old := m.spans[k].pmd
+			m.spans[k].pmd = math.Sqrt(math.Max(target*target-other, 0) / m.spans[k].lengthKm)
+			note("span %d has a PMD coefficient of %.2f ps/√km instead of %.2f: mean DGD %.1f → %.1f ps (tolerance %g ps instantaneous)",
+				k+1, m.spans[k].pmd, old, design.MeanDGDPs, target, prof.DGDTolerancePs)
+
+		case diagnose.CauseSOPTransient:
+			// Fast polarization changes (e.g. lightning or vibration on aerial cable): 2–7 bursts
+			// whose peak SOP rate is 2× (mild) … 60× (severe) the module's tracking speed,
+			// hundreds of krad/s to a few Mrad/s for a 50 krad/s module (Charlton et al.,
+			// Opt. Express 25(9), 2017 measured up to 5.1 Mrad/s).
+			n := 2 + int(math.Round(4*s)) + rng.IntN(2)
+			for range n {
+				ev := sopEvent{length: 1 + rng.IntN(2),
+					peakKradS: prof.SOPTrackingKradS * math.Pow(10, 0.3+1.48*s+0.2*(rng.Float64()-0.5))}
+				ev.at = int((0.05 + 0.9*rng.Float64()) * float64(c.Spec.Samples))
+				f.sopEvents = append(f.sopEvents, ev)
+			}
+			note("%d bursts of fast SOP change peaking near %.0f krad/s (tracking %g krad/s)", n, f.sopEvents[0].peakKradS, prof.SOPTrackingKradS)
+
+		case diagnose.CausePDLHigh:
+			// PDL 0.9× (mild) … 2× (severe) the module's tolerance (e.g. a faulty isolator or a
+			// stressed component in the line).
+			f.pdlDB = prof.PDLTolerancedB * (0.9 + 1.1*s)
+			note("mean PDL %.1f dB (tolerance %g dB)", f.pdlDB, prof.PDLTolerancedB)
+
+		case diagnose.CauseLOOffset:
+			// The transmit laser (or the local oscillator) drifts: the carrier offset moves from
+			// 15–25 % of the capture range to 80 % (mild) … 98 % (severe) of it over the log.
+			sign := 1.0
+			if rng.IntN(2) == 0 {
+				sign = -1
+			}
+			r := prof.LOOffsetRangeMHz
+			f.loStartMHz = sign * r * (0.15 + 0.1*rng.Float64())
+			f.loEndMHz = sign * r * (0.80 + 0.18*s)
+			note("carrier offset drifts from %.0f to %.0f MHz (capture range ±%g MHz)", f.loStartMHz, f.loEndMHz, r)
+
+		case diagnose.CauseNonlinear:
+			// Launch power set far above the GN-model optimum on every span (at least 3 dB), until
+			// the NLI SNR falls to 2 dB above (mild) … 3 dB below (severe) the planned eSNR; NLI
+			// grows as P³ against the signal's P, so its SNR falls 2 dB per dB of excess. The
+			// receive end still levels the channel, so received power is normal.
+			if math.IsNaN(design.OptimumLaunchDBm) || math.IsInf(design.NLISNRdB, 1) {
+				return fmt.Errorf("%w: nonlinear needs a plan with channels and fibre for the GN model", ErrSpec)
+			}
+			target := design.ESNRdB + 2 - 5*s
+			excess := math.Max(design.OptimumLaunchDBm+3-design.LaunchPowerDBm, (design.NLISNRdB-target)/2)
+			m.lineExcessDB = math.Min(excess, 12)
+			a := m.evaluate(prof)
+			note("launch power %.1f dBm per channel instead of %.1f (optimum %.1f): OSNR %.1f → %.1f dB but NLI SNR %.1f dB",
+				a.LaunchPowerDBm, design.LaunchPowerDBm, design.OptimumLaunchDBm, design.OSNRdB, a.OSNRdB, a.NLISNRdB)
+
+		case diagnose.CauseSignalLoss:
+			// The light goes (a fibre cut or a pulled patch cord) for 10 % (mild) … 50 % (severe)
+			// of the log, from 35–60 % of the way through.
+			f.lossFrom = 0.35 + 0.25*rng.Float64()
+			f.lossTo = math.Min(1, f.lossFrom+0.1+0.4*s)
+			note("light lost from %.0f %% to %.0f %% of the log", 100*f.lossFrom, 100*f.lossTo)
+		}
+	}
+	return nil
+}
+
+// scaleRoute lengthens (or shortens, deltaKm < 0) the route: the last span takes the change if
+// it stays at least 5 km long, otherwise every span is scaled. Span loss follows the length at
+// the fibre's attenuation.
+func scaleRoute(m *linkModel, deltaKm float64) {
+	last := &m.spans[len(m.spans)-1]
+	if last.lengthKm+deltaKm >= 5 {
+		last.lossDB += last.fiber.AttenuationDBPerKm * deltaKm
+		last.lengthKm += deltaKm
+		return
+	}
+	total := 0.0
+	for _, s := range m.spans {
+		total += s.lengthKm
+	}
+	r := (total + deltaKm) / total
+	for i := range m.spans {
+		d := m.spans[i].lengthKm * (r - 1)
+		m.spans[i].lossDB += m.spans[i].fiber.AttenuationDBPerKm * d
+		m.spans[i].lengthKm += d
+	}
+}
