@@ -223,6 +223,10 @@ func ExpectLink(plan rules.Plan, prof rules.Profile) (LinkExpectation, error) {
 	}
 
 	runAmps(0)
+	if plan.LaunchPowerDBm != 0 && len(ampsAfter[0]) == 0 && plan.LaunchPowerDBm != plan.TxPowerDBm {
+		note("span 1 is launched at the transmitter's %.3g dBm (no booster in the plan); launch_power_dbm %.3g dBm applies after amplifiers given no gain",
+			plan.TxPowerDBm, plan.LaunchPowerDBm)
+	}
 	var fs []FiberSpan
 	for i, s := range plan.Spans {
 		elem := fmt.Sprintf("span %d %q", i+1, s.Name)
