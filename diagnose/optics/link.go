@@ -233,6 +233,9 @@ func ExpectLink(plan rules.Plan, prof rules.Profile) (LinkExpectation, error) {
 		if !(s.LengthKm > 0) {
 			return e, &PlanError{elem, "length_km", fmt.Errorf("%g km: a span needs a positive length", s.LengthKm)}
 		}
+		if s.Fiber == "" && s.DispersionPsNmKm == nil {
+			note("%s: fibre type g652 (the plan gives none)", elem)
+		}
 		f, err := SpanFiber(s, lambda)
 		if err != nil {
 			return e, &PlanError{elem, "fiber", err}

@@ -2,7 +2,6 @@ package optics
 
 import (
 	"math"
-	"math/rand/v2"
 	"sort"
 )
 
@@ -121,10 +120,14 @@ func MaxwellQuantile(exceedProb, meanPs float64) float64 {
 	return 0.5 * (lo + hi) * meanPs
 }
 
+// NormalSource is a source of standard Gaussian draws: *rand.Rand of math/rand and of
+// math/rand/v2 both satisfy it.
+type NormalSource interface{ NormFloat64() float64 }
+
 // MaxwellSample draws one Maxwellian DGD (ps) of mean meanPs: τ = a·√(N1² + N2² + N3²) with three
 // independent standard Gaussians (the length of a 3-D Gaussian PMD vector), a = mean/(2·√(2/π)).
 // Variance a²·(3 − 8/π). Source: Karlsson 2001 (PMD vector components are Gaussian).
-func MaxwellSample(rng *rand.Rand, meanPs float64) float64 {
+func MaxwellSample(rng NormalSource, meanPs float64) float64 {
 	a := maxwellScale(meanPs)
 	x, y, z := rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64()
 	return a * math.Sqrt(x*x+y*y+z*z)
