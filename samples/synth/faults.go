@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/diagnose/optics"
@@ -48,10 +49,10 @@ func (f *faults) apply(m *linkModel, c *Case, prof rules.Profile) error {
 	rng, s := f.rng, f.sev
 	design := c.Design
 	// Healthy figures (common practice for a buried/aerial regional fleet): PDL about 0.5 dB,
-	// quiet SOP rate 0.3–3 krad/s, carrier offset within ±300 MHz (laser frequency accuracy),
+	// quiet SOP rate 0.1–1 krad/s median, carrier offset within ±300 MHz (laser frequency accuracy),
 	// no step, no loss.
 	f.pdlDB = basePDLdB * (0.8 + 0.4*rng.Float64())
-	f.sopBaseKradS = 0.3 * math.Pow(10, rng.Float64())
+	f.sopBaseKradS = 0.1 * math.Pow(10, rng.Float64())
 	f.loStartMHz = 600 * (rng.Float64() - 0.5)
 	f.loEndMHz = f.loStartMHz + 40*(rng.Float64()-0.5)
 	f.stepAt, f.lossFrom = -1, -1
@@ -110,10 +111,17 @@ func (f *faults) apply(m *linkModel, c *Case, prof rules.Profile) error {
 			// shorter than planned; longer when the CD stays well inside the tolerance.
 			frac := 0.2 + 0.3*s
 			ratio := 1 + frac
-			if math.Abs(design.CDPsNm)*ratio > 0.85*prof.CDTolerancePsNm || rng.IntN(3) == 0 {
+			if math.Abs(design.CDPsNm)*ratio > 0.75*prof.CDTolerancePsNm || rng.IntN(3) == 0 {
 				ratio = 1 - frac
 			}
+			saved := slices.Clone(m.spans)
 			scaleRoute(m, design.RouteKm*(ratio-1))
+			if a := m.evaluate(prof); ratio > 1 && design.OSNRdB-a.OSNRdB > 2 {
+				// The longer route's loss would make this an OSNR fault too: take the shorter one.
+				copy(m.spans, saved)
+				ratio = 1 - frac
+				scaleRoute(m, design.RouteKm*(ratio-1))
+			}
 			a := m.evaluate(prof)
 			note("route patched %+.0f %% (%.1f → %.1f km): CD %.0f → %.0f ps/nm", 100*(ratio-1), design.RouteKm, a.RouteKm, design.CDPsNm, a.CDPsNm)
 
@@ -166,14 +174,14 @@ func (f *faults) apply(m *linkModel, c *Case, prof rules.Profile) error {
 
 		case diagnose.CauseLOOffset:
 			// The transmit laser (or the local oscillator) drifts: the carrier offset moves from
-			// 15–25 % of the capture range to 80 % (mild) … 98 % (severe) of it over the log.
+			// 15–25 % of the capture range to 84 % (mild) … 98 % (severe) of it over the log.
 			sign := 1.0
 			if rng.IntN(2) == 0 {
 				sign = -1
 			}
 			r := prof.LOOffsetRangeMHz
 			f.loStartMHz = sign * r * (0.15 + 0.1*rng.Float64())
-			f.loEndMHz = sign * r * (0.80 + 0.18*s)
+			f.loEndMHz = sign * r * (0.84 + 0.14*s)
 			note("carrier offset drifts from %.0f to %.0f MHz (capture range ±%g MHz)", f.loStartMHz, f.loEndMHz, r)
 
 		case diagnose.CauseNonlinear:

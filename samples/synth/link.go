@@ -356,12 +356,19 @@ func planAmplifiers(rng *rand.Rand, plan rules.Plan, f optics.Fiber, rxTarget fl
 		}
 	}
 	amps := []rules.Amplifier{{Name: "booster", AfterSpan: 0, GainDB: round(plan.LaunchPowerDBm-plan.TxPowerDBm, 1), NoiseFigureDB: nf[0]}}
+	if amps[0].GainDB == 0 {
+		amps[0].GainDB = 0.1
+	}
 	for i, s := range plan.Spans {
 		loss := spanLossDB(s, f)
 		if i < n-1 {
 			amps = append(amps, rules.Amplifier{Name: fmt.Sprintf("line-amp-%d", i+1), AfterSpan: i + 1, GainDB: round(loss, 1), NoiseFigureDB: nf[i+1]})
 		} else {
-			amps = append(amps, rules.Amplifier{Name: "preamp", AfterSpan: n, GainDB: round(rxTarget-(plan.LaunchPowerDBm-loss), 1), NoiseFigureDB: nf[n]})
+			g := round(rxTarget-(plan.LaunchPowerDBm-loss), 1)
+			if g == 0 {
+				g = 0.1 // a gain of 0 means "restore the launch power" in a plan (optics.ExpectLink)
+			}
+			amps = append(amps, rules.Amplifier{Name: "preamp", AfterSpan: n, GainDB: g, NoiseFigureDB: nf[n]})
 		}
 	}
 	return amps

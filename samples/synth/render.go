@@ -184,7 +184,7 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 		}
 		pdl := math.Max(0.3*f.pdlDB, f.pdlDB*(1+0.15*pdlAR.next(rng)))
 		lo := f.loStartMHz + (f.loEndMHz-f.loStartMHz)*frac + loWanderMHz*loAR.next(rng)
-		sop := f.sopBaseKradS * math.Exp(0.6*rng.NormFloat64())
+		sop := f.sopBaseKradS * math.Exp(0.5*rng.NormFloat64())
 		if p, ok := sopAt[i]; ok {
 			sop = p
 		}
