@@ -124,14 +124,17 @@ func checkBER(ber float64) error {
 // CalcQCmd converts BER ↔ Q.
 type CalcQCmd struct {
 	calcFormat
-	BER          *number `name:"ber" xor:"in" required:"" help:"Pre-FEC bit error ratio (0 < BER < 0.5)."`
-	QdB          *number `name:"q-db" xor:"in" required:"" help:"Q-factor in dB (20·log10 Q)."`
-	QLinear      *number `name:"q-linear" xor:"in" required:"" help:"Q-factor, linear."`
+	BER          *number `name:"ber" xor:"in" help:"Pre-FEC bit error ratio (0 < BER < 0.5)."`
+	QdB          *number `name:"q-db" xor:"in" help:"Q-factor in dB (20·log10 Q)."`
+	QLinear      *number `name:"q-linear" xor:"in" help:"Q-factor, linear."`
 	ThresholdBER *number `name:"threshold-ber" help:"FEC threshold BER: also print the Q-margin against it."`
 }
 
 // Run prints BER, linear Q and Q in dB, and the Q-margin when a threshold is given.
 func (c *CalcQCmd) Run(pr *printer) error {
+	if c.BER == nil && c.QdB == nil && c.QLinear == nil {
+		return usageErrorf("q: give one of --ber, --q-db or --q-linear")
+	}
 	var ber float64
 	switch {
 	case c.BER != nil:
@@ -179,13 +182,16 @@ func modulationFlag(s string) (optics.Modulation, error) {
 // CalcBERCmd gives BER from Q or from eSNR.
 type CalcBERCmd struct {
 	calcFormat
-	QdB        *number `name:"q-db" xor:"in" required:"" help:"Q-factor in dB."`
-	ESNRdB     *number `name:"esnr-db" xor:"in" required:"" help:"SNR per symbol Es/N0 in dB (needs --modulation)."`
+	QdB        *number `name:"q-db" xor:"in" help:"Q-factor in dB."`
+	ESNRdB     *number `name:"esnr-db" xor:"in" help:"SNR per symbol Es/N0 in dB (needs --modulation)."`
 	Modulation string  `help:"Modulation: dp-qpsk, dp-8qam, dp-16qam, dp-32qam, dp-64qam." default:"dp-16qam"`
 }
 
 // Run prints the BER.
 func (c *CalcBERCmd) Run(pr *printer) error {
+	if c.QdB == nil && c.ESNRdB == nil {
+		return usageErrorf("ber: give --q-db, or --esnr-db with --modulation")
+	}
 	if c.QdB != nil {
 		ber := optics.BERFromQdB(float64(*c.QdB))
 		return printCalc(pr, c.Format, []calcItem{dbItem("q_db", "Q-factor", float64(*c.QdB)), {"ber", "pre-FEC BER", "", ber, -1}})
@@ -206,16 +212,19 @@ func (c *CalcBERCmd) Run(pr *printer) error {
 // CalcOSNRCmd relates BER, eSNR and OSNR for a modulation and symbol rate.
 type CalcOSNRCmd struct {
 	calcFormat
-	BER           *number `name:"ber" xor:"in" required:"" help:"Pre-FEC BER to reach (e.g. the FEC threshold)."`
-	OSNRdB        *number `name:"osnr-db" xor:"in" required:"" help:"OSNR in 0.1 nm, dB: print the eSNR and BER it gives."`
-	Modulation    string  `required:"" help:"Modulation: dp-qpsk, dp-8qam, dp-16qam, dp-32qam, dp-64qam."`
-	BaudGBd       float64 `name:"baud-gbd" required:"" help:"Symbol rate in GBd."`
+	BER           *number `name:"ber" xor:"in" help:"Pre-FEC BER to reach (e.g. the FEC threshold)."`
+	OSNRdB        *number `name:"osnr-db" xor:"in" help:"OSNR in 0.1 nm, dB: print the eSNR and BER it gives."`
+	Modulation    string  `required:"" placeholder:"FORMAT" help:"Modulation: dp-qpsk, dp-8qam, dp-16qam, dp-32qam, dp-64qam."`
+	BaudGBd       float64 `name:"baud-gbd" required:"" placeholder:"GBD" help:"Symbol rate in GBd."`
 	Polarizations int     `default:"2" help:"Polarizations carrying data (1 or 2)."`
 	PenaltyDB     number  `name:"penalty-db" default:"0" help:"Implementation penalty in dB added to the theoretical eSNR."`
 }
 
 // Run prints esnr_db and osnr_db.
 func (c *CalcOSNRCmd) Run(pr *printer) error {
+	if c.BER == nil && c.OSNRdB == nil {
+		return usageErrorf("osnr: give --ber (the BER to reach) or --osnr-db (the OSNR you have)")
+	}
 	m, err := modulationFlag(c.Modulation)
 	if err != nil {
 		return err
@@ -289,7 +298,7 @@ func (f fibreAt) resolve() (optics.Fiber, float64, float64, error) {
 type CalcLengthCmd struct {
 	calcFormat
 	fibreAt
-	CDPsNm number `name:"cd-ps-nm" required:"" help:"Measured accumulated chromatic dispersion in ps/nm."`
+	CDPsNm number `name:"cd-ps-nm" required:"" placeholder:"PS/NM" help:"Measured accumulated chromatic dispersion in ps/nm."`
 }
 
 // Run prints length_km.
@@ -315,7 +324,7 @@ func (c *CalcLengthCmd) Run(pr *printer) error {
 type CalcCDCmd struct {
 	calcFormat
 	fibreAt
-	LengthKm float64 `name:"length-km" required:"" help:"Fibre length in km."`
+	LengthKm float64 `name:"length-km" required:"" placeholder:"KM" help:"Fibre length in km."`
 }
 
 // Run prints cd_ps_nm.
@@ -341,8 +350,8 @@ func (c *CalcCDCmd) Run(pr *printer) error {
 // CalcDGDCmd gives Maxwellian DGD statistics.
 type CalcDGDCmd struct {
 	calcFormat
-	MeanPs      *number `name:"mean-ps" xor:"mean" required:"" help:"Mean DGD in ps."`
-	PMDCoeff    *number `name:"pmd-ps-sqrt-km" xor:"mean" required:"" help:"PMD coefficient in ps/√km (needs --length-km)."`
+	MeanPs      *number `name:"mean-ps" xor:"mean" help:"Mean DGD in ps."`
+	PMDCoeff    *number `name:"pmd-ps-sqrt-km" xor:"mean" help:"PMD coefficient in ps/√km (needs --length-km)."`
 	LengthKm    *number `name:"length-km" help:"Route length in km, with --pmd-ps-sqrt-km."`
 	LimitPs     *number `name:"limit-ps" help:"Instantaneous DGD limit in ps: print the probability of exceeding it."`
 	Probability *number `name:"probability" help:"Exceedance probability: print the DGD exceeded with that probability."`
@@ -350,6 +359,9 @@ type CalcDGDCmd struct {
 
 // Run prints exceed_probability and/or the quantile.
 func (c *CalcDGDCmd) Run(pr *printer) error {
+	if c.MeanPs == nil && c.PMDCoeff == nil {
+		return usageErrorf("dgd: give --mean-ps, or --pmd-ps-sqrt-km with --length-km")
+	}
 	var mean float64
 	var items []calcItem
 	if c.MeanPs != nil {
@@ -400,12 +412,15 @@ func (c *CalcDGDCmd) Run(pr *printer) error {
 // CalcPowerCmd converts dBm ↔ mW.
 type CalcPowerCmd struct {
 	calcFormat
-	DBm *number `name:"dbm" xor:"in" required:"" help:"Power in dBm."`
-	MW  *number `name:"mw" xor:"in" required:"" help:"Power in mW."`
+	DBm *number `name:"dbm" xor:"in" help:"Power in dBm."`
+	MW  *number `name:"mw" xor:"in" help:"Power in mW."`
 }
 
 // Run prints power_dbm and power_mw.
 func (c *CalcPowerCmd) Run(pr *printer) error {
+	if c.DBm == nil && c.MW == nil {
+		return usageErrorf("power: give --dbm or --mw")
+	}
 	var dbm, mw float64
 	if c.DBm != nil {
 		dbm, mw = float64(*c.DBm), optics.DBmToMW(float64(*c.DBm))
@@ -425,13 +440,16 @@ func (c *CalcPowerCmd) Run(pr *printer) error {
 // CalcGridCmd places a frequency or wavelength on the DWDM grid.
 type CalcGridCmd struct {
 	calcFormat
-	THz            *number `name:"thz" xor:"in" required:"" help:"Frequency in THz."`
-	Nm             *number `name:"nm" xor:"in" required:"" help:"Vacuum wavelength in nm."`
+	THz            *number `name:"thz" xor:"in" help:"Frequency in THz."`
+	Nm             *number `name:"nm" xor:"in" help:"Vacuum wavelength in nm."`
 	GranularityGHz float64 `name:"granularity-ghz" default:"6.25" help:"Grid granularity in GHz: 6.25 (flexible grid), 12.5, 25, 50 or 100."`
 }
 
 // Run prints the nearest grid point and the offset from it.
 func (c *CalcGridCmd) Run(pr *printer) error {
+	if c.THz == nil && c.Nm == nil {
+		return usageErrorf("grid: give --thz or --nm")
+	}
 	if !(c.GranularityGHz > 0) {
 		return usageErrorf("--granularity-ghz %g must be positive", c.GranularityGHz)
 	}
@@ -459,7 +477,7 @@ func (c *CalcGridCmd) Run(pr *printer) error {
 // CalcASECmd gives the ASE OSNR of N identical amplifiers.
 type CalcASECmd struct {
 	calcFormat
-	PinDBm       number  `name:"pin-dbm" required:"" help:"Per-channel input power of each amplifier in dBm."`
+	PinDBm       number  `name:"pin-dbm" required:"" placeholder:"DBM" help:"Per-channel input power of each amplifier in dBm."`
 	NFdB         float64 `name:"nf-db" default:"5.5" help:"Amplifier noise figure in dB."`
 	Amplifiers   int     `default:"1" help:"Number of identical amplifiers in the chain."`
 	FrequencyTHz float64 `name:"frequency-thz" default:"193.1" help:"Channel frequency in THz."`
