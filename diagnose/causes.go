@@ -254,6 +254,8 @@ func (pc *portCtx) rxPowerLow() *score {
 			s.add(llrDecisive, "Median received power %.1f dBm is %.1f dB below the module's %.1f dBm sensitivity limit.", lp.P50, p.RxPowerMinDBm-lp.P50, p.RxPowerMinDBm)
 		case lp.Min < p.RxPowerMinDBm:
 			s.add(llrStrong, "Received power fell to %.1f dBm, %.1f dB below the module's %.1f dBm sensitivity limit.", lp.Min, p.RxPowerMinDBm-lp.Min, p.RxPowerMinDBm)
+		case lp.P50 < p.RxPowerMinDBm+r.RxPowerMarginalBandDB:
+			s.add(llrStrong, "Median received power %.1f dBm sits only %.1f dB above the module's %.1f dBm sensitivity limit.", lp.P50, lp.P50-p.RxPowerMinDBm, p.RxPowerMinDBm)
 		case lp.Min < p.RxPowerMinDBm+r.RxPowerMarginalBandDB:
 			s.add(llrModerate, "Received power went down to %.1f dBm, within %.1f dB of the %.1f dBm sensitivity limit.", lp.Min, lp.Min-p.RxPowerMinDBm, p.RxPowerMinDBm)
 		}
@@ -312,6 +314,8 @@ func (pc *portCtx) rxOverload() *score {
 		s.add(llrDecisive, "Median received power %+.1f dBm is %.1f dB above the module's %+.1f dBm overload limit.", lp.P50, lp.P50-p.RxPowerMaxDBm, p.RxPowerMaxDBm)
 	case lp.Max > p.RxPowerMaxDBm:
 		s.add(llrStrong, "Received power reached %+.1f dBm, %.1f dB above the module's %+.1f dBm overload limit.", lp.Max, lp.Max-p.RxPowerMaxDBm, p.RxPowerMaxDBm)
+	case lp.P50 > p.RxPowerMaxDBm-r.RxPowerMarginalBandDB:
+		s.add(llrStrong, "Median received power %+.1f dBm sits only %.1f dB below the module's %+.1f dBm overload limit.", lp.P50, p.RxPowerMaxDBm-lp.P50, p.RxPowerMaxDBm)
 	case lp.Max > p.RxPowerMaxDBm-r.RxPowerMarginalBandDB:
 		s.add(llrModerate, "Received power reached %+.1f dBm, within %.1f dB of the %+.1f dBm overload limit.", lp.Max, p.RxPowerMaxDBm-lp.Max, p.RxPowerMaxDBm)
 	}
@@ -660,7 +664,7 @@ func (pc *portCtx) nonlinear(im impairments) *score {
 			return nil
 		}
 	}
-	gapOK := false
+	gapOK, hotter := false, false
 	if finite(ref) && finite(esnr) && pc.prof.BaudGBd > 0 {
 		want := pc.expectedESNRdB(ref)
 		gap := want - esnr
@@ -676,6 +680,34 @@ func (pc *portCtx) nonlinear(im impairments) *score {
 			if gap >= 2*r.NonlinearSNRGapDB {
 				s.add(llrWeak, "The shortfall of %.1f dB is more than twice the %.1f dB threshold.", gap, r.NonlinearSNRGapDB)
 			}
+		} else if qm := pc.qMarginP50(); gap >= r.NonlinearSNRGapDB/2 && osnrGood && finite(qm) && qm < r.QMarginalMarginDB {
+			s.add(llrModerate, "The %s of %.1f dB should give an eSNR of about %.1f dB with this module; the eSNR %s is %.1f dB, %.1f dB lower, and the Q margin is only %.1f dB.",
+				refName, ref, want, src, esnr, gap, qm)
+		}
+	}
+	// With a plan and a reported OSNR: ASE OSNR rises dB for dB with launch power, so OSNR well
+	// above the plan's says the channel is launched hotter than designed; compared with the
+	// GN-model optimum launch power of the plan that is the classic nonlinear set-up.
+	if pc.exp != nil && pc.has(parse.OSNRdB) && finite(pc.exp.ASEOSNRdB) {
+		excess := pc.sum[parse.OSNRdB].P50 - pc.exp.ASEOSNRdB
+		if excess >= r.OSNRGapVsPlanDB {
+			implied := pc.launchDBm() + excess
+			opt := pc.exp.OptimumLaunchPowerDBm
+			switch {
+			case finite(opt) && implied > opt+2:
+				gapOK, hotter = true, true
+				s.add(llrStrong, "Reported OSNR %.1f dB is %.1f dB above the %.1f dB the plan's amplifier chain gives at its %+.1f dBm launch: the channel runs at about %+.1f dBm per span, %.1f dB above the GN-model optimum of %+.1f dBm.",
+					pc.sum[parse.OSNRdB].P50, excess, pc.exp.ASEOSNRdB, pc.launchDBm(), implied, implied-opt, opt)
+			case implied > r.NonlinearLaunchPowerDBm:
+				gapOK, hotter = true, true
+				s.add(llrStrong, "Reported OSNR %.1f dB is %.1f dB above the plan's %.1f dB: the channel runs at about %+.1f dBm per span, above the %+.1f dBm where fibre nonlinearity sets in.",
+					pc.sum[parse.OSNRdB].P50, excess, pc.exp.ASEOSNRdB, implied, r.NonlinearLaunchPowerDBm)
+			}
+			if gapOK && finite(esnr) && finite(pc.exp.TotalSNRdB) {
+				if d := esnr - pc.expectedESNRdB(pc.exp.ASEOSNRdB); d < 0.5 {
+					s.add(llrWeak, "Yet the eSNR (%.1f dB) is no better than the plan's OSNR would give (%.1f dB): the extra power buys no signal quality.", esnr, pc.expectedESNRdB(pc.exp.ASEOSNRdB))
+				}
+			}
 		}
 	}
 	if pc.plan != nil {
@@ -689,7 +721,7 @@ func (pc *portCtx) nonlinear(im impairments) *score {
 			s.add(3.0, "The plan launches %+.1f dBm per channel, above the %+.1f dBm where fibre nonlinearity sets in.", l, r.NonlinearLaunchPowerDBm)
 		case finite(opt) && l > opt+2:
 			s.add(llrModerate, "The plan launches %+.1f dBm per channel, %.1f dB above the model's optimum of %+.1f dBm.", l, l-opt, opt)
-		case finite(opt) && l <= opt && gapOK:
+		case finite(opt) && l <= opt && gapOK && !hotter:
 			s.add(-1.5, "The plan launches %+.1f dBm per channel, at or below the model's optimum of %+.1f dBm.", l, opt)
 		}
 		if !gapOK {

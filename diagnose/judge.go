@@ -74,7 +74,7 @@ func (pc *portCtx) metrics() {
 		case parse.PostFECBER:
 			limit, margin = postFECLimitBER, postFECLimitBER-s.Max
 		case parse.UncorrectedBlocks:
-			limit, margin = 0, -s.Max
+			limit, margin = 0, 0-s.Max // 0 − x, not −x: no negative zero
 		case parse.QdB:
 			limit = pc.qLimitDB
 			margin = pick(s, r.QStatistic) - limit
@@ -250,7 +250,7 @@ func (pc *portCtx) criteria() {
 			}
 		}
 		pc.addCriterion(Criterion{Name: "Uncorrected FEC blocks (total)", Metric: "uncorrected_blocks", Statistic: "sum",
-			Measured: total, Limit: 0, Margin: -total, Unit: "blocks", Source: "common practice: error-free after FEC"}, 0)
+			Measured: total, Limit: 0, Margin: 0 - total, Unit: "blocks", Source: "common practice: error-free after FEC"}, 0)
 	}
 	if has(parse.PostFECBER) {
 		m := pc.sum[parse.PostFECBER].Max

@@ -131,3 +131,38 @@ func TestExpectLinkNoAmplifiers(t *testing.T) {
 		t.Errorf("GSNR without a symbol rate: %g", e.GSNRdB)
 	}
 }
+
+func TestExpectLinkOptimumLaunch(t *testing.T) {
+	// Three 90 km spans, amplifiers restoring the launch power (gain 0 in the plan), 80 channels
+	// at 50 GHz, 32 GBd. At the reported optimum the GSNR must be at its maximum, and there the
+	// NLI is half the ASE, so GSNR = ASE-only SNR − 10·log10(1.5) = −1.761 dB (GN model,
+	// Poggiolini 2012).
+	plan := func(launch float64) rules.Plan {
+		p := rules.Plan{FrequencyTHz: 193.1, TxPowerDBm: launch, Channels: 80, ChannelSpacingGHz: 50}
+		for i := 1; i <= 3; i++ {
+			p.Spans = append(p.Spans, rules.Span{LengthKm: 90, Fiber: "g652"})
+			p.Amplifiers = append(p.Amplifiers, rules.Amplifier{AfterSpan: i, NoiseFigureDB: 5})
+		}
+		return p
+	}
+	prof := rules.Profile{Polarizations: 2, BaudGBd: 32}
+	e0, err := ExpectLink(plan(0), prof)
+	if err != nil {
+		t.Fatal(err)
+	}
+	popt := e0.OptimumLaunchPowerDBm
+	if !(popt > -10 && popt < 10) {
+		t.Fatalf("optimum launch %g dBm", popt)
+	}
+	at, _ := ExpectLink(plan(popt), prof)
+	for _, d := range []float64{-1, -0.2, 0.2, 1} {
+		e, _ := ExpectLink(plan(popt+d), prof)
+		if !(e.GSNRdB < at.GSNRdB) {
+			t.Errorf("GSNR at optimum%+g dB = %g, not below %g", d, e.GSNRdB, at.GSNRdB)
+		}
+	}
+	aseSNR := SNRdBFromOSNRdB(at.ASEOSNRdB, 32, 2)
+	if !near(at.GSNRdB, aseSNR-10*math.Log10(1.5), 1e-6) {
+		t.Errorf("GSNR at optimum %g, ASE SNR %g: want a 1.761 dB gap", at.GSNRdB, aseSNR)
+	}
+}
