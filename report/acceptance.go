@@ -106,6 +106,8 @@ type Acceptance struct {
 	marks map[string]ChartMarks
 	// profile is the full profile, for chart limit lines.
 	profile *rules.Profile
+	// chartIndex numbers the charts of the document being drawn.
+	chartIndex int
 }
 
 // AcceptanceInput is everything an acceptance report is made from. Result is required; the
@@ -118,7 +120,8 @@ type AcceptanceInput struct {
 	Fields  SignOff
 	Time    time.Time // report time; the zero time is refused (determinism is the caller's choice)
 	Signing *Signing  // nil when the report is not signed
-	// Marks holds chart annotations per port (change points, bursts, trend, DGD fit).
+	// Marks holds chart annotations per port (change points, bursts, trend, DGD fit). Ports
+	// not listed take theirs from PortResult.Analysis when the engine filled it in.
 	Marks map[string]ChartMarks
 }
 
@@ -233,6 +236,15 @@ func NewAcceptance(in AcceptanceInput) (*Acceptance, error) {
 		for _, s := range in.Dataset.Series {
 			a.series[s.Port] = s
 		}
+	}
+	for _, pr := range in.Result.Ports {
+		if pr.Analysis == nil {
+			continue
+		}
+		if a.series[pr.Port] == nil && pr.Analysis.Series != nil {
+			a.series[pr.Port] = pr.Analysis.Series
+		}
+		a.marks[pr.Port] = MarksFromAnalysis(pr.Analysis)
 	}
 	for port, m := range in.Marks {
 		a.marks[port] = m

@@ -2,8 +2,10 @@ package report
 
 import (
 	"bytes"
+	"io"
 	"math"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -164,4 +166,158 @@ func TestPDFReadsBack(t *testing.T) {
 	if pages < 2 || pages > 12 {
 		t.Errorf("%d pages, want 2…12", pages)
 	}
+}
+
+func TestOutputIsByteIdentical(t *testing.T) {
+	render := func() (pdfOut, md, js []byte) {
+		a := fixtureAcceptance(t, SignOff{Technician: "Same Person", Notes: "same notes"}, nil)
+		var p, m, j bytes.Buffer
+		if err := a.WritePDF(&p, PDFOptions{Paper: PaperLetter}); err != nil {
+			t.Fatal(err)
+		}
+		if err := a.WriteMarkdown(&m); err != nil {
+			t.Fatal(err)
+		}
+		if err := a.WriteJSON(&j); err != nil {
+			t.Fatal(err)
+		}
+		return p.Bytes(), m.Bytes(), j.Bytes()
+	}
+	p1, m1, j1 := render()
+	p2, m2, j2 := render()
+	if !bytes.Equal(p1, p2) {
+		t.Error("PDF differs between two runs")
+	}
+	if !bytes.Equal(m1, m2) || !bytes.Equal(j1, j2) {
+		t.Error("Markdown or JSON differs between two runs")
+	}
+	// A different field must change the bytes and the report id.
+	a := fixtureAcceptance(t, SignOff{Technician: "Other Person", Notes: "same notes"}, nil)
+	b := fixtureAcceptance(t, SignOff{Technician: "Same Person", Notes: "same notes"}, nil)
+	if a.ReportID == b.ReportID {
+		t.Error("report id ignores the sign-off fields")
+	}
+}
+
+func TestPaperSizes(t *testing.T) {
+	for _, tc := range []struct {
+		paper  Paper
+		wantPt string // MediaBox width × height in points: ISO 216 A4 210×297 mm; US Letter 8.5×11 in
+	}{{PaperA4, "595.28 841.89"}, {PaperLetter, "612.00 792.00"}} {
+		var buf bytes.Buffer
+		if err := fixtureAcceptance(t, SignOff{}, nil).WritePDF(&buf, PDFOptions{Paper: tc.paper}); err != nil {
+			t.Fatal(err)
+		}
+		if !bytes.Contains(buf.Bytes(), []byte("/MediaBox [0 0 "+tc.wantPt+"]")) {
+			t.Errorf("%s: MediaBox %s not found", tc.paper, tc.wantPt)
+		}
+	}
+	if err := fixtureAcceptance(t, SignOff{}, nil).WritePDF(io.Discard, PDFOptions{Paper: "a3"}); err == nil {
+		t.Error("unknown paper accepted")
+	}
+}
+
+// TestOddTextLaysOut feeds very long names, Greek, Cyrillic, CJK and empty fields through the
+// PDF writer: no panic, every Latin/Greek/Cyrillic word present, CJK substituted and said so.
+func TestOddTextLaysOut(t *testing.T) {
+	long := strings.Repeat("Extremely-long-unbroken-site-identifier-", 12)
+	fields := SignOff{
+		Technician:     "Γιώργος Παπαδόπουλος",
+		Organisation:   "ООО «Связь-Монтаж» " + strings.Repeat("очень длинное название ", 15),
+		AcceptingParty: "東京光通信",
+		EndA:           long,
+		EndZ:           "",
+		Notes:          "line one\nline two\twith tab; " + strings.Repeat("wrap me ", 80),
+	}
+	res := fixtureResult()
+	res.Ports[0].Port = "port-" + strings.Repeat("x", 150)
+	res.Ports[0].Causes[0].Evidence = append(res.Ports[0].Causes[0].Evidence, strings.Repeat("evidence-without-spaces", 20))
+	ds := fixtureSeries()
+	ds.Series[0].Port = res.Ports[0].Port
+	a, err := NewAcceptance(AcceptanceInput{Result: res, Dataset: ds, Profile: fixtureProfile(), Fields: fields, Time: fixtureTime})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if err := a.WritePDF(&buf, PDFOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	keepPDF(t, "oddtext.pdf", buf.Bytes())
+	text, pages := pdfText(t, buf.Bytes())
+	squashed := strings.Join(strings.Fields(text), "")
+	for _, want := range []string{"U+6771", "(Liberation Sans) has no glyph", "wrapmewrapme", "linetwowithtab"} {
+		if !strings.Contains(squashed, strings.Join(strings.Fields(want), "")) {
+			t.Errorf("PDF text lacks %q", want)
+		}
+	}
+	// github.com/ledongthuc/pdf returns only the low byte of each two-byte (Identity-H) code,
+	// so non-Latin text is compared in that form here; pdftotext, when installed, reads the
+	// font's ToUnicode map and must give the letters themselves.
+	for _, want := range []string{"Παπαδόπουλος", "«Связь-Монтаж»"} {
+		if !strings.Contains(squashed, strings.Join(strings.Fields(lowBytes(want)), "")) {
+			t.Errorf("PDF text lacks %q", want)
+		}
+	}
+	if path, err := exec.LookPath("pdftotext"); err == nil {
+		f := filepath.Join(t.TempDir(), "odd.pdf")
+		os.WriteFile(f, buf.Bytes(), 0o644)
+		out, err := exec.Command(path, f, "-").Output()
+		if err != nil {
+			t.Fatalf("pdftotext: %v", err)
+		}
+		for _, want := range []string{"Γιώργος Παπαδόπουλος", "ООО «Связь-Монтаж»"} {
+			if !strings.Contains(string(out), want) {
+				t.Errorf("pdftotext finds no %q", want)
+			}
+		}
+	}
+	// The long identifier is wrapped, not cut: all its characters are there.
+	if strings.Count(squashed, "Extremely-long-unbroken-site-identifier-") < 12 {
+		t.Errorf("long site name lost characters")
+	}
+	if pages < 3 || pages > 15 {
+		t.Errorf("%d pages", pages)
+	}
+	// Markdown keeps the original letters.
+	var md bytes.Buffer
+	if err := a.WriteMarkdown(&md); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(md.String(), "東京光通信") {
+		t.Error("Markdown lost the CJK name")
+	}
+}
+
+func TestNewAcceptanceRefusesEmpty(t *testing.T) {
+	if _, err := NewAcceptance(AcceptanceInput{Result: &diagnose.Result{}, Time: fixtureTime}); err == nil {
+		t.Error("a result without ports gave a report")
+	}
+	if _, err := NewAcceptance(AcceptanceInput{Result: fixtureResult()}); err == nil {
+		t.Error("a report without a time was made")
+	}
+}
+
+func TestSafetyHazardLevelSource(t *testing.T) {
+	prof := fixtureProfile()
+	s := newSafetySection(&rules.Plan{HazardLevel: "3B"}, prof)
+	if s.HazardLevel != "3B" || s.HazardSource != "link plan" {
+		t.Errorf("plan level: %+v", s)
+	}
+	s = newSafetySection(nil, prof)
+	if s.HazardLevel != "1M" {
+		t.Errorf("profile level: %+v", s)
+	}
+	s = newSafetySection(nil, nil)
+	if s.HazardLevel != HazardNotStated || !strings.Contains(s.Cautions[0], "Treat every fibre end as live") {
+		t.Errorf("no level: %+v", s)
+	}
+}
+
+// lowBytes maps each rune to its low byte, as github.com/ledongthuc/pdf decodes Identity-H text.
+func lowBytes(s string) string {
+	var b strings.Builder
+	for _, r := range s {
+		b.WriteRune(r & 0xff)
+	}
+	return b.String()
 }

@@ -71,8 +71,9 @@ var (
 	colHistBar = color.RGBA{R: 0xb8, G: 0xcc, B: 0xe4, A: 0xff}
 )
 
-// portCharts renders the charts the port's data allows, in a fixed order.
-func (a *Acceptance) portCharts(port string) ([]Chart, error) {
+// portCharts renders the charts the port's data allows, in a fixed order. firstIndex numbers the
+// charts across the document (see renderChart).
+func (a *Acceptance) portCharts(port string, firstIndex int) ([]Chart, error) {
 	s := a.series[port]
 	if s == nil {
 		return nil, nil
@@ -88,6 +89,7 @@ func (a *Acceptance) portCharts(port string) ([]Chart, error) {
 		}
 		return nil
 	}
+	a.chartIndex = firstIndex
 	if err := add(a.chartQ(s, m)); err != nil {
 		return nil, err
 	}
@@ -183,6 +185,27 @@ func addHLine(p *plot.Plot, x0, x1, y float64, c color.Color, label string) erro
 	return addLine(p, plotter.XYs{{X: x0, Y: y}, {X: x1, Y: y}}, c, vg.Points(1.2), []vg.Length{vg.Points(5), vg.Points(3)}, label)
 }
 
+// addTopMarks puts a downward triangle at the top of the plot at each time.
+func addTopMarks(p *plot.Plot, timesMs []int64, y float64, label string) error {
+	if len(timesMs) == 0 {
+		return nil
+	}
+	xy := make(plotter.XYs, len(timesMs))
+	for i, t := range timesMs {
+		xy[i].X, xy[i].Y = float64(t)/1000, y
+	}
+	sc, err := plotter.NewScatter(xy)
+	if err != nil {
+		return err
+	}
+	sc.GlyphStyle.Shape = draw.PyramidGlyph{}
+	sc.GlyphStyle.Color = colMark
+	sc.GlyphStyle.Radius = vg.Points(3)
+	p.Add(sc)
+	p.Legend.Add(label, sc)
+	return nil
+}
+
 func addVMarks(p *plot.Plot, timesMs []int64, lo, hi float64, label string) error {
 	for i, t := range timesMs {
 		x := float64(t) / 1000
@@ -197,11 +220,13 @@ func addVMarks(p *plot.Plot, timesMs []int64, lo, hi float64, label string) erro
 	return nil
 }
 
-func addSpans(p *plot.Plot, spans []TimeSpan, lo, hi float64, label string) error {
+// addSpans shades time intervals; minWidthS keeps short ones visible on a long axis.
+func addSpans(p *plot.Plot, spans []TimeSpan, lo, hi, minWidthS float64, label string) error {
 	for i, sp := range spans {
 		x0, x1 := float64(sp.FromMs)/1000, float64(sp.ToMs)/1000
-		if x1 <= x0 {
-			x1 = x0 + 1
+		if x1-x0 < minWidthS {
+			mid := (x0 + x1) / 2
+			x0, x1 = mid-minWidthS/2, mid+minWidthS/2
 		}
 		poly, err := plotter.NewPolygon(plotter.XYs{{X: x0, Y: lo}, {X: x1, Y: lo}, {X: x1, Y: hi}, {X: x0, Y: hi}})
 		if err != nil {
@@ -217,8 +242,13 @@ func addSpans(p *plot.Plot, spans []TimeSpan, lo, hi float64, label string) erro
 	return nil
 }
 
-func renderChart(p *plot.Plot, title, caption string) (*Chart, error) {
-	c := vgimg.NewWith(vgimg.UseWH(chartWidthMM*vg.Millimeter, chartHeightMM*vg.Millimeter),
+// renderChart draws p to a PNG. Each chart of a document is made one pixel wider than the one
+// before: fpdf (v0.12) orders images of equal pixel width by map iteration, so equal widths
+// would make the PDF bytes differ between runs. One pixel in about a thousand does not show.
+func (a *Acceptance) renderChart(p *plot.Plot, title, caption string) (*Chart, error) {
+	extra := vg.Length(a.chartIndex) * vg.Inch / chartDPI
+	a.chartIndex++
+	c := vgimg.NewWith(vgimg.UseWH(chartWidthMM*vg.Millimeter+extra, chartHeightMM*vg.Millimeter),
 		vgimg.UseDPI(chartDPI), vgimg.UseBackgroundColor(color.White))
 	p.Draw(draw.New(c))
 	var buf bytes.Buffer
@@ -240,7 +270,7 @@ func (a *Acceptance) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 		}
 		lo, hi := rangeOf(vs, extra...)
 		hi = legendRoom(lo, hi)
-		if err := addSpans(p, m.BERBursts, lo, hi, "BER burst"); err != nil {
+		if err := addSpans(p, m.BERBursts, lo, hi, float64(span)/1000/250, "BER burst"); err != nil {
 			return nil, err
 		}
 		if err := addLine(p, timeXY(ts, vs), colData, vg.Points(1), nil, "Q"); err != nil {
@@ -254,7 +284,7 @@ func (a *Acceptance) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 			caption = fmt.Sprintf("Q-factor as reported; dashed line: the FEC limit expressed as Q (%.2f dB).", *m.QLimitDB)
 		}
 		p.Y.Min, p.Y.Max = lo, hi
-		return renderChart(p, "Q-factor over time", caption)
+		return a.renderChart(p, "Q-factor over time", caption)
 	}
 	ts, vs := s.Present(parse.PreFECBER)
 	var pts []int64
@@ -284,7 +314,7 @@ func (a *Acceptance) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 		lo, hi = math.Min(lo, limit), math.Max(hi, limit)
 	}
 	lo, hi = lo/2, hi*30
-	if err := addSpans(p, m.BERBursts, lo, hi, "BER burst"); err != nil {
+	if err := addSpans(p, m.BERBursts, lo, hi, float64(span)/1000/250, "BER burst"); err != nil {
 		return nil, err
 	}
 	if err := addLine(p, timeXY(pts, pvs), colData, vg.Points(1), nil, "pre-FEC BER"); err != nil {
@@ -301,7 +331,7 @@ func (a *Acceptance) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 		caption += fmt.Sprintf(" %d samples with BER 0 cannot be drawn on a log scale and are left out of the chart only.", zeros)
 	}
 	p.Y.Min, p.Y.Max = lo, hi
-	return renderChart(p, "Pre-FEC BER over time", caption)
+	return a.renderChart(p, "Pre-FEC BER over time", caption)
 }
 
 func (a *Acceptance) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error) {
@@ -336,7 +366,7 @@ func (a *Acceptance) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error)
 		caption += " The analysis found no change point."
 	}
 	p.Y.Min, p.Y.Max = lo, hi
-	return renderChart(p, "Received power over time", caption)
+	return a.renderChart(p, "Received power over time", caption)
 }
 
 func (a *Acceptance) chartDGD(s *parse.Series, m ChartMarks) (*Chart, error) {
@@ -389,7 +419,7 @@ func (a *Acceptance) chartDGD(s *parse.Series, m ChartMarks) (*Chart, error) {
 		}
 	}
 	p.X.Min, p.Y.Min, p.Y.Max = 0, 0, legendRoom(0, top*1.05)
-	return renderChart(p, "DGD distribution", caption)
+	return a.renderChart(p, "DGD distribution", caption)
 }
 
 func (a *Acceptance) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
@@ -397,7 +427,8 @@ func (a *Acceptance) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 	if len(ts) < 2 {
 		return nil, nil
 	}
-	p := newTimePlot("SOP rate of change over time", "SOP rate (krad/s)", ts[len(ts)-1]-ts[0])
+	span := ts[len(ts)-1] - ts[0]
+	p := newTimePlot("SOP rate of change over time", "SOP rate (krad/s)", span)
 	var extra []float64
 	if a.profile != nil && a.profile.SOPTrackingKradS > 0 {
 		extra = append(extra, a.profile.SOPTrackingKradS)
@@ -405,7 +436,7 @@ func (a *Acceptance) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 	lo, hi := rangeOf(vs, extra...)
 	hi = legendRoom(lo, hi)
 	lo = math.Min(lo, 0)
-	if err := addSpans(p, m.BERBursts, lo, hi, "BER burst"); err != nil {
+	if err := addSpans(p, m.BERBursts, lo, hi, float64(span)/1000/250, "BER burst"); err != nil {
 		return nil, err
 	}
 	if err := addLine(p, timeXY(ts, vs), colData, vg.Points(1), nil, "SOP rate"); err != nil {
@@ -418,7 +449,7 @@ func (a *Acceptance) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 		}
 		caption += fmt.Sprintf(" Dashed line: the module's SOP tracking limit %.0f krad/s.", extra[0])
 	}
-	if err := addVMarks(p, m.SOPSpikes, lo, hi, "SOP spike"); err != nil {
+	if err := addTopMarks(p, m.SOPSpikes, lo+(hi-lo)*0.8, "SOP spike start"); err != nil {
 		return nil, err
 	}
 	if n := len(m.BERBursts); n > 0 {
@@ -426,8 +457,11 @@ func (a *Acceptance) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 	} else {
 		caption += " The analysis found no BER burst."
 	}
+	if n := len(m.SOPSpikes); n > 0 {
+		caption += fmt.Sprintf(" Triangles: the start of %d SOP-rate spike(s).", n)
+	}
 	p.Y.Min, p.Y.Max = lo, hi
-	return renderChart(p, "SOP rate of change over time", caption)
+	return a.renderChart(p, "SOP rate of change over time", caption)
 }
 
 func (a *Acceptance) chartLO(s *parse.Series, m ChartMarks) (*Chart, error) {
@@ -460,5 +494,5 @@ func (a *Acceptance) chartLO(s *parse.Series, m ChartMarks) (*Chart, error) {
 		caption += fmt.Sprintf(" The receiver captures offsets within ±%.0f MHz.", a.profile.LOOffsetRangeMHz)
 	}
 	p.Y.Min, p.Y.Max = lo, hi
-	return renderChart(p, "Carrier (LO) frequency offset over time", caption)
+	return a.renderChart(p, "Carrier (LO) frequency offset over time", caption)
 }

@@ -75,6 +75,7 @@ type pdfWriter struct {
 	pdf      *fpdf.Fpdf
 	cover    *fontCoverage
 	missing  map[rune]bool // runes replaced because the font lacks them
+	charts   int           // charts drawn so far
 	pageW    float64
 	contentW float64
 }
@@ -562,7 +563,8 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 		}, rows, pdfBodySize-0.5)
 	}
 
-	charts, err := pw.a.portCharts(port.Port)
+	charts, err := pw.a.portCharts(port.Port, pw.charts)
+	pw.charts += len(charts)
 	if err != nil {
 		return err
 	}
