@@ -53,6 +53,18 @@ func TestQDomain(t *testing.T) {
 	if q := QFromBER(0.5); q != 0 {
 		t.Errorf("QFromBER(0.5) = %g, want 0", q)
 	}
+	// Round trip BER → Q → BER over 1e-300…0.49 (relative 1e-9; 1e-6 above 0.1, where the
+	// polishing step is not used and math.Erfcinv alone sets the accuracy).
+	for e := -300.0; e <= math.Log10(0.49); e += 0.25 {
+		ber := math.Pow(10, e)
+		tol := 1e-9
+		if ber >= 0.1 {
+			tol = 1e-6
+		}
+		if got := BERFromQ(QFromBER(ber)); !relNear(got, ber, tol) {
+			t.Errorf("BER %g → Q %g → %g", ber, QFromBER(ber), got)
+		}
+	}
 	if b := BERFromQ(-1); !math.IsNaN(b) {
 		t.Errorf("BERFromQ(-1) = %g, want NaN", b)
 	}
