@@ -6,11 +6,54 @@ import (
 	"sort"
 )
 
+// colBuf is a column of values growing in segments, so that appending never copies what is
+// already stored; flatten makes the one contiguous slice at the end. Segments start small (a
+// port with few rows costs little) and grow to maxSeg values.
+type colBuf struct {
+	segs [][]float64
+	n    int
+}
+
+const (
+	minSeg = 16
+	maxSeg = 8192
+)
+
+func (c *colBuf) push(v float64) {
+	k := len(c.segs)
+	if k == 0 || len(c.segs[k-1]) == cap(c.segs[k-1]) {
+		size := maxSeg
+		if k < 10 {
+			size = min(minSeg<<k, maxSeg)
+		}
+		c.segs = append(c.segs, make([]float64, 0, size))
+		k++
+	}
+	c.segs[k-1] = append(c.segs[k-1], v)
+	c.n++
+}
+
+// flatten returns the values as one slice and empties c.
+func (c *colBuf) flatten() []float64 {
+	if len(c.segs) == 1 {
+		out := c.segs[0]
+		c.segs, c.n = nil, 0
+		return out
+	}
+	out := make([]float64, 0, c.n)
+	for i, sg := range c.segs {
+		out = append(out, sg...)
+		c.segs[i] = nil // let the segment go as soon as it is copied
+	}
+	c.segs, c.n = nil, 0
+	return out
+}
+
 // portBuf collects one port's rows in arrival order before sorting.
 type portBuf struct {
 	name     string
 	times    []int64
-	vals     [NumQuantities][]float64 // nil until the port has a column for q
+	vals     [NumQuantities]*colBuf // nil until the port has a column for q
 	mask     uint32                   // bit q set when vals[q] != nil
 	last     int64
 	unsorted bool // some time is smaller than its predecessor
@@ -40,9 +83,10 @@ func (p *portBuf) ensure(q Quantity) {
 	if p.mask&(1<<q) != 0 {
 		return
 	}
-	col := make([]float64, len(p.times), cap(p.times))
-	for i := range col {
-		col[i] = math.NaN()
+	col := &colBuf{}
+	nan := math.NaN()
+	for range len(p.times) {
+		col.push(nan)
 	}
 	p.vals[q] = col
 	p.mask |= 1 << q
@@ -58,13 +102,13 @@ func (p *portBuf) addDense(t int64, qs []Quantity, vals []float64, qmask uint32)
 		}
 		for q := Quantity(0); q < NumQuantities; q++ {
 			if p.mask&(1<<q) != 0 && qmask&(1<<q) == 0 {
-				p.vals[q] = append(p.vals[q], math.NaN())
+				p.vals[q].push(math.NaN())
 			}
 		}
 	}
 	p.times = append(p.times, t)
 	for j, q := range qs {
-		p.vals[q] = append(p.vals[q], vals[j])
+		p.vals[q].push(vals[j])
 	}
 }
 
@@ -130,10 +174,15 @@ func (db *datasetBuilder) absorb(fb *fileBuilder, fileIdx int) {
 				continue
 			}
 			if p.mask&(1<<q) != 0 {
-				g.vals[q] = append(g.vals[q], p.vals[q]...)
+				for _, sg := range p.vals[q].segs {
+					for _, v := range sg {
+						g.vals[q].push(v)
+					}
+				}
+				p.vals[q] = nil
 			} else {
 				for range len(p.times) {
-					g.vals[q] = append(g.vals[q], math.NaN())
+					g.vals[q].push(math.NaN())
 				}
 			}
 		}
@@ -147,14 +196,15 @@ func (db *datasetBuilder) finish(inputs []InputStats) []*Series {
 	out := make([]*Series, 0, len(db.ports))
 	for _, p := range db.ports {
 		s := &Series{Port: p.name}
-		if p.unsorted || p.ties {
-			p.sortDedupe(inputs)
-		}
-		s.TimesMs = p.times
 		for q := Quantity(0); q < NumQuantities; q++ {
 			if p.mask&(1<<q) != 0 {
-				s.Values[q] = p.vals[q]
+				s.Values[q] = p.vals[q].flatten()
+				p.vals[q] = nil
 			}
+		}
+		s.TimesMs = p.times
+		if p.unsorted || p.ties {
+			sortDedupe(s, p.runs, p.unsorted, inputs)
 		}
 		out = append(out, s)
 	}
@@ -162,13 +212,19 @@ func (db *datasetBuilder) finish(inputs []InputStats) []*Series {
 	return out
 }
 
-func (p *portBuf) sortDedupe(inputs []InputStats) {
+// sortDedupe sorts s by time (stably) and keeps the last of each run of equal times; runs say
+// which input each arrival-order row came from, to charge it the replaced rows.
+func sortDedupe(s *Series, runs []fileRun, unsorted bool, inputs []InputStats) {
+	p := struct {
+		times []int64
+		runs  []fileRun
+	}{s.TimesMs, runs}
 	n := len(p.times)
 	perm := make([]int32, n)
 	for i := range perm {
 		perm[i] = int32(i)
 	}
-	if p.unsorted {
+	if unsorted {
 		slices.SortStableFunc(perm, func(a, b int32) int {
 			ta, tb := p.times[a], p.times[b]
 			switch {
@@ -202,15 +258,15 @@ func (p *portBuf) sortDedupe(inputs []InputStats) {
 	for i, r := range keep {
 		times[i] = p.times[r]
 	}
-	p.times = times
+	s.TimesMs = times
 	for q := Quantity(0); q < NumQuantities; q++ {
-		if p.mask&(1<<q) == 0 {
+		if s.Values[q] == nil {
 			continue
 		}
 		col := make([]float64, len(keep))
 		for i, r := range keep {
-			col[i] = p.vals[q][r]
+			col[i] = s.Values[q][r]
 		}
-		p.vals[q] = col
+		s.Values[q] = col
 	}
 }

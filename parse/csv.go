@@ -16,6 +16,17 @@ const chunkSize = 1 << 20
 
 var chunkPool = sync.Pool{New: func() any { b := make([]byte, chunkSize); return &b }}
 
+// jobPool recycles jobs with their row buffers, so a long input allocates them only once.
+var jobPool = sync.Pool{New: func() any { return new(csvJob) }}
+
+// newJob takes a recycled job and resets it.
+func newJob(bp *[]byte, firstLine int) *csvJob {
+	j := jobPool.Get().(*csvJob)
+	*j = csvJob{buf: bp, firstLine: firstLine, done: make(chan struct{}),
+		arena: j.arena[:0], portEnd: j.portEnd[:0], times: j.times[:0], vals: j.vals[:0]}
+	return j
+}
+
 // csvLayout is what the header row says about every following row.
 type csvLayout struct {
 	delim        byte
@@ -208,6 +219,9 @@ type csvParser struct {
 	fields  [][]byte
 	scratch []byte
 	num     []byte
+	// the last time field parsed and its value: rows of one sample time usually follow each other
+	lastTime   []byte
+	lastTimeMs int64
 }
 
 func (cp *csvParser) parse(job *csvJob) {
@@ -276,9 +290,16 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 	if isMissing(tf) {
 		return cp.fieldErr(lineNo, lay.timeCol, ErrMissingValue)
 	}
-	t, ok := parseTime(tf)
-	if !ok {
-		return cp.fieldErr(lineNo, lay.timeCol, fmt.Errorf("%w: %s", ErrBadTime, quoteShort(tf)))
+	var t int64
+	if len(cp.lastTime) > 0 && bytes.Equal(tf, cp.lastTime) {
+		t = cp.lastTimeMs
+	} else {
+		var ok bool
+		if t, ok = parseTime(tf); !ok {
+			return cp.fieldErr(lineNo, lay.timeCol, fmt.Errorf("%w: %s", ErrBadTime, quoteShort(tf)))
+		}
+		cp.lastTime = append(cp.lastTime[:0], tf...)
+		cp.lastTimeMs = t
 	}
 	pf := fields[lay.portCol]
 	if isMissing(pf) {
@@ -424,7 +445,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 					}
 				}
 			}
-			job := &csvJob{buf: bp, firstLine: line, done: make(chan struct{})}
+			job := newJob(bp, line)
 			if eof {
 				job.data = b
 				job.cutTail = readErr != nil && len(b) > 0 && b[len(b)-1] != '\n'
@@ -466,6 +487,8 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		if res.strictErr != nil {
 			stop.Store(true)
 		}
+		job.rejects = nil
+		jobPool.Put(job)
 	}
 	wg.Wait()
 	if readErr != nil {

@@ -1,0 +1,110 @@
+package parse
+
+import (
+	"bytes"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"strconv"
+	"sync"
+	"testing"
+	"time"
+)
+
+const benchRows = 200000
+
+var benchData = sync.OnceValue(func() []byte { return benchCSV(benchRows, 64) })
+
+// benchCSV makes a 16-column canonical CSV (RFC 3339 times, every quantity) of rows rows.
+func benchCSV(rows, ports int) []byte {
+	var b bytes.Buffer
+	b.WriteString("time,port,pre_fec_ber,post_fec_ber,uncorrected_blocks,q_db,esnr_db,osnr_db,cd_ps_nm,dgd_ps,pdl_db,sop_rate_krad_s,lo_offset_mhz,rx_power_dbm,tx_power_dbm,frequency_thz\n")
+	t0 := time.Date(2026, 3, 14, 0, 0, 0, 0, time.UTC)
+	for i := 0; i < rows; i++ {
+		ts := t0.Add(time.Duration(i/ports) * 10 * time.Second).Format(time.RFC3339)
+		fmt.Fprintf(&b, "%s,1/%d/C%d,%.3e,0,%d,%.2f,%.2f,%.2f,%.1f,%.2f,%.2f,%.1f,%.1f,%.2f,%.2f,193.1\n",
+			ts, i%ports/8, i%8, 1e-3+float64(i%97)*1e-5, i%3, 9+float64(i%13)/10, 16+float64(i%7)/10,
+			20+float64(i%11)/4, 1700+float64(i%5), 3+float64(i%9)/10, 0.4+float64(i%4)/10, 10+float64(i%17),
+			-120+float64(i%21), -9.5+float64(i%6)/10, -1.5)
+	}
+	return b.Bytes()
+}
+
+// BenchmarkReadCSV reads the generated canonical CSV through the full path (hashing, parsing,
+// unit checks, per-port series, sorting check). Reported per row.
+func BenchmarkReadCSV(b *testing.B) {
+	data := benchData()
+	b.SetBytes(int64(len(data)))
+	b.ReportAllocs()
+	b.ResetTimer()
+	for b.Loop() {
+		ds, err := ReadFile("bench.csv", bytes.NewReader(data), Options{})
+		if err != nil || ds.Inputs[0].RowsUsed != benchRows {
+			b.Fatalf("%v %+v", err, ds.Inputs)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/benchRows, "ns/row")
+}
+
+// BenchmarkReadCSVOneWorker is the same on one parsing goroutine.
+func BenchmarkReadCSVOneWorker(b *testing.B) {
+	data := benchData()
+	b.SetBytes(int64(len(data)))
+	b.ReportAllocs()
+	for b.Loop() {
+		if _, err := ReadFile("bench.csv", bytes.NewReader(data), Options{Workers: 1}); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/benchRows, "ns/row")
+}
+
+// BenchmarkBaselineEncodingCSV is the yardstick: encoding/csv with ReuseRecord and
+// strconv.ParseFloat on the 14 numeric fields — no time parsing, no checks, nothing stored.
+func BenchmarkBaselineEncodingCSV(b *testing.B) {
+	data := benchData()
+	b.SetBytes(int64(len(data)))
+	b.ReportAllocs()
+	for b.Loop() {
+		r := csv.NewReader(bytes.NewReader(data))
+		r.ReuseRecord = true
+		if _, err := r.Read(); err != nil {
+			b.Fatal(err)
+		}
+		var sum float64
+		for {
+			rec, err := r.Read()
+			if err == io.EOF {
+				break
+			}
+			if err != nil {
+				b.Fatal(err)
+			}
+			for _, f := range rec[2:] {
+				v, err := strconv.ParseFloat(f, 64)
+				if err != nil {
+					b.Fatal(err)
+				}
+				sum += v
+			}
+		}
+		_ = sum
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/benchRows, "ns/row")
+}
+
+func BenchmarkParseFloat(b *testing.B) {
+	in := [][]byte{[]byte("1.234e-03"), []byte("-9.75"), []byte("1702.5"), []byte("193.1")}
+	b.ReportAllocs()
+	for i := 0; b.Loop(); i++ {
+		parseFloat(in[i&3])
+	}
+}
+
+func BenchmarkParseTime(b *testing.B) {
+	in := []byte("2026-03-14T08:30:00Z")
+	b.ReportAllocs()
+	for b.Loop() {
+		parseTime(in)
+	}
+}
