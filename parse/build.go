@@ -54,7 +54,7 @@ type portBuf struct {
 	name     string
 	times    []int64
 	vals     [NumQuantities]*colBuf // nil until the port has a column for q
-	mask     uint32                   // bit q set when vals[q] != nil
+	mask     uint32                 // bit q set when vals[q] != nil
 	last     int64
 	unsorted bool // some time is smaller than its predecessor
 	ties     bool // some time equals its predecessor
