@@ -1,6 +1,7 @@
 package optics
 
 import (
+	"encoding/json"
 	"errors"
 	"math"
 	"strings"
@@ -164,5 +165,36 @@ func TestExpectLinkOptimumLaunch(t *testing.T) {
 	aseSNR := SNRdBFromOSNRdB(at.ASEOSNRdB, 32, 2)
 	if !near(at.GSNRdB, aseSNR-10*math.Log10(1.5), 1e-6) {
 		t.Errorf("GSNR at optimum %g, ASE SNR %g: want a 1.761 dB gap", at.GSNRdB, aseSNR)
+	}
+}
+
+func TestLinkExpectationJSON(t *testing.T) {
+	// An unamplified link has an infinite ASE OSNR and, without a symbol rate, no GSNR: JSON
+	// has no numbers for those, so they must come out as null rather than fail the encoder.
+	p := rules.Plan{TxPowerDBm: -2, Spans: []rules.Span{{Name: "only", LengthKm: 40, Fiber: "g652"}}}
+	e, err := ExpectLink(p, rules.Profile{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := json.Marshal(e)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var back map[string]any
+	if err := json.Unmarshal(b, &back); err != nil {
+		t.Fatalf("%v in %s", err, b)
+	}
+	if back["ase_osnr_db"] != nil || back["gsnr_db"] != nil {
+		t.Errorf("non-finite figures not null: %s", b)
+	}
+	if got, _ := back["rx_power_dbm"].(float64); !near(got, -10, 1e-9) {
+		t.Errorf("rx_power_dbm = %v", back["rx_power_dbm"])
+	}
+	spans, _ := back["spans"].([]any)
+	if len(spans) != 1 || spans[0].(map[string]any)["nli_snr_db"] != nil {
+		t.Errorf("spans: %v", back["spans"])
+	}
+	if !strings.HasPrefix(string(b), `{"frequency_thz":193.1,`) {
+		t.Errorf("field order not kept: %.60s", b)
 	}
 }
