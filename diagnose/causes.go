@@ -278,6 +278,9 @@ func (pc *portCtx) rxPowerLow() *score {
 			s.add(3.0, "Median received power %.1f dBm is %.1f dB below the %.1f dBm the link plan predicts: more loss than designed.", lp.P50, gap, pc.exp.RxPowerDBm)
 		}
 	}
+	if rr := pc.routeRatio(); s.supported() && finite(rr) && rr > 1 {
+		s.add(-2, "The measured CD says the route is about %.0f %% longer than planned, which by itself adds loss.", 100*(rr-1))
+	}
 	if s.supported() {
 		if c := pc.correlation(parse.RxPowerDBm); c != nil && c.Rho <= -r.CorrelationMinSpearman && c.P < 0.01 {
 			s.add(llrWeak, "Pre-FEC BER rises as power falls (Spearman ρ = %.2f over %d samples).", c.Rho, c.N)
@@ -323,6 +326,9 @@ func (pc *portCtx) rxOverload() *score {
 		if gap := lp.P50 - pc.exp.RxPowerDBm; gap > r.RxPowerMarginalBandDB+1 {
 			s.add(llrModerate, "Median received power %+.1f dBm is %.1f dB above the %+.1f dBm the link plan predicts: an attenuator missing or a shorter path.", lp.P50, gap, pc.exp.RxPowerDBm)
 		}
+	}
+	if rr := pc.routeRatio(); s.supported() && finite(rr) && rr < 1 {
+		s.add(-2, "The measured CD says the route is about %.0f %% shorter than planned, which by itself leaves less loss.", 100*(1-rr))
 	}
 	if s.supported() {
 		if c := pc.correlation(parse.RxPowerDBm); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < 0.01 {
@@ -631,10 +637,31 @@ func (pc *portCtx) osnrLow(im impairments) *score {
 	if len(im.names) > 0 {
 		s.add(-math.Min(3, 1.5*float64(len(im.names))), "Other measured impairments can explain the low Q: %s.", strings.Join(im.names, ", "))
 	}
+	if rr := pc.routeRatio(); finite(rr) && rr > 1 {
+		s.add(-3, "The measured CD says the light takes a route about %.0f %% longer than planned, which by itself costs OSNR: the patching is the first suspect.", 100*(rr-1))
+	}
 	if pc.plan != nil && pc.launchDBm() > r.NonlinearLaunchPowerDBm {
 		s.add(-1.5, "The plan launches %+.1f dBm per channel, high enough for fibre nonlinearity to be the noise source.", pc.launchDBm())
 	}
 	return s
+}
+
+// routeRatio is the route length the measured CD implies over the planned length (CD scales
+// with length for a given fibre); NaN without a plan or CD, or when the signs disagree. Only a
+// ratio outside the cd-mismatch tolerance is returned; 1 otherwise.
+func (pc *portCtx) routeRatio() float64 {
+	if pc.exp == nil || !pc.has(parse.CDpsPerNm) || pc.exp.CDPsNm == 0 {
+		return math.NaN()
+	}
+	meas, exp := pc.sum[parse.CDpsPerNm].P50, pc.exp.CDPsNm
+	tol := math.Max(pc.r.CDMismatchRelativeTolerance*math.Abs(exp), pc.r.CDMismatchFloorPsNm)
+	if math.Abs(meas-exp) <= tol {
+		return 1
+	}
+	if meas*exp <= 0 {
+		return math.NaN()
+	}
+	return meas / exp
 }
 
 func (pc *portCtx) launchDBm() float64 {
@@ -710,6 +737,11 @@ func (pc *portCtx) nonlinear(im impairments) *score {
 			}
 		}
 	}
+	if qm := pc.qMarginP50(); !gapOK && finite(qm) && qm < r.QMarginalMarginDB && pc.has(parse.OSNRdB) &&
+		pc.sum[parse.OSNRdB].P50 >= pc.reqOSNRdB+r.OSNRMarginalMarginDB && len(im.names) == 0 && pc.has(parse.RxPowerDBm) {
+		s.add(llrModerate, "The Q margin is %.1f dB although the reported OSNR (%.1f dB) is well above the %.1f dB required and no measured impairment is out of line: the noise is not amplifier noise.",
+			qm, pc.sum[parse.OSNRdB].P50, pc.reqOSNRdB)
+	}
 	if pc.plan != nil {
 		l := pc.launchDBm()
 		opt := math.NaN()
@@ -733,6 +765,9 @@ func (pc *portCtx) nonlinear(im impairments) *score {
 	}
 	if s.supported() && len(im.names) > 0 {
 		s.add(-math.Min(3, 2*float64(len(im.names))), "Other measured impairments can explain the eSNR shortfall: %s.", strings.Join(im.names, ", "))
+	}
+	if rr := pc.routeRatio(); s.supported() && finite(rr) && rr < 1 {
+		s.add(-3, "The measured CD says the route is about %.0f %% shorter than planned, which by itself raises the OSNR above the plan's.", 100*(1-rr))
 	}
 	return s
 }

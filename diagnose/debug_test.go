@@ -18,7 +18,7 @@ func TestDebugOne(t *testing.T) {
 	}
 	seed, _ := strconv.Atoi(os.Getenv("DBG_SEED"))
 	sev, _ := strconv.ParseFloat(os.Getenv("DBG_SEV"), 64)
-	spec := synth.Spec{Seed: int64(seed), Severity: sev}
+	spec := synth.Spec{Seed: int64(seed), Severity: sev, ProfileID: os.Getenv("DBG_PROFILE")}
 	if cause != "" {
 		spec.Causes = []string{cause}
 	}
