@@ -171,6 +171,14 @@ func WriteCSV(w io.Writer, series []*parse.Series, st CSVStyle) error {
 
 // forEachRow visits every (series, index) in time order, series order at equal times.
 func forEachRow(series []*parse.Series, fn func(*parse.Series, int)) {
+	if aligned(series) {
+		for i := range series[0].Len() {
+			for _, s := range series {
+				fn(s, i)
+			}
+		}
+		return
+	}
 	next := make([]int, len(series))
 	for {
 		best := -1
@@ -327,4 +335,17 @@ func WriteOpenConfig(w io.Writer, ports []OpenConfigPort) error {
 		bw.Write(buf.Bytes())
 	}
 	return bw.Flush()
+}
+
+// aligned reports whether every series has the same sample times (the fleet's common case).
+func aligned(series []*parse.Series) bool {
+	if len(series) == 0 {
+		return false
+	}
+	for _, s := range series[1:] {
+		if !slices.Equal(s.TimesMs, series[0].TimesMs) {
+			return false
+		}
+	}
+	return true
 }
