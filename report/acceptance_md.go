@@ -52,6 +52,8 @@ func formatValue(v float64, unit string) string {
 		return fmt.Sprintf("%.3g", v)
 	case unit == "blocks":
 		return fmt.Sprintf("%.0f", v)
+	case unit == "THz": // the DWDM grid is 6.25 GHz fine (ITU-T G.694.1): five decimals
+		return fmt.Sprintf("%.5f", v)
 	case math.Abs(v) >= 1000:
 		return fmt.Sprintf("%.0f", v)
 	}
@@ -128,7 +130,7 @@ func (a *Acceptance) WriteMarkdown(w io.Writer) error {
 	if a.Plan != nil {
 		p("## Link plan\n\n%s: %d span(s), %.1f km, %d amplifier(s)", mdText(a.Plan.Circuit), a.Plan.Spans, a.Plan.LengthKm, a.Plan.Amplifiers)
 		if a.Plan.FrequencyTHz > 0 {
-			p(", channel %.5g THz", a.Plan.FrequencyTHz)
+			p(", channel %.5f THz", a.Plan.FrequencyTHz)
 		}
 		p(".")
 		if a.Plan.Description != "" {

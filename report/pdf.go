@@ -445,7 +445,7 @@ func (pw *pdfWriter) body() error {
 		pw.heading("Link plan", 12)
 		s := fmt.Sprintf("%s: %d span(s), %.1f km of fibre, %d amplifier(s)", a.Plan.Circuit, a.Plan.Spans, a.Plan.LengthKm, a.Plan.Amplifiers)
 		if a.Plan.FrequencyTHz > 0 {
-			s += fmt.Sprintf(", channel at %.5g THz", a.Plan.FrequencyTHz)
+			s += fmt.Sprintf(", channel at %.5f THz", a.Plan.FrequencyTHz)
 		}
 		s += "."
 		if a.Plan.Description != "" {
