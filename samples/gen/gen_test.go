@@ -3,11 +3,15 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"testing"
 
+	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/rules"
+	"github.com/beatnote/beatnote/samples/synth"
 )
 
 // TestReproducesCommittedFiles runs the generator into a temporary folder and compares every file
@@ -74,5 +78,58 @@ func TestPlansLoad(t *testing.T) {
 	}
 	if total >= 2<<20 {
 		t.Errorf("logs total %d bytes, over 2 MB", total)
+	}
+}
+
+// TestLogsReadBack reads every committed log with the parse package and compares the series with
+// the one synth makes for it: every row used, none rejected, every value equal within the
+// rounding its format's units impose (mW printed to 5 significant digits, a wavelength to 8,
+// linear Q to 5). This checks the writers against the reader of docs/formats.md.
+func TestLogsReadBack(t *testing.T) {
+	for _, ct := range circuits {
+		t.Run(ct.file, func(t *testing.T) {
+			ds, err := parse.ReadPaths([]string{filepath.Join("..", "logs", ct.file)}, parse.Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			in := ds.Inputs[0]
+			if in.RowsRejected != 0 || in.RowsRead != in.RowsUsed || len(ds.Rejected) != 0 {
+				t.Fatalf("accounting %+v, rejected %v", in, ds.Rejected)
+			}
+			if len(ds.Series) != 1 || ds.Series[0].Port != ct.port {
+				t.Fatalf("ports %v", ds.Series)
+			}
+			n := samples
+			if ct.format == openConfigOTN || ct.format == openConfigBare {
+				n = openConfigSamples
+			}
+			c, err := synth.Make(synth.Spec{Causes: ct.causes, Severity: severity, Seed: ct.seed, ProfileID: ct.profile,
+				Samples: n, Port: ct.port, Circuit: ct.id, EndA: ct.endA, EndZ: ct.endZ, SignalLossAsGap: ct.gap})
+			if err != nil {
+				t.Fatal(err)
+			}
+			got, want := ds.Series[0], c.Series
+			if !slices.Equal(got.TimesMs, want.TimesMs) {
+				t.Fatalf("times differ: %d vs %d samples", got.Len(), want.Len())
+			}
+			for q := range parse.NumQuantities {
+				for i := range want.Len() {
+					w := want.Values[q][i]
+					var g float64
+					if got.Values[q] == nil {
+						g = math.NaN()
+					} else {
+						g = got.Values[q][i]
+					}
+					tol := 1e-3 // dB, ps, MHz…: converted units lose less than this
+					if q == parse.PreFECBER || q == parse.PostFECBER {
+						tol = 1e-9 * math.Abs(w) // ratios are written exactly
+					}
+					if math.IsNaN(w) != math.IsNaN(g) || math.Abs(g-w) > tol {
+						t.Fatalf("%s sample %d: read %v, made %v", q, i, g, w)
+					}
+				}
+			}
+		})
 	}
 }
