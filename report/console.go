@@ -1,0 +1,407 @@
+package report
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/beatnote/beatnote/diagnose"
+	"github.com/beatnote/beatnote/parse"
+)
+
+// This file holds the console writers of the check and triage commands: text for a terminal,
+// the JSON of the design contract, CSV and Markdown. Every number printed carries its unit.
+
+// FormatValue prints a value in its unit with a precision that suits the unit, e.g.
+// "−8.42 dBm", "2400 ps/nm", "3.10e-03" (a ratio has no unit).
+func FormatValue(v float64, unit string) string {
+	if math.IsNaN(v) {
+		return "n/a"
+	}
+	if math.IsInf(v, 0) {
+		if v > 0 {
+			return "∞"
+		}
+		return "−∞"
+	}
+	var s string
+	switch unit {
+	case "":
+		s = strconv.FormatFloat(v, 'e', 2, 64)
+		return s
+	case "dB", "dBm":
+		s = strconv.FormatFloat(v, 'f', 2, 64)
+	case "ps/nm", "MHz", "blocks", "samples", "km":
+		s = strconv.FormatFloat(v, 'f', 0, 64)
+	case "ps", "krad/s", "h":
+		s = strconv.FormatFloat(v, 'f', 1, 64)
+	case "THz":
+		s = strconv.FormatFloat(v, 'f', 4, 64)
+	default:
+		s = strconv.FormatFloat(v, 'g', 4, 64)
+	}
+	return s + " " + unit
+}
+
+// FormatMargin prints a margin with its sign and unit.
+func FormatMargin(v float64, unit string) string {
+	s := FormatValue(v, unit)
+	if v >= 0 && !strings.HasPrefix(s, "n/a") && unit != "" {
+		s = "+" + s
+	}
+	return s
+}
+
+func verdictWord(v diagnose.Verdict) string { return strings.ToUpper(string(v)) }
+
+// WriteResultJSON writes the Result as the JSON object of the design contract (check and triage).
+func WriteResultJSON(w io.Writer, res *diagnose.Result) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(res)
+}
+
+// WriteCheckJSON writes the check result as the JSON of the design contract.
+func WriteCheckJSON(w io.Writer, res *diagnose.Result) error { return WriteResultJSON(w, res) }
+
+// WriteTriageJSON writes the triage result as the JSON of the design contract.
+func WriteTriageJSON(w io.Writer, res *diagnose.Result) error { return WriteResultJSON(w, res) }
+
+// wrap breaks text into lines of at most width runes, on spaces.
+func wrap(text string, width int) []string {
+	var lines []string
+	var cur strings.Builder
+	n := 0
+	for _, word := range strings.Fields(text) {
+		wl := len([]rune(word))
+		if n > 0 && n+1+wl > width {
+			lines = append(lines, cur.String())
+			cur.Reset()
+			n = 0
+		}
+		if n > 0 {
+			cur.WriteByte(' ')
+			n++
+		}
+		cur.WriteString(word)
+		n += wl
+	}
+	if n > 0 {
+		lines = append(lines, cur.String())
+	}
+	return lines
+}
+
+func writeWrapped(w io.Writer, first, rest string, text string, width int) {
+	for i, l := range wrap(text, width) {
+		if i == 0 {
+			fmt.Fprintf(w, "%s%s\n", first, l)
+		} else {
+			fmt.Fprintf(w, "%s%s\n", rest, l)
+		}
+	}
+}
+
+// WriteCheckText writes the turn-up view of every port in res: verdict, criteria table, plan vs
+// measured, likely causes with evidence and actions, and what could not be judged; then the
+// inputs and the first rejected rows.
+func WriteCheckText(w io.Writer, res *diagnose.Result) error {
+	for i, p := range res.Ports {
+		if i > 0 {
+			fmt.Fprintln(w)
+			fmt.Fprintln(w, strings.Repeat("─", 100))
+			fmt.Fprintln(w)
+		}
+		writeCheckPort(w, &p)
+	}
+	fmt.Fprintln(w)
+	writeInputsText(w, res)
+	return nil
+}
+
+func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
+	title := "Port " + p.Port
+	if p.Circuit != "" {
+		title = "Circuit " + p.Circuit + ", port " + p.Port
+	}
+	fmt.Fprintf(w, "%s\n", title)
+	fmt.Fprintf(w, "Profile %s · %d samples · %s to %s\n", p.Profile, p.Samples, p.From, p.To)
+	fmt.Fprintf(w, "VERDICT: %s\n", verdictWord(p.Verdict))
+
+	if len(p.Criteria) > 0 {
+		fmt.Fprintln(w, "\nCriteria")
+		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+		fmt.Fprintln(tw, "  criterion\tstatistic\tmeasured\tlimit\tmargin\tverdict\t")
+		for _, c := range p.Criteria {
+			fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t\n", c.Name, c.Statistic, FormatValue(c.Measured, c.Unit),
+				FormatValue(c.Limit, c.Unit), FormatMargin(c.Margin, c.Unit), verdictWord(c.Verdict))
+		}
+		tw.Flush()
+	}
+	if len(p.PlanVsMeasured) > 0 {
+		fmt.Fprintln(w, "\nPlan vs measured")
+		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+		fmt.Fprintln(tw, "  quantity\texpected\tmeasured\tdifference\tnote\t")
+		for _, c := range p.PlanVsMeasured {
+			diff := c.Measured - c.Expected
+			fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t\n", c.Quantity, FormatValue(c.Expected, c.Unit), FormatValue(c.Measured, c.Unit),
+				FormatMargin(diff, c.Unit), c.Note)
+		}
+		tw.Flush()
+	}
+	fmt.Fprintln(w, "\nLikely causes")
+	if len(p.Causes) == 0 {
+		fmt.Fprintln(w, "  none found: no evidence test reached the confidence floor.")
+	}
+	for i, c := range p.Causes {
+		fmt.Fprintf(w, "  %d. %s  (confidence %.2f)\n", i+1, c.ID, c.Confidence)
+		for _, e := range c.Evidence {
+			writeWrapped(w, "     - ", "       ", e, 92)
+		}
+		if len(c.Actions) > 0 {
+			fmt.Fprintln(w, "     What to do on site:")
+			for _, a := range c.Actions {
+				writeWrapped(w, "     * ", "       ", a, 92)
+			}
+		}
+	}
+	if len(p.NotJudged) > 0 {
+		fmt.Fprintln(w, "\nNot judged")
+		for _, n := range p.NotJudged {
+			writeWrapped(w, "  - ", "    ", n, 96)
+		}
+	}
+}
+
+func writeInputsText(w io.Writer, res *diagnose.Result) {
+	fmt.Fprintln(w, "Inputs")
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "  file\trows read\tused\trejected\tsha256\t")
+	for _, in := range res.Inputs {
+		sum := in.SHA256
+		if len(sum) > 16 {
+			sum = sum[:16] + "…"
+		}
+		fmt.Fprintf(tw, "  %s\t%d\t%d\t%d\t%s\t\n", in.File, in.RowsRead, in.RowsUsed, in.RowsRejected, sum)
+	}
+	tw.Flush()
+	if len(res.Rejected) > 0 {
+		const show = 20
+		total := 0
+		for _, in := range res.Inputs {
+			total += in.RowsRejected
+		}
+		fmt.Fprintf(w, "\nRejected rows (%d in all; the first %d):\n", total, min(show, len(res.Rejected)))
+		for i, r := range res.Rejected {
+			if i == show {
+				break
+			}
+			fmt.Fprintf(w, "  %s\n", consoleRejection(r))
+		}
+	}
+}
+
+func consoleRejection(r parse.Rejection) string {
+	loc := fmt.Sprintf("%s:%d", r.File, r.Line)
+	if r.Field != "" {
+		loc += " " + r.Field
+	}
+	return loc + ": " + r.Reason
+}
+
+// TriageRow is one line of the triage table.
+type TriageRow struct {
+	Rank       int
+	Port       string
+	Circuit    string
+	Profile    string
+	Verdict    diagnose.Verdict
+	Cause      string // top cause id, "" when none
+	Confidence float64
+	Others     []string // further cause ids
+	QMarginDB  *float64
+	RxPowerDBm *float64
+	Samples    int
+	Summary    string // first evidence sentence of the top cause
+}
+
+// TriageRows turns ranked ports into table rows.
+func TriageRows(ports []diagnose.PortResult) []TriageRow {
+	rows := make([]TriageRow, len(ports))
+	for i, p := range ports {
+		r := TriageRow{Rank: i + 1, Port: p.Port, Circuit: p.Circuit, Profile: p.Profile, Verdict: p.Verdict, Samples: p.Samples}
+		if len(p.Causes) > 0 {
+			r.Cause, r.Confidence = p.Causes[0].ID, p.Causes[0].Confidence
+			if len(p.Causes[0].Evidence) > 0 {
+				r.Summary = p.Causes[0].Evidence[0]
+			}
+			for _, c := range p.Causes[1:] {
+				r.Others = append(r.Others, c.ID)
+			}
+		}
+		if m, ok := p.Metrics["q_db"]; ok {
+			r.QMarginDB = m.Margin
+		}
+		if m, ok := p.Metrics["rx_power_dbm"]; ok {
+			v := m.P50
+			r.RxPowerDBm = &v
+		}
+		rows[i] = r
+	}
+	return rows
+}
+
+// CauseCount is how many ports list a cause (anywhere) and how many have it on top.
+type CauseCount struct {
+	ID    string `json:"id"`
+	Top   int    `json:"top"`
+	Ports int    `json:"ports"`
+}
+
+// CountCauses counts each cause over ports, most frequent on top first.
+func CountCauses(ports []diagnose.PortResult) []CauseCount {
+	m := map[string]*CauseCount{}
+	for _, p := range ports {
+		for i, c := range p.Causes {
+			cc := m[c.ID]
+			if cc == nil {
+				cc = &CauseCount{ID: c.ID}
+				m[c.ID] = cc
+			}
+			cc.Ports++
+			if i == 0 {
+				cc.Top++
+			}
+		}
+	}
+	out := make([]CauseCount, 0, len(m))
+	for _, c := range m {
+		out = append(out, *c)
+	}
+	sort.Slice(out, func(i, j int) bool {
+		if out[i].Top != out[j].Top {
+			return out[i].Top > out[j].Top
+		}
+		if out[i].Ports != out[j].Ports {
+			return out[i].Ports > out[j].Ports
+		}
+		return out[i].ID < out[j].ID
+	})
+	return out
+}
+
+func optValue(v *float64, unit string, signed bool) string {
+	if v == nil {
+		return "n/a"
+	}
+	if signed {
+		return FormatMargin(*v, unit)
+	}
+	return FormatValue(*v, unit)
+}
+
+// TriageSummary counts ports per verdict.
+func TriageSummary(ports []diagnose.PortResult) map[diagnose.Verdict]int {
+	m := map[diagnose.Verdict]int{}
+	for _, p := range ports {
+		m[p.Verdict]++
+	}
+	return m
+}
+
+// WriteTriageText writes the ranked worst-first table of shown (already filtered and cut to
+// the top N), the count per cause over all (the filtered set before the cut), and the inputs.
+func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.PortResult) error {
+	v := TriageSummary(all)
+	fmt.Fprintf(w, "%d ports: %d fail, %d marginal, %d pass, %d no data", len(all), v[diagnose.Fail], v[diagnose.Marginal], v[diagnose.Pass], v[diagnose.NoData])
+	if len(shown) < len(all) {
+		fmt.Fprintf(w, " (showing the worst %d)", len(shown))
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintln(w)
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "  #\tport\tverdict\ttop cause\tconfidence\talso\tQ margin\trx power\tsamples\t")
+	for _, r := range TriageRows(shown) {
+		cause, conf := "—", ""
+		if r.Cause != "" {
+			cause, conf = r.Cause, fmt.Sprintf("%.2f", r.Confidence)
+		}
+		also := strings.Join(r.Others, ", ")
+		fmt.Fprintf(tw, "  %d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%d\t\n", r.Rank, r.Port, verdictWord(r.Verdict), cause, conf, also,
+			optValue(r.QMarginDB, "dB", true), optValue(r.RxPowerDBm, "dBm", false), r.Samples)
+	}
+	tw.Flush()
+	counts := CountCauses(all)
+	fmt.Fprintln(w, "\nPorts per cause")
+	if len(counts) == 0 {
+		fmt.Fprintln(w, "  none: no port shows a likely cause.")
+	} else {
+		tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+		fmt.Fprintln(tw, "  cause\ttop cause of\tlisted on\t")
+		for _, c := range counts {
+			fmt.Fprintf(tw, "  %s\t%d ports\t%d ports\t\n", c.ID, c.Top, c.Ports)
+		}
+		tw.Flush()
+	}
+	fmt.Fprintln(w)
+	writeInputsText(w, res)
+	return nil
+}
+
+// WriteTriageCSV writes one row per shown port: rank, port, circuit, profile, verdict, top
+// cause, confidence, other causes (separated by "|"), Q margin (dB), median rx power (dBm),
+// samples, and the top cause's first evidence sentence.
+func WriteTriageCSV(w io.Writer, shown []diagnose.PortResult) error {
+	cw := csv.NewWriter(w)
+	_ = cw.Write([]string{"rank", "port", "circuit", "profile", "verdict", "top_cause", "confidence", "other_causes", "q_margin_db", "rx_power_p50_dbm", "samples", "evidence"})
+	f := func(v *float64) string {
+		if v == nil {
+			return ""
+		}
+		return strconv.FormatFloat(*v, 'f', 2, 64)
+	}
+	for _, r := range TriageRows(shown) {
+		conf := ""
+		if r.Cause != "" {
+			conf = strconv.FormatFloat(r.Confidence, 'f', 3, 64)
+		}
+		if err := cw.Write([]string{strconv.Itoa(r.Rank), r.Port, r.Circuit, r.Profile, string(r.Verdict), r.Cause, conf,
+			strings.Join(r.Others, "|"), f(r.QMarginDB), f(r.RxPowerDBm), strconv.Itoa(r.Samples), r.Summary}); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+func mdEscape(s string) string { return strings.NewReplacer("|", `\|`, "\n", " ").Replace(s) }
+
+// WriteTriageMarkdown writes the ranked table and the count per cause as Markdown, for tickets.
+func WriteTriageMarkdown(w io.Writer, shown, all []diagnose.PortResult) error {
+	v := TriageSummary(all)
+	fmt.Fprintf(w, "## Triage: %d ports — %d fail, %d marginal, %d pass, %d no data\n\n", len(all), v[diagnose.Fail], v[diagnose.Marginal], v[diagnose.Pass], v[diagnose.NoData])
+	fmt.Fprintln(w, "| # | port | verdict | top cause | confidence | also | Q margin | rx power (p50) | evidence |")
+	fmt.Fprintln(w, "|---:|---|---|---|---:|---|---:|---:|---|")
+	for _, r := range TriageRows(shown) {
+		conf := ""
+		if r.Cause != "" {
+			conf = fmt.Sprintf("%.2f", r.Confidence)
+		}
+		fmt.Fprintf(w, "| %d | %s | %s | %s | %s | %s | %s | %s | %s |\n", r.Rank, mdEscape(r.Port), verdictWord(r.Verdict), r.Cause, conf,
+			strings.Join(r.Others, ", "), optValue(r.QMarginDB, "dB", true), optValue(r.RxPowerDBm, "dBm", false), mdEscape(r.Summary))
+	}
+	fmt.Fprintln(w, "\n### Ports per cause")
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, "| cause | top cause of | listed on |")
+	fmt.Fprintln(w, "|---|---:|---:|")
+	for _, c := range CountCauses(all) {
+		fmt.Fprintf(w, "| %s | %d | %d |\n", c.ID, c.Top, c.Ports)
+	}
+	return nil
+}
