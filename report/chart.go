@@ -491,7 +491,21 @@ func (a *Acceptance) chartLO(s *parse.Series, m ChartMarks) (*Chart, error) {
 		caption += " Green line: " + label + "."
 	}
 	if a.profile != nil && a.profile.LOOffsetRangeMHz > 0 {
-		caption += fmt.Sprintf(" The receiver captures offsets within ±%.0f MHz.", a.profile.LOOffsetRangeMHz)
+		rng := a.profile.LOOffsetRangeMHz
+		caption += fmt.Sprintf(" The receiver captures offsets within ±%.0f MHz.", rng)
+		// Draw the capture limit the data comes within half the range of.
+		vlo, vhi := rangeOf(vs)
+		x0, x1 := float64(ts[0])/1000, float64(ts[len(ts)-1])/1000
+		for _, lim := range []float64{rng, -rng} {
+			if (lim > 0 && vhi > lim/2) || (lim < 0 && vlo < lim/2) {
+				if err := addHLine(p, x0, x1, lim, colLimit, fmt.Sprintf("capture limit %+.0f MHz", lim)); err != nil {
+					return nil, err
+				}
+				lo, hi = math.Min(lo, lim), math.Max(hi, lim)
+				hi = math.Max(hi, legendRoom(lo, math.Max(vhi, lim)))
+				caption += fmt.Sprintf(" Dashed line: the capture limit %+.0f MHz.", lim)
+			}
+		}
 	}
 	p.Y.Min, p.Y.Max = lo, hi
 	return a.renderChart(p, "Carrier (LO) frequency offset over time", caption)

@@ -616,7 +616,7 @@ func (pw *pdfWriter) safetySection() {
 	pdf.SetFont("sans", "", pdfBodySize)
 	h := 12.0
 	for _, c := range a.Safety.Cautions {
-		h += float64(len(pdf.SplitText(pw.text(c), pw.contentW-13))) * pdfLineH
+		h += float64(len(pdf.SplitText(pw.text(c), pw.contentW-17))) * pdfLineH
 	}
 	pw.ensure(h + 12)
 	pw.heading("Laser safety", 12)
@@ -634,7 +634,8 @@ func (pw *pdfWriter) safetySection() {
 	for _, c := range a.Safety.Cautions {
 		pdf.SetX(pdfMargin + 11)
 		pdf.SetFont("sans", "", pdfBodySize)
-		pdf.MultiCell(pw.contentW-13, pdfLineH, pw.text(c), "", "L", false)
+		pdf.CellFormat(4, pdfLineH, "•", "", 0, "L", false, 0, "")
+		pdf.MultiCell(pw.contentW-17, pdfLineH, pw.text(c), "", "L", false)
 	}
 	pdf.SetY(y + h - 1)
 }
