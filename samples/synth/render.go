@@ -258,7 +258,7 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 // limitCrossed reports whether one sample crosses a module limit of the profile.
 func limitCrossed(prof rules.Profile, v [parse.NumQuantities]float64) bool {
 	over := func(q parse.Quantity, lim float64) bool { return lim > 0 && math.Abs(v[q]) > lim }
-	return v[parse.PreFECBER] > prof.FECThresholdBER ||
+	return v[parse.PreFECBER] > prof.FECThresholdBER || v[parse.OSNRdB] < requiredOSNRdB(prof) ||
 		v[parse.UncorrectedBlocks] > 0 ||
 		v[parse.RxPowerDBm] < prof.RxPowerMinDBm || v[parse.RxPowerDBm] > prof.RxPowerMaxDBm ||
 		over(parse.CDpsPerNm, prof.CDTolerancePsNm) || over(parse.DGDps, prof.DGDTolerancePs) ||

@@ -79,9 +79,9 @@ type Case struct {
 	Design, Actual Link
 	Series         *parse.Series
 	// Verdict is the verdict the data supports against the profile's limits: pass for a
-	// healthy link, fail when a module limit is crossed (BER above the FEC threshold, power
-	// outside the receiver window, CD/DGD/PDL/SOP/offset beyond tolerance, light lost),
-	// marginal otherwise. A rule set may judge a marginal case as fail; never as pass.
+	// healthy link, fail when a module limit is crossed (BER above the FEC threshold,
+	// uncorrected blocks, OSNR below the required OSNR, power outside the receiver window,
+	// CD/DGD/PDL/SOP/offset beyond tolerance, light lost), marginal otherwise. A rule set may judge a marginal case as fail; never as pass.
 	Verdict diagnose.Verdict
 	// Causes are the intended causes, top first (Spec.Causes, de-duplicated).
 	Causes []string
