@@ -286,6 +286,10 @@ func (jr *jsonReader) canonical(obj map[string]any, lineNo int) {
 		jr.reject(&ParseError{File: file, Line: lineNo, Field: "port", Err: ErrMissingValue})
 		return
 	}
+	if rec.mask == 0 {
+		jr.reject(&ParseError{File: file, Line: lineNo, Err: fmt.Errorf("%w: the record has no measured quantity", ErrMissingColumn)})
+		return
+	}
 	jr.use(port, t, &rec)
 }
 
@@ -564,6 +568,8 @@ func (jr *jsonReader) openConfig(obj map[string]any, lineNo int) {
 			jr.reject(&pe)
 		case r.bad != nil:
 			jr.reject(r.bad)
+		case r.rec.mask == 0:
+			jr.reject(&ParseError{File: file, Line: lineNo, Field: p, Err: ErrNoData})
 		case !utf8.ValidString(p):
 			jr.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: port name %q", ErrEncoding, p)})
 		default:

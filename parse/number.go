@@ -160,12 +160,23 @@ func lower(c byte) byte {
 // Accepted: RFC 3339 ("2026-03-14T08:30:00.25+01:00"), "YYYY-MM-DD HH:MM:SS[.fff]" (UTC unless a
 // zone follows), and Unix time as a number whose magnitude decides the unit: below 1e11 seconds,
 // below 1e14 milliseconds, below 1e17 microseconds, else nanoseconds.
+//
+// Times before 1900 or from 2200 on are refused: no telemetry comes from there, and the bound
+// keeps every accepted time writable as a four-digit-year RFC 3339 stamp.
 func parseTime(b []byte) (ms int64, ok bool) {
 	if len(b) >= 19 && b[4] == '-' {
-		return parseDateTime(b)
+		ms, ok = parseDateTime(b)
+	} else {
+		ms, ok = parseUnixTime(b)
 	}
-	return parseUnixTime(b)
+	return ms, ok && ms >= minTimeMs && ms < maxTimeMs
 }
+
+// The accepted time range, [1900-01-01, 2200-01-01) UTC, in Unix milliseconds.
+var (
+	minTimeMs = daysFromCivil(1900, 1, 1) * 86400000
+	maxTimeMs = daysFromCivil(2200, 1, 1) * 86400000
+)
 
 func parseUnixTime(b []byte) (int64, bool) {
 	if len(b) == 0 {
@@ -177,7 +188,7 @@ func parseUnixTime(b []byte) (int64, bool) {
 		neg = b[0] == '-'
 		i++
 	}
-	if i < len(b) && len(b)-i <= 19 {
+	if i < len(b) && len(b)-i <= 18 { // 18 digits cannot overflow int64
 		var n int64
 		j := i
 		for ; j < len(b) && b[j] >= '0' && b[j] <= '9'; j++ {
