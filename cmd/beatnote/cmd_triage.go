@@ -1,11 +1,112 @@
 package main
 
-import "errors"
+import (
+	"fmt"
+	"slices"
+	"strings"
 
-// TriageCmd is not built yet; its issue builds it.
-type TriageCmd struct{}
+	"github.com/beatnote/beatnote/diagnose"
+	"github.com/beatnote/beatnote/report"
+)
 
-// Run reports that the command is not built yet.
+// TriageCmd ranks many ports worst first, each with its likely cause.
+type TriageCmd struct {
+	Paths []string `arg:"" name:"path" help:"Telemetry exports: files, folders (read recursively) or - for standard input."`
+	judgeFlags
+	Map     string   `help:"Port map (YAML) giving ports their link plan and profile (see docs/rules.md)." type:"existingfile" placeholder:"PORTMAP.yaml"`
+	Format  string   `help:"Output format: text, json, csv or markdown." enum:"text,json,csv,markdown" default:"text"`
+	Top     int      `help:"Show only the N worst ports (0: all)." placeholder:"N" default:"0"`
+	Verdict []string `help:"Show only ports with these verdicts (comma-separated: fail, marginal, pass, no-data)." placeholder:"LIST"`
+	Cause   []string `help:"Show only ports listing one of these cause ids (comma-separated)." placeholder:"LIST"`
+}
+
+// Help is the long help of the command.
+func (c *TriageCmd) Help() string {
+	return `Reads every export given (files and folders), judges every port and prints them worst
+first — failing, then marginal, then no-data, then passing; within a verdict the most confident
+cause first — with the top cause, the other causes, the Q margin and the received power, then
+how many ports each cause affects. Filters (--verdict, --cause) apply before --top; the count per
+cause covers the filtered ports. A port map gives each port its link plan and profile.
+
+Exit status: 0 every shown port passes; 1 some shown port is marginal, failing or could not be
+judged; 2 the run could not complete.`
+}
+
+var causeIDs = []string{
+	diagnose.CauseOSNRLow, diagnose.CauseRxPowerLow, diagnose.CauseRxOverload, diagnose.CauseCDMismatch,
+	diagnose.CauseCDOverLimit, diagnose.CausePMD, diagnose.CauseSOPTransient, diagnose.CausePDLHigh,
+	diagnose.CauseLOOffset, diagnose.CauseNonlinear, diagnose.CauseSignalLoss,
+}
+
+// validate checks flag values before any input is read.
+func (c *TriageCmd) validate() error {
+	if c.Top < 0 {
+		return fmt.Errorf("--top %d: give a positive number of ports, or 0 for all", c.Top)
+	}
+	for _, v := range c.Verdict {
+		switch diagnose.Verdict(v) {
+		case diagnose.Pass, diagnose.Marginal, diagnose.Fail, diagnose.NoData:
+		default:
+			return fmt.Errorf("--verdict %q: use pass, marginal, fail or no-data", v)
+		}
+	}
+	for _, id := range c.Cause {
+		if !slices.Contains(causeIDs, id) {
+			return fmt.Errorf("--cause %q: unknown cause id (known: %s)", id, strings.Join(causeIDs, ", "))
+		}
+	}
+	return nil
+}
+
+func (c *TriageCmd) keep(p *diagnose.PortResult) bool {
+	if len(c.Verdict) > 0 && !slices.Contains(c.Verdict, string(p.Verdict)) {
+		return false
+	}
+	if len(c.Cause) > 0 {
+		for _, cs := range p.Causes {
+			if slices.Contains(c.Cause, cs.ID) {
+				return true
+			}
+		}
+		return false
+	}
+	return true
+}
+
+// Run reads, judges, filters, ranks and prints.
 func (c *TriageCmd) Run(g *Globals, pr *printer) error {
-	return &exitError{code: 2, err: errors.New("triage: not built yet")}
+	if err := c.validate(); err != nil {
+		return &exitError{code: 2, err: err}
+	}
+	a, err := analyze(c.Paths, c.judgeFlags, c.Map, pr)
+	if err != nil {
+		return &exitError{code: 2, err: err}
+	}
+	res := a.Result
+	all := make([]diagnose.PortResult, 0, len(res.Ports))
+	for i := range res.Ports {
+		if c.keep(&res.Ports[i]) {
+			all = append(all, res.Ports[i])
+		}
+	}
+	shown := all
+	if c.Top > 0 && len(shown) > c.Top {
+		shown = shown[:c.Top]
+	}
+	switch c.Format {
+	case "json":
+		out := *res
+		out.Ports = shown
+		err = report.WriteTriageJSON(pr.Out(), &out)
+	case "csv":
+		err = report.WriteTriageCSV(pr.Out(), shown)
+	case "markdown":
+		err = report.WriteTriageMarkdown(pr.Out(), shown, all)
+	default:
+		err = report.WriteTriageText(pr.Out(), res, shown, all)
+	}
+	if err != nil {
+		return &exitError{code: 2, err: err}
+	}
+	return exitFor(a, shown)
 }

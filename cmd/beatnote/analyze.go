@@ -1,0 +1,209 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"os"
+	"time"
+
+	"github.com/beatnote/beatnote/diagnose"
+	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/rules"
+	"github.com/schollz/progressbar/v3"
+)
+
+// defaultProfileID is the profile ports are judged against when neither --profile, a plan nor a
+// port map names one: the OIF 400ZR class, the most common coherent pluggable.
+const defaultProfileID = "400g-dp-16qam-cfec"
+
+// judgeFlags are the options check, triage and report share for judging ports.
+type judgeFlags struct {
+	Profile  string `help:"Module profile id to judge against (see 'beatnote profiles'). Default: the plan's or the map's, else 400g-dp-16qam-cfec." placeholder:"ID"`
+	Profiles string `help:"YAML file of module profiles adding to or overriding the built-in ones (by id)." type:"existingfile" placeholder:"FILE"`
+	Rules    string `help:"YAML file overriding threshold rules (see docs/rules.md)." type:"existingfile" placeholder:"FILE"`
+	Plan     string `help:"Link plan (YAML) the ports are judged against; enables plan vs measured and cd-mismatch." type:"existingfile" placeholder:"PLAN.yaml"`
+}
+
+// analysis is the outcome of reading and judging inputs.
+type analysis struct {
+	DS     *parse.Dataset
+	Result *diagnose.Result
+	// ReadErr is non-nil when some input could not be read completely (exit 2 after printing).
+	ReadErr error
+}
+
+// analyze reads the inputs and judges every port. mapFile is a port map (triage) or "".
+// Errors it returns are usage or input errors (exit 2).
+func analyze(paths []string, jf judgeFlags, mapFile string, pr *printer) (*analysis, error) {
+	profiles, err := loadProfiles(jf.Profiles)
+	if err != nil {
+		return nil, err
+	}
+	rs := rules.Rules{}
+	if jf.Rules != "" {
+		rs, err = rules.LoadRules(jf.Rules)
+	} else {
+		rs, err = rules.DefaultRules()
+	}
+	if err != nil {
+		return nil, err
+	}
+	var plan *rules.Plan
+	if jf.Plan != "" {
+		p, err := rules.LoadPlan(jf.Plan, profiles...)
+		if err != nil {
+			return nil, err
+		}
+		plan = &p
+	}
+	var pm *rules.PortMap
+	if mapFile != "" {
+		m, err := rules.LoadPortMap(mapFile, profiles...)
+		if err != nil {
+			return nil, err
+		}
+		pm = &m
+	}
+	// The default profile: --profile, else the plan's, else the built-in default.
+	defID, defNote := jf.Profile, ""
+	if defID == "" && plan != nil && plan.Profile != "" {
+		defID = plan.Profile
+	}
+	if defID == "" {
+		defID = defaultProfileID
+		defNote = fmt.Sprintf("no --profile given: judging against the default profile %s (see 'beatnote profiles')", defaultProfileID)
+	}
+	defProf, err := rules.ProfileByID(profiles, defID)
+	if err != nil {
+		return nil, fmt.Errorf("--profile: %w", err)
+	}
+	cfg := diagnose.Config{Version: version, Rules: rs, Default: diagnose.Setup{Profile: defProf, Plan: plan}}
+	if pm != nil {
+		lk, err := portMapLookup(pm, profiles, jf.Profile, defProf, plan)
+		if err != nil {
+			return nil, err
+		}
+		cfg.Lookup = lk
+	}
+
+	ds, readErr := readInputs(paths, pr)
+	if ds == nil {
+		return nil, readErr
+	}
+	if countSamples(ds) == 0 {
+		for i, r := range ds.Rejected {
+			if i == 5 {
+				break
+			}
+			pr.Errorf("%s:%d: %s", r.File, r.Line, r.Reason)
+		}
+		if readErr != nil {
+			return nil, readErr
+		}
+		return nil, errors.New("nothing usable was read: no row was accepted (try 'beatnote scan' to see why)")
+	}
+	if defNote != "" && pm == nil {
+		pr.Notef("%s", defNote)
+	}
+	res, err := diagnose.Analyze(ds, cfg)
+	if err != nil {
+		return nil, err
+	}
+	return &analysis{DS: ds, Result: res, ReadErr: readErr}, nil
+}
+
+func loadProfiles(file string) ([]rules.Profile, error) {
+	if file != "" {
+		return rules.LoadProfiles(file)
+	}
+	return rules.BuiltinProfiles()
+}
+
+// portMapLookup gives each mapped port its plan and profile. Plans are read once each. The
+// profile is the entry's, else --profile, else the plan's, else the default.
+func portMapLookup(pm *rules.PortMap, profiles []rules.Profile, flagProfile string, def rules.Profile, flagPlan *rules.Plan) (func(string) (diagnose.Setup, bool), error) {
+	plans := map[string]*rules.Plan{}
+	for _, e := range pm.Entries {
+		if e.PlanPath == "" {
+			continue
+		}
+		if _, ok := plans[e.PlanPath]; ok {
+			continue
+		}
+		p, err := rules.LoadPlan(e.PlanPath, profiles...)
+		if err != nil {
+			return nil, fmt.Errorf("port map %s line %d: %w", pm.File, e.Line, err)
+		}
+		plans[e.PlanPath] = &p
+	}
+	setups := make([]diagnose.Setup, len(pm.Entries))
+	for i, e := range pm.Entries {
+		st := diagnose.Setup{Profile: def, Plan: flagPlan}
+		if e.PlanPath != "" {
+			st.Plan = plans[e.PlanPath]
+		}
+		id := e.Profile
+		if id == "" {
+			id = flagProfile
+		}
+		if id == "" && st.Plan != nil {
+			id = st.Plan.Profile
+		}
+		if id != "" {
+			p, err := rules.ProfileByID(profiles, id)
+			if err != nil {
+				return nil, fmt.Errorf("port map %s line %d: %w", pm.File, e.Line, err)
+			}
+			st.Profile = p
+		}
+		setups[i] = st
+	}
+	return func(port string) (diagnose.Setup, bool) {
+		e, ok := pm.Lookup(port)
+		if !ok {
+			return diagnose.Setup{}, false
+		}
+		for i := range pm.Entries {
+			if pm.Entries[i].Port == e.Port && pm.Entries[i].Line == e.Line {
+				return setups[i], true
+			}
+		}
+		return diagnose.Setup{}, false
+	}, nil
+}
+
+// readInputs reads the inputs with a progress bar on a terminal.
+func readInputs(paths []string, pr *printer) (*parse.Dataset, error) {
+	opt := parse.Options{}
+	var bar *progressbar.ProgressBar
+	if pr.ShowProgress() {
+		opt.Progress = func(done, total int64) {
+			if bar == nil {
+				bar = progressbar.NewOptions64(total, progressbar.OptionSetWriter(os.Stderr),
+					progressbar.OptionSetDescription("reading"), progressbar.OptionShowBytes(true),
+					progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
+			}
+			_ = bar.Set64(done)
+		}
+	}
+	ds, err := parse.ReadPaths(paths, opt)
+	if bar != nil {
+		_ = bar.Finish()
+	}
+	return ds, err
+}
+
+// exitFor maps a finished analysis to the exit status of the design contract: 2 when an input
+// could not be read completely, 1 when some port is marginal or failing — or could not be
+// judged at all (no-data is not a pass) — else 0.
+func exitFor(a *analysis, ports []diagnose.PortResult) error {
+	if a.ReadErr != nil {
+		return &exitError{code: 2, err: a.ReadErr}
+	}
+	for _, p := range ports {
+		if p.Verdict != diagnose.Pass {
+			return errNotPassing
+		}
+	}
+	return nil
+}

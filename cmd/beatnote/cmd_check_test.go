@@ -1,0 +1,198 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/alecthomas/kong"
+	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/samples/synth"
+	"go.yaml.in/yaml/v3"
+)
+
+// runCLI parses args as main does and runs the command, returning the exit status and output.
+func runCLI(t *testing.T, args ...string) (code int, stdout, stderr string) {
+	t.Helper()
+	var cli CLI
+	var out, errw bytes.Buffer
+	parser, err := kong.New(&cli, kong.Name("beatnote"), kong.Exit(func(int) {}), kong.Writers(&out, &errw),
+		kong.Vars{"version": "beatnote test"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx, err := parser.Parse(args)
+	if err != nil {
+		return 2, out.String(), err.Error()
+	}
+	pr := newPrinter(&out, &errw, false)
+	ctx.Bind(&cli.Globals, pr)
+	if err := ctx.Run(); err != nil {
+		return exitCode(err, pr), out.String(), errw.String()
+	}
+	return 0, out.String(), errw.String()
+}
+
+// writeCase writes a synthetic port as canonical CSV and its plan as YAML into dir.
+func writeCase(t *testing.T, dir, name string, spec synth.Spec) (logPath, planPath string) {
+	t.Helper()
+	spec.Port, spec.Circuit = name, "C-"+name
+	c, err := synth.Make(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if err := parse.WriteCanonicalCSV(&buf, &parse.Dataset{Series: []*parse.Series{c.Series}}); err != nil {
+		t.Fatal(err)
+	}
+	logPath = filepath.Join(dir, name+".csv")
+	if err := os.WriteFile(logPath, buf.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	plan := c.Plan
+	plan.Profile = c.Profile.ID
+	y, err := yaml.Marshal(plan)
+	if err != nil {
+		t.Fatal(err)
+	}
+	planPath = filepath.Join(dir, name+".plan.yaml")
+	if err := os.WriteFile(planPath, y, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return logPath, planPath
+}
+
+// Exit status by the design contract: 0 all pass, 1 some marginal or failing, 2 could not complete.
+func TestCheckExitCodes(t *testing.T) {
+	dir := t.TempDir()
+	healthy, healthyPlan := writeCase(t, dir, "ok-1", synth.Spec{Seed: 3, Samples: 300})
+	bad, badPlan := writeCase(t, dir, "low-1", synth.Spec{Seed: 3, Samples: 300, Causes: []string{"rx-power-low"}, Severity: 1})
+
+	code, out, errw := runCLI(t, "check", healthy, "--plan", healthyPlan)
+	if code != 0 {
+		t.Errorf("healthy check: exit %d, want 0\n%s\n%s", code, out, errw)
+	}
+	if !strings.Contains(out, "VERDICT: PASS") {
+		t.Errorf("healthy check text lacks the pass verdict:\n%s", out)
+	}
+	code, out, _ = runCLI(t, "check", bad, "--plan", badPlan)
+	if code != 1 {
+		t.Errorf("low-power check: exit %d, want 1", code)
+	}
+	for _, want := range []string{"rx-power-low", "dBm", "What to do on site", "Criteria", "Plan vs measured"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("low-power check text lacks %q", want)
+		}
+	}
+	if code, _, _ := runCLI(t, "check", filepath.Join(dir, "missing.csv")); code != 2 {
+		t.Errorf("missing input: exit %d, want 2", code)
+	}
+	if code, _, _ := runCLI(t, "check", healthy, "--profile", "no-such-profile"); code != 2 {
+		t.Errorf("unknown profile: exit %d, want 2", code)
+	}
+	if code, _, _ := runCLI(t, "check", healthy, "--port", "nope"); code != 2 {
+		t.Errorf("unknown port: exit %d, want 2", code)
+	}
+	empty := filepath.Join(dir, "empty.csv")
+	os.WriteFile(empty, []byte("time,port,pre_fec_ber\n"), 0o644)
+	if code, _, _ := runCLI(t, "check", empty); code != 2 {
+		t.Errorf("nothing usable: exit %d, want 2", code)
+	}
+	// Without a plan cd-mismatch is not judged, and the default profile is announced on stderr.
+	code, out, errw = runCLI(t, "check", healthy)
+	if code != 0 || !strings.Contains(out, "cd-mismatch: no link plan") || !strings.Contains(errw, "default profile") {
+		t.Errorf("check without plan: exit %d\nstdout:\n%s\nstderr:\n%s", code, out, errw)
+	}
+}
+
+// The JSON of check and triage has the members and keys of the design contract.
+func TestCheckAndTriageJSONContract(t *testing.T) {
+	dir := t.TempDir()
+	writeCase(t, dir, "ok-1", synth.Spec{Seed: 5, Samples: 200})
+	writeCase(t, dir, "sop-1", synth.Spec{Seed: 5, Samples: 200, Causes: []string{"sop-transient"}, Severity: 1})
+	writeCase(t, dir, "los-1", synth.Spec{Seed: 5, Samples: 200, Causes: []string{"signal-loss"}, Severity: 1})
+	for _, cmd := range []string{"check", "triage"} {
+		code, out, errw := runCLI(t, cmd, dir, "--format", "json")
+		if code != 1 {
+			t.Errorf("%s: exit %d, want 1 (%s)", cmd, code, errw)
+		}
+		var doc map[string]json.RawMessage
+		if err := json.Unmarshal([]byte(out), &doc); err != nil {
+			t.Fatalf("%s: not JSON: %v\n%s", cmd, err, out)
+		}
+		for _, k := range []string{"tool", "version", "inputs", "ports", "rejected"} {
+			if _, ok := doc[k]; !ok {
+				t.Errorf("%s JSON lacks %q", cmd, k)
+			}
+		}
+		var ports []map[string]any
+		json.Unmarshal(doc["ports"], &ports)
+		if len(ports) != 3 {
+			t.Fatalf("%s: %d ports, want 3", cmd, len(ports))
+		}
+		for _, p := range ports {
+			for _, k := range []string{"port", "profile", "samples", "from", "to", "verdict", "causes", "metrics"} {
+				if _, ok := p[k]; !ok {
+					t.Errorf("%s: port %v lacks %q", cmd, p["port"], k)
+				}
+			}
+			for name, m := range p["metrics"].(map[string]any) {
+				for _, k := range []string{"min", "p50", "p99", "max", "limit", "margin"} {
+					if _, ok := m.(map[string]any)[k]; !ok {
+						t.Errorf("%s: metric %s lacks %q", cmd, name, k)
+					}
+				}
+			}
+		}
+		if ports[len(ports)-1]["verdict"] != "pass" || ports[0]["verdict"] != "fail" {
+			t.Errorf("%s: ports not worst first: %v … %v", cmd, ports[0]["verdict"], ports[len(ports)-1]["verdict"])
+		}
+		var inputs []map[string]any
+		json.Unmarshal(doc["inputs"], &inputs)
+		for _, in := range inputs {
+			if in["rows_read"].(float64) != in["rows_used"].(float64)+in["rows_rejected"].(float64) {
+				t.Errorf("%s: input %v: rows_read ≠ used + rejected", cmd, in["file"])
+			}
+		}
+	}
+}
+
+func TestTriageFormatsAndFilters(t *testing.T) {
+	dir := t.TempDir()
+	writeCase(t, dir, "ok-1", synth.Spec{Seed: 7, Samples: 200})
+	writeCase(t, dir, "pdl-1", synth.Spec{Seed: 7, Samples: 200, Causes: []string{"pdl-high"}, Severity: 1})
+	writeCase(t, dir, "lo-1", synth.Spec{Seed: 7, Samples: 200, Causes: []string{"lo-offset"}, Severity: 1})
+
+	code, out, _ := runCLI(t, "triage", dir)
+	if code != 1 || !strings.Contains(out, "Ports per cause") || !strings.Contains(out, "pdl-high") {
+		t.Errorf("triage text: exit %d\n%s", code, out)
+	}
+	code, out, _ = runCLI(t, "triage", dir, "--verdict", "pass")
+	if code != 0 || !strings.Contains(out, "1 ports: 0 fail, 0 marginal, 1 pass") || !strings.Contains(out, "ok-1  PASS") {
+		t.Errorf("--verdict pass: exit %d\n%s", code, out)
+	}
+	_, out, _ = runCLI(t, "triage", dir, "--cause", "lo-offset", "--format", "csv")
+	lines := strings.Split(strings.TrimSpace(out), "\n")
+	if len(lines) != 2 || !strings.Contains(lines[1], "lo-1") || !strings.HasPrefix(lines[0], "rank,port") {
+		t.Errorf("--cause lo-offset csv:\n%s", out)
+	}
+	_, out, _ = runCLI(t, "triage", dir, "--top", "1", "--format", "markdown")
+	rows := 0
+	for _, l := range strings.Split(out, "\n") {
+		if strings.Contains(l, "| FAIL |") || strings.Contains(l, "| MARGINAL |") || strings.Contains(l, "| PASS |") {
+			rows++
+		}
+	}
+	if rows != 1 || !strings.Contains(out, "3 ports") {
+		t.Errorf("--top 1 markdown:\n%s", out)
+	}
+	if code, _, _ := runCLI(t, "triage", dir, "--cause", "gremlins"); code != 2 {
+		t.Errorf("unknown cause: exit %d, want 2", code)
+	}
+	if code, _, _ := runCLI(t, "triage", dir, "--format", "xml"); code != 2 {
+		t.Errorf("bad format: exit %d, want 2", code)
+	}
+}
