@@ -49,7 +49,7 @@ func TestScanJSON(t *testing.T) {
 		t.Fatal(err)
 	}
 	var doc struct {
-		Tool   string `json:"tool"`
+		Tool     string           `json:"tool"`
 		Rejected []map[string]any `json:"rejected"`
 		Ports    []struct {
 			Port      string   `json:"port"`
