@@ -4,10 +4,12 @@ import (
 	"crypto/ed25519"
 	"crypto/sha256"
 	"crypto/x509"
+	"encoding/base64"
 	"encoding/hex"
 	"encoding/json"
 	"errors"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -90,6 +92,23 @@ func TestKeygenFilesAndFingerprint(t *testing.T) {
 	if len(der) != 44 || string(der[12:]) != string(pub) {
 		t.Errorf("PKIX DER has %d bytes, want 44 ending in the raw key", len(der))
 	}
+	// Independent check with OpenSSL, when installed: the fingerprint docs/report.md tells users
+	// to recompute with "openssl pkey -pubin -in K.pub -outform DER | sha256sum".
+	if path, err := exec.LookPath("openssl"); err == nil {
+		der, err := exec.Command(path, "pkey", "-pubin", "-in", prefix+".pub", "-outform", "DER").Output()
+		if err != nil {
+			t.Fatalf("openssl: %v", err)
+		}
+		sum := sha256.Sum256(der)
+		if want := "SHA256:" + hex.EncodeToString(sum[:]); fp != want {
+			t.Errorf("fingerprint %s, openssl's DER gives %s", fp, want)
+		}
+		// OpenSSL must also read the private key as PKCS #8 Ed25519.
+		out, err := exec.Command(path, "pkey", "-in", prefix+".key", "-noout", "-text").CombinedOutput()
+		if err != nil || !strings.Contains(string(out), "ED25519") {
+			t.Errorf("openssl cannot read the private key: %v\n%s", err, out)
+		}
+	}
 	priv, err := LoadPrivateKey(prefix + ".key")
 	if err != nil {
 		t.Fatal(err)
@@ -137,6 +156,24 @@ func TestSignVerifyRoundTrip(t *testing.T) {
 	}
 	if len(v.Inputs) != 2 || v.Inputs[0].Status != CheckOK || v.Inputs[1].Status != CheckOK {
 		t.Errorf("inputs %+v", v.Inputs)
+	}
+	// Independent check with OpenSSL, when installed: the signature is plain Ed25519 over the
+	// canonical encoding documented in docs/report.md, checkable without beatnote.
+	if path, err := exec.LookPath("openssl"); err == nil {
+		raw, _ := os.ReadFile(sig)
+		var sf SignatureFile
+		if err := json.Unmarshal(raw, &sf); err != nil {
+			t.Fatal(err)
+		}
+		sigBytes, _ := base64.StdEncoding.DecodeString(sf.Signature)
+		canon, sigBin := filepath.Join(dir, "canon.txt"), filepath.Join(dir, "sig.bin")
+		os.WriteFile(canon, sf.Canonical(), 0o644)
+		os.WriteFile(sigBin, sigBytes, 0o644)
+		out, err := exec.Command(path, "pkeyutl", "-verify", "-pubin", "-inkey", filepath.Join(dir, "tech.pub"),
+			"-rawin", "-in", canon, "-sigfile", sigBin).CombinedOutput()
+		if err != nil || !strings.Contains(string(out), "Signature Verified Successfully") {
+			t.Errorf("openssl does not verify the signature: %v\n%s", err, out)
+		}
 	}
 	// The stored paths are relative to the signature's directory.
 	if v.Inputs[0].Path != "../a.csv" {

@@ -10,20 +10,17 @@ import (
 	"time"
 
 	"github.com/beatnote/beatnote/diagnose"
-	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/report"
 	"github.com/beatnote/beatnote/rules"
 )
 
 // ReportCmd writes an acceptance report for one circuit, optionally signed.
 type ReportCmd struct {
-	Logs     []string `arg:"" name:"log" help:"Telemetry exports of the circuit (files or folders)." type:"path"`
-	Plan     string   `help:"Link plan of the circuit (YAML, docs/plan.md)." placeholder:"PLAN.yaml" type:"path"`
-	Profile  string   `help:"Module profile id (see beatnote profiles); default: the plan's." placeholder:"ID"`
-	Profiles string   `help:"Your own profiles file, added to the built-in ones." placeholder:"FILE.yaml" type:"path"`
-	Out      string   `required:"" help:"Report file to write." placeholder:"FILE.pdf" type:"path"`
-	Format   string   `help:"Report format: pdf, markdown or json." enum:"pdf,markdown,json" default:"pdf"`
-	Paper    string   `help:"Paper size of the PDF: a4 or letter." enum:"a4,letter" default:"a4"`
+	Logs []string `arg:"" name:"log" help:"Telemetry exports of the circuit (files or folders)." type:"path"`
+	judgeFlags
+	Out    string `required:"" help:"Report file to write." placeholder:"FILE.pdf" type:"path"`
+	Format string `help:"Report format: pdf, markdown or json." enum:"pdf,markdown,json" default:"pdf"`
+	Paper  string `help:"Paper size of the PDF: a4 or letter." enum:"a4,letter" default:"a4"`
 
 	Technician     string `help:"Technician who carried out the acceptance." placeholder:"NAME"`
 	Organisation   string `help:"Organisation handing the link over." placeholder:"NAME"`
@@ -152,86 +149,78 @@ type reportInput struct {
 	files []string
 }
 
-// load reads the telemetry, the profile and the plan and runs the engine.
+// load reads and judges the telemetry with the shared analysis (as check does) and gathers
+// what the report shows. Only the plan's ports are reported when the plan lists them.
 func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
-	var profiles []rules.Profile
-	var err error
-	if c.Profiles != "" {
-		profiles, err = rules.LoadProfiles(c.Profiles)
-	} else {
-		profiles, err = rules.BuiltinProfiles()
-	}
+	a, err := analyze(c.Logs, c.judgeFlags, "", pr)
 	if err != nil {
 		return nil, &exitError{code: 2, err: err}
 	}
-	var plan *rules.Plan
-	if c.Plan != "" {
-		p, err := rules.LoadPlan(c.Plan, profiles...)
+	if a.ReadErr != nil {
+		// An acceptance report over partly read inputs would misstate the evidence.
+		return nil, &exitError{code: 2, err: fmt.Errorf("no report: %w", a.ReadErr)}
+	}
+	res := *a.Result
+	in := &reportInput{AcceptanceInput: report.AcceptanceInput{Result: &res, Dataset: a.DS}}
+	for _, p := range res.Ports {
+		if p.Analysis != nil {
+			prof := p.Analysis.Profile
+			in.Profile, in.Plan = &prof, p.Analysis.Plan
+			break
+		}
+	}
+	if in.Plan == nil && c.Plan != "" {
+		p, err := rules.LoadPlan(c.Plan)
 		if err != nil {
 			return nil, &exitError{code: 2, err: err}
 		}
-		plan = &p
+		in.Plan = &p
 	}
-	id := c.Profile
-	if id == "" && plan != nil {
-		id = plan.Profile
-	}
-	if id == "" {
-		return nil, &exitError{code: 2, err: errors.New("name the module profile with --profile ID or in the link plan (beatnote profiles lists them)")}
-	}
-	prof, err := rules.ProfileByID(profiles, id)
-	if err != nil {
-		return nil, &exitError{code: 2, err: err}
-	}
-	rs, err := rules.DefaultRules()
-	if err != nil {
-		return nil, &exitError{code: 2, err: err}
-	}
-
-	ds, err := parse.ReadPaths(c.Logs, parse.Options{})
-	if err != nil {
-		return nil, &exitError{code: 2, err: err}
-	}
-	if plan != nil && len(plan.Ports) > 0 {
-		ds = onlyPorts(ds, plan.Ports)
-	}
-	if len(ds.Series) == 0 {
-		what := "the inputs hold no usable sample"
-		if plan != nil && len(plan.Ports) > 0 {
-			what = fmt.Sprintf("the inputs hold no sample of the plan's ports %v", plan.Ports)
+	if in.Profile == nil {
+		profiles, err := loadProfiles(c.Profiles)
+		if err != nil {
+			return nil, &exitError{code: 2, err: err}
 		}
-		return nil, &exitError{code: 2, err: errors.New(what)}
+		id := c.judgeFlags.Profile
+		if id == "" && in.Plan != nil {
+			id = in.Plan.Profile
+		}
+		if id == "" {
+			id = defaultProfileID
+		}
+		prof, err := rules.ProfileByID(profiles, id)
+		if err != nil {
+			return nil, &exitError{code: 2, err: err}
+		}
+		in.Profile = &prof
 	}
-	res, err := diagnose.Analyze(ds, diagnose.Config{Version: version, Rules: rs, Default: diagnose.Setup{Profile: prof, Plan: plan}})
-	if err != nil {
-		return nil, &exitError{code: 2, err: err}
+	if in.Plan != nil && len(in.Plan.Ports) > 0 {
+		want := map[string]bool{}
+		for _, p := range in.Plan.Ports {
+			want[p] = true
+		}
+		res.Ports = nil
+		for _, p := range a.Result.Ports {
+			if want[p.Port] {
+				res.Ports = append(res.Ports, p)
+			}
+		}
+		if len(res.Ports) == 0 {
+			return nil, &exitError{code: 2, err: fmt.Errorf("the inputs hold no sample of the plan's ports %v", in.Plan.Ports)}
+		}
+		if n := len(a.Result.Ports) - len(res.Ports); n > 0 {
+			pr.Notef("note: %d port(s) not listed in the plan are left out of the report", n)
+		}
 	}
-	ri := &reportInput{AcceptanceInput: report.AcceptanceInput{Result: res, Dataset: ds, Profile: &prof, Plan: plan}}
-	for _, st := range ds.Inputs {
-		ri.files = append(ri.files, st.File)
+	for _, st := range a.DS.Inputs {
+		in.files = append(in.files, st.File)
 	}
-	for _, extra := range []string{c.Plan, c.Profiles} {
+	for _, extra := range []string{c.Plan, c.Profiles, c.Rules} {
 		if extra != "" {
-			ri.files = append(ri.files, extra)
+			in.files = append(in.files, extra)
 		}
 	}
-	return ri, nil
-}
-
-// onlyPorts keeps the series of the listed ports; the input accounting stays whole.
-func onlyPorts(ds *parse.Dataset, ports []string) *parse.Dataset {
-	want := map[string]bool{}
-	for _, p := range ports {
-		want[p] = true
-	}
-	out := *ds
-	out.Series = nil
-	for _, s := range ds.Series {
-		if want[s.Port] {
-			out.Series = append(out.Series, s)
-		}
-	}
-	return &out
+	return in, nil
 }
 
 // writeFileAtomic writes data to a temporary file beside path and renames it into place, so a

@@ -71,7 +71,7 @@ func runCmd(t *testing.T, run func(g *Globals, pr *printer) error) (string, int)
 func TestReportSignVerifyTamper(t *testing.T) {
 	dir, log, plan, key := reportFixture(t)
 	pdf := filepath.Join(dir, "acceptance.pdf")
-	rc := &ReportCmd{Logs: []string{log}, Plan: plan, Out: pdf, Format: "pdf", Paper: "a4",
+	rc := &ReportCmd{Logs: []string{log}, judgeFlags: judgeFlags{Plan: plan}, Out: pdf, Format: "pdf", Paper: "a4",
 		Technician: "T. Person", Time: "2026-03-15T09:00:00Z", SignKey: key, Signer: "T. Person"}
 	out, code := runCmd(t, rc.Run)
 	if code == 2 {
@@ -127,7 +127,7 @@ func TestReportFormatsAndUsage(t *testing.T) {
 	dir, log, plan, key := reportFixture(t)
 	for _, f := range []string{"markdown", "json"} {
 		out := filepath.Join(dir, "r."+f)
-		_, code := runCmd(t, (&ReportCmd{Logs: []string{log}, Plan: plan, Out: out, Format: f, Paper: "a4", Time: "2026-03-15T09:00:00Z"}).Run)
+		_, code := runCmd(t, (&ReportCmd{Logs: []string{log}, judgeFlags: judgeFlags{Plan: plan}, Out: out, Format: f, Paper: "a4", Time: "2026-03-15T09:00:00Z"}).Run)
 		if code == 2 {
 			t.Fatalf("%s: exit 2", f)
 		}
@@ -137,10 +137,10 @@ func TestReportFormatsAndUsage(t *testing.T) {
 		}
 	}
 	for name, c := range map[string]*ReportCmd{
-		"sign without signer": {Logs: []string{log}, Plan: plan, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4", SignKey: key},
-		"bad time":            {Logs: []string{log}, Plan: plan, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4", Time: "yesterday"},
-		"no profile":          {Logs: []string{log}, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4"},
-		"missing log":         {Logs: []string{filepath.Join(dir, "none.csv")}, Plan: plan, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4"},
+		"sign without signer": {Logs: []string{log}, judgeFlags: judgeFlags{Plan: plan}, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4", SignKey: key},
+		"bad time":            {Logs: []string{log}, judgeFlags: judgeFlags{Plan: plan}, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4", Time: "yesterday"},
+		"unknown profile":     {Logs: []string{log}, judgeFlags: judgeFlags{Profile: "no-such-module"}, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4"},
+		"missing log":         {Logs: []string{filepath.Join(dir, "none.csv")}, judgeFlags: judgeFlags{Plan: plan}, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4"},
 	} {
 		if _, code := runCmd(t, c.Run); code != 2 {
 			t.Errorf("%s: exit %d, want 2", name, code)
