@@ -258,8 +258,11 @@ func writeScanText(w io.Writer, ds *parse.Dataset, ports []scanPort) error {
 				every = fmtInterval(*p.IntervalS)
 			}
 			q := strings.Join(p.Quantities, " ")
-			if q == "" {
+			switch len(p.Quantities) {
+			case 0:
 				q = "(no values)"
+			case int(parse.NumQuantities):
+				q = fmt.Sprintf("all %d (every canonical column)", len(p.Quantities))
 			}
 			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", p.Port, group(p.Samples), p.From, p.To, every, q)
 		}
