@@ -117,8 +117,12 @@ func (pc *portCtx) has(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
 
 // qMarginP50 is the median Q margin of lit samples to the FEC-threshold Q (dB); NaN when unknown.
 func (pc *portCtx) qMarginP50() float64 {
+	if pc.cache.qMarginSet {
+		return pc.cache.qMargin
+	}
+	pc.cache.qMargin, pc.cache.qMarginSet = math.NaN(), true
 	if pc.qdb == nil || !(pc.prof.FECThresholdBER > 0) {
-		return math.NaN()
+		return pc.cache.qMargin
 	}
 	v := make([]float64, 0, pc.n)
 	for i, q := range pc.qdb {
@@ -126,10 +130,17 @@ func (pc *portCtx) qMarginP50() float64 {
 			v = append(v, q)
 		}
 	}
-	return series.Summarize(v).P50 - pc.qLimitDB
+	pc.cache.qMargin = series.Summarize(v).P50 - pc.qLimitDB
+	return pc.cache.qMargin
 }
 
-func (pc *portCtx) litPowerSummary() series.Summary { return series.Summarize(pc.litPower) }
+func (pc *portCtx) litPowerSummary() series.Summary {
+	if pc.cache.litPower == nil {
+		s := series.Summarize(pc.litPower)
+		pc.cache.litPower = &s
+	}
+	return *pc.cache.litPower
+}
 
 func (pc *portCtx) impairments() impairments {
 	var im impairments

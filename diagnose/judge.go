@@ -306,7 +306,7 @@ func (pc *portCtx) planVsMeasured() {
 		add("mean_dgd_ps", e.MeanDGDPs, f.MeanPs, "ps", "mean of the DGD samples")
 	}
 	if countFinite(pc.litPower) > 0 {
-		add("rx_power_dbm", e.RxPowerDBm, series.Summarize(pc.litPower).P50, "dBm", "median while the signal was present")
+		add("rx_power_dbm", e.RxPowerDBm, pc.litPowerSummary().P50, "dBm", "median while the signal was present")
 	}
 	if s, ok := pc.sum[parse.OSNRdB]; ok {
 		add("osnr_db", e.ASEOSNRdB, s.P50, "dB", "median reported OSNR vs the ASE OSNR of the amplifier chain")
@@ -328,8 +328,12 @@ func (pc *portCtx) planVsMeasured() {
 
 // esnrP50 is the median eSNR of lit samples (measured or BER-implied); NaN when unknown.
 func (pc *portCtx) esnrP50() float64 {
+	if pc.cache.esnrSet {
+		return pc.cache.esnr
+	}
+	pc.cache.esnr, pc.cache.esnrSet = math.NaN(), true
 	if pc.esnr == nil {
-		return math.NaN()
+		return pc.cache.esnr
 	}
 	v := make([]float64, 0, pc.n)
 	for i, x := range pc.esnr {
@@ -337,7 +341,8 @@ func (pc *portCtx) esnrP50() float64 {
 			v = append(v, x)
 		}
 	}
-	return series.Summarize(v).P50
+	pc.cache.esnr = series.Summarize(v).P50
+	return pc.cache.esnr
 }
 
 func (pc *portCtx) impliedOSNRp50() float64 {

@@ -49,6 +49,13 @@ type portCtx struct {
 	sum            map[parse.Quantity]series.Summary
 	absSum         map[parse.Quantity]series.Summary // of |x|, for CD and LO offset
 
+	// cache holds summaries several evidence tests use.
+	cache struct {
+		litPower            *series.Summary
+		qMargin, esnr       float64
+		qMarginSet, esnrSet bool
+	}
+
 	// Model figures of the profile.
 	qLimitDB      float64 // Q (dB) at the FEC threshold
 	snrThDB       float64 // theoretical Es/N0 at the FEC threshold

@@ -1,8 +1,9 @@
 package series
 
 import (
+	"cmp"
 	"math"
-	"sort"
+	"slices"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -10,20 +11,25 @@ import (
 // Ranks returns the 1-based ranks of v, ties given their average rank (the "fractional" ranking
 // Spearman's coefficient needs). v must not hold NaN.
 func Ranks(v []float64) []float64 {
-	order := make([]int, len(v))
-	for i := range order {
-		order[i] = i
+	type pair struct {
+		v float64
+		i int32
 	}
-	sort.SliceStable(order, func(a, b int) bool { return v[order[a]] < v[order[b]] })
+	order := make([]pair, len(v))
+	for i, x := range v {
+		order[i] = pair{x, int32(i)}
+	}
+	// Ties get their average rank, so the order among equal values does not matter.
+	slices.SortFunc(order, func(a, b pair) int { return cmp.Compare(a.v, b.v) })
 	r := make([]float64, len(v))
 	for i := 0; i < len(order); {
 		j := i
-		for j+1 < len(order) && v[order[j+1]] == v[order[i]] {
+		for j+1 < len(order) && order[j+1].v == order[i].v {
 			j++
 		}
 		avg := float64(i+j)/2 + 1
 		for k := i; k <= j; k++ {
-			r[order[k]] = avg
+			r[order[k].i] = avg
 		}
 		i = j + 1
 	}
