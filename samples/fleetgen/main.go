@@ -7,7 +7,7 @@
 //	go run ./samples/fleetgen -files-dir out/fleet-files
 //
 // Its output is never committed (out/ is scratch). The list of troubled ports and their causes is
-// written next to the CSV as <out>.truth.json.
+// written beside each output as <out>.truth.json and <files-dir>.truth.json.
 package main
 
 import (
@@ -184,5 +184,6 @@ func writeFiles(dir string, files, rows int, trouble float64, seed int64) error 
 			return err
 		}
 	}
-	return writeTruth(filepath.Join(dir, "truth.json"), truths)
+	// The truth goes beside the folder, not in it: triage reads every .json inside.
+	return writeTruth(filepath.Clean(dir)+".truth.json", truths)
 }
