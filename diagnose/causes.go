@@ -166,6 +166,29 @@ func (pc *portCtx) impairments() impairments {
 	return im
 }
 
+// impairmentFigures lists the port's CD, DGD, PDL, SOP rate and LO offset against their limits,
+// e.g. "|CD| 1359 of 2400 ps/nm, DGD p99 1.9 of 28 ps".
+func (pc *portCtx) impairmentFigures() string {
+	p := pc.prof
+	var parts []string
+	if pc.has(parse.CDpsPerNm) && p.CDTolerancePsNm > 0 {
+		parts = append(parts, fmt.Sprintf("|CD| %.0f of %.0f ps/nm", pc.absSum[parse.CDpsPerNm].P50, p.CDTolerancePsNm))
+	}
+	if pc.has(parse.DGDps) && p.DGDTolerancePs > 0 {
+		parts = append(parts, fmt.Sprintf("DGD p99 %.1f of %.0f ps", pc.sum[parse.DGDps].P99, p.DGDTolerancePs))
+	}
+	if pc.has(parse.PDLdB) && p.PDLTolerancedB > 0 {
+		parts = append(parts, fmt.Sprintf("PDL p99 %.2f of %.1f dB", pc.sum[parse.PDLdB].P99, p.PDLTolerancedB))
+	}
+	if pc.has(parse.SOPRateKradPerS) && p.SOPTrackingKradS > 0 {
+		parts = append(parts, fmt.Sprintf("SOP rate max %.1f of %.0f krad/s", pc.sum[parse.SOPRateKradPerS].Max, p.SOPTrackingKradS))
+	}
+	if pc.has(parse.LOOffsetMHz) && p.LOOffsetRangeMHz > 0 {
+		parts = append(parts, fmt.Sprintf("|LO offset| max %.0f of %.0f MHz", pc.absSum[parse.LOOffsetMHz].Max, p.LOOffsetRangeMHz))
+	}
+	return strings.Join(parts, ", ")
+}
+
 func pct(x float64) string { return fmt.Sprintf("%.0f %%", 100*x) }
 
 // signalLoss: power at the floor, no decoded signal, samples without readings, gaps in time.
@@ -632,8 +655,10 @@ func (pc *portCtx) osnrLow(im impairments) *score {
 		} else if !pc.has(parse.RxPowerDBm) {
 			s.add(llrWeak, "The Q margin is only %.1f dB (median); the log has no received power to rule a power problem in or out.", qm)
 		}
-		if len(im.names) == 0 && (pc.has(parse.CDpsPerNm) || pc.has(parse.DGDps) || pc.has(parse.PDLdB)) {
-			s.add(1.5, "None of the measured impairments (CD, DGD, PDL, SOP rate, LO offset) is out of line, so added noise is the likely reason.")
+		if len(im.names) == 0 {
+			if seen := pc.impairmentFigures(); seen != "" {
+				s.add(1.5, "None of the measured impairments is out of line (%s), so added noise is the likely reason.", seen)
+			}
 		}
 		if qm < 0 {
 			s.add(llrWeak, "The median Q is %.1f dB below the FEC-threshold Q of %.2f dB.", -qm, pc.qLimitDB)
@@ -675,9 +700,20 @@ func (pc *portCtx) routeRatio() float64 {
 	return meas / exp
 }
 
+// launchDBm is the plan's per-channel launch power into the spans: the highest span launch
+// power the link model computes (amplifiers included), else the plan's launch or tx power.
 func (pc *portCtx) launchDBm() float64 {
 	if pc.plan == nil {
 		return math.NaN()
+	}
+	if pc.exp != nil && len(pc.exp.Spans) > 0 {
+		l := math.Inf(-1)
+		for _, sp := range pc.exp.Spans {
+			l = math.Max(l, sp.LaunchPowerDBm)
+		}
+		if finite(l) {
+			return l
+		}
 	}
 	if pc.plan.LaunchPowerDBm != 0 {
 		return pc.plan.LaunchPowerDBm

@@ -2,7 +2,7 @@ package diagnose_test
 
 import (
 	"fmt"
-	"os"
+	"slices"
 	"strings"
 	"testing"
 
@@ -11,6 +11,11 @@ import (
 	"github.com/beatnote/beatnote/rules"
 	"github.com/beatnote/beatnote/samples/synth"
 )
+
+// These tests run the engine on ports made by samples/synth, which builds each port from a link
+// plan and the physics models with a fault injected; the engine never sees what was injected.
+// The check is the cause ranking, not a number: every scenario is judged across 20 seeds and
+// severities spread over synth's whole 0…1 range.
 
 func mustRules(t testing.TB) rules.Rules {
 	t.Helper()
@@ -35,45 +40,152 @@ func judge(t testing.TB, c synth.Case, r rules.Rules, withPlan bool) diagnose.Po
 	return diagnose.AnalyzePort(c.Series, c.Profile, &plan, &exp, r)
 }
 
-func causeIDs(p diagnose.PortResult) string {
+func causeList(p diagnose.PortResult) string {
 	var s []string
 	for _, c := range p.Causes {
 		s = append(s, fmt.Sprintf("%s %.2f", c.ID, c.Confidence))
 	}
-	return strings.Join(s, ", ")
+	return "[" + strings.Join(s, ", ") + "]"
 }
 
-func TestExploreScenarios(t *testing.T) {
+func ids(p diagnose.PortResult) []string {
+	var s []string
+	for _, c := range p.Causes {
+		s = append(s, c.ID)
+	}
+	return s
+}
+
+const seeds = 20
+
+// severity spreads the seeds over synth's severity range 0…1.
+func severity(seed int64) float64 { return float64(seed-1) / float64(seeds-1) }
+
+type scenario struct {
+	profile  string
+	samples  int
+	withPlan bool
+}
+
+func (s scenario) String() string {
+	return fmt.Sprintf("%s/%d samples/plan=%v", s.profile, s.samples, s.withPlan)
+}
+
+var scenarios = []scenario{
+	{"400g-dp-16qam-cfec", 1440, true},
+	{"400g-dp-16qam-cfec", 1440, false},
+	{"200g-dp-16qam", 720, true},
+}
+
+// canInject reports whether synth can make the cause on the profile (it refuses cd-over-limit
+// on modules whose CD range no regional route reaches).
+func canInject(cause, profile string) bool {
+	return cause != diagnose.CauseCDOverLimit || profile == "400g-dp-16qam-cfec"
+}
+
+func TestHealthyPortsPassWithNoCause(t *testing.T) {
 	r := mustRules(t)
-	for _, cause := range append([]string{""}, synth.AllCauses...) {
-		for _, withPlan := range []bool{true, false} {
-			ok, total := 0, 0
-			var bad []string
-			for seed := int64(1); seed <= 20; seed++ {
-				sev := float64(seed%5) / 4
-				spec := synth.Spec{Seed: seed, Severity: sev, ProfileID: os.Getenv("DBG_PROFILE")}
-				if cause != "" {
-					spec.Causes = []string{cause}
+	for _, sc := range scenarios {
+		for seed := int64(1); seed <= seeds; seed++ {
+			c, err := synth.Make(synth.Spec{Seed: seed, ProfileID: sc.profile, Samples: sc.samples})
+			if err != nil {
+				t.Fatal(err)
+			}
+			p := judge(t, c, r, sc.withPlan)
+			if len(p.Causes) != 0 || p.Verdict != diagnose.Pass {
+				t.Errorf("%v seed %d: verdict %s causes %s, want pass and none", sc, seed, p.Verdict, causeList(p))
+			}
+		}
+	}
+}
+
+func TestEveryCauseIsTopCauseOfItsScenario(t *testing.T) {
+	r := mustRules(t)
+	for _, cause := range synth.AllCauses {
+		for _, sc := range scenarios {
+			if !canInject(cause, sc.profile) {
+				continue
+			}
+			// Without a plan there is no expected CD (DESIGN.md: every cause but cd-mismatch is
+			// judged without a plan); nonlinear without a plan is a known weakness, tested below.
+			if !sc.withPlan && (cause == diagnose.CauseCDMismatch || cause == diagnose.CauseNonlinear) {
+				continue
+			}
+			t.Run(cause+"/"+sc.String(), func(t *testing.T) {
+				for seed := int64(1); seed <= seeds; seed++ {
+					c, err := synth.Make(synth.Spec{Seed: seed, Severity: severity(seed), Causes: []string{cause}, ProfileID: sc.profile, Samples: sc.samples})
+					if err != nil {
+						t.Fatal(err)
+					}
+					p := judge(t, c, r, sc.withPlan)
+					if len(p.Causes) == 0 || p.Causes[0].ID != cause {
+						t.Errorf("seed %d severity %.2f: causes %s, want %s on top", seed, severity(seed), causeList(p), cause)
+						continue
+					}
+					if p.Verdict == diagnose.Pass {
+						t.Errorf("seed %d: verdict pass with cause %s listed", seed, cause)
+					}
+					if c.Verdict == diagnose.Fail && p.Verdict != diagnose.Fail {
+						t.Errorf("seed %d: verdict %s, but synth crossed a module limit (fail)", seed, p.Verdict)
+					}
+					for _, e := range p.Causes[0].Evidence {
+						if !strings.ContainsAny(e, "0123456789") {
+							t.Errorf("seed %d: evidence without a number: %q", seed, e)
+						}
+					}
+					if len(p.Causes[0].Actions) == 0 {
+						t.Errorf("seed %d: %s has no field actions", seed, cause)
+					}
 				}
-				c, err := synth.Make(spec)
-				if err != nil {
-					t.Fatal(err)
-				}
-				p := judge(t, c, r, withPlan)
-				total++
-				good := false
-				if cause == "" {
-					good = len(p.Causes) == 0 && p.Verdict == diagnose.Pass
-				} else {
-					good = len(p.Causes) > 0 && p.Causes[0].ID == cause
-				}
-				if good {
-					ok++
-				} else if len(bad) < 4 {
-					bad = append(bad, fmt.Sprintf("seed %d sev %.2f verdict %s [%s]", seed, sev, p.Verdict, causeIDs(p)))
+			})
+		}
+	}
+}
+
+// Two troubles on one port: both are listed.
+func TestMixedCausesAreBothListed(t *testing.T) {
+	r := mustRules(t)
+	for _, mix := range [][]string{
+		{diagnose.CauseRxPowerLow, diagnose.CauseSOPTransient},
+		{diagnose.CausePDLHigh, diagnose.CauseLOOffset},
+		{diagnose.CausePMD, diagnose.CauseSOPTransient},
+	} {
+		for seed := int64(1); seed <= seeds; seed++ {
+			c, err := synth.Make(synth.Spec{Seed: seed, Severity: severity(seed), Causes: mix, Samples: 720})
+			if err != nil {
+				t.Fatal(err)
+			}
+			p := judge(t, c, r, true)
+			got := ids(p)
+			for _, want := range mix {
+				if !slices.Contains(got, want) {
+					t.Errorf("%v seed %d severity %.2f: causes %s lack %s", mix, seed, severity(seed), causeList(p), want)
 				}
 			}
-			t.Logf("%-14s plan=%-5v %2d/%d  %s", cause, withPlan, ok, total, strings.Join(bad, " | "))
 		}
+	}
+}
+
+// Nonlinear interference without a plan can only be told from the eSNR shortfall against the
+// reported OSNR; mild cases stay below the evidence floor. This records the rate rather than
+// hiding it, and fails if it drops below half.
+func TestNonlinearWithoutPlanDetectionRate(t *testing.T) {
+	r := mustRules(t)
+	found := 0
+	for seed := int64(1); seed <= seeds; seed++ {
+		c, err := synth.Make(synth.Spec{Seed: seed, Severity: severity(seed), Causes: []string{diagnose.CauseNonlinear}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		p := judge(t, c, r, false)
+		if len(p.Causes) > 0 && p.Causes[0].ID == diagnose.CauseNonlinear {
+			found++
+		} else if len(p.Causes) > 0 {
+			t.Errorf("seed %d: wrong top cause %s", seed, causeList(p))
+		}
+	}
+	t.Logf("nonlinear found without a plan in %d of %d seeds", found, seeds)
+	if found < seeds/2 {
+		t.Errorf("nonlinear found without a plan in only %d of %d seeds", found, seeds)
 	}
 }
