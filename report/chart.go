@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"slices"
+	"time"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
@@ -140,8 +142,82 @@ func newTimePlot(title, yLabel string, spanMs int64) *plot.Plot {
 	if spanMs > 20*3600*1000 {
 		format = "Jan 02 15:04"
 	}
-	p.X.Tick.Marker = plot.TimeTicks{Format: format}
+	p.X.Tick.Marker = timeTicker{format: format}
 	return p
+}
+
+// addSeries draws a telemetry trace, broken wherever the samples stop for more than three
+// typical intervals, so that a gap in the log is not drawn as data.
+func addSeries(p *plot.Plot, ts []int64, vs []float64, label string) error {
+	gap := 3 * medianStepMs(ts)
+	start := 0
+	for i := 1; i <= len(ts); i++ {
+		if i < len(ts) && ts[i]-ts[i-1] <= gap {
+			continue
+		}
+		l := ""
+		if start == 0 {
+			l = label
+		}
+		xy := timeXY(ts[start:i], vs[start:i])
+		if len(xy) == 1 { // a lone sample between gaps: draw it as a dot
+			sc, err := plotter.NewScatter(xy)
+			if err != nil {
+				return err
+			}
+			sc.GlyphStyle.Color, sc.GlyphStyle.Radius, sc.GlyphStyle.Shape = colData, vg.Points(1.2), draw.CircleGlyph{}
+			p.Add(sc)
+		} else if err := addLine(p, xy, colData, vg.Points(1), nil, l); err != nil {
+			return err
+		}
+		start = i
+	}
+	return nil
+}
+
+// medianStepMs is the median spacing of ascending times (1 for fewer than two).
+func medianStepMs(ts []int64) int64 {
+	if len(ts) < 2 {
+		return 1
+	}
+	d := make([]int64, len(ts)-1)
+	for i := range d {
+		d[i] = ts[i+1] - ts[i]
+	}
+	slices.Sort(d)
+	return max(d[len(d)/2], 1)
+}
+
+// timeTicker puts ticks on round UTC times: a step from one minute to a week chosen to give
+// four to eight major ticks.
+type timeTicker struct{ format string }
+
+var tickStepsS = []int64{60, 120, 300, 600, 900, 1800, 3600, 7200, 10800, 21600, 43200, 86400, 172800, 604800}
+
+// Ticks implements plot.Ticker.
+func (tt timeTicker) Ticks(min, max float64) []plot.Tick {
+	span := max - min
+	step := tickStepsS[len(tickStepsS)-1]
+	for _, s := range tickStepsS {
+		if span/float64(s) <= 7 {
+			step = s
+			break
+		}
+	}
+	minor := step / 4
+	if minor < 1 {
+		minor = 1
+	}
+	var ticks []plot.Tick
+	first := int64(math.Ceil(min/float64(minor))) * minor
+	for t := first; float64(t) <= max; t += minor {
+		tk := plot.Tick{Value: float64(t)}
+		if t%step == 0 {
+			tk.Label = time.Unix(t, 0).UTC().Format(tt.format)
+		}
+		ticks = append(ticks, tk)
+	}
+	return ticks
 }
 
 func timeXY(ts []int64, vs []float64) plotter.XYs {
@@ -153,6 +229,18 @@ func timeXY(ts []int64, vs []float64) plotter.XYs {
 	return xy
 }
 
+// minMax is the smallest and largest finite value (±Inf when there is none).
+func minMax(vs []float64) (lo, hi float64) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for _, v := range vs {
+		if !math.IsNaN(v) && !math.IsInf(v, 0) {
+			lo, hi = math.Min(lo, v), math.Max(hi, v)
+		}
+	}
+	return lo, hi
+}
+
+// rangeOf is the axis range for vs and extra: their span padded by 8 % on each side.
 func rangeOf(vs []float64, extra ...float64) (lo, hi float64) {
 	lo, hi = math.Inf(1), math.Inf(-1)
 	for _, v := range append(append([]float64(nil), vs...), extra...) {
@@ -273,7 +361,7 @@ func (a *Acceptance) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 		if err := addSpans(p, m.BERBursts, lo, hi, float64(span)/1000/250, "BER burst"); err != nil {
 			return nil, err
 		}
-		if err := addLine(p, timeXY(ts, vs), colData, vg.Points(1), nil, "Q"); err != nil {
+		if err := addSeries(p, ts, vs, "Q"); err != nil {
 			return nil, err
 		}
 		caption := "Q-factor as reported by the module."
@@ -317,7 +405,7 @@ func (a *Acceptance) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 	if err := addSpans(p, m.BERBursts, lo, hi, float64(span)/1000/250, "BER burst"); err != nil {
 		return nil, err
 	}
-	if err := addLine(p, timeXY(pts, pvs), colData, vg.Points(1), nil, "pre-FEC BER"); err != nil {
+	if err := addSeries(p, pts, pvs, "pre-FEC BER"); err != nil {
 		return nil, err
 	}
 	caption := "Pre-FEC BER as reported by the module (log scale)."
@@ -340,22 +428,43 @@ func (a *Acceptance) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error)
 		return nil, nil
 	}
 	p := newTimePlot("Received power over time", "Rx power (dBm)", ts[len(ts)-1]-ts[0])
-	var extra []float64
-	if a.profile != nil && a.profile.RxPowerMinDBm < a.profile.RxPowerMaxDBm {
-		extra = append(extra, a.profile.RxPowerMinDBm)
+	vlo, vhi := minMax(vs)
+	caption := "Total received optical power."
+	// A limit line is drawn when the power comes within 6 dB of it; further away it would only
+	// flatten the trace, and the caption gives the figure instead.
+	type limit struct {
+		v    float64
+		name string
+		near bool
+	}
+	var limits []limit
+	if pf := a.profile; pf != nil && pf.RxPowerMinDBm < pf.RxPowerMaxDBm {
+		limits = []limit{
+			{pf.RxPowerMinDBm, "sensitivity", vlo-pf.RxPowerMinDBm < 6},
+			{pf.RxPowerMaxDBm, "overload", pf.RxPowerMaxDBm-vhi < 6},
+		}
+	}
+	extra := []float64{}
+	for _, l := range limits {
+		if l.near {
+			extra = append(extra, l.v)
+		}
 	}
 	lo, hi := rangeOf(vs, extra...)
 	hi = legendRoom(lo, hi)
-	if err := addLine(p, timeXY(ts, vs), colData, vg.Points(1), nil, "Rx power"); err != nil {
+	if err := addSeries(p, ts, vs, "Rx power"); err != nil {
 		return nil, err
 	}
-	caption := "Total received optical power."
-	if len(extra) > 0 {
-		x0, x1 := float64(ts[0])/1000, float64(ts[len(ts)-1])/1000
-		if err := addHLine(p, x0, x1, a.profile.RxPowerMinDBm, colLimit, fmt.Sprintf("sensitivity %.1f dBm", a.profile.RxPowerMinDBm)); err != nil {
-			return nil, err
+	x0, x1 := float64(ts[0])/1000, float64(ts[len(ts)-1])/1000
+	for _, l := range limits {
+		if l.near {
+			if err := addHLine(p, x0, x1, l.v, colLimit, fmt.Sprintf("%s %.1f dBm", l.name, l.v)); err != nil {
+				return nil, err
+			}
+			caption += fmt.Sprintf(" Dashed line: the module's %s limit %.1f dBm.", l.name, l.v)
+		} else {
+			caption += fmt.Sprintf(" The %s limit, %.1f dBm, lies outside the chart.", l.name, l.v)
 		}
-		caption += fmt.Sprintf(" Dashed line: the module's sensitivity limit %.1f dBm.", a.profile.RxPowerMinDBm)
 	}
 	if err := addVMarks(p, m.RxPowerChanges, lo, hi, "change point"); err != nil {
 		return nil, err
@@ -429,17 +538,25 @@ func (a *Acceptance) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 	}
 	span := ts[len(ts)-1] - ts[0]
 	p := newTimePlot("SOP rate of change over time", "SOP rate (krad/s)", span)
+	// The tracking limit is drawn when the rate reaches a third of it; below that it would only
+	// flatten the trace, and the caption gives the figure instead.
 	var extra []float64
+	_, vhi := minMax(vs)
+	farBelow := false
 	if a.profile != nil && a.profile.SOPTrackingKradS > 0 {
-		extra = append(extra, a.profile.SOPTrackingKradS)
+		if vhi >= a.profile.SOPTrackingKradS/3 {
+			extra = append(extra, a.profile.SOPTrackingKradS)
+		} else {
+			farBelow = true
+		}
 	}
 	lo, hi := rangeOf(vs, extra...)
-	hi = legendRoom(lo, hi)
 	lo = math.Min(lo, 0)
+	hi = legendRoom(lo, hi)
 	if err := addSpans(p, m.BERBursts, lo, hi, float64(span)/1000/250, "BER burst"); err != nil {
 		return nil, err
 	}
-	if err := addLine(p, timeXY(ts, vs), colData, vg.Points(1), nil, "SOP rate"); err != nil {
+	if err := addSeries(p, ts, vs, "SOP rate"); err != nil {
 		return nil, err
 	}
 	caption := "Rate of change of the state of polarization."
@@ -448,6 +565,9 @@ func (a *Acceptance) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 			return nil, err
 		}
 		caption += fmt.Sprintf(" Dashed line: the module's SOP tracking limit %.0f krad/s.", extra[0])
+	}
+	if farBelow {
+		caption += fmt.Sprintf(" The module tracks up to %.0f krad/s, far above this trace.", a.profile.SOPTrackingKradS)
 	}
 	if err := addTopMarks(p, m.SOPSpikes, lo+(hi-lo)*0.8, "SOP spike start"); err != nil {
 		return nil, err
@@ -472,7 +592,7 @@ func (a *Acceptance) chartLO(s *parse.Series, m ChartMarks) (*Chart, error) {
 	p := newTimePlot("Carrier (LO) frequency offset over time", "LO offset (MHz)", ts[len(ts)-1]-ts[0])
 	lo, hi := rangeOf(vs)
 	hi = legendRoom(lo, hi)
-	if err := addLine(p, timeXY(ts, vs), colData, vg.Points(1), nil, "LO offset"); err != nil {
+	if err := addSeries(p, ts, vs, "LO offset"); err != nil {
 		return nil, err
 	}
 	caption := "Carrier frequency offset between signal and local oscillator."
@@ -494,7 +614,7 @@ func (a *Acceptance) chartLO(s *parse.Series, m ChartMarks) (*Chart, error) {
 		rng := a.profile.LOOffsetRangeMHz
 		caption += fmt.Sprintf(" The receiver captures offsets within ±%.0f MHz.", rng)
 		// Draw the capture limit the data comes within half the range of.
-		vlo, vhi := rangeOf(vs)
+		vlo, vhi := minMax(vs)
 		x0, x1 := float64(ts[0])/1000, float64(ts[len(ts)-1])/1000
 		for _, lim := range []float64{rng, -rng} {
 			if (lim > 0 && vhi > lim/2) || (lim < 0 && vlo < lim/2) {
