@@ -16,7 +16,9 @@ import (
 
 // ReportCmd writes an acceptance report for one circuit, optionally signed.
 type ReportCmd struct {
-	Logs []string `arg:"" name:"log" help:"Telemetry exports of the circuit (files or folders)." type:"path"`
+	// Logs stay as typed (no type:"path"): the report prints them, and absolute paths would
+	// make it depend on the folder it was made in.
+	Logs []string `arg:"" name:"log" help:"Telemetry exports of the circuit (files or folders)."`
 	judgeFlags
 	Out    string `required:"" help:"Report file to write." placeholder:"FILE.pdf" type:"path"`
 	Format string `help:"Report format: pdf, markdown or json." enum:"pdf,markdown,json" default:"pdf"`
@@ -143,6 +145,10 @@ func (c *ReportCmd) validate() error {
 	return nil
 }
 
+// maxReportPorts bounds the ports of one acceptance report: a circuit has a few (both ends,
+// a protection pair); a fleet belongs in triage.
+const maxReportPorts = 16
+
 // reportInput is what the report is made from, plus the input files the signature covers.
 type reportInput struct {
 	report.AcceptanceInput
@@ -211,6 +217,9 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 		if n := len(a.Result.Ports) - len(res.Ports); n > 0 {
 			pr.Notef("note: %d port(s) not listed in the plan are left out of the report", n)
 		}
+	}
+	if len(res.Ports) > maxReportPorts {
+		return nil, &exitError{code: 2, err: fmt.Errorf("the inputs hold %d ports; an acceptance report covers one circuit (at most %d ports): list its ports in the plan (ports:) or use triage for a fleet", len(res.Ports), maxReportPorts)}
 	}
 	for _, st := range a.DS.Inputs {
 		in.files = append(in.files, st.File)
