@@ -345,7 +345,7 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 		tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		fmt.Fprintln(tw, "  cause\ttop cause of\tlisted on\t")
 		for _, c := range counts {
-			fmt.Fprintf(tw, "  %s\t%d ports\t%d ports\t\n", c.ID, c.Top, c.Ports)
+			fmt.Fprintf(tw, "  %s\t%s\t%s\t\n", c.ID, ports(c.Top), ports(c.Ports))
 		}
 		tw.Flush()
 	}
@@ -404,4 +404,11 @@ func WriteTriageMarkdown(w io.Writer, shown, all []diagnose.PortResult) error {
 		fmt.Fprintf(w, "| %s | %d | %d |\n", c.ID, c.Top, c.Ports)
 	}
 	return nil
+}
+
+func ports(n int) string {
+	if n == 1 {
+		return "1 port"
+	}
+	return strconv.Itoa(n) + " ports"
 }
