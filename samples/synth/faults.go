@@ -205,7 +205,11 @@ func (f *faults) apply(m *linkModel, c *Case, prof rules.Profile) error {
 			// of the log, from 35–60 % of the way through.
 			f.lossFrom = 0.35 + 0.25*rng.Float64()
 			f.lossTo = math.Min(1, f.lossFrom+0.1+0.4*s)
-			note("light lost from %.0f %% to %.0f %% of the log", 100*f.lossFrom, 100*f.lossTo)
+			if c.Spec.SignalLossAsGap {
+				note("light lost from %.0f %% to %.0f %% of the log; the port reports nothing meanwhile", 100*f.lossFrom, 100*f.lossTo)
+			} else {
+				note("light lost from %.0f %% to %.0f %% of the log: power at the %g dBm floor, BER 0.5", 100*f.lossFrom, 100*f.lossTo, lossFloorDBm)
+			}
 		}
 	}
 	return nil
