@@ -225,15 +225,19 @@ func (pc *portCtx) signalLoss() *score {
 			s.add(llrStrong, "Pre-FEC BER was at or above %.2g (0.5 means random decisions: nothing decoded) in %d samples.", noLockBER, noLock)
 		}
 	}
-	// Samples present in time but without any performance or power reading.
+	// Sample times at which the port reported nothing at all (every quantity missing).
 	empty := 0
 	for i := 0; i < pc.n; i++ {
-		if nanAt(pc.ber, i) && nanAt(pc.s.Values[parse.RxPowerDBm], i) && nanAt(pc.qdb, i) {
+		all := true
+		for q := parse.Quantity(0); q < parse.NumQuantities && all; q++ {
+			all = nanAt(pc.s.Values[q], i)
+		}
+		if all {
 			empty++
 		}
 	}
-	if empty > 0 && (pc.ber != nil || pc.has(parse.RxPowerDBm)) {
-		s.add(llrStrong, "%d of %d samples carry no BER, Q or power reading although the port reported them at other times.", empty, pc.n)
+	if empty > 0 {
+		s.add(llrStrong, "%d of %d sample times carry no reading at all although the port reported at other times.", empty, pc.n)
 	}
 	// Gaps in the sample times.
 	if pc.intervalMs > 0 && pc.n > 2 {

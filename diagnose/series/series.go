@@ -1,7 +1,7 @@
 // Package series holds the time-series statistics the diagnosis engine uses: order statistics,
 // straight-line trends with their standard error, change points in the mean, runs above a
-// threshold and their coincidence across two series, Spearman rank correlation, and the
-// Kolmogorov–Smirnov goodness-of-fit statistic.
+// threshold and their coincidence across two series, and Spearman rank correlation. (The
+// Maxwellian goodness-of-fit of DGD samples lives with the PMD model, optics.FitMaxwell.)
 //
 // Conventions: values are float64 with NaN meaning "missing"; functions that summarise a series
 // skip NaN and return NaN when nothing finite is left. Times are Unix milliseconds (UTC), in

@@ -192,23 +192,6 @@ func TestSpearmanMatchesScipy(t *testing.T) {
 	}
 }
 
-// Expected D from scipy 1.10 scipy.stats.kstest against scipy.stats.maxwell(scale=a) with
-// mean 2 = 2a·√(2/π); the p-value from scipy.stats.kstwobign.sf at Stephens' λ.
-func TestKSAgainstMaxwellMatchesScipy(t *testing.T) {
-	s := []float64{0.61, 1.8, 2.2, 0.95, 3.7, 1.4, 2.9, 0.33, 1.1, 2.4, 1.7, 4.6, 0.8, 2.0, 1.3}
-	sortFloats(s)
-	a := 2.0 / (2 * math.Sqrt(2/math.Pi))
-	cdf := func(x float64) float64 { // Maxwell CDF written out here, independent of the optics package
-		u := x / a
-		return math.Erf(u/math.Sqrt2) - math.Sqrt(2/math.Pi)*u*math.Exp(-u*u/2)
-	}
-	d := KSStatistic(s, cdf)
-	near(t, "D", d, 0.20823687685836, 1e-12)
-	near(t, "p", KSPValue(d, len(s)), 0.48465625571452153, 1e-9)
-	// kstwobign.sf(1.36) = 0.049485876755377876 (scipy): λ = 1.36 with n so large the correction vanishes.
-	near(t, "Q_KS(1.36)", KSPValue(1.36/(1e4+0.12+0.11/1e4), 1e8), 0.049485876755377876, 1e-6)
-}
-
 func TestNoiseSigmaIgnoresStep(t *testing.T) {
 	// White ±1 alternation has first differences ±2 → MAD of differences 2·… ; a step adds one
 	// outlying difference and must not move the estimate (by hand: all |Δ−median| equal 2).
