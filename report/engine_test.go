@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"encoding/json"
+	"io"
 	"os"
 	"path/filepath"
 	"strings"
@@ -17,7 +18,7 @@ import (
 
 // engineAcceptance runs the real engine on a generated port (samples/synth) and builds the
 // report from its result, as the report command does.
-func engineAcceptance(t *testing.T, causes []string, seed int64, signing *Signing, fields SignOff) (*Acceptance, synth.Case) {
+func engineAcceptance(t testing.TB, causes []string, seed int64, signing *Signing, fields SignOff) (*Acceptance, synth.Case) {
 	t.Helper()
 	c, err := synth.Make(synth.Spec{Causes: causes, Severity: 0.7, Seed: seed, Circuit: "demo-circuit-7", EndA: "north-hub", EndZ: "river-pop"})
 	if err != nil {
@@ -120,5 +121,17 @@ func TestEngineSampleFiles(t *testing.T) {
 		plan.Ports = []string{c.Series.Port}
 		pj, _ := json.Marshal(plan) // JSON is valid YAML
 		os.WriteFile(filepath.Join(dir, cause+".plan.yaml"), pj, 0o644)
+	}
+}
+
+// BenchmarkWritePDF measures one signed-style report of a day-long, one-minute port with every
+// chart (the turn-up case on a laptop).
+func BenchmarkWritePDF(b *testing.B) {
+	a, _ := engineAcceptance(b, []string{diagnose.CauseSOPTransient}, 11, &Signing{Signer: "B", KeyFingerprint: "SHA256:00"}, SignOff{})
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if err := a.WritePDF(io.Discard, PDFOptions{}); err != nil {
+			b.Fatal(err)
+		}
 	}
 }
