@@ -15,8 +15,10 @@ import (
 	"encoding/json"
 	"flag"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
+	"reflect"
 	"strings"
 	"time"
 
@@ -97,8 +99,8 @@ type manifestEntry struct {
 	Seed       int64            `json:"seed"`
 	Samples    int              `json:"samples"`
 	Notes      []string         `json:"notes"`
-	Design     synth.Link       `json:"design"`
-	Actual     synth.Link       `json:"actual"`
+	Design     map[string]any   `json:"design"`
+	Actual     map[string]any   `json:"actual"`
 }
 
 type manifest struct {
@@ -156,13 +158,13 @@ func generate(dir string) error {
 		if c.Verdict == diagnose.Marginal {
 			acc = append(acc, string(diagnose.Fail))
 		}
-		causes := c.Causes
+		causes, notes := c.Causes, c.Notes
 		if causes == nil {
-			causes = []string{}
+			causes, notes = []string{}, []string{}
 		}
 		man.Logs = append(man.Logs, manifestEntry{File: "logs/" + ct.file, Format: string(ct.format), Port: ct.port,
 			Circuit: ct.id, Plan: planFile, Profile: ct.profile, Verdict: c.Verdict, Acceptable: acc, Causes: causes,
-			Severity: severity, Seed: ct.seed, Samples: c.Series.Len(), Notes: c.Notes, Design: roundLink(c.Design), Actual: roundLink(c.Actual)})
+			Severity: severity, Seed: ct.seed, Samples: c.Series.Len(), Notes: notes, Design: linkJSON(c.Design), Actual: linkJSON(c.Actual)})
 	}
 	if err := os.WriteFile(filepath.Join(dir, "portmap.yaml"), []byte(pm.String()), 0o644); err != nil {
 		return err
@@ -174,28 +176,21 @@ func generate(dir string) error {
 	return os.WriteFile(filepath.Join(dir, "manifest.json"), append(js, '\n'), 0o644)
 }
 
-// roundLink rounds a link's figures to 0.01 for the manifest (and keeps JSON free of ±Inf).
-func roundLink(l synth.Link) synth.Link {
-	r := func(x *float64) {
-		switch {
-		case *x != *x || *x > 1e9 || *x < -1e9:
-			*x = 0
-		default:
-			*x = float64(int64(*x*100+sign(*x)*0.5)) / 100
+// linkJSON gives a link's figures, by their JSON names, rounded to 0.01 for the manifest; a
+// figure that is not finite (no NLI model, no optimum) is null.
+func linkJSON(l synth.Link) map[string]any {
+	out := map[string]any{}
+	v := reflect.ValueOf(l)
+	for i := range v.NumField() {
+		name, _, _ := strings.Cut(v.Type().Field(i).Tag.Get("json"), ",")
+		x := v.Field(i).Float()
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			out[name] = nil
+			continue
 		}
+		out[name] = math.Round(x*100) / 100
 	}
-	for _, p := range []*float64{&l.RouteKm, &l.CDPsNm, &l.MeanDGDPs, &l.RxPowerDBm, &l.TxPowerDBm, &l.LaunchPowerDBm,
-		&l.OptimumLaunchDBm, &l.OSNRdB, &l.NLISNRdB, &l.B2BSNRdB, &l.ESNRdB, &l.PDLdB, &l.FrequencyTHz} {
-		r(p)
-	}
-	return l
-}
-
-func sign(x float64) float64 {
-	if x < 0 {
-		return -1
-	}
-	return 1
+	return out
 }
 
 // render writes one series in the circuit's format.
