@@ -106,7 +106,11 @@ func (a *Acceptance) WriteMarkdown(w io.Writer) error {
 	p := func(format string, args ...any) { fmt.Fprintf(b, format, args...) }
 
 	p("# Coherent link acceptance report — %s\n\n", mdText(a.Circuit))
-	p("**Verdict: %s** — %s\n\n", VerdictWords(a.Verdict), verdictMeaning(a.Verdict))
+	p("**Verdict: %s** — %s", VerdictWords(a.Verdict), verdictMeaning(a.Verdict))
+	if tally := criteriaTally(a); tally != "" {
+		p(" %s", tally)
+	}
+	p("\n\n")
 	p("| | |\n| --- | --- |\n")
 	p("| Circuit | %s |\n", mdCell(a.Circuit))
 	p("| End A | %s |\n", mdCell(orBlank(a.EndA, "not stated")))

@@ -278,6 +278,20 @@ func TestOddTextLaysOut(t *testing.T) {
 	if pages < 3 || pages > 15 {
 		t.Errorf("%d pages", pages)
 	}
+	// A field far taller than a page continues on the next pages, every word kept.
+	huge := fixtureAcceptance(t, SignOff{Notes: strings.Repeat("numbered-word ", 4000)}, nil)
+	var hb bytes.Buffer
+	if err := huge.WritePDF(&hb, PDFOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	keepPDF(t, "hugenotes.pdf", hb.Bytes())
+	htext, hpages := pdfText(t, hb.Bytes())
+	if got := strings.Count(htext, "numbered-word"); got != 4000 {
+		t.Errorf("huge notes: %d of 4000 words in the PDF", got)
+	}
+	if hpages < 6 || hpages > 20 {
+		t.Errorf("huge notes: %d pages", hpages)
+	}
 	// Markdown keeps the original letters.
 	var md bytes.Buffer
 	if err := a.WriteMarkdown(&md); err != nil {

@@ -299,51 +299,69 @@ type column struct {
 	width float64 // fraction of the content width
 	align string  // L, R or C
 	mono  bool
+	// subdued draws every paragraph after the first smaller and in grey (sources, notes).
+	subdued bool
+	// verdict draws the cell (a verdict word) bold in the verdict's colour.
+	verdict bool
 }
 
-// table draws a table with wrapped cells; rows never split across pages and the header row is
-// repeated after a page break. Every cell's text is wrapped, none is cut.
+// cellLine is one wrapped line of a table cell.
+type cellLine struct {
+	text string
+	sub  bool // a subdued line
+}
+
+// table draws a table with wrapped cells. Every cell's text is wrapped, none is cut. The header
+// row is repeated after a page break; a row that fits on a page is never split, a taller one
+// continues on the next page.
 func (pw *pdfWriter) table(cols []column, rows [][]string, size float64) {
 	pdf := pw.pdf
 	lineH := size * 0.47
+	padY := pdfCellPad * 0.6
 	widths := make([]float64, len(cols))
 	for i, c := range cols {
 		widths[i] = c.width * pw.contentW
 	}
-	setFont := func(c column, bold bool) {
+	setFont := func(c column, bold, sub bool) {
 		switch {
 		case bold:
 			pdf.SetFont("sans", "B", size)
+		case sub:
+			pdf.SetFont("sans", "", size-1.5)
 		case c.mono:
 			pdf.SetFont("mono", "", size-0.5)
 		default:
 			pdf.SetFont("sans", "", size)
 		}
 	}
-	layout := func(cells []string, bold bool) ([][]string, float64) {
-		out := make([][]string, len(cols))
+	layout := func(cells []string, bold bool) ([][]cellLine, int) {
+		out := make([][]cellLine, len(cols))
 		n := 1
 		for i, c := range cols {
-			setFont(c, bold)
 			txt := ""
 			if i < len(cells) {
 				txt = pw.text(cells[i])
 			}
-			var lines []string
-			for _, para := range strings.Split(txt, "\n") {
+			var lines []cellLine
+			for k, para := range strings.Split(txt, "\n") {
+				sub := c.subdued && k > 0 && !bold
+				setFont(c, bold || c.verdict, sub)
 				sl := pdf.SplitText(para, widths[i])
 				if len(sl) == 0 {
 					sl = []string{""}
 				}
-				lines = append(lines, sl...)
+				for _, l := range sl {
+					lines = append(lines, cellLine{text: l, sub: sub})
+				}
 			}
 			out[i] = lines
 			n = max(n, len(lines))
 		}
-		return out, float64(n)*lineH + 2*pdfCellPad*0.6
+		return out, n
 	}
-	draw := func(cells [][]string, h float64, bold bool, fill bool) {
+	draw := func(cells [][]cellLine, from, to int, bold, fill bool) {
 		x0, y0 := pdfMargin, pdf.GetY()
+		h := float64(to-from)*lineH + 2*padY
 		x := x0
 		for i, c := range cols {
 			if fill {
@@ -353,10 +371,19 @@ func (pw *pdfWriter) table(cols []column, rows [][]string, size float64) {
 			pdf.SetDrawColor(190, 190, 190)
 			pdf.SetLineWidth(0.2)
 			pdf.Rect(x, y0, widths[i], h, "D")
-			setFont(c, bold)
-			for j, line := range cells[i] {
-				pdf.SetXY(x, y0+pdfCellPad*0.6+float64(j)*lineH)
-				pdf.CellFormat(widths[i], lineH, line, "", 0, c.align, false, 0, "")
+			for j := from; j < to && j < len(cells[i]); j++ {
+				line := cells[i][j]
+				setFont(c, bold || c.verdict, line.sub)
+				switch {
+				case c.verdict && !bold:
+					_, col := verdictColours(verdictFromWords(line.text))
+					pdf.SetTextColor(col[0], col[1], col[2])
+				case line.sub:
+					pdf.SetTextColor(95, 95, 95)
+				}
+				pdf.SetXY(x, y0+padY+float64(j-from)*lineH)
+				pdf.CellFormat(widths[i], lineH, line.text, "", 0, c.align, false, 0, "")
+				pdf.SetTextColor(0, 0, 0)
 			}
 			x += widths[i]
 		}
@@ -366,20 +393,39 @@ func (pw *pdfWriter) table(cols []column, rows [][]string, size float64) {
 	for i, c := range cols {
 		titles[i] = c.title
 	}
-	head, headH := layout(titles, true)
+	head, headN := layout(titles, true)
+	headH := float64(headN)*lineH + 2*padY
 	_, pageH := pdf.GetPageSize()
 	limit := pageH - pdfBottom - 4
+	// Lines a fresh page holds below the running header and the table header.
+	pageLines := int((limit - pdfMargin - 9 - headH - 2*padY) / lineH)
 	pw.ensure(headH + 2*lineH + 3)
-	draw(head, headH, true, true)
+	draw(head, 0, headN, true, true)
 	for _, r := range rows {
-		cells, h := layout(r, false)
-		if pdf.GetY()+h > limit {
-			pdf.AddPage()
-			draw(head, headH, true, true)
+		cells, n := layout(r, false)
+		for from := 0; from < n; {
+			avail := int((limit - pdf.GetY() - 2*padY) / lineH)
+			if avail < 1 || (from == 0 && n <= pageLines && avail < n) {
+				pdf.AddPage()
+				draw(head, 0, headN, true, true)
+				continue
+			}
+			to := min(n, from+avail)
+			draw(cells, from, to, false, false)
+			from = to
 		}
-		draw(cells, h, false, false)
 	}
 	pdf.Ln(2)
+}
+
+// verdictFromWords maps VerdictWords back to the verdict (NoData for anything else).
+func verdictFromWords(s string) diagnose.Verdict {
+	for _, v := range []diagnose.Verdict{diagnose.Pass, diagnose.Marginal, diagnose.Fail} {
+		if VerdictWords(v) == s {
+			return v
+		}
+	}
+	return diagnose.NoData
 }
 
 func (pw *pdfWriter) body() error {
@@ -398,7 +444,7 @@ func (pw *pdfWriter) body() error {
 	y := pdf.GetY()
 	pdf.SetFont("sans", "", pdfBodySize)
 	meaning := verdictMeaning(a.Verdict)
-	boxH := 20.0
+	boxH := 22.0
 	pdf.SetFillColor(fill[0], fill[1], fill[2])
 	pdf.SetDrawColor(strong[0], strong[1], strong[2])
 	pdf.SetLineWidth(0.6)
@@ -413,6 +459,10 @@ func (pw *pdfWriter) body() error {
 	pdf.SetFont("sans", "", pdfBodySize)
 	pdf.SetX(pdfMargin + 22)
 	pdf.MultiCell(pw.contentW-26, pdfLineH, meaning, "", "L", false)
+	if tally := criteriaTally(a); tally != "" {
+		pdf.SetX(pdfMargin + 22)
+		pdf.MultiCell(pw.contentW-26, pdfLineH, tally, "", "L", false)
+	}
 	pdf.SetY(y + boxH + 3)
 
 	// Summary.
@@ -495,9 +545,9 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 			rows[i] = []string{name, c.Statistic, withUnit(c.Measured, c.Unit), withUnit(c.Limit, c.Unit), formatMargin(c), VerdictWords(c.Verdict)}
 		}
 		pw.table([]column{
-			{title: "criterion", width: 0.37, align: "L"}, {title: "statistic", width: 0.1, align: "L"},
+			{title: "criterion", width: 0.37, align: "L", subdued: true}, {title: "statistic", width: 0.1, align: "L"},
 			{title: "measured", width: 0.14, align: "R"}, {title: "limit", width: 0.14, align: "R"},
-			{title: "margin", width: 0.13, align: "R"}, {title: "verdict", width: 0.12, align: "L"},
+			{title: "margin", width: 0.13, align: "R"}, {title: "verdict", width: 0.12, align: "L", verdict: true},
 		}, rows, pdfBodySize-0.5)
 	}
 	if len(port.PlanVsMeasured) > 0 {
@@ -685,4 +735,27 @@ func (pw *pdfWriter) signOffSection() {
 		pdf.CellFormat(half, 4, "Name and date", "", 0, "L", false, 0, "")
 	}
 	pdf.SetY(y + 30)
+}
+
+// criteriaTally counts the judged criteria by verdict, e.g. "16 criteria judged on 1 port:
+// 12 pass, 0 marginal, 4 fail."
+func criteriaTally(a *Acceptance) string {
+	var n, pass, marg, fail int
+	for _, p := range a.Ports {
+		for _, c := range p.Criteria {
+			n++
+			switch c.Verdict {
+			case diagnose.Pass:
+				pass++
+			case diagnose.Marginal:
+				marg++
+			case diagnose.Fail:
+				fail++
+			}
+		}
+	}
+	if n == 0 {
+		return ""
+	}
+	return fmt.Sprintf("%d criteria judged on %d port(s): %d pass, %d marginal, %d fail.", n, len(a.Ports), pass, marg, fail)
 }
