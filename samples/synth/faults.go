@@ -11,10 +11,10 @@ import (
 	"github.com/beatnote/beatnote/rules"
 )
 
-// sopEvent is a burst of fast polarization change: samples [at, at+length) reach peakKradS.
-type sopEvent struct {
-	at, length int
-	peakKradS  float64
+// sopSample is one sample touched by a burst of fast polarization change: the interval's peak
+// SOP rate and the fraction of the interval the transient lasts.
+type sopSample struct {
+	rateKradS, duty float64
 }
 
 // faults holds the time-varying parts of the injected trouble, for render. Fractions are of the
@@ -23,9 +23,9 @@ type faults struct {
 	sev float64
 	rng *rand.Rand
 
-	pdlDB                float64 // mean PDL of the line
-	sopBaseKradS         float64 // median quiet SOP rate
-	sopEvents            []sopEvent
+	pdlDB                float64           // mean PDL of the line
+	sopBaseKradS         float64           // median quiet SOP rate
+	sopAt                map[int]sopSample // by sample index
 	loStartMHz, loEndMHz float64
 	// stepAt ≥ 0: before this fraction the received power is stepDB higher than Actual's.
 	stepAt, stepDB float64
@@ -158,13 +158,19 @@ func (f *faults) apply(m *linkModel, c *Case, prof rules.Profile) error {
 			// hundreds of krad/s to a few Mrad/s for a 50 krad/s module (Charlton et al.,
 			// Opt. Express 25(9), 2017 measured up to 5.1 Mrad/s).
 			n := 2 + int(math.Round(4*s)) + rng.IntN(2)
-			for range n {
-				ev := sopEvent{length: 1 + rng.IntN(2),
-					peakKradS: prof.SOPTrackingKradS * math.Pow(10, 0.3+1.48*s+0.2*(rng.Float64()-0.5))}
-				ev.at = int((0.05 + 0.9*rng.Float64()) * float64(c.Spec.Samples))
-				f.sopEvents = append(f.sopEvents, ev)
+			if f.sopAt == nil {
+				f.sopAt = map[int]sopSample{}
 			}
-			note("%d bursts of fast SOP change peaking near %.0f krad/s (tracking %g krad/s)", n, f.sopEvents[0].peakKradS, prof.SOPTrackingKradS)
+			peak := prof.SOPTrackingKradS * math.Pow(10, 0.3+1.48*s)
+			for range n {
+				// Each transient lasts 1–10 % of a sample interval, over one or two samples.
+				p := peak * math.Pow(10, 0.2*(rng.Float64()-0.5))
+				at, length := int((0.05+0.9*rng.Float64())*float64(c.Spec.Samples)), 1+rng.IntN(2)
+				for k := at; k < at+length && k < c.Spec.Samples; k++ {
+					f.sopAt[k] = sopSample{rateKradS: p * (0.8 + 0.2*rng.Float64()), duty: 0.01 + 0.09*rng.Float64()}
+				}
+			}
+			note("%d bursts of fast SOP change peaking near %.0f krad/s (tracking %g krad/s), each a BER burst with uncorrected blocks", n, peak, prof.SOPTrackingKradS)
 
 		case diagnose.CausePDLHigh:
 			// PDL 0.9× (mild) … 2× (severe) the module's tolerance (e.g. a faulty isolator or a

@@ -91,7 +91,8 @@ func (p penalties) lo(offsetMHz float64) float64 {
 }
 
 // sop: when the SOP rate exceeds the tracking speed the equalizer lags; penalty
-// 3 dB + 6 dB·log10(rate/tracking).
+// 3 dB + 6 dB·log10(rate/tracking) for the duration of the transient (render averages it over
+// the interval with the transient's duty).
 func (p penalties) sop(rateKradS float64) float64 {
 	if rateKradS <= p.prof.SOPTrackingKradS {
 		return 0
@@ -121,6 +122,16 @@ func rxNoiseSNRdB(prof rules.Profile, mod optics.Modulation, b2bDB, rxDBm float6
 // waterfall curves).
 func blocksFailingFraction(ber, threshold float64) float64 {
 	return math.Min(1, 1e-12*math.Pow(ber/threshold, 40))
+}
+
+// berOf is optics.BERFromSNRdB, 0.5 where the SNR leaves nothing to decide on (NaN at an SNR
+// of −Inf dB).
+func berOf(mod optics.Modulation, snrDB float64) float64 {
+	ber := optics.BERFromSNRdB(mod, snrDB)
+	if math.IsNaN(ber) || ber > 0.5 {
+		return 0.5
+	}
+	return ber
 }
 
 // poisson draws a Poisson count of mean lambda (Knuth below 30, normal approximation above).
@@ -163,12 +174,6 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 	loAR := newAR1(rng, step, loCorrMinutes)
 	cdOffset := 3 * rng.NormFloat64() // the estimator's own bias for this port
 	fails := false
-	sopAt := map[int]float64{}
-	for _, ev := range f.sopEvents {
-		for k := ev.at; k < ev.at+ev.length && k < n; k++ {
-			sopAt[k] = math.Max(sopAt[k], ev.peakKradS*(0.8+0.2*rng.Float64()))
-		}
-	}
 
 	for i := range n {
 		frac := float64(i) / float64(n-1)
@@ -185,19 +190,28 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 		pdl := math.Max(0.3*f.pdlDB, f.pdlDB*(1+0.15*pdlAR.next(rng)))
 		lo := f.loStartMHz + (f.loEndMHz-f.loStartMHz)*frac + loWanderMHz*loAR.next(rng)
 		sop := f.sopBaseKradS * math.Exp(0.5*rng.NormFloat64())
-		if p, ok := sopAt[i]; ok {
-			sop = p
+		burst, inBurst := f.sopAt[i]
+		if inBurst {
+			sop = burst.rateKradS
 		}
 		noise := [...]float64{rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(),
 			rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64()}
 
 		ase := optics.SNRdBFromOSNRdB(osnr, prof.BaudGBd, max(prof.Polarizations, 1))
 		snr := optics.CombineSNRdB(ase, a.NLISNRdB, a.B2BSNRdB, rxNoiseSNRdB(prof, mod, a.B2BSNRdB, rx))
-		snr -= pen.pdl(pdl) + pen.dgd(dgd) + pen.cd(a.CDPsNm) + pen.overload(rx) + pen.lo(lo) + pen.sop(sop)
+		snr -= pen.pdl(pdl) + pen.dgd(dgd) + pen.cd(a.CDPsNm) + pen.overload(rx) + pen.lo(lo)
 		snr += snrJitterDB * noise[0]
-		ber := optics.BERFromSNRdB(mod, snr)
-		if math.IsNaN(ber) || ber > 0.5 {
-			ber = 0.5 // SNR at or below 0 (linear): nothing left to decide on
+		ber := berOf(mod, snr)
+		blocksMean := blocksFailingFraction(ber, prof.FECThresholdBER) * blocksPerInterval
+		if inBurst {
+			// The transient lasts a fraction d of the interval: the interval's BER and noise are
+			// the time averages, and the blocks that fail are those of the burst.
+			d := burst.duty
+			snrB := snr - pen.sop(sop)
+			berB := berOf(mod, snrB)
+			blocksMean = (1-d)*blocksMean + d*blocksFailingFraction(berB, prof.FECThresholdBER)*blocksPerInterval
+			ber = (1-d)*ber + d*berB
+			snr = -optics.LinearToDB((1-d)/optics.DBToLinear(snr) + d/optics.DBToLinear(snrB))
 		}
 		dark := f.lossFrom >= 0 && frac >= f.lossFrom && frac <= f.lossTo
 		unlocked := math.Abs(lo) > prof.LOOffsetRangeMHz
@@ -233,8 +247,7 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 			v[parse.SOPRateKradPerS] = round(sop, 1)
 			v[parse.LOOffsetMHz] = round(lo+loNoiseMHz*noise[8], 0)
 			v[parse.RxPowerDBm] = round(rx+rxNoiseDB*noise[2], 2)
-			frac := blocksFailingFraction(ber, prof.FECThresholdBER)
-			blocks := poisson(rng, frac*blocksPerInterval)
+			blocks := poisson(rng, blocksMean)
 			v[parse.UncorrectedBlocks] = blocks
 			v[parse.PostFECBER] = 0
 			if blocks > 0 {
