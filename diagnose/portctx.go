@@ -361,6 +361,11 @@ func (pc *portCtx) analyseSeries() {
 				litBER[i] = math.NaN()
 			}
 		}
+		// Rank BER once when it has no gaps; pair-wise ranking otherwise.
+		var berRanks []float64
+		if countFinite(litBER) == pc.n {
+			berRanks = series.Ranks(litBER)
+		}
 		for _, q := range []parse.Quantity{parse.DGDps, parse.PDLdB, parse.RxPowerDBm, parse.SOPRateKradPerS} {
 			if !s.Has(q) {
 				continue
@@ -369,7 +374,14 @@ func (pc *portCtx) analyseSeries() {
 			if q == parse.RxPowerDBm {
 				y = pc.litPower
 			}
-			rho, n, p := series.Spearman(litBER, y)
+			var rho, p float64
+			var n int
+			if berRanks != nil && countFinite(y) == pc.n {
+				rho, p = series.RankCorrelation(berRanks, series.Ranks(y))
+				n = pc.n
+			} else {
+				rho, n, p = series.Spearman(litBER, y)
+			}
 			if n >= minN && !math.IsNaN(rho) {
 				an.Correlations = append(an.Correlations, Correlation{A: "pre_fec_ber", B: q.Column(), Rho: rho, N: n, P: p})
 			}

@@ -57,7 +57,20 @@ func Spearman(x, y []float64) (rho float64, n int, p float64) {
 	if n < 3 {
 		return math.NaN(), n, math.NaN()
 	}
-	rx, ry := Ranks(xs), Ranks(ys)
+	rho, p = RankCorrelation(Ranks(xs), Ranks(ys))
+	return rho, n, p
+}
+
+// RankCorrelation is Spearman's ρ and its p-value (as Spearman) from the ranks of two samples
+// of equal length, for callers that rank one sample once and correlate it with several others.
+func RankCorrelation(rx, ry []float64) (rho, p float64) {
+	if len(rx) != len(ry) {
+		panic("series: RankCorrelation: ranks differ in length")
+	}
+	n := len(rx)
+	if n < 3 {
+		return math.NaN(), math.NaN()
+	}
 	mean := float64(n+1) / 2
 	var sxy, sxx, syy float64
 	for i := range rx {
@@ -67,18 +80,16 @@ func Spearman(x, y []float64) (rho float64, n int, p float64) {
 		syy += dy * dy
 	}
 	if sxx == 0 || syy == 0 {
-		return math.NaN(), n, math.NaN()
+		return math.NaN(), math.NaN()
 	}
-	rho = sxy / math.Sqrt(sxx*syy)
-	rho = math.Max(-1, math.Min(1, rho))
+	rho = math.Max(-1, math.Min(1, sxy/math.Sqrt(sxx*syy)))
 	if n < 4 {
-		return rho, n, math.NaN()
+		return rho, math.NaN()
 	}
 	if math.Abs(rho) == 1 {
-		return rho, n, 0
+		return rho, 0
 	}
 	t := rho * math.Sqrt(float64(n-2)/(1-rho*rho))
 	st := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(n - 2)}
-	p = 2 * st.Survival(math.Abs(t))
-	return rho, n, p
+	return rho, 2 * st.Survival(math.Abs(t))
 }
