@@ -15,6 +15,7 @@ import (
 	"io"
 	"io/fs"
 	"os"
+	"path"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -407,7 +408,11 @@ func Verify(document, sigPath string, pin ed25519.PublicKey) (*Verification, err
 	v.Document = checkFile(sf.Document, document)
 	switch v.Document.Status {
 	case CheckChanged:
-		v.Failures = append(v.Failures, fmt.Sprintf("report %s has changed since signing (SHA-256 %s, signed %s)", document, v.Document.Actual, v.Document.Expected))
+		msg := fmt.Sprintf("report %s has changed since signing (SHA-256 %s, signed %s)", document, v.Document.Actual, v.Document.Expected)
+		if path.Base(sf.Document.Path) != filepath.Base(document) {
+			msg += fmt.Sprintf("; note the signature was made for %s", sf.Document.Path)
+		}
+		v.Failures = append(v.Failures, msg)
 	case CheckMissing:
 		return nil, &VerifyError{Path: document, Err: errors.New("cannot be read")}
 	}
