@@ -387,9 +387,10 @@ func (pc *portCtx) cdMismatch() *score {
 		pc.notJudged("%s: no cd_ps_nm in the log", CauseCDMismatch)
 		return nil
 	}
+	// Magnitudes are compared: DSPs differ in the sign they report CD with.
 	r := pc.r
-	exp := pc.exp.CDPsNm
-	cs := pc.sum[parse.CDpsPerNm]
+	exp := math.Abs(pc.exp.CDPsNm)
+	cs := pc.absSum[parse.CDpsPerNm]
 	meas := cs.P50
 	diff := meas - exp
 	tol := math.Max(r.CDMismatchRelativeTolerance*math.Abs(exp), r.CDMismatchFloorPsNm)
@@ -397,15 +398,13 @@ func (pc *portCtx) cdMismatch() *score {
 		return s
 	}
 	rel := math.Abs(diff) / math.Max(math.Abs(exp), 1)
-	d := exp / pc.exp.RouteLengthKm
+	d := exp / pc.exp.RouteLengthKm // route-average |D|
 	implied := ""
 	if finite(d) && d != 0 {
 		implied = fmt.Sprintf(" At the plan's average %.2f ps/(nm·km) it implies a route of about %.0f km against %.0f km planned (%+.0f %%).",
 			d, meas/d, pc.exp.RouteLengthKm, 100*(meas/d-pc.exp.RouteLengthKm)/pc.exp.RouteLengthKm)
 	}
 	switch {
-	case exp != 0 && meas*exp < 0 && math.Abs(meas) > r.CDMismatchFloorPsNm:
-		s.add(4.0, "Measured CD %.0f ps/nm has the opposite sign to the %.0f ps/nm the plan expects.%s", meas, exp, implied)
 	case rel >= 2*r.CDMismatchRelativeTolerance:
 		s.add(4.0, "Measured CD %.0f ps/nm differs from the planned %.0f ps/nm by %+.0f ps/nm (%s, tolerance ±%.0f ps/nm).%s", meas, exp, diff, pct(rel), tol, implied)
 	default:
@@ -687,19 +686,16 @@ func (pc *portCtx) osnrLow(im impairments) *score {
 }
 
 // routeRatio is the route length the measured CD implies over the planned length (CD scales
-// with length for a given fibre); NaN without a plan or CD, or when the signs disagree. Only a
-// ratio outside the cd-mismatch tolerance is returned; 1 otherwise.
+// with length for a given fibre), by magnitude; NaN without a plan or CD. Only a ratio outside
+// the cd-mismatch tolerance is returned; 1 otherwise.
 func (pc *portCtx) routeRatio() float64 {
 	if pc.exp == nil || !pc.has(parse.CDpsPerNm) || pc.exp.CDPsNm == 0 {
 		return math.NaN()
 	}
-	meas, exp := pc.sum[parse.CDpsPerNm].P50, pc.exp.CDPsNm
-	tol := math.Max(pc.r.CDMismatchRelativeTolerance*math.Abs(exp), pc.r.CDMismatchFloorPsNm)
+	meas, exp := pc.absSum[parse.CDpsPerNm].P50, math.Abs(pc.exp.CDPsNm)
+	tol := math.Max(pc.r.CDMismatchRelativeTolerance*exp, pc.r.CDMismatchFloorPsNm)
 	if math.Abs(meas-exp) <= tol {
 		return 1
-	}
-	if meas*exp <= 0 {
-		return math.NaN()
 	}
 	return meas / exp
 }

@@ -264,10 +264,10 @@ func (pc *portCtx) criteria() {
 			Source: fmt.Sprintf("rules signal_loss_floor_dbm %.1f dBm, or pre-FEC BER ≥ %.2g", r.SignalLossFloorDBm, noLockBER)}, 0)
 	}
 	if pc.exp != nil && has(parse.CDpsPerNm) {
-		exp := pc.exp.CDPsNm
-		meas := pc.sum[parse.CDpsPerNm].P50
-		tol := math.Max(r.CDMismatchRelativeTolerance*math.Abs(exp), r.CDMismatchFloorPsNm)
-		c := Criterion{Name: "CD agrees with the link plan", Metric: "cd_ps_nm", Statistic: "p50",
+		exp := math.Abs(pc.exp.CDPsNm)
+		meas := pc.absSum[parse.CDpsPerNm].P50
+		tol := math.Max(r.CDMismatchRelativeTolerance*exp, r.CDMismatchFloorPsNm)
+		c := Criterion{Name: "|CD| agrees with the link plan", Metric: "cd_ps_nm", Statistic: "p50",
 			Measured: meas, Limit: exp, Margin: tol - math.Abs(meas-exp), Unit: "ps/nm",
 			Source: fmt.Sprintf("plan %s via the fibre model; tolerance ±%.0f ps/nm (rules cd_mismatch_*)", pc.plan.Circuit, tol)}
 		c.Verdict = Pass
@@ -297,9 +297,13 @@ func (pc *portCtx) planVsMeasured() {
 		pc.res.PlanVsMeasured = append(pc.res.PlanVsMeasured, PlanComparison{Quantity: q, Expected: exp, Measured: meas, Unit: unit, Note: note})
 	}
 	if s, ok := pc.sum[parse.CDpsPerNm]; ok {
-		add("cd_ps_nm", e.CDPsNm, s.P50, "ps/nm", "median of the DSP estimate")
-		if d := e.CDPsNm / e.RouteLengthKm; finite(d) && d != 0 {
-			add("route_length_km", e.RouteLengthKm, s.P50/d, "km", fmt.Sprintf("implied by the measured CD at the plan's average %.2f ps/(nm·km)", d))
+		note := "median of the DSP estimate"
+		if s.P50*e.CDPsNm < 0 {
+			note += "; reported with the opposite sign to the plan (compared by magnitude)"
+		}
+		add("cd_ps_nm", e.CDPsNm, s.P50, "ps/nm", note)
+		if d := math.Abs(e.CDPsNm) / e.RouteLengthKm; finite(d) && d != 0 {
+			add("route_length_km", e.RouteLengthKm, pc.absSum[parse.CDpsPerNm].P50/d, "km", fmt.Sprintf("implied by the measured |CD| at the plan's average %.2f ps/(nm·km)", d))
 		}
 	}
 	if f := pc.an.DGDFit; f != nil {
