@@ -100,20 +100,20 @@ func (p penalties) sop(rateKradS float64) float64 {
 	return 3 + 6*math.Log10(rateKradS/p.prof.SOPTrackingKradS)
 }
 
-// rxNoiseSNRdB is the receiver's electrical-noise SNR at received power P (dBm): it grows 1 dB
-// per dB of power (the LO-signal beat dominates; common practice), and is set so that a typical
-// unit (specBeatDB better than its sensitivity) with no other noise but its back-to-back ceiling
-// reaches the FEC threshold at Pmin − specBeatDB:
+// rxNoiseSNRdB returns the receiver's electrical-noise SNR as a function of received power P
+// (dBm): it grows 1 dB per dB of power (the LO-signal beat dominates; common practice), and is
+// set so that a typical unit (specBeatDB better than its sensitivity) with no other noise but its
+// back-to-back ceiling reaches the FEC threshold at Pmin − specBeatDB:
 //
 //	1/SNR_rx(Pmin − specBeatDB) = 1/SNR_th − 1/SNR_b2b
-func rxNoiseSNRdB(prof rules.Profile, mod optics.Modulation, b2bDB, rxDBm float64) float64 {
+func rxNoiseSNRdB(prof rules.Profile, mod optics.Modulation, b2bDB float64) func(rxDBm float64) float64 {
 	th := optics.SNRdBFromBER(mod, prof.FECThresholdBER)
 	inv := 1/optics.DBToLinear(th) - 1/optics.DBToLinear(b2bDB)
 	k := th + 3
 	if inv > 0 {
 		k = -optics.LinearToDB(inv)
 	}
-	return k + rxDBm - (prof.RxPowerMinDBm - specBeatDB)
+	return func(rxDBm float64) float64 { return k + rxDBm - (prof.RxPowerMinDBm - specBeatDB) }
 }
 
 // blocksFailingFraction models the FEC cliff: the fraction of blocks left uncorrected at
@@ -174,6 +174,7 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 	loAR := newAR1(rng, step, loCorrMinutes)
 	cdOffset := 3 * rng.NormFloat64() // the estimator's own bias for this port
 	fails := false
+	rxNoise := rxNoiseSNRdB(prof, mod, a.B2BSNRdB)
 
 	for i := range n {
 		frac := float64(i) / float64(n-1)
@@ -198,7 +199,7 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 			rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64()}
 
 		ase := optics.SNRdBFromOSNRdB(osnr, prof.BaudGBd, max(prof.Polarizations, 1))
-		snr := optics.CombineSNRdB(ase, a.NLISNRdB, a.B2BSNRdB, rxNoiseSNRdB(prof, mod, a.B2BSNRdB, rx))
+		snr := optics.CombineSNRdB(ase, a.NLISNRdB, a.B2BSNRdB, rxNoise(rx))
 		snr -= pen.pdl(pdl) + pen.dgd(dgd) + pen.cd(a.CDPsNm) + pen.overload(rx) + pen.lo(lo)
 		snr += snrJitterDB * noise[0]
 		ber := berOf(mod, snr)

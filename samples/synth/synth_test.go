@@ -398,3 +398,13 @@ func TestDesignMatchesExpectLink(t *testing.T) {
 		}
 	}
 }
+
+// BenchmarkMake: one day of one-minute samples of one port (the unit of fleetgen's work).
+func BenchmarkMake(b *testing.B) {
+	b.ReportAllocs()
+	for i := 0; b.Loop(); i++ {
+		if _, err := Make(Spec{Seed: int64(i), Samples: 1440}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
