@@ -603,6 +603,8 @@ func (pc *portCtx) loOffset() *score {
 		s.add(llrDecisive, "|LO offset| reached %.0f MHz, at or beyond the module's ±%.0f MHz capture range.", a.Max, rng)
 	case a.Max >= r.LOOffsetMarginalFraction*rng:
 		s.add(llrStrong, "|LO offset| reached %.0f MHz, %s of the module's ±%.0f MHz capture range.", a.Max, pct(a.Max/rng), rng)
+	case a.Max >= (r.LOOffsetMarginalFraction-0.2)*rng:
+		s.add(llrModerate, "|LO offset| reached %.0f MHz, %s of the module's ±%.0f MHz capture range.", a.Max, pct(a.Max/rng), rng)
 	}
 	if t := pc.an.LOTrend; t != nil && pc.trendSignificant(t) {
 		switch {
@@ -610,8 +612,13 @@ func (pc *portCtx) loOffset() *score {
 			s.add(llrStrong, "The offset drifts %+.1f ± %.1f MHz/h (now about %+.0f MHz); at that rate it reaches the %+.0f MHz capture limit in about %.1f h, within the %.0f h horizon.",
 				t.Slope, t.SlopeSE, t.AtEnd, t.Limit, t.HoursToLimit, r.LODriftHorizonH)
 		case t.HoursToLimit > 0 && t.HoursToLimit <= 4*r.LODriftHorizonH:
-			s.add(llrWeak, "The offset drifts %+.1f ± %.1f MHz/h toward the %+.0f MHz capture limit (about %.0f h away at that rate).",
-				t.Slope, t.SlopeSE, t.Limit, t.HoursToLimit)
+			s.add(llrModerate, "The offset drifts %+.1f ± %.1f MHz/h toward the %+.0f MHz capture limit (about %.0f h away at that rate, within 4× the %.0f h horizon).",
+				t.Slope, t.SlopeSE, t.Limit, t.HoursToLimit, r.LODriftHorizonH)
+		}
+		// A laser's carrier normally moves by far less than a quarter of the capture range over a
+		// log (common practice); a drift that large is a frequency-control fault in itself.
+		if drift := math.Abs(t.Slope) * float64(t.EndMs-t.StartMs) / 3.6e6; drift >= 0.25*rng {
+			s.add(llrModerate, "Over the log the offset moved by about %.0f MHz (%s of the capture range).", drift, pct(drift/rng))
 		}
 	}
 	return s

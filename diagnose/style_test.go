@@ -1,0 +1,98 @@
+package diagnose
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/beatnote/beatnote/diagnose/optics"
+	"github.com/beatnote/beatnote/parse"
+)
+
+// A second, deliberately different way of making logs than samples/synth: 15-minute samples
+// over a week, a transceiver ceiling of 19 dB (better than the profile-derived one the engine
+// assumes), multiplicative BER noise, no eSNR or Q columns, and faults written directly as their
+// symptoms. It guards against an engine tuned to one generator.
+type styleFault func(i int, rng *rand.Rand, v *styleSample)
+
+type styleSample struct {
+	osnr, rx, cd, dgd, pdl, sop, lo, nliSNR, penalty float64
+	dark                                             bool
+}
+
+func styleLog(t *testing.T, seed uint64, fault styleFault) *parse.Series {
+	t.Helper()
+	rng := rand.New(rand.NewPCG(seed, 99))
+	const n = 672
+	s := &parse.Series{Port: "style-1"}
+	cols := []parse.Quantity{parse.PreFECBER, parse.OSNRdB, parse.RxPowerDBm, parse.CDpsPerNm, parse.DGDps, parse.PDLdB, parse.SOPRateKradPerS, parse.LOOffsetMHz}
+	for _, q := range cols {
+		s.Values[q] = make([]float64, n)
+	}
+	for i := 0; i < n; i++ {
+		s.TimesMs = append(s.TimesMs, t0+int64(i)*15*60_000)
+		v := styleSample{
+			osnr: 32 + 0.3*rng.NormFloat64(), rx: -5 + 0.2*rng.NormFloat64(), cd: 1000 + 20*rng.NormFloat64(),
+			dgd: optics.MaxwellSample(rng, 3), pdl: math.Max(0, 0.6+0.1*rng.NormFloat64()), sop: rng.ExpFloat64() * 1.5,
+			lo: 200 + 20*rng.NormFloat64(), nliSNR: math.Inf(1),
+		}
+		if fault != nil {
+			fault(i, rng, &v)
+		}
+		snr := optics.CombineSNRdB(optics.SNRdBFromOSNRdB(v.osnr, 59.84375, 2), 19, v.nliSNR) - v.penalty
+		ber := optics.BERFromSNRdB(optics.DP16QAM, snr) * math.Exp(0.05*rng.NormFloat64())
+		if v.rx < -12 { // below sensitivity the receiver's own noise takes over: 1 dB of SNR per dB
+			ber = optics.BERFromSNRdB(optics.DP16QAM, snr-(-12-v.rx))
+		}
+		if v.dark {
+			ber, v.rx = 0.5, -40+rng.NormFloat64()
+		}
+		vals := []float64{math.Min(ber, 0.5), v.osnr, v.rx, v.cd, v.dgd, v.pdl, v.sop, v.lo}
+		for k, q := range cols {
+			s.Values[q][i] = vals[k]
+		}
+	}
+	return s
+}
+
+func TestStyleScenarios(t *testing.T) {
+	p, r := testSetup(t, "400g-dp-16qam-cfec")
+	cases := []struct {
+		want  string
+		fault styleFault
+	}{
+		{"", nil},
+		{CauseOSNRLow, func(i int, rng *rand.Rand, v *styleSample) { v.osnr -= 8.5 }},
+		{CauseRxPowerLow, func(i int, rng *rand.Rand, v *styleSample) { v.rx -= 8.5 }},
+		{CauseRxOverload, func(i int, rng *rand.Rand, v *styleSample) { v.rx += 7; v.penalty = 0.5 }},
+		{CauseCDOverLimit, func(i int, rng *rand.Rand, v *styleSample) { v.cd += 2000; v.penalty = 1 }},
+		{CausePMD, func(i int, rng *rand.Rand, v *styleSample) {
+			v.dgd = optics.MaxwellSample(rng, 11)
+			v.penalty = 0.08 * v.dgd
+		}},
+		{CauseSOPTransient, func(i int, rng *rand.Rand, v *styleSample) {
+			if i%97 == 50 {
+				v.sop, v.penalty = 300+200*rng.Float64(), 5
+			}
+		}},
+		{CausePDLHigh, func(i int, rng *rand.Rand, v *styleSample) { v.pdl += 1.7; v.penalty = 0.8 * v.pdl }},
+		{CauseLOOffset, func(i int, rng *rand.Rand, v *styleSample) { v.lo += 15 * float64(i) / 4 }},
+		{CauseNonlinear, func(i int, rng *rand.Rand, v *styleSample) { v.nliSNR = 13 }},
+		{CauseSignalLoss, func(i int, rng *rand.Rand, v *styleSample) { v.dark = i >= 300 && i < 330 }},
+	}
+	for _, c := range cases {
+		for seed := uint64(1); seed <= 5; seed++ {
+			res := AnalyzePort(styleLog(t, seed, c.fault), p, nil, nil, r)
+			if got := topCause(res); got != c.want {
+				var ids []string
+				for _, cs := range res.Causes {
+					ids = append(ids, cs.ID)
+				}
+				t.Errorf("%q seed %d: verdict %s, causes %v, want %q on top", c.want, seed, res.Verdict, ids, c.want)
+			}
+			if c.want == "" && res.Verdict != Pass {
+				t.Errorf("healthy seed %d: verdict %s", seed, res.Verdict)
+			}
+		}
+	}
+}
