@@ -108,10 +108,7 @@ func spanFiber(s rules.Span, lambdaNm float64) (optics.Fiber, error) {
 // at the receiver.
 func newLinkModel(plan rules.Plan, prof rules.Profile) (linkModel, error) {
 	m := linkModel{fTHz: plan.FrequencyTHz, txDBm: plan.TxPowerDBm, extraLossDB: plan.ExtraLossDB,
-		baudGBd: prof.BaudGBd, pol: prof.Polarizations}
-	if m.pol == 0 {
-		m.pol = 2
-	}
+		baudGBd: prof.BaudGBd, pol: polarizations(prof)}
 	if !(plan.FrequencyTHz >= 150 && plan.FrequencyTHz <= 250) {
 		return m, fmt.Errorf("%w: plan %s: frequency %g THz", ErrSpec, plan.Circuit, plan.FrequencyTHz)
 	}
@@ -156,10 +153,7 @@ func backToBackSNRdB(prof rules.Profile) float64 {
 		return prof.BackToBackSNRdB
 	}
 	mod, _ := optics.ParseModulation(prof.Modulation)
-	pol := prof.Polarizations
-	if pol == 0 {
-		pol = 2
-	}
+	pol := polarizations(prof)
 	th := optics.SNRdBFromBER(mod, prof.FECThresholdBER)
 	rosnr := prof.RequiredOSNRdB
 	if rosnr == 0 {
@@ -372,4 +366,12 @@ func planAmplifiers(rng *rand.Rand, plan rules.Plan, f optics.Fiber, rxTarget fl
 		}
 	}
 	return amps
+}
+
+// polarizations is the profile's polarization count, 2 when it gives none (as optics.ExpectLink).
+func polarizations(prof rules.Profile) int {
+	if prof.Polarizations == 0 {
+		return 2
+	}
+	return prof.Polarizations
 }
