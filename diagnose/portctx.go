@@ -286,7 +286,13 @@ func (pc *portCtx) analyseSeries() {
 			}
 		}
 		med := series.Summarize(lit).P50
-		thr := math.Max(r.BERBurstFactor*med, burstFloorFraction*pc.prof.FECThresholdBER)
+		// A burst is BER_burst_factor × the median, or crossing the FEC threshold when the port
+		// runs too close to it for a tenfold rise; never below the floor.
+		thr := r.BERBurstFactor * med
+		if fec := pc.prof.FECThresholdBER; fec > med && thr > fec {
+			thr = fec
+		}
+		thr = math.Max(thr, burstFloorFraction*pc.prof.FECThresholdBER)
 		if !math.IsNaN(thr) && thr > 0 {
 			an.BurstThresholdBER = thr
 			v := make([]float64, pc.n)

@@ -75,6 +75,13 @@ func TestStyleScenarios(t *testing.T) {
 				v.sop, v.penalty = 300+200*rng.Float64(), 5
 			}
 		}},
+		{CauseSOPTransient, func(i int, rng *rand.Rand, v *styleSample) { // below tracking speed, milder bursts
+			if i%89 == 40 {
+				v.sop, v.penalty = 35+10*rng.Float64(), 2.5
+			}
+		}},
+		{CauseOSNRLow, func(i int, rng *rand.Rand, v *styleSample) { v.osnr -= 5 }}, // 1 dB above required
+		{CauseRxPowerLow, func(i int, rng *rand.Rand, v *styleSample) { v.rx -= 5.5 }},
 		{CausePDLHigh, func(i int, rng *rand.Rand, v *styleSample) { v.pdl += 1.7; v.penalty = 0.8 * v.pdl }},
 		{CauseLOOffset, func(i int, rng *rand.Rand, v *styleSample) { v.lo += 15 * float64(i) / 4 }},
 		{CauseNonlinear, func(i int, rng *rand.Rand, v *styleSample) { v.nliSNR = 13 }},
