@@ -65,6 +65,9 @@ func (f *faults) apply(m *linkModel, c *Case, prof rules.Profile) error {
 			// A failing amplifier: its noise figure rises until the OSNR reaches the target, from
 			// 1 dB above the required OSNR (mild) to 3 dB below it (severe); power is unchanged
 			// because the amplifier holds its output.
+			if len(m.amps) == 0 {
+				return fmt.Errorf("%w: osnr-low needs a plan with amplifiers", ErrSpec)
+			}
 			target := rosnr + 1 - 4*s
 			k := len(m.amps) / 2
 			if len(m.amps) > 1 && m.amps[k].afterSpan == 0 {

@@ -178,7 +178,7 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 
 	for i := range n {
 		frac := float64(i) / float64(n-1)
-		t := spec.Start.Add(spec.Interval * timeDuration(i)).UnixMilli()
+		t := spec.Start.Add(spec.Interval * time.Duration(i)).UnixMilli()
 		// Draw every noise term every sample, used or not, so the stream stays aligned.
 		var v [parse.NumQuantities]float64
 		x, y, z := dgdAR[0].next(rng), dgdAR[1].next(rng), dgdAR[2].next(rng)
@@ -280,5 +280,3 @@ func limitCrossed(prof rules.Profile, v [parse.NumQuantities]float64) bool {
 		over(parse.PDLdB, prof.PDLTolerancedB) || over(parse.SOPRateKradPerS, prof.SOPTrackingKradS) ||
 		over(parse.LOOffsetMHz, prof.LOOffsetRangeMHz)
 }
-
-func timeDuration(i int) time.Duration { return time.Duration(i) }

@@ -167,8 +167,8 @@ func Make(spec Spec) (Case, error) {
 	c.Actual.PDLdB = f.pdlDB
 	c.Design.PDLdB = basePDLdB
 	c.Series, c.Verdict = render(noiseRNG, spec, prof, mod, c.Actual, &f)
-	if len(c.Causes) == 0 {
-		c.Verdict = diagnose.Pass
+	if len(c.Causes) == 0 && c.Verdict == diagnose.Marginal {
+		c.Verdict = diagnose.Pass // no trouble injected and no limit crossed (a given plan may cross one)
 	}
 	return c, nil
 }

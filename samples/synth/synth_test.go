@@ -363,6 +363,9 @@ func TestBadSpec(t *testing.T) {
 		{ProfileID: "no-such-profile"},
 		{Samples: 3},
 		{Causes: []string{diagnose.CauseCDOverLimit}, ProfileID: "200g-dp-16qam"},
+		{Causes: []string{diagnose.CauseOSNRLow}, Plan: &rules.Plan{Circuit: "bare", FrequencyTHz: 193.1,
+			Spans: []rules.Span{{Name: "s1", LengthKm: 20, Fiber: "g652"}}}},
+		{Plan: &rules.Plan{Circuit: "no-spans", FrequencyTHz: 193.1}},
 	} {
 		if _, err := Make(spec); err == nil {
 			t.Errorf("Make(%+v) succeeded", spec)
@@ -406,5 +409,19 @@ func BenchmarkMake(b *testing.B) {
 		if _, err := Make(Spec{Seed: int64(i), Samples: 1440}); err != nil {
 			b.Fatal(err)
 		}
+	}
+}
+
+// TestGivenPlan: a caller's plan is used as given, unamplified links included.
+func TestGivenPlan(t *testing.T) {
+	plan := rules.Plan{Circuit: "given", FrequencyTHz: 193.1, TxPowerDBm: -2,
+		Spans: []rules.Span{{Name: "s1", LengthKm: 20, Fiber: "g652", Connectors: 2}}}
+	c := mustMake(t, Spec{Seed: 1, Plan: &plan, Samples: 60})
+	if c.Plan.Circuit != "given" || c.Verdict != diagnose.Pass {
+		t.Fatalf("plan %s verdict %s", c.Plan.Circuit, c.Verdict)
+	}
+	// Unamplified: received power is Tx − 0.20 dB/km × 20 km − 2 × 0.5 dB (optics defaults).
+	if want := -2 - 0.2*20 - 1.0; math.Abs(c.Design.RxPowerDBm-want) > 1e-9 {
+		t.Errorf("rx power %.3f dBm, want %.3f", c.Design.RxPowerDBm, want)
 	}
 }
