@@ -425,3 +425,20 @@ func TestGivenPlan(t *testing.T) {
 		t.Errorf("rx power %.3f dBm, want %.3f", c.Design.RxPowerDBm, want)
 	}
 }
+
+// TestFaultKeepsPlan: a fault changes the link as built, never the plan (except cd-over-limit,
+// whose plan is the fault): the same seed with and without a fault has the same plan and design.
+func TestFaultKeepsPlan(t *testing.T) {
+	for seed := int64(1); seed <= seeds; seed++ {
+		h := mustMake(t, Spec{Seed: seed, Samples: 20})
+		for _, cause := range AllCauses {
+			if cause == diagnose.CauseCDOverLimit {
+				continue
+			}
+			c := mustMake(t, Spec{Seed: seed, Samples: 20, Causes: []string{cause}, Severity: 0.5})
+			if fmt.Sprint(c.Plan) != fmt.Sprint(h.Plan) || fmt.Sprint(c.Design) != fmt.Sprint(h.Design) {
+				t.Errorf("seed %d %s: the plan changed", seed, cause)
+			}
+		}
+	}
+}
