@@ -670,7 +670,9 @@ func (pc *portCtx) osnrLow(im impairments) *score {
 				s.add(1.5, "None of the measured impairments is out of line (%s), so added noise is the likely reason.", seen)
 			}
 		}
-		if qm < 0 {
+		if qm < 0 && (powerNormal || !pc.has(parse.RxPowerDBm)) {
+			s.add(llrModerate, "The median Q is %.1f dB below the FEC-threshold Q of %.2f dB: the port runs beyond the FEC for much of the log, not in bursts.", -qm, pc.qLimitDB)
+		} else if qm < 0 {
 			s.add(llrWeak, "The median Q is %.1f dB below the FEC-threshold Q of %.2f dB.", -qm, pc.qLimitDB)
 		}
 	}

@@ -103,3 +103,41 @@ func TestStyleScenarios(t *testing.T) {
 		}
 	}
 }
+
+// Logs that lack columns or rows: a BER-and-power-only log with an OSNR fault, and a port that
+// stops reporting for a while (rows missing, not dark rows).
+func TestStyleSparseLogs(t *testing.T) {
+	p, r := testSetup(t, "400g-dp-16qam-cfec")
+	for seed := uint64(1); seed <= 5; seed++ {
+		// 11 dB less OSNR takes the Q below the FEC threshold (an 8.5 dB loss would still leave
+		// 1.3 dB of Q margin with this generator's 19 dB ceiling: nothing to see without OSNR).
+		s := styleLog(t, seed, func(i int, rng *rand.Rand, v *styleSample) { v.osnr -= 11 })
+		for _, q := range []parse.Quantity{parse.OSNRdB, parse.CDpsPerNm, parse.DGDps, parse.PDLdB, parse.SOPRateKradPerS, parse.LOOffsetMHz} {
+			s.Values[q] = nil
+		}
+		if got := topCause(AnalyzePort(s, p, nil, nil, r)); got != CauseOSNRLow {
+			t.Errorf("BER+power only, OSNR fault, seed %d: top cause %q, want osnr-low", seed, got)
+		}
+
+		g := styleLog(t, seed, nil)
+		keep := func(i int) bool { return i < 300 || i >= 340 }
+		var ts []int64
+		var vals [parse.NumQuantities][]float64
+		for i, tm := range g.TimesMs {
+			if !keep(i) {
+				continue
+			}
+			ts = append(ts, tm)
+			for q := range vals {
+				if g.Values[q] != nil {
+					vals[q] = append(vals[q], g.Values[q][i])
+				}
+			}
+		}
+		g.TimesMs, g.Values = ts, vals
+		res := AnalyzePort(g, p, nil, nil, r)
+		if got := topCause(res); got != CauseSignalLoss {
+			t.Errorf("10 h of missing rows, seed %d: top cause %q, want signal-loss", seed, got)
+		}
+	}
+}
