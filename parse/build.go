@@ -4,6 +4,8 @@ import (
 	"math"
 	"slices"
 	"sort"
+	"sync"
+	"sync/atomic"
 )
 
 // colBuf is a column of values growing in segments, so that appending never copies what is
@@ -12,6 +14,21 @@ import (
 type colBuf struct {
 	segs [][]float64
 	n    int
+	hint int // expected length: the size of the first segment when > 0
+}
+
+func (c *colBuf) newSeg(k int) []float64 { return make([]float64, 0, c.segSize(k)) }
+
+// segSize is the capacity of segment number k.
+func (c *colBuf) segSize(k int) int {
+	if k == 0 && c.hint > 0 {
+		return c.hint
+	}
+	size := maxSeg
+	if k < 10 {
+		size = min(minSeg<<k, maxSeg)
+	}
+	return max(size, c.hint/8)
 }
 
 const (
@@ -22,15 +39,34 @@ const (
 func (c *colBuf) push(v float64) {
 	k := len(c.segs)
 	if k == 0 || len(c.segs[k-1]) == cap(c.segs[k-1]) {
-		size := maxSeg
-		if k < 10 {
-			size = min(minSeg<<k, maxSeg)
-		}
-		c.segs = append(c.segs, make([]float64, 0, size))
+		c.segs = append(c.segs, c.newSeg(k))
 		k++
 	}
 	c.segs[k-1] = append(c.segs[k-1], v)
 	c.n++
+}
+
+// pushSlice appends vs, filling the last segment and adding segments as needed.
+func (c *colBuf) pushSlice(vs []float64) {
+	for len(vs) > 0 {
+		k := len(c.segs)
+		if k == 0 || len(c.segs[k-1]) == cap(c.segs[k-1]) {
+			c.segs = append(c.segs, c.newSeg(k))
+			k++
+		}
+		last := c.segs[k-1]
+		m := min(cap(last)-len(last), len(vs))
+		c.segs[k-1] = append(last, vs[:m]...)
+		c.n += m
+		vs = vs[m:]
+	}
+}
+
+func (c *colBuf) pushNaN(n int) {
+	nan := math.NaN()
+	for range n {
+		c.push(nan)
+	}
 }
 
 // flatten returns the values as one slice and empties c.
@@ -55,6 +91,7 @@ type portBuf struct {
 	times    []int64
 	vals     [NumQuantities]*colBuf // nil until the port has a column for q
 	mask     uint32                 // bit q set when vals[q] != nil
+	hint     int                    // expected row count, 0 when unknown
 	last     int64
 	unsorted bool // some time is smaller than its predecessor
 	ties     bool // some time equals its predecessor
@@ -83,7 +120,7 @@ func (p *portBuf) ensure(q Quantity) {
 	if p.mask&(1<<q) != 0 {
 		return
 	}
-	col := &colBuf{}
+	col := &colBuf{hint: p.hint}
 	nan := math.NaN()
 	for range len(p.times) {
 		col.push(nan)
@@ -109,6 +146,35 @@ func (p *portBuf) addDense(t int64, qs []Quantity, vals []float64, qmask uint32)
 	p.times = append(p.times, t)
 	for j, q := range qs {
 		p.vals[q].push(vals[j])
+	}
+}
+
+// addBlock appends a run of rows: times[i] with, for quantity qs[j], the value
+// vals[j*len(times)+i] (column after column). Quantities the port has that qs lacks get NaN.
+func (p *portBuf) addBlock(times []int64, qs []Quantity, vals []float64, qmask uint32) {
+	n := len(times)
+	for _, t := range times {
+		p.noteTime(t)
+		p.times = append(p.times, t)
+	}
+	if qmask&^p.mask != 0 {
+		for _, q := range qs {
+			if p.mask&(1<<q) == 0 {
+				p.vals[q] = &colBuf{hint: p.hint}
+				p.vals[q].pushNaN(len(p.times) - n)
+				p.mask |= 1 << q
+			}
+		}
+	}
+	for j, q := range qs {
+		p.vals[q].pushSlice(vals[j*n : (j+1)*n])
+	}
+	if p.mask&^qmask != 0 {
+		for q := Quantity(0); q < NumQuantities; q++ {
+			if p.mask&(1<<q) != 0 && qmask&(1<<q) == 0 {
+				p.vals[q].pushNaN(n)
+			}
+		}
 	}
 }
 
@@ -191,30 +257,56 @@ func (db *datasetBuilder) absorb(fb *fileBuilder, fileIdx int) {
 
 // finish sorts every port by time (stably), keeps the last row of each run of equal times,
 // counts the replaced rows against the file of the row that replaced them, and returns the
-// series sorted by port name.
-func (db *datasetBuilder) finish(inputs []InputStats) []*Series {
-	out := make([]*Series, 0, len(db.ports))
+// series sorted by port name. Ports are finished in parallel on up to workers goroutines.
+func (db *datasetBuilder) finish(inputs []InputStats, workers int) []*Series {
+	ports := make([]*portBuf, 0, len(db.ports))
 	for _, p := range db.ports {
-		s := &Series{Port: p.name}
-		for q := Quantity(0); q < NumQuantities; q++ {
-			if p.mask&(1<<q) != 0 {
-				s.Values[q] = p.vals[q].flatten()
-				p.vals[q] = nil
-			}
-		}
-		s.TimesMs = p.times
-		if p.unsorted || p.ties {
-			sortDedupe(s, p.runs, p.unsorted, inputs)
-		}
-		out = append(out, s)
+		ports = append(ports, p)
 	}
-	sort.Slice(out, func(i, j int) bool { return out[i].Port < out[j].Port })
+	sort.Slice(ports, func(i, j int) bool { return ports[i].name < ports[j].name })
+	out := make([]*Series, len(ports))
+	var (
+		mu   sync.Mutex
+		next atomic.Int64
+		wg   sync.WaitGroup
+	)
+	for range max(1, min(workers, len(ports))) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				i := int(next.Add(1) - 1)
+				if i >= len(ports) {
+					return
+				}
+				p := ports[i]
+				s := &Series{Port: p.name, TimesMs: p.times}
+				for q := Quantity(0); q < NumQuantities; q++ {
+					if p.mask&(1<<q) != 0 {
+						s.Values[q] = p.vals[q].flatten()
+						p.vals[q] = nil
+					}
+				}
+				if p.unsorted || p.ties {
+					dups := sortDedupe(s, p.runs, p.unsorted)
+					mu.Lock()
+					for f, c := range dups {
+						inputs[f].Duplicates += c
+					}
+					mu.Unlock()
+				}
+				out[i] = s
+			}
+		}()
+	}
+	wg.Wait()
 	return out
 }
 
 // sortDedupe sorts s by time (stably) and keeps the last of each run of equal times; runs say
 // which input each arrival-order row came from, to charge it the replaced rows.
-func sortDedupe(s *Series, runs []fileRun, unsorted bool, inputs []InputStats) {
+func sortDedupe(s *Series, runs []fileRun, unsorted bool) (dupsByFile map[int]int) {
+	dupsByFile = map[int]int{}
 	p := struct {
 		times []int64
 		runs  []fileRun
@@ -248,7 +340,7 @@ func sortDedupe(s *Series, runs []fileRun, unsorted bool, inputs []InputStats) {
 		if i+1 < n && p.times[perm[i+1]] == p.times[perm[i]] {
 			// perm[i] is replaced by the later row perm[i+1].
 			if len(p.runs) > 0 {
-				inputs[fileOf(perm[i+1])].Duplicates++
+				dupsByFile[fileOf(perm[i+1])]++
 			}
 			continue
 		}
@@ -269,4 +361,5 @@ func sortDedupe(s *Series, runs []fileRun, unsorted bool, inputs []InputStats) {
 		}
 		s.Values[q] = col
 	}
+	return dupsByFile
 }

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strings"
 	"sync"
 	"sync/atomic"
@@ -14,17 +15,54 @@ import (
 // chunkSize is the size of the blocks a CSV input is cut into (at line ends) for parallel parsing.
 const chunkSize = 1 << 20
 
-var chunkPool = sync.Pool{New: func() any { b := make([]byte, chunkSize); return &b }}
+// recycler hands back the blocks and jobs of one input once merged, so that a long input
+// allocates them only for the few blocks in flight (a sync.Pool would drop them at every GC).
+type recycler struct {
+	bufs chan *[]byte
+	jobs chan *csvJob
+}
 
-// jobPool recycles jobs with their row buffers, so a long input allocates them only once.
-var jobPool = sync.Pool{New: func() any { return new(csvJob) }}
+func newRecycler(n int) *recycler {
+	return &recycler{bufs: make(chan *[]byte, n), jobs: make(chan *csvJob, n)}
+}
 
-// newJob takes a recycled job and resets it.
-func newJob(bp *[]byte, firstLine int) *csvJob {
-	j := jobPool.Get().(*csvJob)
+func (r *recycler) buf() *[]byte {
+	select {
+	case b := <-r.bufs:
+		return b
+	default:
+		b := make([]byte, chunkSize)
+		return &b
+	}
+}
+
+func (r *recycler) putBuf(b *[]byte) {
+	select {
+	case r.bufs <- b:
+	default:
+	}
+}
+
+// job takes a recycled job, reset, or a new one.
+func (r *recycler) job(bp *[]byte, firstLine int) *csvJob {
+	var j *csvJob
+	select {
+	case j = <-r.jobs:
+	default:
+		j = new(csvJob)
+	}
 	*j = csvJob{buf: bp, firstLine: firstLine, done: make(chan struct{}),
-		arena: j.arena[:0], portEnd: j.portEnd[:0], times: j.times[:0], vals: j.vals[:0]}
+		names: j.names[:0], rowPort: j.rowPort[:0], times: j.times[:0], vals: j.vals[:0],
+		groupEnd: j.groupEnd[:0], gTimes: j.gTimes[:0], gVals: j.gVals[:0]}
 	return j
+}
+
+func (r *recycler) putJob(j *csvJob) {
+	j.rejects = nil
+	select {
+	case r.jobs <- j:
+	default:
+	}
 }
 
 // csvLayout is what the header row says about every following row.
@@ -200,16 +238,66 @@ type csvJob struct {
 	buf       *[]byte
 	data      []byte
 	firstLine int
-	cutTail   bool // the last line has no line end because the stream broke off
+	cutTail   bool         // the last line has no line end because the stream broke off
+	dataLen   int          // len(data), kept after data is released
+	hintRatio float64      // input size ÷ dataLen for the first block with rows, else 0
+	pending   atomic.Int32 // merge shards still to take this job
 	done      chan struct{}
 
 	rowsRead int
-	arena    []byte  // port names, back to back
-	portEnd  []int32 // end of each accepted row's port name in arena
-	times    []int64
-	vals     []float64 // len(qs) values per accepted row
+	names    []string  // the job's distinct port names, in order of first sight
+	rowPort  []int32   // index into names of each accepted row
+	times    []int64   // time of each accepted row
+	vals     []float64 // len(qs) values per accepted row, row after row
 	rejects  []*ParseError
 	nReject  int
+
+	// The accepted rows regrouped by port (see group), so that the merge appends whole runs.
+	groupEnd []int32   // end (in rows) of each port's group
+	gTimes   []int64   // times, port group after port group, arrival order inside a group
+	gVals    []float64 // per group: len(qs) columns of the group's length, one after the other
+}
+
+// group reorders the accepted rows by port, stably, with each port's values column by column:
+// the merge can then append a port's run of each quantity in one copy. It runs on the worker.
+func (job *csvJob) group(k int) {
+	np := len(job.names)
+	n := len(job.times)
+	job.groupEnd = slices.Grow(job.groupEnd[:0], np)[:np]
+	counts := job.groupEnd
+	clear(counts)
+	for _, pi := range job.rowPort {
+		counts[pi]++
+	}
+	// start of each group, in rows; counts becomes the running cursor
+	starts := make([]int32, np)
+	sum := int32(0)
+	for i := range counts {
+		starts[i] = sum
+		sum += counts[i]
+		counts[i] = 0
+	}
+	job.gTimes = slices.Grow(job.gTimes[:0], n)[:n]
+	job.gVals = slices.Grow(job.gVals[:0], n*k)[:n*k]
+	sizes := make([]int32, np)
+	for _, pi := range job.rowPort {
+		sizes[pi]++
+	}
+	for r, pi := range job.rowPort {
+		at := starts[pi] + counts[pi]
+		job.gTimes[at] = job.times[r]
+		base := int(starts[pi]) * k
+		cnt := int(sizes[pi])
+		off := int(counts[pi])
+		row := job.vals[r*k : (r+1)*k]
+		for j, v := range row {
+			job.gVals[base+j*cnt+off] = v
+		}
+		counts[pi]++
+	}
+	for i := range counts {
+		counts[i] = starts[i] + sizes[i]
+	}
 }
 
 // csvParser parses jobs; one per worker goroutine, so its scratch space is private.
@@ -222,9 +310,15 @@ type csvParser struct {
 	// the last time field parsed and its value: rows of one sample time usually follow each other
 	lastTime   []byte
 	lastTimeMs int64
+	portIdx    map[string]int32 // port name → index into the current job's names
 }
 
 func (cp *csvParser) parse(job *csvJob) {
+	if cp.portIdx == nil {
+		cp.portIdx = map[string]int32{}
+	}
+	clear(cp.portIdx)
+	defer job.group(len(cp.lay.qs))
 	data := job.data
 	line := job.firstLine
 	for len(data) > 0 {
@@ -305,7 +399,8 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 	if isMissing(pf) {
 		return cp.fieldErr(lineNo, lay.portCol, ErrMissingValue)
 	}
-	if !utf8.Valid(pf) {
+	pi, known := cp.portIdx[bytesString(pf)]
+	if !known && !utf8.Valid(pf) { // a name seen before in this block was valid then
 		return cp.fieldErr(lineNo, lay.portCol, fmt.Errorf("%w: port name %s", ErrEncoding, quoteShort(pf)))
 	}
 	for j, fi := range lay.qFields {
@@ -335,8 +430,13 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 		}
 		job.vals = append(job.vals, v)
 	}
-	job.arena = append(job.arena, pf...)
-	job.portEnd = append(job.portEnd, int32(len(job.arena)))
+	if !known {
+		pi = int32(len(job.names))
+		name := string(pf)
+		job.names = append(job.names, name)
+		cp.portIdx[name] = pi
+	}
+	job.rowPort = append(job.rowPort, pi)
 	job.times = append(job.times, t)
 	return nil
 }
@@ -413,14 +513,15 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 	carry := buf // bytes after the header, not yet parsed
 
 	workers := opt.workers()
+	rec := newRecycler(4*workers + 4)
 	var stop atomic.Bool
-	order := make(chan *csvJob, 2*workers)
+	order := make(chan *csvJob, workers)
 	jobs := make(chan *csvJob, workers)
 	go func() { // producer: cut the stream into jobs of whole lines
 		defer close(order)
 		defer close(jobs)
 		for !stop.Load() {
-			bp := chunkPool.Get().(*[]byte)
+			bp := rec.buf()
 			b := (*bp)[:0]
 			if len(carry) > cap(b) {
 				b = make([]byte, 0, 2*len(carry))
@@ -445,7 +546,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 					}
 				}
 			}
-			job := newJob(bp, line)
+			job := rec.job(bp, line)
 			if eof {
 				job.data = b
 				job.cutTail = readErr != nil && len(b) > 0 && b[len(b)-1] != '\n'
@@ -472,9 +573,31 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 				if !stop.Load() {
 					cp.parse(job)
 				}
-				chunkPool.Put(job.buf)
+				rec.putBuf(job.buf)
+				job.dataLen = len(job.data)
 				job.buf, job.data = nil, nil
 				close(job.done)
+			}
+		}()
+	}
+	// The merge is sharded by port: shard i appends the ports whose name hashes to i, every
+	// shard taking the jobs in input order, so each port's rows keep their order while
+	// several goroutines fill (and fault in) the columns.
+	shards := workers
+	builders := make([]*fileBuilder, shards)
+	chans := make([]chan *csvJob, shards)
+	var swg sync.WaitGroup
+	for i := range shards {
+		builders[i] = newFileBuilder()
+		chans[i] = make(chan *csvJob, 1)
+		swg.Add(1)
+		go func() {
+			defer swg.Done()
+			for job := range chans[i] {
+				applyCSV(builders[i], lay, job, i, shards)
+				if job.pending.Add(-1) == 0 {
+					rec.putJob(job)
+				}
 			}
 		}()
 	}
@@ -483,27 +606,39 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		if stop.Load() {
 			continue
 		}
-		res.mergeCSV(job, opt.Strict)
+		res.accountCSV(job, opt.Strict)
 		if res.strictErr != nil {
 			stop.Store(true)
+			continue
 		}
-		job.rejects = nil
-		jobPool.Put(job)
+		job.pending.Store(int32(shards))
+		for _, ch := range chans {
+			ch <- job
+		}
 	}
+	for _, ch := range chans {
+		close(ch)
+	}
+	swg.Wait()
 	wg.Wait()
+	for _, b := range builders {
+		for _, p := range b.order {
+			res.fb.ports[p.name] = p
+			res.fb.order = append(res.fb.order, p)
+		}
+	}
 	if readErr != nil {
 		res.fail(&ParseError{File: file, Line: line, Err: fmt.Errorf("%w: %v", ErrTruncated, readErr)}, nil)
 	}
 }
 
-// mergeCSV adds a parsed job's rows and rejections to the file's builder, in input order.
-func (res *fileResult) mergeCSV(job *csvJob, strict bool) {
-	lay := res.lay
-	k := len(lay.qs)
+// accountCSV adds a parsed job's counts and rejections to the file's accounting, in input
+// order; in strict mode the first rejection stops the file instead.
+func (res *fileResult) accountCSV(job *csvJob, strict bool) {
 	res.stats.RowsRead += job.rowsRead
 	if strict && len(job.rejects) > 0 {
 		res.strictErr = job.rejects[0]
-		// Rows after the first bad one are not taken; account for what was read up to it.
+		// The block with the bad row is not taken: the counts cover the blocks before it.
 		res.stats.RowsRead -= job.rowsRead
 		return
 	}
@@ -512,11 +647,48 @@ func (res *fileResult) mergeCSV(job *csvJob, strict bool) {
 	for _, pe := range job.rejects {
 		res.addRejection(pe.rejection())
 	}
-	start := int32(0)
-	for i, t := range job.times {
-		end := job.portEnd[i]
-		p := res.fb.port(job.arena[start:end])
-		start = end
-		p.addDense(t, lay.qs, job.vals[i*k:(i+1)*k], lay.qmask)
+	if !res.hinted && len(job.times) > 0 {
+		res.hinted = true
+		if res.sizeHint > 0 && job.dataLen > 0 {
+			if ratio := float64(res.sizeHint) / float64(job.dataLen); ratio >= 1.5 {
+				job.hintRatio = ratio
+			}
+		}
 	}
+}
+
+// applyCSV appends the rows of the ports of shard (of shards) from a parsed job.
+//
+// Capacity hint: when the input's size is known, a port first seen with c rows in the first
+// block of b bytes is expected to have about c·size/b rows in all. Regular telemetry (every
+// port every interval) then fills exactly one allocation per column, which finish hands over
+// without copying; a wrong guess only costs extra segments.
+func applyCSV(fb *fileBuilder, lay *csvLayout, job *csvJob, shard, shards int) {
+	k := len(lay.qs)
+	start := int32(0)
+	for g, name := range job.names {
+		end := job.groupEnd[g]
+		if shards == 1 || shardOf(name, shards) == shard {
+			p := fb.port([]byte(name))
+			if job.hintRatio > 0 && len(p.times) == 0 && p.hint == 0 {
+				// +1 row and 5 %: the first block sees each port a few dozen times, so the
+				// count is off by one easily; unused capacity is never touched, so it costs
+				// address space, not memory.
+				p.hint = int(float64(end-start+1)*job.hintRatio*1.05) + 16
+				p.times = make([]int64, 0, p.hint)
+			}
+			p.addBlock(job.gTimes[start:end], lay.qs, job.gVals[int(start)*k:int(end)*k], lay.qmask)
+		}
+		start = end
+	}
+}
+
+// shardOf hashes a port name (FNV-1a) to one of n shards.
+func shardOf(name string, n int) int {
+	h := uint32(2166136261)
+	for i := 0; i < len(name); i++ {
+		h ^= uint32(name[i])
+		h *= 16777619
+	}
+	return int(h % uint32(n))
 }

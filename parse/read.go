@@ -51,6 +51,8 @@ func (o Options) statistic() (string, error) {
 
 // fileResult is what reading one input produced.
 type fileResult struct {
+	sizeHint  int64 // bytes the input is expected to hold once unpacked (0: unknown)
+	hinted    bool
 	stats     InputStats
 	fb        *fileBuilder
 	lay       *csvLayout
@@ -208,7 +210,7 @@ func ReadPaths(paths []string, opt Options) (*Dataset, error) {
 	}
 	wg.Wait()
 	meter.add(0)
-	ds, err := assemble(results)
+	ds, err := assemble(results, opt.workers())
 	ds.Skipped = skipped
 	return ds, err
 }
@@ -216,7 +218,7 @@ func ReadPaths(paths []string, opt Options) (*Dataset, error) {
 // readNamed opens and reads one named input ("-" is standard input).
 func readNamed(name string, opt Options, meter *progressMeter) *fileResult {
 	if name == "-" {
-		return readInput(name, countingReader{os.Stdin, meter}, opt)
+		return readInput(name, countingReader{os.Stdin, meter}, opt, sizeOf(os.Stdin))
 	}
 	f, err := os.Open(name)
 	if err != nil {
@@ -225,7 +227,7 @@ func readNamed(name string, opt Options, meter *progressMeter) *fileResult {
 		return res
 	}
 	defer f.Close()
-	return readInput(name, countingReader{f, meter}, opt)
+	return readInput(name, countingReader{f, meter}, opt, sizeOf(f))
 }
 
 // ReadFile reads one input from r; name is used in messages and in the accounting. Gzip is
@@ -235,11 +237,11 @@ func ReadFile(name string, r io.Reader, opt Options) (*Dataset, error) {
 	if _, err := opt.statistic(); err != nil {
 		return nil, err
 	}
-	return assemble([]*fileResult{readInput(name, r, opt)})
+	return assemble([]*fileResult{readInput(name, r, opt, sizeOf(r))}, opt.workers())
 }
 
 // assemble merges per-file results, in order, into a Dataset.
-func assemble(results []*fileResult) (*Dataset, error) {
+func assemble(results []*fileResult, workers int) (*Dataset, error) {
 	ds := &Dataset{}
 	db := &datasetBuilder{ports: map[string]*portBuf{}}
 	var errs []error
@@ -258,15 +260,15 @@ func assemble(results []*fileResult) (*Dataset, error) {
 			errs = append(errs, res.fileErr)
 		}
 	}
-	ds.Series = db.finish(ds.Inputs)
+	ds.Series = db.finish(ds.Inputs, workers)
 	return ds, errors.Join(errs...)
 }
 
 var gzipMagic = []byte{0x1f, 0x8b}
 
 // readInput hashes the raw bytes, unpacks gzip, drops a BOM and dispatches on content.
-func readInput(name string, raw io.Reader, opt Options) *fileResult {
-	res := &fileResult{stats: InputStats{File: name}, fb: newFileBuilder()}
+func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult {
+	res := &fileResult{stats: InputStats{File: name}, fb: newFileBuilder(), sizeHint: size}
 	h := sha256.New()
 	br := bufio.NewReaderSize(io.TeeReader(raw, h), 64*1024)
 	defer func() {
@@ -285,6 +287,7 @@ func readInput(name string, raw io.Reader, opt Options) *fileResult {
 		}
 		r = bufio.NewReaderSize(zr, 64*1024)
 		gz = true
+		res.sizeHint = 0 // the unpacked size is not known
 	}
 	cr := r.(*bufio.Reader)
 	if bom, _ := cr.Peek(3); bytes.Equal(bom, []byte{0xef, 0xbb, 0xbf}) {
@@ -330,4 +333,18 @@ func firstNonSpace(br *bufio.Reader) byte {
 			return 0
 		}
 	}
+}
+
+// sizeOf tells the remaining size of r when r can say (a regular file, a bytes or strings
+// reader), else 0.
+func sizeOf(r io.Reader) int64 {
+	switch x := r.(type) {
+	case *os.File:
+		if fi, err := x.Stat(); err == nil && fi.Mode().IsRegular() {
+			return fi.Size()
+		}
+	case interface{ Len() int }:
+		return int64(x.Len())
+	}
+	return 0
 }
