@@ -222,9 +222,9 @@ func TestPaperSizes(t *testing.T) {
 func TestOddTextLaysOut(t *testing.T) {
 	long := strings.Repeat("Extremely-long-unbroken-site-identifier-", 12)
 	fields := SignOff{
-		Technician:     "Γιώργος Παπαδόπουλος",
-		Organisation:   "ООО «Связь-Монтаж» " + strings.Repeat("очень длинное название ", 15),
-		AcceptingParty: "東京光通信",
+		Technician:     "Δοκιμαστής Πρώτος",
+		Organisation:   "Бригада «Пробный Свет» " + strings.Repeat("очень длинное название ", 15),
+		AcceptingParty: "試験光路",
 		EndA:           long,
 		EndZ:           "",
 		Notes:          "line one\nline two\twith tab; " + strings.Repeat("wrap me ", 80),
@@ -245,7 +245,7 @@ func TestOddTextLaysOut(t *testing.T) {
 	keepPDF(t, "oddtext.pdf", buf.Bytes())
 	text, pages := pdfText(t, buf.Bytes())
 	squashed := strings.Join(strings.Fields(text), "")
-	for _, want := range []string{"U+6771", "(Liberation Sans) has no glyph", "wrapmewrapme", "linetwowithtab"} {
+	for _, want := range []string{"U+8A66", "(Liberation Sans) has no glyph", "wrapmewrapme", "linetwowithtab"} {
 		if !strings.Contains(squashed, strings.Join(strings.Fields(want), "")) {
 			t.Errorf("PDF text lacks %q", want)
 		}
@@ -253,7 +253,7 @@ func TestOddTextLaysOut(t *testing.T) {
 	// github.com/ledongthuc/pdf returns only the low byte of each two-byte (Identity-H) code,
 	// so non-Latin text is compared in that form here; pdftotext, when installed, reads the
 	// font's ToUnicode map and must give the letters themselves.
-	for _, want := range []string{"Παπαδόπουλος", "«Связь-Монтаж»"} {
+	for _, want := range []string{"Πρώτος", "«Пробный Свет»"} {
 		if !strings.Contains(squashed, strings.Join(strings.Fields(lowBytes(want)), "")) {
 			t.Errorf("PDF text lacks %q", want)
 		}
@@ -265,7 +265,7 @@ func TestOddTextLaysOut(t *testing.T) {
 		if err != nil {
 			t.Fatalf("pdftotext: %v", err)
 		}
-		for _, want := range []string{"Γιώργος Παπαδόπουλος", "ООО «Связь-Монтаж»"} {
+		for _, want := range []string{"Δοκιμαστής Πρώτος", "Бригада «Пробный Свет»"} {
 			if !strings.Contains(string(out), want) {
 				t.Errorf("pdftotext finds no %q", want)
 			}
@@ -297,7 +297,7 @@ func TestOddTextLaysOut(t *testing.T) {
 	if err := a.WriteMarkdown(&md); err != nil {
 		t.Fatal(err)
 	}
-	if !strings.Contains(md.String(), "東京光通信") {
+	if !strings.Contains(md.String(), "試験光路") {
 		t.Error("Markdown lost the CJK name")
 	}
 }
