@@ -4,7 +4,6 @@ import (
 	"bufio"
 	"fmt"
 	"io"
-	"math"
 	"strings"
 
 	"github.com/beatnote/beatnote/diagnose"
@@ -38,47 +37,6 @@ func verdictMeaning(v diagnose.Verdict) string {
 		return "The telemetry did not allow any criterion to be judged."
 	}
 	return ""
-}
-
-// formatValue prints a number in a way that suits its unit: ratios (BER) in scientific
-// notation, counts as integers, everything else with two decimals.
-func formatValue(v float64, unit string) string {
-	switch {
-	case math.IsNaN(v):
-		return "n/a"
-	case math.IsInf(v, 0):
-		return fmt.Sprint(v)
-	case unit == "":
-		return fmt.Sprintf("%.3g", v)
-	case unit == "blocks":
-		return fmt.Sprintf("%.0f", v)
-	case unit == "THz": // the DWDM grid is 6.25 GHz fine (ITU-T G.694.1): five decimals
-		return fmt.Sprintf("%.5f", v)
-	case math.Abs(v) >= 1000:
-		return fmt.Sprintf("%.0f", v)
-	}
-	return fmt.Sprintf("%.2f", v)
-}
-
-// withUnit is formatValue followed by the unit, if any.
-func withUnit(v float64, unit string) string {
-	s := formatValue(v, unit)
-	if unit != "" && unit != "blocks" && !math.IsNaN(v) {
-		s += " " + unit
-	}
-	return s
-}
-
-// formatMargin prints a criterion's margin; ratios get no unit, the rest keep theirs.
-func formatMargin(c diagnose.Criterion) string {
-	s := formatValue(c.Margin, c.Unit)
-	if c.Unit != "" && c.Unit != "blocks" && !math.IsNaN(c.Margin) {
-		s += " " + c.Unit
-	}
-	if c.Margin > 0 && !strings.HasPrefix(s, "+") {
-		s = "+" + s
-	}
-	return s
 }
 
 func orBlank(s, blank string) string {
@@ -149,16 +107,16 @@ func (a *Acceptance) WriteMarkdown(w io.Writer) error {
 		if len(port.Criteria) > 0 {
 			p("### Criteria\n\n| criterion | statistic | measured | limit | margin | verdict |\n| --- | --- | ---: | ---: | ---: | --- |\n")
 			for _, c := range port.Criteria {
-				p("| %s | %s | %s | %s | %s | %s |\n", mdCell(c.Name), mdCell(c.Statistic), withUnit(c.Measured, c.Unit),
-					withUnit(c.Limit, c.Unit), formatMargin(c), VerdictWords(c.Verdict))
+				p("| %s | %s | %s | %s | %s | %s |\n", mdCell(c.Name), mdCell(c.Statistic), FormatValue(c.Measured, c.Unit),
+					FormatValue(c.Limit, c.Unit), FormatMargin(c.Margin, c.Unit), VerdictWords(c.Verdict))
 			}
 			p("\n")
 		}
 		if len(port.PlanVsMeasured) > 0 {
 			p("### Plan vs measured\n\n| quantity | planned | measured | difference | note |\n| --- | ---: | ---: | ---: | --- |\n")
 			for _, pc := range port.PlanVsMeasured {
-				p("| %s | %s | %s | %s | %s |\n", mdCell(pc.Quantity), withUnit(pc.Expected, pc.Unit), withUnit(pc.Measured, pc.Unit),
-					withUnit(pc.Measured-pc.Expected, pc.Unit), mdCell(pc.Note))
+				p("| %s | %s | %s | %s | %s |\n", mdCell(pc.Quantity), FormatValue(pc.Expected, pc.Unit), FormatValue(pc.Measured, pc.Unit),
+					FormatMargin(pc.Measured-pc.Expected, pc.Unit), mdCell(pc.Note))
 			}
 			p("\n")
 		}
@@ -191,7 +149,7 @@ func (a *Acceptance) WriteMarkdown(w io.Writer) error {
 				if m.Derived {
 					name += " (derived)"
 				}
-				p("| %s | %s | %s | %s | %s |\n", mdCell(name), withUnit(m.Min, m.Unit), withUnit(m.P50, m.Unit), withUnit(m.P99, m.Unit), withUnit(m.Max, m.Unit))
+				p("| %s | %s | %s | %s | %s |\n", mdCell(name), FormatValue(m.Min, m.Unit), FormatValue(m.P50, m.Unit), FormatValue(m.P99, m.Unit), FormatValue(m.Max, m.Unit))
 			}
 			p("\n")
 		}

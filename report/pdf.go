@@ -218,7 +218,7 @@ func (pw *pdfWriter) ensure(h float64) {
 }
 
 func (pw *pdfWriter) heading(s string, size float64) {
-	pw.ensure(size*0.8 + 14)
+	pw.ensure(size*0.8 + 26) // keep a heading with the start of what follows
 	pdf := pw.pdf
 	pdf.Ln(2)
 	pdf.SetFont("sans", "B", size)
@@ -542,7 +542,7 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 			if c.Source != "" {
 				name += "\nlimit: " + c.Source
 			}
-			rows[i] = []string{name, c.Statistic, withUnit(c.Measured, c.Unit), withUnit(c.Limit, c.Unit), formatMargin(c), VerdictWords(c.Verdict)}
+			rows[i] = []string{name, c.Statistic, FormatValue(c.Measured, c.Unit), FormatValue(c.Limit, c.Unit), FormatMargin(c.Margin, c.Unit), VerdictWords(c.Verdict)}
 		}
 		pw.table([]column{
 			{title: "criterion", width: 0.37, align: "L", subdued: true}, {title: "statistic", width: 0.1, align: "L"},
@@ -554,7 +554,7 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 		pw.heading("Plan vs measured", 11)
 		rows := make([][]string, len(port.PlanVsMeasured))
 		for i, pc := range port.PlanVsMeasured {
-			rows[i] = []string{pc.Quantity, withUnit(pc.Expected, pc.Unit), withUnit(pc.Measured, pc.Unit), withUnit(pc.Measured-pc.Expected, pc.Unit), pc.Note}
+			rows[i] = []string{pc.Quantity, FormatValue(pc.Expected, pc.Unit), FormatValue(pc.Measured, pc.Unit), FormatMargin(pc.Measured-pc.Expected, pc.Unit), pc.Note}
 		}
 		pw.table([]column{
 			{title: "quantity", width: 0.22, align: "L"}, {title: "planned", width: 0.15, align: "R"},
@@ -604,7 +604,7 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 			if m.Derived {
 				name += " (derived)"
 			}
-			rows[i] = []string{name, withUnit(m.Min, m.Unit), withUnit(m.P50, m.Unit), withUnit(m.P99, m.Unit), withUnit(m.Max, m.Unit)}
+			rows[i] = []string{name, FormatValue(m.Min, m.Unit), FormatValue(m.P50, m.Unit), FormatValue(m.P99, m.Unit), FormatValue(m.Max, m.Unit)}
 		}
 		pw.table([]column{
 			{title: "quantity", width: 0.28, align: "L"}, {title: "min", width: 0.18, align: "R"},
