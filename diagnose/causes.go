@@ -130,13 +130,13 @@ func (pc *portCtx) qMarginP50() float64 {
 			v = append(v, q)
 		}
 	}
-	pc.cache.qMargin = series.Summarize(v).P50 - pc.qLimitDB
+	pc.cache.qMargin = pc.summarize(v).P50 - pc.qLimitDB
 	return pc.cache.qMargin
 }
 
 func (pc *portCtx) litPowerSummary() series.Summary {
 	if pc.cache.litPower == nil {
-		s := series.Summarize(pc.litPower)
+		s := pc.summarize(pc.litPower)
 		pc.cache.litPower = &s
 	}
 	return *pc.cache.litPower

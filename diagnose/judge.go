@@ -112,20 +112,29 @@ func (pc *portCtx) metrics() {
 		pc.metric(q.Column(), q.Unit(), s, false, limit, margin)
 	}
 	if pc.berDerived {
-		s := series.Summarize(pc.ber)
+		s := pc.summarize(pc.ber)
 		pc.metric("pre_fec_ber", "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, r.QStatistic))
 	}
 	if pc.qDerived {
-		s := series.Summarize(pc.qdb)
+		s := pc.qSummary()
 		pc.metric("q_db", "dB", s, true, pc.qLimitDB, pick(s, r.QStatistic)-pc.qLimitDB)
 	}
 	if pc.esnrDerived {
-		s := series.Summarize(pc.esnr)
+		s := pc.summarize(pc.esnr)
 		pc.metric("esnr_db", "dB", s, true, pc.snrThDB, pick(s, r.QStatistic)-pc.snrThDB)
 	}
 }
 
 // windowMargin gives the nearer edge of a power window and the margin to it.
+// qSummary is the summary of the Q series (measured or derived), computed once.
+func (pc *portCtx) qSummary() series.Summary {
+	if pc.cache.q == nil {
+		s := pc.summarize(pc.qdb)
+		pc.cache.q = &s
+	}
+	return *pc.cache.q
+}
+
 func windowMargin(s series.Summary, lo, hi float64, stLo, stHi rules.Statistic) (limit, margin float64) {
 	mLo, mHi := pick(s, stLo)-lo, hi-pick(s, stHi)
 	if lo == 0 && hi == 0 {
@@ -171,7 +180,7 @@ func (pc *portCtx) criteria() {
 	has := func(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
 
 	if pc.qdb != nil && p.FECThresholdBER > 0 {
-		s := series.Summarize(pc.qdb)
+		s := pc.qSummary()
 		m := pick(s, r.QStatistic)
 		pc.addCriterion(Criterion{Name: "Q-factor margin to the FEC threshold", Metric: "q_db", Statistic: string(r.QStatistic),
 			Measured: m, Limit: pc.qLimitDB, Margin: m - pc.qLimitDB, Unit: "dB",
@@ -345,7 +354,7 @@ func (pc *portCtx) esnrP50() float64 {
 			v = append(v, x)
 		}
 	}
-	pc.cache.esnr = series.Summarize(v).P50
+	pc.cache.esnr = pc.summarize(v).P50
 	return pc.cache.esnr
 }
 

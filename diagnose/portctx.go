@@ -49,9 +49,11 @@ type portCtx struct {
 	sum            map[parse.Quantity]series.Summary
 	absSum         map[parse.Quantity]series.Summary // of |x|, for CD and LO offset
 
+	scratch []float64 // working copy for summaries
+
 	// cache holds summaries several evidence tests use.
 	cache struct {
-		litPower            *series.Summary
+		litPower, q         *series.Summary
 		qMargin, esnr       float64
 		qMarginSet, esnrSet bool
 	}
@@ -100,6 +102,13 @@ func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opti
 	pc.deriveSeries()
 	pc.analyseSeries()
 	return pc
+}
+
+// summarize is series.Summarize with the port's scratch buffer.
+func (pc *portCtx) summarize(v []float64) series.Summary {
+	var s series.Summary
+	s, pc.scratch = series.SummarizeInto(v, pc.scratch)
+	return s
 }
 
 func polOf(p rules.Profile) int {
@@ -181,7 +190,7 @@ func (pc *portCtx) deriveSeries() {
 	pc.absSum = map[parse.Quantity]series.Summary{}
 	for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
 		if s.Has(q) {
-			pc.sum[q] = series.Summarize(s.Values[q])
+			pc.sum[q] = pc.summarize(s.Values[q])
 		}
 	}
 	for _, q := range []parse.Quantity{parse.CDpsPerNm, parse.LOOffsetMHz} {
@@ -190,7 +199,7 @@ func (pc *portCtx) deriveSeries() {
 			for i, v := range s.Values[q] {
 				a[i] = math.Abs(v)
 			}
-			pc.absSum[q] = series.Summarize(a)
+			pc.absSum[q] = pc.summarize(a)
 		}
 	}
 	hasBER, hasQ, hasESNR := s.Has(parse.PreFECBER), s.Has(parse.QdB), s.Has(parse.ESNRdB)
@@ -285,7 +294,7 @@ func (pc *portCtx) analyseSeries() {
 				lit = append(lit, b)
 			}
 		}
-		med := series.Summarize(lit).P50
+		med := pc.summarize(lit).P50
 		// A burst is BER_burst_factor × the median, or crossing the FEC threshold when the port
 		// runs too close to it for a tenfold rise; never below the floor.
 		thr := r.BERBurstFactor * med

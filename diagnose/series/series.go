@@ -50,22 +50,129 @@ type Summary struct {
 }
 
 // Summarize returns the order statistics and mean of the finite values of v; with none, N is
-// 0 and every statistic NaN.
+// 0 and every statistic NaN. The quantiles are those of Quantile (Hyndman–Fan definition 7),
+// found by selection rather than a full sort.
 func Summarize(v []float64) Summary {
-	f := Finite(v)
-	if len(f) == 0 {
-		nan := math.NaN()
-		return Summary{Min: nan, P01: nan, P50: nan, P99: nan, Max: nan, Mean: nan}
-	}
-	sort.Float64s(f)
+	s, _ := SummarizeInto(v, nil)
+	return s
+}
+
+// SummarizeInto is Summarize using scratch (grown as needed and returned) for its working copy,
+// so that a caller summarising many series allocates once.
+func SummarizeInto(v, scratch []float64) (Summary, []float64) {
+	f := scratch[:0]
 	sum := 0.0
-	for _, x := range f {
-		sum += x
+	for _, x := range v {
+		if ok(x) {
+			f = append(f, x)
+			sum += x
+		}
 	}
-	return Summary{
-		N: len(f), Min: f[0], Max: f[len(f)-1],
-		P01: Quantile(f, 0.01), P50: Quantile(f, 0.5), P99: Quantile(f, 0.99),
-		Mean: sum / float64(len(f)),
+	n := len(f)
+	if n == 0 {
+		nan := math.NaN()
+		return Summary{Min: nan, P01: nan, P50: nan, P99: nan, Max: nan, Mean: nan}, f
+	}
+	out := Summary{N: n, Mean: sum / float64(n)}
+	// quant is Quantile at p when f[lo:hi] holds exactly the order statistics lo…hi−1 (and
+	// f[hi:] the larger ones): select the one at ⌊h⌋, then the next is the smallest above it.
+	quant := func(p float64, lo, hi int) float64 {
+		h := float64(n-1) * p
+		k := int(math.Floor(h))
+		selectKth(f, lo, hi, k)
+		x := f[k]
+		if h == float64(k) {
+			return x
+		}
+		var next float64
+		if k+1 < hi {
+			next = minOf(f[k+1 : hi])
+		} else {
+			next = minOf(f[hi:]) // k+1 == hi < n, as h < n−1
+		}
+		return x + (h-float64(k))*(next-x)
+	}
+	mid := int(math.Floor(float64(n-1) * 0.5))
+	out.P50 = quant(0.5, 0, n) // now f[:mid] ≤ f[mid] ≤ f[mid+1:]
+	if k := int(math.Floor(float64(n-1) * 0.01)); k == mid {
+		out.P01 = quant(0.01, mid, mid+1)
+	} else {
+		out.P01 = quant(0.01, 0, mid)
+	}
+	if k := int(math.Floor(float64(n-1) * 0.99)); k == mid {
+		out.P99 = quant(0.99, mid, mid+1)
+	} else {
+		out.P99 = quant(0.99, mid+1, n)
+	}
+	out.Min = minOf(f[:mid+1])
+	out.Max = maxOf(f[mid:])
+	return out, f
+}
+
+func minOf(v []float64) float64 {
+	m := v[0]
+	for _, x := range v[1:] {
+		m = math.Min(m, x)
+	}
+	return m
+}
+
+func maxOf(v []float64) float64 {
+	m := v[0]
+	for _, x := range v[1:] {
+		m = math.Max(m, x)
+	}
+	return m
+}
+
+// selectKth rearranges v[lo:hi] so that v[k] holds the value it would have if v[lo:hi] were
+// sorted, smaller or equal values before it and larger or equal after (Hoare's quickselect with
+// median-of-three pivots; C. A. R. Hoare, "Algorithm 65: Find", Commun. ACM 4(7), 1961). The
+// part outside lo:hi must already be partitioned around that range.
+func selectKth(v []float64, lo, hi, k int) {
+	hi--
+	for hi > lo {
+		if hi-lo < 16 {
+			for i := lo + 1; i <= hi; i++ {
+				for j := i; j > lo && v[j] < v[j-1]; j-- {
+					v[j], v[j-1] = v[j-1], v[j]
+				}
+			}
+			return
+		}
+		m := lo + (hi-lo)/2
+		if v[m] < v[lo] {
+			v[m], v[lo] = v[lo], v[m]
+		}
+		if v[hi] < v[lo] {
+			v[hi], v[lo] = v[lo], v[hi]
+		}
+		if v[hi] < v[m] {
+			v[hi], v[m] = v[m], v[hi]
+		}
+		pivot := v[m]
+		i, j := lo, hi
+		for i <= j {
+			for v[i] < pivot {
+				i++
+			}
+			for v[j] > pivot {
+				j--
+			}
+			if i <= j {
+				v[i], v[j] = v[j], v[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return
+		}
 	}
 }
 

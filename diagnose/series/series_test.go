@@ -210,3 +210,38 @@ func sortFloats(v []float64) {
 		}
 	}
 }
+
+// Summarize selects rather than sorts: it must agree exactly with Quantile on the sorted data,
+// for every length from 1 to 300 and for data with many ties.
+func TestSummarizeAgreesWithSortedQuantiles(t *testing.T) {
+	state := uint64(12345)
+	rnd := func() float64 { // xorshift, deterministic
+		state ^= state << 13
+		state ^= state >> 7
+		state ^= state << 17
+		return float64(state%100000) / 1000
+	}
+	for n := 1; n <= 300; n++ {
+		for _, ties := range []bool{false, true} {
+			v := make([]float64, n)
+			for i := range v {
+				v[i] = rnd()
+				if ties {
+					v[i] = math.Floor(v[i] / 25)
+				}
+			}
+			s := Summarize(v)
+			f := append([]float64(nil), v...)
+			sortFloats(f)
+			for _, c := range []struct {
+				name string
+				got  float64
+				p    float64
+			}{{"min", s.Min, 0}, {"p01", s.P01, 0.01}, {"p50", s.P50, 0.5}, {"p99", s.P99, 0.99}, {"max", s.Max, 1}} {
+				if want := Quantile(f, c.p); c.got != want {
+					t.Fatalf("n %d ties %v: %s = %g, want %g", n, ties, c.name, c.got, want)
+				}
+			}
+		}
+	}
+}
