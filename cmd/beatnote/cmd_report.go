@@ -109,6 +109,11 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}
+	for _, f := range in.files {
+		if sameFile(f, c.Out) {
+			return &exitError{code: 2, err: fmt.Errorf("--out %s is one of the inputs; choose another file name", c.Out)}
+		}
+	}
 	if err := writeFileAtomic(c.Out, buf.Bytes()); err != nil {
 		return &exitError{code: 2, err: err}
 	}
@@ -120,6 +125,11 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 			return &exitError{code: 2, err: fmt.Errorf("signing: %w", err)}
 		}
 		pr.Printf("%s: signed with key %s\n", sigPath, signing.KeyFingerprint)
+	}
+	if priv == nil {
+		if _, err := os.Stat(report.SignaturePath(c.Out)); err == nil {
+			pr.Notef("note: %s belongs to an earlier report and no longer matches this one; remove it or sign again", report.SignaturePath(c.Out))
+		}
 	}
 	if acc.Verdict != diagnose.Pass {
 		return errNotPassing
@@ -254,4 +264,14 @@ func writeFileAtomic(path string, data []byte) error {
 		return err
 	}
 	return os.Rename(f.Name(), path)
+}
+
+// sameFile reports whether two paths name the same existing file.
+func sameFile(a, b string) bool {
+	sa, err := os.Stat(a)
+	if err != nil {
+		return false
+	}
+	sb, err := os.Stat(b)
+	return err == nil && os.SameFile(sa, sb)
 }

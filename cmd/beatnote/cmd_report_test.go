@@ -140,6 +140,7 @@ func TestReportFormatsAndUsage(t *testing.T) {
 		"sign without signer": {Logs: []string{log}, judgeFlags: judgeFlags{Plan: plan}, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4", SignKey: key},
 		"bad time":            {Logs: []string{log}, judgeFlags: judgeFlags{Plan: plan}, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4", Time: "yesterday"},
 		"unknown profile":     {Logs: []string{log}, judgeFlags: judgeFlags{Profile: "no-such-module"}, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4"},
+		"out is an input":     {Logs: []string{log}, judgeFlags: judgeFlags{Plan: plan}, Out: log, Format: "pdf", Paper: "a4"},
 		"missing log":         {Logs: []string{filepath.Join(dir, "none.csv")}, judgeFlags: judgeFlags{Plan: plan}, Out: filepath.Join(dir, "x.pdf"), Format: "pdf", Paper: "a4"},
 	} {
 		if _, code := runCmd(t, c.Run); code != 2 {
