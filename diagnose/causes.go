@@ -682,7 +682,7 @@ func (pc *portCtx) osnrLow(im impairments) *score {
 	if hasOSNR && osnr >= pc.reqOSNRdB+r.OSNRMarginalMarginDB && finite(qm) && qm < r.QMarginalMarginDB {
 		s.add(-3, "Reported OSNR %.1f dB is comfortably above the %.1f dB required, so amplifier noise does not explain the low Q.", osnr, pc.reqOSNRdB)
 	}
-	if len(im.names) > 0 {
+	if len(im.names) > 0 && finite(qm) && qm < r.QMarginalMarginDB {
 		s.add(-math.Min(3, 1.5*float64(len(im.names))), "Other measured impairments can explain the low Q: %s.", strings.Join(im.names, ", "))
 	}
 	if rr := pc.routeRatio(); finite(rr) && rr > 1 {
