@@ -75,6 +75,9 @@ var scenarios = []scenario{
 	{"400g-dp-16qam-cfec", 1440, true},
 	{"400g-dp-16qam-cfec", 1440, false},
 	{"200g-dp-16qam", 720, true},
+	{"100g-dp-qpsk", 720, true},
+	{"400g-dp-16qam-ofec", 720, true},
+	{"800g-dp-16qam", 720, true},
 }
 
 // canInject reports whether synth can make the cause on the profile (it refuses cd-over-limit
