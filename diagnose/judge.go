@@ -276,7 +276,7 @@ func (pc *portCtx) criteria() {
 		exp := math.Abs(pc.exp.CDPsNm)
 		meas := pc.absSum[parse.CDpsPerNm].P50
 		tol := math.Max(r.CDMismatchRelativeTolerance*exp, r.CDMismatchFloorPsNm)
-		c := Criterion{Name: "|CD| agrees with the link plan", Metric: "cd_ps_nm", Statistic: "p50",
+		c := Criterion{Name: fmt.Sprintf("|CD| within ±%.0f ps/nm of the plan's", tol), Metric: "cd_ps_nm", Statistic: "p50",
 			Measured: meas, Limit: exp, Margin: tol - math.Abs(meas-exp), Unit: "ps/nm",
 			Source: fmt.Sprintf("plan %s via the fibre model; tolerance ±%.0f ps/nm (rules cd_mismatch_*)", pc.plan.Circuit, tol)}
 		c.Verdict = Pass
