@@ -105,6 +105,18 @@ func analyze(paths []string, jf judgeFlags, mapFile string, pr *printer) (*analy
 	if defNote != "" && pm == nil {
 		pr.Notef("%s", defNote)
 	}
+	if pm != nil {
+		unmapped := 0
+		for _, s := range ds.Series {
+			if _, ok := pm.Lookup(s.Port); !ok {
+				unmapped++
+			}
+		}
+		if unmapped > 0 {
+			pr.Notef("%d of %d ports are not in the port map %s: judged against profile %s%s", unmapped, len(ds.Series), pm.File, defProf.ID,
+				map[bool]string{true: " and the --plan given", false: " without a plan"}[plan != nil])
+		}
+	}
 	res, err := diagnose.Analyze(ds, cfg)
 	if err != nil {
 		return nil, err
