@@ -238,10 +238,10 @@ type csvJob struct {
 	buf       *[]byte
 	data      []byte
 	firstLine int
-	cutTail   bool         // the last line has no line end because the stream broke off
-	dataLen   int          // len(data), kept after data is released
-	hintRatio float64      // input size ÷ dataLen for the first block with rows, else 0
-	pending   atomic.Int32 // merge shards still to take this job
+	cutTail   bool          // the last line has no line end because the stream broke off
+	dataLen   int           // len(data), kept after data is released
+	hint      *capacityHint // set on the first block with rows when the input size is known
+	pending   atomic.Int32  // merge shards still to take this job
 	done      chan struct{}
 
 	rowsRead int
@@ -651,18 +651,58 @@ func (res *fileResult) accountCSV(job *csvJob, strict bool) {
 		res.hinted = true
 		if res.sizeHint > 0 && job.dataLen > 0 {
 			if ratio := float64(res.sizeHint) / float64(job.dataLen); ratio >= 1.5 {
-				job.hintRatio = ratio
+				job.hint = newCapacityHint(job, ratio, len(res.lay.qs))
 			}
 		}
 	}
 }
 
+// capacityHint pre-sizes the columns of the ports seen in an input's first block, when the
+// input's size is known: a port with c rows in a first block of b bytes is expected to have
+// about c·size/b rows in all. Regular telemetry (every port every interval) then fills exactly
+// one allocation per column, which finish hands over without copying; a wrong guess only
+// costs extra segments. All the hinted columns are cut from two slabs, so that the kernel can
+// back them with huge pages (see adviseHuge).
+type capacityHint struct {
+	rows  []int // expected rows of each group (port) of the block
+	off   []int // first row of each group in the slabs
+	times []int64
+	vals  []float64 // group g, column j: vals[off[g]*k + j*rows[g] : … + rows[g]]
+}
+
+func newCapacityHint(job *csvJob, ratio float64, k int) *capacityHint {
+	h := &capacityHint{rows: make([]int, len(job.names)), off: make([]int, len(job.names))}
+	start, total := int32(0), 0
+	for g := range job.names {
+		end := job.groupEnd[g]
+		// +1 row and 5 %: the first block sees each port a few dozen times, so its count is
+		// easily off by one; capacity never written costs address space, not memory.
+		h.rows[g] = int(float64(end-start+1)*ratio*1.05) + 16
+		h.off[g] = total
+		total += h.rows[g]
+		start = end
+	}
+	h.times = make([]int64, total)
+	h.vals = make([]float64, total*k)
+	adviseHuge(h.times)
+	adviseHuge(h.vals)
+	return h
+}
+
+// apply gives port p (group g of the hinted block) its pre-sized columns.
+func (h *capacityHint) apply(p *portBuf, g int, qs []Quantity) {
+	n, o := h.rows[g], h.off[g]
+	p.hint = n
+	p.times = h.times[o : o : o+n]
+	k := len(qs)
+	for j, q := range qs {
+		a := o*k + j*n
+		p.vals[q] = &colBuf{hint: n, segs: [][]float64{h.vals[a : a : a+n]}}
+		p.mask |= 1 << q
+	}
+}
+
 // applyCSV appends the rows of the ports of shard (of shards) from a parsed job.
-//
-// Capacity hint: when the input's size is known, a port first seen with c rows in the first
-// block of b bytes is expected to have about c·size/b rows in all. Regular telemetry (every
-// port every interval) then fills exactly one allocation per column, which finish hands over
-// without copying; a wrong guess only costs extra segments.
 func applyCSV(fb *fileBuilder, lay *csvLayout, job *csvJob, shard, shards int) {
 	k := len(lay.qs)
 	start := int32(0)
@@ -670,12 +710,8 @@ func applyCSV(fb *fileBuilder, lay *csvLayout, job *csvJob, shard, shards int) {
 		end := job.groupEnd[g]
 		if shards == 1 || shardOf(name, shards) == shard {
 			p := fb.port([]byte(name))
-			if job.hintRatio > 0 && len(p.times) == 0 && p.hint == 0 {
-				// +1 row and 5 %: the first block sees each port a few dozen times, so the
-				// count is off by one easily; unused capacity is never touched, so it costs
-				// address space, not memory.
-				p.hint = int(float64(end-start+1)*job.hintRatio*1.05) + 16
-				p.times = make([]int64, 0, p.hint)
+			if job.hint != nil && len(p.times) == 0 && p.mask == 0 {
+				job.hint.apply(p, g, lay.qs)
 			}
 			p.addBlock(job.gTimes[start:end], lay.qs, job.gVals[int(start)*k:int(end)*k], lay.qmask)
 		}
