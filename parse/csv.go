@@ -53,7 +53,7 @@ func (r *recycler) job(bp *[]byte, firstLine int) *csvJob {
 	}
 	*j = csvJob{buf: bp, firstLine: firstLine, done: make(chan struct{}),
 		names: j.names[:0], rowPort: j.rowPort[:0], times: j.times[:0], vals: j.vals[:0],
-		groupEnd: j.groupEnd[:0], gTimes: j.gTimes[:0], gVals: j.gVals[:0]}
+		groupEnd: j.groupEnd[:0], spread: j.spread[:0], gTimes: j.gTimes[:0], gVals: j.gVals[:0]}
 	return j
 }
 
@@ -254,6 +254,7 @@ type csvJob struct {
 
 	// The accepted rows regrouped by port (see group), so that the merge appends whole runs.
 	groupEnd []int32   // end (in rows) of each port's group
+	spread   []int32   // rows between each port's first and last row in the block
 	gTimes   []int64   // times, port group after port group, arrival order inside a group
 	gVals    []float64 // per group: len(qs) columns of the group's length, one after the other
 }
@@ -280,8 +281,14 @@ func (job *csvJob) group(k int) {
 	job.gTimes = slices.Grow(job.gTimes[:0], n)[:n]
 	job.gVals = slices.Grow(job.gVals[:0], n*k)[:n*k]
 	sizes := make([]int32, np)
-	for _, pi := range job.rowPort {
+	job.spread = slices.Grow(job.spread[:0], np)[:np]
+	first := make([]int32, np)
+	for r, pi := range job.rowPort {
+		if sizes[pi] == 0 {
+			first[pi] = int32(r)
+		}
 		sizes[pi]++
+		job.spread[pi] = int32(r) - first[pi]
 	}
 	for r, pi := range job.rowPort {
 		at := starts[pi] + counts[pi]
@@ -663,8 +670,12 @@ func (res *fileResult) accountCSV(job *csvJob, strict bool) {
 // one allocation per column, which finish hands over without copying; a wrong guess only
 // costs extra segments. All the hinted columns are cut from two slabs, so that the kernel can
 // back them with huge pages (see adviseHuge).
+//
+// Only ports whose rows are spread over most of the block are hinted: in a file sorted by
+// port the first block holds a few ports end to end, and scaling their counts up would
+// reserve far too much.
 type capacityHint struct {
-	rows  []int // expected rows of each group (port) of the block
+	rows  []int // expected rows of each group (port) of the block; 0: not hinted
 	off   []int // first row of each group in the slabs
 	times []int64
 	vals  []float64 // group g, column j: vals[off[g]*k + j*rows[g] : … + rows[g]]
@@ -673,14 +684,20 @@ type capacityHint struct {
 func newCapacityHint(job *csvJob, ratio float64, k int) *capacityHint {
 	h := &capacityHint{rows: make([]int, len(job.names)), off: make([]int, len(job.names))}
 	start, total := int32(0), 0
+	blockRows := len(job.times)
 	for g := range job.names {
 		end := job.groupEnd[g]
-		// +1 row and 5 %: the first block sees each port a few dozen times, so its count is
-		// easily off by one; capacity never written costs address space, not memory.
-		h.rows[g] = int(float64(end-start+1)*ratio*1.05) + 16
 		h.off[g] = total
-		total += h.rows[g]
+		if 2*int(job.spread[g]) >= blockRows {
+			// +1 row and 5 %: the first block sees each port a few dozen times, so its
+			// count is easily off by one; capacity never written costs address space.
+			h.rows[g] = int(float64(end-start+1)*ratio*1.05) + 16
+			total += h.rows[g]
+		}
 		start = end
+	}
+	if total == 0 {
+		return nil
 	}
 	h.times = make([]int64, total)
 	h.vals = make([]float64, total*k)
@@ -692,6 +709,9 @@ func newCapacityHint(job *csvJob, ratio float64, k int) *capacityHint {
 // apply gives port p (group g of the hinted block) its pre-sized columns.
 func (h *capacityHint) apply(p *portBuf, g int, qs []Quantity) {
 	n, o := h.rows[g], h.off[g]
+	if n == 0 {
+		return
+	}
 	p.hint = n
 	p.times = h.times[o : o : o+n]
 	k := len(qs)

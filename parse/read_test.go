@@ -9,6 +9,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"strings"
 	"testing"
 	"testing/iotest"
@@ -199,11 +200,15 @@ func bigCSV(rows, ports, badEvery int) (string, []int) {
 // Whole, byte by byte and in odd-sized chunks, with one worker or several, the result is the same.
 func TestReadersFeedIndependent(t *testing.T) {
 	big, _ := bigCSV(30000, 17, 1001) // > 2 blocks of chunkSize
+	lines := strings.SplitAfter(big, "\n")
+	body := slices.Clone(lines[1 : len(lines)-1])
+	slices.SortStableFunc(body, func(a, b string) int { return strings.Compare(strings.Split(a, ",")[1], strings.Split(b, ",")[1]) })
 	inputs := map[string]string{
-		"canonical.csv": big,
-		"semicolon.csv": "\ufeffTime;Port;Pre-FEC BER;Rx power [mW]\r\n2026-03-14 08:00:00;a;1,2E-03;0,5\r\n2026-03-14 08:01:00;a;x;0,5\r\n",
-		"lines.jsonl":   "{\"time\":\"2026-03-14T08:00:00Z\",\"port\":\"a\",\"osnr_db\":21}\n{bad\n{\"time\":1773477060,\"port\":\"a\",\"osnr_db\":\"22,5\"}\n",
-		"oc.json":       ocSample,
+		"canonical.csv":      big,
+		"sorted_by_port.csv": lines[0] + strings.Join(body, ""),
+		"semicolon.csv":      "\ufeffTime;Port;Pre-FEC BER;Rx power [mW]\r\n2026-03-14 08:00:00;a;1,2E-03;0,5\r\n2026-03-14 08:01:00;a;x;0,5\r\n",
+		"lines.jsonl":        "{\"time\":\"2026-03-14T08:00:00Z\",\"port\":\"a\",\"osnr_db\":21}\n{bad\n{\"time\":1773477060,\"port\":\"a\",\"osnr_db\":\"22,5\"}\n",
+		"oc.json":            ocSample,
 	}
 	for name, content := range inputs {
 		t.Run(name, func(t *testing.T) {
