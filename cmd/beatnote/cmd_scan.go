@@ -250,7 +250,6 @@ func writeScanText(w io.Writer, ds *parse.Dataset, ports []scanPort) error {
 		fmt.Fprintln(tw, "PORT\tSAMPLES\tFROM (UTC)\tTO (UTC)\tEVERY\tQUANTITIES")
 		for i, p := range ports {
 			if i == maxTextPorts {
-				fmt.Fprintf(tw, "… %s more (all are listed with --format json)\t\t\t\t\t\n", group(len(ports)-maxTextPorts))
 				break
 			}
 			every := "-"
@@ -268,6 +267,9 @@ func writeScanText(w io.Writer, ds *parse.Dataset, ports []scanPort) error {
 		}
 		if err := tw.Flush(); err != nil {
 			return err
+		}
+		if len(ports) > maxTextPorts {
+			fmt.Fprintf(w, "… and %s more ports (--format json lists them all)\n", group(len(ports)-maxTextPorts))
 		}
 	}
 
