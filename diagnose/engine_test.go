@@ -266,6 +266,7 @@ func TestPMD(t *testing.T) {
 func TestDegenerateInputsEncode(t *testing.T) {
 	p, r := testSetup(t, "100g-dp-qpsk")
 	for _, s := range []*parse.Series{
+		newSeries(0, 60_000, map[parse.Quantity]func(int) float64{parse.PreFECBER: func(int) float64 { return 0 }}),
 		newSeries(1, 60_000, map[parse.Quantity]func(int) float64{parse.PreFECBER: func(int) float64 { return 0 }}),
 		newSeries(5, 60_000, map[parse.Quantity]func(int) float64{parse.DGDps: func(int) float64 { return math.NaN() }, parse.QdB: func(int) float64 { return 12 }}),
 		newSeries(3, 1000, map[parse.Quantity]func(int) float64{parse.LOOffsetMHz: func(int) float64 { return 0 }}),
@@ -292,5 +293,61 @@ func TestSortWorstFirst(t *testing.T) {
 	}
 	if strings.Join(got, "") != "cebda" {
 		t.Errorf("order %v, want c e b d a", got)
+	}
+}
+
+// Random ports — any subset of columns, random lengths and gaps, NaNs, extreme but legal values —
+// never panic and always encode as JSON.
+func TestRandomPortsNeverPanic(t *testing.T) {
+	p, r := testSetup(t, "400g-dp-16qam-cfec")
+	rng := rand.New(rand.NewPCG(3, 4))
+	ranges := map[parse.Quantity][2]float64{
+		parse.PreFECBER: {0, 0.5}, parse.PostFECBER: {0, 1e-3}, parse.UncorrectedBlocks: {0, 1e6},
+		parse.QdB: {-5, 20}, parse.ESNRdB: {-5, 30}, parse.OSNRdB: {0, 45}, parse.CDpsPerNm: {-60000, 60000},
+		parse.DGDps: {0, 200}, parse.PDLdB: {0, 10}, parse.SOPRateKradPerS: {0, 5000}, parse.LOOffsetMHz: {-5000, 5000},
+		parse.RxPowerDBm: {-50, 30}, parse.TxPowerDBm: {-20, 10}, parse.FrequencyTHz: {191, 197},
+	}
+	for k := 0; k < 200; k++ {
+		n := rng.IntN(300)
+		s := &parse.Series{Port: "rand"}
+		tm := t0
+		for i := 0; i < n; i++ {
+			tm += 1000 * int64(1+rng.IntN(3)*rng.IntN(100))
+			s.TimesMs = append(s.TimesMs, tm)
+		}
+		for q, lim := range ranges {
+			if rng.IntN(2) == 0 {
+				continue
+			}
+			v := make([]float64, n)
+			c := lim[0] + rng.Float64()*(lim[1]-lim[0])
+			for i := range v {
+				switch rng.IntN(10) {
+				case 0:
+					v[i] = math.NaN()
+				case 1:
+					v[i] = lim[rng.IntN(2)]
+				default:
+					v[i] = math.Min(lim[1], math.Max(lim[0], c+0.05*(lim[1]-lim[0])*rng.NormFloat64()))
+				}
+			}
+			s.Values[q] = v
+		}
+		var plan *rules.Plan
+		var exp *optics.LinkExpectation
+		if k%2 == 1 {
+			plan = &rules.Plan{Circuit: "rand", FrequencyTHz: 193.1, TxPowerDBm: -2,
+				Spans:      []rules.Span{{Name: "s1", LengthKm: 40 + float64(k), Fiber: "g652"}},
+				Amplifiers: []rules.Amplifier{{Name: "pre", AfterSpan: 1, GainDB: 15, NoiseFigureDB: 5}}}
+			e, err := optics.ExpectLink(*plan, p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			exp = &e
+		}
+		res := AnalyzePort(s, p, plan, exp, r)
+		if _, err := json.Marshal(Result{Ports: []PortResult{res}}); err != nil {
+			t.Fatalf("port %d (%d samples): JSON: %v", k, n, err)
+		}
 	}
 }
