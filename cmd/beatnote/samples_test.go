@@ -2,30 +2,31 @@ package main
 
 import (
 	"encoding/json"
+	"go.yaml.in/yaml/v3"
 	"os"
 	"path/filepath"
 	"slices"
 	"testing"
 )
 
-// The demo logs in samples/ were generated for a stated verdict and causes (samples/manifest.json).
+// The demo logs in samples/ were generated for a stated verdict and causes (samples/manifest.yaml).
 // Triage with the demo port map must give each port an acceptable verdict, its intended top
 // cause on top, and every intended cause listed.
 func TestTriageOnDemoSamplesMatchesManifest(t *testing.T) {
 	root := filepath.Join("..", "..", "samples")
-	raw, err := os.ReadFile(filepath.Join(root, "manifest.json"))
+	raw, err := os.ReadFile(filepath.Join(root, "manifest.yaml"))
 	if err != nil {
 		t.Skipf("no demo samples: %v", err)
 	}
 	var man struct {
 		Logs []struct {
-			File       string   `json:"file"`
-			Port       string   `json:"port"`
-			Acceptable []string `json:"acceptable_verdicts"`
-			Causes     []string `json:"causes"`
-		} `json:"logs"`
+			File       string   `yaml:"file"`
+			Port       string   `yaml:"port"`
+			Acceptable []string `yaml:"acceptable_verdicts"`
+			Causes     []string `yaml:"causes"`
+		} `yaml:"logs"`
 	}
-	if err := json.Unmarshal(raw, &man); err != nil {
+	if err := yaml.Unmarshal(raw, &man); err != nil {
 		t.Fatal(err)
 	}
 	code, out, errw := runCLI(t, "triage", filepath.Join(root, "logs"), "--map", filepath.Join(root, "portmap.yaml"), "--format", "json")

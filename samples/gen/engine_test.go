@@ -1,7 +1,7 @@
 package main
 
 import (
-	"encoding/json"
+	"go.yaml.in/yaml/v3"
 	"os"
 	"path/filepath"
 	"slices"
@@ -25,12 +25,12 @@ func TestEngineAgreesWithManifest(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	data, err := os.ReadFile("../manifest.json")
+	data, err := os.ReadFile("../manifest.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
 	var m manifest
-	if err := json.Unmarshal(data, &m); err != nil {
+	if err := yaml.Unmarshal(data, &m); err != nil {
 		t.Fatal(err)
 	}
 	for _, e := range m.Logs {

@@ -2,7 +2,7 @@ package main
 
 import (
 	"bytes"
-	"encoding/json"
+	"go.yaml.in/yaml/v3"
 	"math"
 	"os"
 	"path/filepath"
@@ -57,12 +57,12 @@ func TestPlansLoad(t *testing.T) {
 	if _, err := rules.LoadPortMap("../portmap.yaml", profs...); err != nil {
 		t.Fatal(err)
 	}
-	data, err := os.ReadFile("../manifest.json")
+	data, err := os.ReadFile("../manifest.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
 	var m manifest
-	if err := json.Unmarshal(data, &m); err != nil {
+	if err := yaml.Unmarshal(data, &m); err != nil {
 		t.Fatal(err)
 	}
 	total := int64(0)
