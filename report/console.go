@@ -42,7 +42,8 @@ func FormatValue(v float64, unit string) string {
 	case "ps", "krad/s", "h":
 		s = strconv.FormatFloat(v, 'f', 1, 64)
 	case "THz":
-		s = strconv.FormatFloat(v, 'f', 4, 64)
+		// Five decimals: the ITU-T G.694.1 grid steps by 6.25 GHz (e.g. 193.10625 THz).
+		s = strconv.FormatFloat(v, 'f', 5, 64)
 	default:
 		s = strconv.FormatFloat(v, 'g', 4, 64)
 	}

@@ -20,7 +20,8 @@ func TestConsoleFormatValueCarriesUnits(t *testing.T) {
 		{2400, "ps/nm", "2400 ps/nm"},
 		{27.96, "ps", "28.0 ps"},
 		{3.8e-3, "", "3.80e-03"},
-		{193.1, "THz", "193.1000 THz"},
+		{193.1, "THz", "193.10000 THz"},
+		{193.10625, "THz", "193.10625 THz"}, // a 6.25 GHz grid point (ITU-T G.694.1)
 		{math.NaN(), "dB", "n/a"},
 		{math.Inf(1), "h", "∞"},
 	} {

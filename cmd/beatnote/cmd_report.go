@@ -33,7 +33,7 @@ type ReportCmd struct {
 	Time           string `help:"Report time, RFC 3339 (default: now). The same inputs, fields and time give the same bytes." placeholder:"TIME"`
 
 	SignKey string `name:"sign-key" help:"Private key (from beatnote keygen) to sign the report with; writes FILE.sig beside it." placeholder:"PREFIX.key" type:"path"`
-	Signer  string `help:"Name of the signer, stored in the signature and printed in the report." placeholder:"NAME"`
+	Signer  string `help:"Name of the signer, stored in the signature and printed in the report (default: --technician)." placeholder:"NAME"`
 }
 
 // Help is the long help of the command.
@@ -139,7 +139,10 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 
 func (c *ReportCmd) validate() error {
 	if c.SignKey != "" && c.Signer == "" {
-		return errors.New("--sign-key needs --signer NAME: a signature says who signed")
+		c.Signer = c.Technician
+	}
+	if c.SignKey != "" && c.Signer == "" {
+		return errors.New("--sign-key needs --signer NAME (or --technician NAME): a signature says who signed")
 	}
 	if c.Signer != "" && c.SignKey == "" {
 		return errors.New("--signer is only used with --sign-key")
