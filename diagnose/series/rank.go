@@ -11,25 +11,33 @@ import (
 // Ranks returns the 1-based ranks of v, ties given their average rank (the "fractional" ranking
 // Spearman's coefficient needs). v must not hold NaN.
 func Ranks(v []float64) []float64 {
-	type pair struct {
-		v float64
-		i int32
+	n := len(v)
+	r := make([]float64, n)
+	if n == 0 {
+		return r
 	}
-	order := make([]pair, len(v))
+	// Sort the positions by value (radixSort on the order-preserving keys); ties get their
+	// average rank, so the order among equal values does not matter.
+	keys := make([]uint64, 2*n)
+	idx := make([]int32, 2*n)
 	for i, x := range v {
-		order[i] = pair{x, int32(i)}
+		keys[i] = floatKey(x)
+		idx[i] = int32(i)
 	}
-	// Ties get their average rank, so the order among equal values does not matter.
-	slices.SortFunc(order, func(a, b pair) int { return cmp.Compare(a.v, b.v) })
-	r := make([]float64, len(v))
-	for i := 0; i < len(order); {
+	if n < smallSort {
+		idx = idx[:n]
+		slices.SortFunc(idx, func(a, b int32) int { return cmp.Compare(keys[a], keys[b]) })
+	} else {
+		radixSort(keys[:n], keys[n:], idx[:n], idx[n:])
+	}
+	for i := 0; i < n; {
 		j := i
-		for j+1 < len(order) && order[j+1].v == order[i].v {
+		for j+1 < n && v[idx[j+1]] == v[idx[i]] {
 			j++
 		}
 		avg := float64(i+j)/2 + 1
 		for k := i; k <= j; k++ {
-			r[order[k].i] = avg
+			r[idx[k]] = avg
 		}
 		i = j + 1
 	}

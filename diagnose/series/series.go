@@ -10,6 +10,7 @@ package series
 
 import (
 	"math"
+	"slices"
 	"sort"
 )
 
@@ -50,87 +51,122 @@ type Summary struct {
 }
 
 // Summarize returns the order statistics and mean of the finite values of v; with none, N is
-// 0 and every statistic NaN. The quantiles are those of Quantile (Hyndman–Fan definition 7),
-// found by selection rather than a full sort.
+// 0 and every statistic NaN. The quantiles are those of Quantile (Hyndman–Fan definition 7) on
+// the sorted finite values.
 func Summarize(v []float64) Summary {
 	s, _ := SummarizeInto(v, nil)
 	return s
 }
 
-// SummarizeInto is Summarize using scratch (grown as needed and returned) for its working copy,
-// so that a caller summarising many series allocates once.
+// SummarizeInto is Summarize using scratch (grown as needed and returned) for its working
+// copy, so that a caller summarising many series allocates once.
+//
+// It works on the order-preserving integer keys of the values (floatKey: a total order with −0
+// before +0, so the result is that of the sorted values, bit for bit). The extreme order
+// statistics (min, the two around p01, the two around p99, max) come from one pass that keeps
+// the few smallest and largest keys; the median from Hoare's selection; long series whose 1 %
+// tails exceed that pass are sorted instead.
 func SummarizeInto(v, scratch []float64) (Summary, []float64) {
-	f := scratch[:0]
+	scratch = slices.Grow(scratch[:0], len(v))[:len(v)]
+	keys := asKeys(scratch)[:0]
 	sum := 0.0
 	for _, x := range v {
 		if ok(x) {
-			f = append(f, x)
+			keys = append(keys, floatKey(x))
 			sum += x
 		}
 	}
-	n := len(f)
+	n := len(keys)
 	if n == 0 {
 		nan := math.NaN()
-		return Summary{Min: nan, P01: nan, P50: nan, P99: nan, Max: nan, Mean: nan}, f
+		return Summary{Min: nan, P01: nan, P50: nan, P99: nan, Max: nan, Mean: nan}, scratch
 	}
-	out := Summary{N: n, Mean: sum / float64(n)}
-	// quant is Quantile at p when f[lo:hi] holds exactly the order statistics lo…hi−1 (and
-	// f[hi:] the larger ones): select the one at ⌊h⌋, then the next is the smallest above it.
-	quant := func(p float64, lo, hi int) float64 {
+	// m order statistics from each end cover p01 and p99: ⌊0.01·(n−1)⌋ + 1 < m, and
+	// n−1−⌊0.99·(n−1)⌋ = ⌈0.01·(n−1)⌉ < m.
+	m := int(math.Floor(float64(n-1)*0.01)) + 2
+	mid := (n - 1) / 2 // ⌊0.5·(n−1)⌋
+	var stat func(j int) uint64
+	if m > maxTail || n < 4*m {
+		slices.Sort(keys)
+		stat = func(j int) uint64 { return keys[j] }
+	} else {
+		var loBuf, hiBuf [maxTail]uint64
+		lo, hi := tails(keys, m, &loBuf, &hiBuf)
+		selectKey(keys, mid)
+		stat = func(j int) uint64 {
+			switch {
+			case j < m:
+				return lo[j]
+			case n-1-j < m:
+				return hi[n-1-j]
+			case j == mid:
+				return keys[mid]
+			}
+			// j == mid+1: the smallest above the selected median
+			next := keys[mid+1]
+			for _, k := range keys[mid+2:] {
+				next = min(next, k)
+			}
+			return next
+		}
+	}
+	quant := func(p float64) float64 {
 		h := float64(n-1) * p
 		k := int(math.Floor(h))
-		selectKth(f, lo, hi, k)
-		x := f[k]
+		x := keyFloat(stat(k))
 		if h == float64(k) {
 			return x
 		}
-		var next float64
-		if k+1 < hi {
-			next = minOf(f[k+1 : hi])
-		} else {
-			next = minOf(f[hi:]) // k+1 == hi < n, as h < n−1
-		}
+		next := keyFloat(stat(k + 1))
 		return x + (h-float64(k))*(next-x)
 	}
-	mid := int(math.Floor(float64(n-1) * 0.5))
-	out.P50 = quant(0.5, 0, n) // now f[:mid] ≤ f[mid] ≤ f[mid+1:]
-	if k := int(math.Floor(float64(n-1) * 0.01)); k == mid {
-		out.P01 = quant(0.01, mid, mid+1)
-	} else {
-		out.P01 = quant(0.01, 0, mid)
-	}
-	if k := int(math.Floor(float64(n-1) * 0.99)); k == mid {
-		out.P99 = quant(0.99, mid, mid+1)
-	} else {
-		out.P99 = quant(0.99, mid+1, n)
-	}
-	out.Min = minOf(f[:mid+1])
-	out.Max = maxOf(f[mid:])
-	return out, f
+	return Summary{N: n, Mean: sum / float64(n), Min: keyFloat(stat(0)), Max: keyFloat(stat(n - 1)),
+		P01: quant(0.01), P50: quant(0.5), P99: quant(0.99)}, scratch
 }
 
-func minOf(v []float64) float64 {
-	m := v[0]
-	for _, x := range v[1:] {
-		m = math.Min(m, x)
+// maxTail bounds the order statistics tails keeps from each end (series up to about 6,000
+// values); longer series are sorted.
+const maxTail = 64
+
+// tails returns the m smallest keys ascending and the m largest descending (m ≤ len(keys),
+// m ≤ maxTail), by insertion into two short sorted buffers: after the first few hundred keys
+// almost every key fails both comparisons, so the pass costs little more than reading.
+func tails(keys []uint64, m int, loBuf, hiBuf *[maxTail]uint64) (lo, hi []uint64) {
+	lo, hi = loBuf[:0], hiBuf[:0]
+	for _, k := range keys {
+		if len(lo) < m || k < lo[m-1] {
+			i := len(lo)
+			if i < m {
+				lo = lo[:i+1]
+			} else {
+				i = m - 1
+			}
+			for ; i > 0 && lo[i-1] > k; i-- {
+				lo[i] = lo[i-1]
+			}
+			lo[i] = k
+		}
+		if len(hi) < m || k > hi[m-1] {
+			i := len(hi)
+			if i < m {
+				hi = hi[:i+1]
+			} else {
+				i = m - 1
+			}
+			for ; i > 0 && hi[i-1] < k; i-- {
+				hi[i] = hi[i-1]
+			}
+			hi[i] = k
+		}
 	}
-	return m
+	return lo, hi
 }
 
-func maxOf(v []float64) float64 {
-	m := v[0]
-	for _, x := range v[1:] {
-		m = math.Max(m, x)
-	}
-	return m
-}
-
-// selectKth rearranges v[lo:hi] so that v[k] holds the value it would have if v[lo:hi] were
-// sorted, smaller or equal values before it and larger or equal after (Hoare's quickselect with
-// median-of-three pivots; C. A. R. Hoare, "Algorithm 65: Find", Commun. ACM 4(7), 1961). The
-// part outside lo:hi must already be partitioned around that range.
-func selectKth(v []float64, lo, hi, k int) {
-	hi--
+// selectKey rearranges v so that v[k] holds the value it would have if v were sorted, smaller
+// or equal values before it and larger or equal after (Hoare's quickselect with median-of-three
+// pivots; C. A. R. Hoare, "Algorithm 65: Find", Commun. ACM 4(7), 1961).
+func selectKey(v []uint64, k int) {
+	lo, hi := 0, len(v)-1
 	for hi > lo {
 		if hi-lo < 16 {
 			for i := lo + 1; i <= hi; i++ {
