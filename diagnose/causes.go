@@ -124,19 +124,18 @@ func (pc *portCtx) qMarginP50() float64 {
 	if pc.qdb == nil || !(pc.prof.FECThresholdBER > 0) {
 		return pc.cache.qMargin
 	}
-	v := make([]float64, 0, pc.n)
-	for i, q := range pc.qdb {
-		if !pc.dark[i] {
-			v = append(v, q)
-		}
-	}
-	pc.cache.qMargin = pc.summarize(v).P50 - pc.qLimitDB
+	pc.cache.qMargin = pc.summaryOf(pc.lit(pc.qdb), parse.QdB).P50 - pc.qLimitDB
 	return pc.cache.qMargin
 }
 
 func (pc *portCtx) litPowerSummary() series.Summary {
 	if pc.cache.litPower == nil {
-		s := pc.summarize(pc.litPower)
+		var s series.Summary
+		if pw := pc.s.Values[parse.RxPowerDBm]; pc.darkCount == 0 && pw != nil {
+			s = pc.summaryOf(pw, parse.RxPowerDBm) // litPower is then a copy of pw
+		} else {
+			s = pc.summarize(pc.litPower)
+		}
 		pc.cache.litPower = &s
 	}
 	return *pc.cache.litPower

@@ -129,7 +129,7 @@ func (pc *portCtx) metrics() {
 // qSummary is the summary of the Q series (measured or derived), computed once.
 func (pc *portCtx) qSummary() series.Summary {
 	if pc.cache.q == nil {
-		s := pc.summarize(pc.qdb)
+		s := pc.summaryOf(pc.qdb, parse.QdB)
 		pc.cache.q = &s
 	}
 	return *pc.cache.q
@@ -348,13 +348,7 @@ func (pc *portCtx) esnrP50() float64 {
 	if pc.esnr == nil {
 		return pc.cache.esnr
 	}
-	v := make([]float64, 0, pc.n)
-	for i, x := range pc.esnr {
-		if !pc.dark[i] {
-			v = append(v, x)
-		}
-	}
-	pc.cache.esnr = pc.summarize(v).P50
+	pc.cache.esnr = pc.summaryOf(pc.lit(pc.esnr), parse.ESNRdB).P50
 	return pc.cache.esnr
 }
 

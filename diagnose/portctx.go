@@ -104,6 +104,32 @@ func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opti
 	return pc
 }
 
+// summaryOf is the summary of v: when v is the port's own column q (not a derived copy), the
+// one deriveSeries already computed.
+func (pc *portCtx) summaryOf(v []float64, q parse.Quantity) series.Summary {
+	if col := pc.s.Values[q]; len(v) > 0 && len(col) == len(v) && &col[0] == &v[0] {
+		if s, ok := pc.sum[q]; ok {
+			return s
+		}
+	}
+	return pc.summarize(v)
+}
+
+// lit is v with the dark samples set to NaN: v itself when no sample is dark.
+func (pc *portCtx) lit(v []float64) []float64 {
+	if pc.darkCount == 0 {
+		return v
+	}
+	out := make([]float64, len(v))
+	for i, x := range v {
+		out[i] = x
+		if pc.dark[i] {
+			out[i] = math.NaN()
+		}
+	}
+	return out
+}
+
 // summarize is series.Summarize with the port's scratch buffer.
 func (pc *portCtx) summarize(v []float64) series.Summary {
 	var s series.Summary
@@ -288,13 +314,7 @@ func (pc *portCtx) analyseSeries() {
 
 	// BER bursts.
 	if pc.ber != nil {
-		lit := make([]float64, 0, pc.n)
-		for i, b := range pc.ber {
-			if !pc.dark[i] && !math.IsNaN(b) {
-				lit = append(lit, b)
-			}
-		}
-		med := pc.summarize(lit).P50
+		med := pc.summaryOf(pc.lit(pc.ber), parse.PreFECBER).P50
 		// A burst is BER_burst_factor × the median, or crossing the FEC threshold when the port
 		// runs too close to it for a tenfold rise; never below the floor.
 		thr := r.BERBurstFactor * med
@@ -304,27 +324,13 @@ func (pc *portCtx) analyseSeries() {
 		thr = math.Max(thr, burstFloorFraction*pc.prof.FECThresholdBER)
 		if !math.IsNaN(thr) && thr > 0 {
 			an.BurstThresholdBER = thr
-			v := make([]float64, pc.n)
-			for i, b := range pc.ber {
-				v[i] = b
-				if pc.dark[i] {
-					v[i] = math.NaN()
-				}
-			}
-			for _, run := range series.Runs(s.TimesMs, v, thr, 0) {
+			for _, run := range series.Runs(s.TimesMs, pc.lit(pc.ber), thr, 0) {
 				an.BERBursts = append(an.BERBursts, toInterval(run))
 			}
 		}
 	}
 	if s.Has(parse.UncorrectedBlocks) {
-		v := make([]float64, pc.n)
-		for i, b := range s.Values[parse.UncorrectedBlocks] {
-			v[i] = b
-			if pc.dark[i] {
-				v[i] = math.NaN()
-			}
-		}
-		for _, run := range series.Runs(s.TimesMs, v, 0, 0) {
+		for _, run := range series.Runs(s.TimesMs, pc.lit(s.Values[parse.UncorrectedBlocks]), 0, 0) {
 			an.BlockBursts = append(an.BlockBursts, toInterval(run))
 		}
 	}
@@ -369,13 +375,7 @@ func (pc *portCtx) analyseSeries() {
 		}
 	}
 	if pc.ber != nil {
-		litBER := make([]float64, pc.n)
-		for i, b := range pc.ber {
-			litBER[i] = b
-			if pc.dark[i] {
-				litBER[i] = math.NaN()
-			}
-		}
+		litBER := pc.lit(pc.ber)
 		// Rank BER once when it has no gaps; pair-wise ranking otherwise.
 		var berRanks []float64
 		if countFinite(litBER) == pc.n {
