@@ -363,7 +363,13 @@ func (pc *portCtx) analyseSeries() {
 		an.LOTrend = pc.trend(s.Values[parse.LOOffsetMHz], "lo_offset_mhz", "MHz", pc.prof.LOOffsetRangeMHz)
 	}
 	if s.Has(parse.DGDps) {
-		_, v := s.Present(parse.DGDps)
+		v := pc.scratch[:0] // FitMaxwell copies what it keeps
+		for _, x := range s.Values[parse.DGDps] {
+			if !math.IsNaN(x) {
+				v = append(v, x)
+			}
+		}
+		pc.scratch = v
 		if len(v) >= minN {
 			f := optics.FitMaxwell(v)
 			mf := &MaxwellFit{N: f.N, MeanPs: f.MeanPs, KS: f.KS, KSPValue: f.PValue,
@@ -377,7 +383,7 @@ func (pc *portCtx) analyseSeries() {
 	if pc.ber != nil {
 		litBER := pc.lit(pc.ber)
 		// Rank BER once when it has no gaps; pair-wise ranking otherwise.
-		var berRanks []float64
+		var berRanks, yRanks []float64
 		if countFinite(litBER) == pc.n {
 			berRanks = series.Ranks(litBER)
 		}
@@ -392,7 +398,8 @@ func (pc *portCtx) analyseSeries() {
 			var rho, p float64
 			var n int
 			if berRanks != nil && countFinite(y) == pc.n {
-				rho, p = series.RankCorrelation(berRanks, series.Ranks(y))
+				yRanks = series.RanksInto(y, yRanks)
+				rho, p = series.RankCorrelation(berRanks, yRanks)
 				n = pc.n
 			} else {
 				rho, n, p = series.Spearman(litBER, y)

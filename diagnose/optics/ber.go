@@ -56,11 +56,15 @@ func (m Modulation) BitsPerSymbol() int {
 // Points is M, the constellation size per polarization.
 func (m Modulation) Points() int { return 1 << m.BitsPerSymbol() }
 
+// nameSeparators drops the separators ignored in format and fibre names (a Replacer is safe
+// for concurrent use; building one per call cost more than the rest of a port's analysis).
+var nameSeparators = strings.NewReplacer("-", "", "_", "", " ", "", ".", "")
+
 // ParseModulation reads a format name. Case, spaces, dashes and underscores are ignored and the
 // "dp-" prefix is optional: "dp-16qam", "DP-16QAM", "16qam", "dp_qpsk", "qpsk", "4qam" all parse.
 func ParseModulation(s string) (Modulation, error) {
 	k := strings.ToLower(s)
-	k = strings.NewReplacer("-", "", "_", "", " ", "", ".", "").Replace(k)
+	k = nameSeparators.Replace(k)
 	k = strings.TrimPrefix(k, "dp")
 	k = strings.TrimPrefix(k, "pm") // "PM-QPSK" is the same thing under another common name
 	switch k {

@@ -64,7 +64,7 @@ var (
 // FiberByName returns a known fibre type: "g652" (also "g652d", "smf"), "g652-bound",
 // "g655", "g654e". Case, dots, dashes and spaces are ignored ("G.652.D" works).
 func FiberByName(name string) (Fiber, error) {
-	k := strings.NewReplacer(".", "", "-", "", "_", "", " ", "").Replace(strings.ToLower(name))
+	k := nameSeparators.Replace(strings.ToLower(name))
 	switch k {
 	case "g652", "g652d", "smf", "":
 		return FiberG652, nil

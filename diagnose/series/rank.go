@@ -4,22 +4,38 @@ import (
 	"cmp"
 	"math"
 	"slices"
+	"sync"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // Ranks returns the 1-based ranks of v, ties given their average rank (the "fractional" ranking
 // Spearman's coefficient needs). v must not hold NaN.
-func Ranks(v []float64) []float64 {
+func Ranks(v []float64) []float64 { return RanksInto(v, nil) }
+
+// rankScratch is the working space of RanksInto, pooled: the engine ranks several series of
+// every port on every worker.
+type rankScratch struct {
+	keys []uint64
+	idx  []int32
+}
+
+var rankPool = sync.Pool{New: func() any { return new(rankScratch) }}
+
+// RanksInto is Ranks writing into r (grown as needed and returned).
+func RanksInto(v, r []float64) []float64 {
 	n := len(v)
-	r := make([]float64, n)
+	r = slices.Grow(r[:0], n)[:n]
 	if n == 0 {
 		return r
 	}
 	// Sort the positions by value (radixSort on the order-preserving keys); ties get their
 	// average rank, so the order among equal values does not matter.
-	keys := make([]uint64, 2*n)
-	idx := make([]int32, 2*n)
+	sc := rankPool.Get().(*rankScratch)
+	defer rankPool.Put(sc)
+	sc.keys = slices.Grow(sc.keys[:0], 2*n)[:2*n]
+	sc.idx = slices.Grow(sc.idx[:0], 2*n)[:2*n]
+	keys, idx := sc.keys, sc.idx
 	for i, x := range v {
 		keys[i] = floatKey(x)
 		idx[i] = int32(i)
