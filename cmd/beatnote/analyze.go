@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"runtime/debug"
 	"time"
 
 	"github.com/beatnote/beatnote/diagnose"
@@ -35,6 +36,7 @@ type analysis struct {
 // analyze reads the inputs and judges every port. mapFile is a port map (triage) or "".
 // Errors it returns are usage or input errors (exit 2).
 func analyze(paths []string, jf judgeFlags, mapFile string, pr *printer) (*analysis, error) {
+	boundHeap()
 	profiles, err := loadProfiles(jf.Profiles)
 	if err != nil {
 		return nil, err
@@ -122,6 +124,21 @@ func analyze(paths []string, jf judgeFlags, mapFile string, pr *printer) (*analy
 		return nil, err
 	}
 	return &analysis{DS: ds, Result: res, ReadErr: readErr}, nil
+}
+
+// gcPercent is the heap growth, in per cent of the live heap, that triggers a collection while
+// inputs are read and judged (Go's default is 100).
+const gcPercent = 30
+
+// boundHeap lowers the collector's target unless the user set GOGC. The heap of a large run is
+// almost all pointer-free float columns, which the collector does not scan: a collection costs a
+// few milliseconds, while the default target would let the per-port scratch of the analysis
+// grow the heap to twice the data. Measured on the 1M-row fleet file: peak RSS 350 MB at 100,
+// 250 MB at 30, no slower (docs/performance.md).
+func boundHeap() {
+	if os.Getenv("GOGC") == "" {
+		debug.SetGCPercent(gcPercent)
+	}
 }
 
 func loadProfiles(file string) ([]rules.Profile, error) {
