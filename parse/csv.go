@@ -20,10 +20,17 @@ const chunkSize = 1 << 20
 type recycler struct {
 	bufs chan *[]byte
 	jobs chan *csvJob
+	size int // bytes of a new block buffer
 }
 
-func newRecycler(n int) *recycler {
-	return &recycler{bufs: make(chan *[]byte, n), jobs: make(chan *csvJob, n)}
+// newRecycler keeps up to n blocks; size is the input's size when known (0: unknown), so that a
+// small file gets a block its size rather than a whole chunkSize to allocate and clear.
+func newRecycler(n int, size int64) *recycler {
+	r := &recycler{bufs: make(chan *[]byte, n), jobs: make(chan *csvJob, n), size: chunkSize}
+	if size > 0 && size < chunkSize {
+		r.size = int(size) + 1 // + 1: room to see the end of the input without growing
+	}
+	return r
 }
 
 func (r *recycler) buf() *[]byte {
@@ -31,7 +38,7 @@ func (r *recycler) buf() *[]byte {
 	case b := <-r.bufs:
 		return b
 	default:
-		b := make([]byte, chunkSize)
+		b := make([]byte, r.size)
 		return &b
 	}
 }
@@ -520,7 +527,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 	carry := buf // bytes after the header, not yet parsed
 
 	workers := opt.workers()
-	rec := newRecycler(4*workers + 4)
+	rec := newRecycler(4*workers+4, res.sizeHint)
 	var stop atomic.Bool
 	order := make(chan *csvJob, workers)
 	jobs := make(chan *csvJob, workers)
