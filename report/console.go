@@ -2,7 +2,6 @@ package report
 
 import (
 	"encoding/csv"
-	"encoding/json"
 	"fmt"
 	"io"
 	"math"
@@ -63,9 +62,7 @@ func verdictWord(v diagnose.Verdict) string { return strings.ToUpper(string(v)) 
 
 // WriteResultJSON writes the Result as the JSON object of the design contract (check and triage).
 func WriteResultJSON(w io.Writer, res *diagnose.Result) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(res)
+	return writeResultJSON(w, res) // json.Encoder's bytes, ports encoded in parallel (json_ports.go)
 }
 
 // WriteCheckJSON writes the check result as the JSON of the design contract.
