@@ -471,7 +471,7 @@ func quoteShort(b []byte) string {
 func readCSV(res *fileResult, r io.Reader, opt Options) {
 	file := res.stats.File
 	// Read until the header line is complete.
-	buf := make([]byte, 0, 64*1024)
+	buf := make([]byte, 0, bufferSize(res.sizeHint))
 	line := 1
 	var readErr error
 	eof := false
@@ -525,6 +525,10 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 	res.stats.Notes = append(res.stats.Notes, notes...)
 	res.lay = lay
 	carry := buf // bytes after the header, not yet parsed
+	if res.sizeHint > 0 && res.sizeHint <= chunkSize {
+		readCSVWhole(res, r, opt, carry, line, eof, readErr)
+		return
+	}
 
 	workers := opt.workers()
 	rec := newRecycler(4*workers+4, res.sizeHint)
@@ -643,6 +647,42 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 	}
 	if readErr != nil {
 		res.fail(&ParseError{File: file, Line: line, Err: fmt.Errorf("%w: %v", ErrTruncated, readErr)}, nil)
+	}
+}
+
+// readCSVWhole reads the rest of a small input (known to fit one block) as one block on this
+// goroutine: the same steps as the parallel path of readCSV with one block, without its
+// goroutines and channels, which cost more than parsing a file of a few hundred rows (folders
+// of many small files are read in parallel one file per goroutine instead, by ReadPaths).
+func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line int, eof bool, readErr error) {
+	b := make([]byte, len(carry), max(int(res.sizeHint)+1, len(carry)+512))
+	copy(b, carry)
+	for !eof {
+		if len(b) == cap(b) {
+			b = slices.Grow(b, cap(b)) // larger than announced (a file still growing)
+		}
+		n, err := r.Read(b[len(b):cap(b)])
+		b = b[:len(b)+n]
+		if err != nil {
+			eof = true
+			if err != io.EOF {
+				readErr = err
+			}
+		}
+	}
+	job := &csvJob{data: b, firstLine: line, done: make(chan struct{})}
+	job.cutTail = readErr != nil && len(b) > 0 && b[len(b)-1] != '\n'
+	line += bytes.Count(b, []byte{'\n'})
+	cp := &csvParser{file: res.stats.File, lay: res.lay}
+	cp.parse(job)
+	job.dataLen = len(job.data)
+	job.data = nil
+	res.accountCSV(job, opt.Strict)
+	if res.strictErr == nil {
+		applyCSV(res.fb, res.lay, job, 0, 1)
+	}
+	if readErr != nil {
+		res.fail(&ParseError{File: res.stats.File, Line: line, Err: fmt.Errorf("%w: %v", ErrTruncated, readErr)}, nil)
 	}
 }
 

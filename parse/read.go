@@ -270,7 +270,7 @@ var gzipMagic = []byte{0x1f, 0x8b}
 func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult {
 	res := &fileResult{stats: InputStats{File: name}, fb: newFileBuilder(), sizeHint: size}
 	h := sha256.New()
-	br := bufio.NewReaderSize(io.TeeReader(raw, h), 64*1024)
+	br := bufio.NewReaderSize(io.TeeReader(raw, h), bufferSize(size))
 	defer func() {
 		// Hash what is left so the digest covers the whole input even after an early stop.
 		_, _ = io.Copy(io.Discard, br)
@@ -315,6 +315,16 @@ func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult 
 		readCSV(res, cr, opt)
 	}
 	return res
+}
+
+// bufferSize is the read buffer for an input of size bytes (0: unknown): 64 KiB, or the size
+// of a smaller file, so that thousands of small files do not each allocate and clear 64 KiB.
+func bufferSize(size int64) int {
+	const full = 64 * 1024
+	if size > 0 && size < full {
+		return max(int(size)+1, 512)
+	}
+	return full
 }
 
 // firstNonSpace peeks at the first byte that is not white space, or 0 when there is none.
