@@ -1,6 +1,7 @@
 package report
 
 import (
+	"bufio"
 	"bytes"
 	"encoding/json"
 	"io"
@@ -39,29 +40,23 @@ func writeResultJSON(w io.Writer, res *diagnose.Result) error {
 		enc.SetIndent("", "  ")
 		return enc.Encode(res)
 	}
+	// One exactly sized piece per port (no buffer doubling: a fleet's JSON is tens of MB).
 	workers := min(runtime.GOMAXPROCS(0), len(res.Ports))
-	parts := make([][]byte, workers)
+	parts := make([][]byte, len(res.Ports))
 	errs := make([]error, workers)
 	var wg sync.WaitGroup
 	for k := range workers {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			lo, hi := k*len(res.Ports)/workers, (k+1)*len(res.Ports)/workers
-			var b bytes.Buffer
-			for i := lo; i < hi; i++ {
+			for i := k; i < len(res.Ports); i += workers {
 				js, err := json.MarshalIndent(&res.Ports[i], "    ", "  ")
 				if err != nil {
 					errs[k] = err
 					return
 				}
-				if i > 0 {
-					b.WriteString(",\n")
-				}
-				b.WriteString("    ")
-				b.Write(js)
+				parts[i] = js
 			}
-			parts[k] = b.Bytes()
 		}()
 	}
 	wg.Wait()
@@ -71,13 +66,18 @@ func writeResultJSON(w io.Writer, res *diagnose.Result) error {
 		}
 	}
 	out := head.Bytes()
-	pieces := [][]byte{out[:at], []byte("\n  \"ports\": [\n")}
-	pieces = append(pieces, parts...)
-	pieces = append(pieces, []byte("\n  ],\n"), out[at+len(marker):])
-	for _, p := range pieces {
-		if _, err := w.Write(p); err != nil {
-			return err
+	bw := bufio.NewWriterSize(w, 256<<10)
+	bw.Write(out[:at])
+	bw.WriteString("\n  \"ports\": [\n")
+	for i, js := range parts {
+		if i > 0 {
+			bw.WriteString(",\n")
 		}
+		bw.WriteString("    ")
+		bw.Write(js)
+		parts[i] = nil // let it go once written
 	}
-	return nil
+	bw.WriteString("\n  ],\n")
+	bw.Write(out[at+len(marker):])
+	return bw.Flush() // a bufio.Writer keeps its first error and returns it here
 }
