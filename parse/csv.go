@@ -471,7 +471,9 @@ func quoteShort(b []byte) string {
 func readCSV(res *fileResult, r io.Reader, opt Options) {
 	file := res.stats.File
 	// Read until the header line is complete.
-	buf := make([]byte, 0, bufferSize(res.sizeHint))
+	hb := getBytes(bufferSize(res.sizeHint))
+	defer func() { bytesPool.Put(hb) }()
+	buf := *hb
 	line := 1
 	var readErr error
 	eof := false
@@ -504,9 +506,8 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 			break
 		}
 		if len(buf) == cap(buf) {
-			nb := make([]byte, len(buf), 2*cap(buf))
-			copy(nb, buf)
-			buf = nb
+			buf = slices.Grow(buf, cap(buf))
+			*hb = buf
 		}
 		n, err := r.Read(buf[len(buf):cap(buf)])
 		buf = buf[:len(buf)+n]
@@ -655,11 +656,13 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 // goroutines and channels, which cost more than parsing a file of a few hundred rows (folders
 // of many small files are read in parallel one file per goroutine instead, by ReadPaths).
 func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line int, eof bool, readErr error) {
-	b := make([]byte, len(carry), max(int(res.sizeHint)+1, len(carry)+512))
-	copy(b, carry)
+	bp := getBytes(max(int(res.sizeHint)+1, len(carry)+512))
+	defer func() { bytesPool.Put(bp) }()
+	b := append(*bp, carry...)
 	for !eof {
 		if len(b) == cap(b) {
 			b = slices.Grow(b, cap(b)) // larger than announced (a file still growing)
+			*bp = b
 		}
 		n, err := r.Read(b[len(b):cap(b)])
 		b = b[:len(b)+n]
@@ -670,14 +673,23 @@ func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line 
 			}
 		}
 	}
-	job := &csvJob{data: b, firstLine: line, done: make(chan struct{})}
+	*bp = b
+	w := wholePool.Get().(*wholeScratch)
+	defer wholePool.Put(w)
+	job := &w.job
+	*job = csvJob{data: b, firstLine: line,
+		names: job.names[:0], groupEnd: job.groupEnd[:0], spread: job.spread[:0], gTimes: job.gTimes[:0], gVals: job.gVals[:0]}
 	job.cutTail = readErr != nil && len(b) > 0 && b[len(b)-1] != '\n'
 	lines := bytes.Count(b, []byte{'\n'})
 	line += lines
 	k := len(res.lay.qs)
 	rows := lines + 1 // at most
-	job.rowPort, job.times, job.vals = make([]int32, 0, rows), make([]int64, 0, rows), make([]float64, 0, rows*k)
-	cp := &csvParser{file: res.stats.File, lay: res.lay}
+	job.rowPort = slices.Grow(w.rowPort[:0], rows)
+	job.times = slices.Grow(w.times[:0], rows)
+	job.vals = slices.Grow(w.vals[:0], rows*k)
+	defer func() { w.rowPort, w.times, w.vals = job.rowPort, job.times, job.vals }()
+	cp := &w.cp
+	cp.file, cp.lay, cp.lastTime = res.stats.File, res.lay, cp.lastTime[:0]
 	cp.parse(job)
 	job.dataLen = len(job.data)
 	job.data = nil
@@ -757,6 +769,17 @@ func newCapacityHint(job *csvJob, ratio float64, k int) *capacityHint {
 	adviseHuge(h.vals)
 	return h
 }
+
+// wholeScratch is the reusable working space of readCSVWhole (one per concurrent reader).
+type wholeScratch struct {
+	job     csvJob
+	cp      csvParser
+	rowPort []int32
+	times   []int64
+	vals    []float64
+}
+
+var wholePool = sync.Pool{New: func() any { return new(wholeScratch) }}
 
 // exactHint sizes the columns of every port of a whole-input job to its rows in the job, cut
 // from one slab for the file: the ports' columns are then filled without growing and handed

@@ -13,6 +13,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"strings"
 	"sync"
 )
@@ -270,11 +271,14 @@ var gzipMagic = []byte{0x1f, 0x8b}
 func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult {
 	res := &fileResult{stats: InputStats{File: name}, fb: newFileBuilder(), sizeHint: size}
 	h := sha256.New()
-	br := bufio.NewReaderSize(io.TeeReader(raw, h), bufferSize(size))
+	br := readerPool.Get().(*bufio.Reader)
+	br.Reset(io.TeeReader(raw, h))
 	defer func() {
 		// Hash what is left so the digest covers the whole input even after an early stop.
 		_, _ = io.Copy(io.Discard, br)
 		res.stats.SHA256 = hex.EncodeToString(h.Sum(nil))
+		br.Reset(nil)
+		readerPool.Put(br)
 	}()
 	var r io.Reader = br
 	gz := false
@@ -315,6 +319,21 @@ func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult 
 		readCSV(res, cr, opt)
 	}
 	return res
+}
+
+// readerPool recycles the 64 KiB input readers: a folder of thousands of small files would
+// otherwise allocate and clear one per file.
+var readerPool = sync.Pool{New: func() any { return bufio.NewReaderSize(nil, 64*1024) }}
+
+// bytesPool recycles the byte buffers of small inputs (readCSV's header buffer, readCSVWhole's
+// block).
+var bytesPool = sync.Pool{New: func() any { return new([]byte) }}
+
+// getBytes returns a pooled buffer of length 0 and capacity at least n.
+func getBytes(n int) *[]byte {
+	bp := bytesPool.Get().(*[]byte)
+	*bp = slices.Grow((*bp)[:0], n)
+	return bp
 }
 
 // bufferSize is the read buffer for an input of size bytes (0: unknown): 64 KiB, or the size
