@@ -90,12 +90,13 @@ func (pc *portCtx) causes() {
 		pc.osnrLow(im),
 		pc.nonlinear(im),
 	}
+	forced := pc.ownedBreaches(scores, im)
 	for _, s := range scores {
 		if s == nil || !s.supported() {
 			continue
 		}
 		conf := logistic(s.total())
-		if conf < confidenceFloor {
+		if conf < confidenceFloor && !forced[s.id] {
 			continue
 		}
 		c := Cause{ID: s.id, Confidence: math.Round(conf*1000) / 1000, Actions: actions[s.id]}
@@ -111,6 +112,113 @@ func (pc *portCtx) causes() {
 		pc.res.Causes = append(pc.res.Causes, c)
 	}
 	sort.SliceStable(pc.res.Causes, func(i, j int) bool { return pc.res.Causes[i].Confidence > pc.res.Causes[j].Confidence })
+}
+
+// ownedBreaches makes a marginal or failing criterion evidence for the cause that owns its
+// physics (mean DGD and DGD → pmd, SOP rate → sop-transient, PDL → pdl-high, and so on): when
+// that cause's own tests stay below the listing level, the breach is added as strong evidence
+// (the module's own limit for that quantity is at risk) and the cause is listed whatever its confidence, so a
+// port is never marginal or failing "for no reason". When only the noise-family criteria (Q,
+// uncorrected blocks, post-FEC BER) break and nothing else is named, the Q shortfall with a good
+// OSNR, normal power and every impairment in range is the nonlinear signature. It returns the
+// ids listed by this rule.
+func (pc *portCtx) ownedBreaches(scores []*score, im impairments) map[string]bool {
+	forced := map[string]bool{}
+	byID := map[string]*score{}
+	for _, s := range scores {
+		if s != nil {
+			byID[s.id] = s
+		}
+	}
+	listed := func(id string) bool {
+		s := byID[id]
+		return s != nil && s.supported() && logistic(s.total()) >= confidenceFloor
+	}
+	noise := false
+	for i, c := range pc.res.Criteria {
+		if c.Verdict != Marginal && c.Verdict != Fail {
+			continue
+		}
+		owner := pc.critOwner[i]
+		if owner == "" {
+			noise = noise || c.Metric == "q_db" || c.Metric == "uncorrected_blocks" || c.Metric == "post_fec_ber"
+			continue
+		}
+		if forced[owner] || listed(owner) {
+			continue
+		}
+		s := byID[owner]
+		if s == nil {
+			continue // the cause cannot be judged here (e.g. no plan)
+		}
+		s.add(llrStrong, "%s", criterionText(c))
+		forced[owner] = true
+	}
+	if !noise {
+		return forced
+	}
+	for _, s := range scores {
+		if s != nil && (forced[s.id] || (s.supported() && logistic(s.total()) >= confidenceFloor)) {
+			return forced // something is named already
+		}
+	}
+	if pc.litNoiseBreach() {
+		if s := byID[CauseNonlinear]; s != nil && pc.noiseNotAmplifier(s, im) {
+			forced[CauseNonlinear] = true
+		}
+	}
+	return forced
+}
+
+// litNoiseBreach: the Q criterion is marginal or failing on lit samples, or lit samples carry
+// uncorrected blocks (so a lone loss of lock does not count as a noise problem).
+func (pc *portCtx) litNoiseBreach() bool {
+	if pc.qdb != nil && pc.prof.FECThresholdBER > 0 {
+		if q := pc.summaryOf(pc.lit(pc.qdb), parse.QdB); q.N > 0 && pick(q, pc.r.QStatistic)-pc.qLimitDB < pc.r.QMarginalMarginDB {
+			return true
+		}
+	}
+	if ub := pc.s.Values[parse.UncorrectedBlocks]; ub != nil {
+		for i, v := range ub {
+			if v > 0 && !pc.dark[i] {
+				return true
+			}
+		}
+	}
+	return false
+}
+
+// noiseNotAmplifier adds the nonlinear evidence when the Q is short although the OSNR (reported,
+// or the plan's ASE OSNR) is well above the requirement, the received power is normal and no
+// measured impairment is out of line: the eSNR is below what the OSNR implies. It reports
+// whether it did.
+func (pc *portCtx) noiseNotAmplifier(s *score, im impairments) bool {
+	r := pc.r
+	ref, refName := math.NaN(), ""
+	if pc.has(parse.OSNRdB) {
+		ref, refName = pick(pc.sum[parse.OSNRdB], r.OSNRStatistic), "reported OSNR ("+string(r.OSNRStatistic)+")"
+	} else if pc.exp != nil && finite(pc.exp.ASEOSNRdB) {
+		ref, refName = pc.exp.ASEOSNRdB, "plan's ASE OSNR"
+	}
+	if !finite(ref) || !(pc.reqOSNRdB > 0) || ref < pc.reqOSNRdB+r.OSNRMarginalMarginDB {
+		return false
+	}
+	if !pc.has(parse.RxPowerDBm) || im.powerLow || im.powerHigh || len(im.names) > 0 {
+		return false
+	}
+	lp := pc.litPowerSummary()
+	p := pc.prof
+	if p.RxPowerMaxDBm > p.RxPowerMinDBm && (lp.Min < p.RxPowerMinDBm+r.RxPowerMarginalBandDB || lp.Max > p.RxPowerMaxDBm-r.RxPowerMarginalBandDB) {
+		return false
+	}
+	q := pc.summaryOf(pc.lit(pc.qdb), parse.QdB)
+	figures := pc.impairmentFigures()
+	if figures == "" {
+		figures = "none of CD, DGD, PDL, SOP rate or LO offset is in the log"
+	}
+	s.add(llrStrong, "The Q margin is only %+.2f dB (%s) although the %s of %.1f dB is %.1f dB above the %.1f dB the module needs, the received power is normal (median %.1f dBm) and no measured impairment is out of line (%s): the eSNR is below what the OSNR implies, the signature of nonlinear interference in the fibre. A transceiver fault (laser, modulator or receiver) leaves the same signature; a loopback or back-to-back test of the module tells them apart.",
+		pick(q, r.QStatistic)-pc.qLimitDB, r.QStatistic, refName, ref, ref-pc.reqOSNRdB, pc.reqOSNRdB, lp.P50, figures)
+	return true
 }
 
 func (pc *portCtx) has(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
@@ -190,74 +298,73 @@ func (pc *portCtx) impairmentFigures() string {
 
 func pct(x float64) string { return fmt.Sprintf("%.0f %%", 100*x) }
 
-// signalLoss: power at the floor, no decoded signal, samples without readings, gaps in time.
+// signalLoss: samples without light — power at the loss-of-signal floor, or nothing decoded with
+// the power dropped or unreported. Telemetry gaps and rows without readings are not evidence of
+// it (missed polls leave the same holes); they become notes, or support a loss they border.
 func (pc *portCtx) signalLoss() *score {
 	s := &score{id: CauseSignalLoss}
 	ts := pc.s.TimesMs
-	if pc.darkCount > 0 {
-		first, last := -1, -1
-		floorCount, noLock := 0, 0
-		pw := pc.s.Values[parse.RxPowerDBm]
-		minPw := math.Inf(1)
-		for i, d := range pc.dark {
-			if !d {
-				continue
-			}
-			if first < 0 {
-				first = i
-			}
-			last = i
-			if pw != nil && !math.IsNaN(pw[i]) && pw[i] <= pc.r.SignalLossFloorDBm {
-				floorCount++
-				minPw = math.Min(minPw, pw[i])
-			}
-			if pc.ber != nil && pc.ber[i] >= noLockBER {
-				noLock++
-			}
+	dk := pc.darkKinds()
+	nearDark := pc.gapNotes()
+	if n := len(dk.noLight); n > 0 {
+		var why []string
+		if dk.floor > 0 {
+			why = append(why, fmt.Sprintf("received power at or below the %.1f dBm loss-of-signal floor in %d", pc.r.SignalLossFloorDBm, dk.floor))
 		}
-		frac := float64(pc.darkCount) / float64(pc.n)
-		if floorCount > 0 {
-			s.add(llrDecisive, "Received power was at or below the %.1f dBm loss-of-signal floor in %d of %d samples (%s of the log, down to %.1f dBm) between %s and %s.",
-				pc.r.SignalLossFloorDBm, floorCount, pc.n, pct(frac), minPw, clock(ts[first]), clock(ts[last]))
+		if dk.dropped > 0 {
+			why = append(why, fmt.Sprintf("nothing decoded (pre-FEC BER ≥ %.2g) with the power dropped in %d", noLockBER, dk.dropped))
 		}
-		if noLock > 0 {
-			s.add(llrStrong, "Pre-FEC BER was at or above %.2g (0.5 means random decisions: nothing decoded) in %d samples.", noLockBER, noLock)
+		if dk.noPower > 0 {
+			why = append(why, fmt.Sprintf("nothing decoded (pre-FEC BER ≥ %.2g) and no power reading in %d", noLockBER, dk.noPower))
 		}
-	}
-	// Sample times at which the port reported nothing at all (every quantity missing).
-	empty := 0
-	for i := 0; i < pc.n; i++ {
-		all := true
-		for q := parse.Quantity(0); q < parse.NumQuantities && all; q++ {
-			all = nanAt(pc.s.Values[q], i)
+		low := ""
+		if finite(dk.minPw) {
+			low = fmt.Sprintf(", power down to %.1f dBm", dk.minPw)
 		}
-		if all {
-			empty++
+		llr := llrStrong
+		if dk.floor > 0 {
+			llr = llrDecisive
+		}
+		s.add(llr, "No light in %d of %d samples (%s of the log%s) between %s and %s: %s.",
+			n, pc.n, pct(float64(n)/float64(pc.n)), low, clock(ts[dk.noLight[0]]), clock(ts[dk.noLight[n-1]]), strings.Join(why, "; "))
+		if dk.floor > 0 && dk.decoded0 > 0 {
+			s.add(llrStrong, "The receiver decoded nothing in those samples (pre-FEC BER ≥ %.2g; 0.5 means random decisions).", noLockBER)
+		}
+		if nearDark != "" {
+			s.add(llrWeak, "%s", nearDark)
 		}
 	}
-	if empty > 0 {
-		s.add(llrStrong, "%d of %d sample times carry no reading at all although the port reported at other times.", empty, pc.n)
-	}
-	// Gaps in the sample times.
-	if pc.intervalMs > 0 && pc.n > 2 {
-		var missing int64
-		var worstFrom, worstTo int64
-		for i := 1; i < pc.n; i++ {
-			d := ts[i] - ts[i-1]
-			if d >= gapFactor*pc.intervalMs {
-				missing += d - pc.intervalMs
-				if d > worstTo-worstFrom {
-					worstFrom, worstTo = ts[i-1], ts[i]
-				}
-			}
-		}
-		span := ts[pc.n-1] - ts[0]
-		if missing > 0 && float64(missing) >= 0.02*float64(span) && missing >= 10*pc.intervalMs {
-			s.add(llrStrong, "Samples are missing for %s in all (%s of the log; the longest gap runs from %s to %s, against a usual interval of %s).",
-				dur(missing), pct(float64(missing)/float64(span)), clock(worstFrom), clock(worstTo), dur(pc.intervalMs))
-		}
+	if k := len(dk.lockLost); k > 0 && !pc.lockLossExplained() {
+		i := dk.lockLost[0]
+		pc.notJudged("loss of lock: the receiver decoded nothing (pre-FEC BER ≥ %.2g) in %d sample(s), first at %s, while the received power was normal (%.1f dBm): light was present, so this is not a signal loss, and no measured impairment was out of line at those samples (%s). Check the module's alarm log for that time",
+			noLockBER, k, clock(ts[i]), pc.s.Values[parse.RxPowerDBm][i], pc.impairmentFigures())
 	}
 	return s
+}
+
+// lockLossLLR weighs a quantity found beyond the module's limit at a loss of lock with light
+// present: strong at the limit, growing by 2 per unit of ratio beyond it up to 6 — the further
+// outside its specified tolerance, the less a module is expected to hold lock (common practice),
+// so of two quantities beyond their limits the one further out ranks first.
+func lockLossLLR(ratio float64) float64 {
+	return math.Min(6, llrStrong+2*math.Max(0, ratio-1))
+}
+
+// lockLossExplained says whether DGD, PDL, SOP rate or LO offset was beyond the module's limit
+// at one of the samples where the receiver lost lock with light present.
+func (pc *portCtx) lockLossExplained() bool {
+	p := pc.prof
+	for _, c := range []struct {
+		q     parse.Quantity
+		limit float64
+		abs   bool
+	}{{parse.DGDps, p.DGDTolerancePs, false}, {parse.PDLdB, p.PDLTolerancedB, false},
+		{parse.SOPRateKradPerS, p.SOPTrackingKradS, false}, {parse.LOOffsetMHz, p.LOOffsetRangeMHz, true}} {
+		if n, _ := pc.lockLossOver(c.q, c.limit, c.abs); n > 0 {
+			return true
+		}
+	}
+	return false
 }
 
 func nanAt(v []float64, i int) bool { return v == nil || math.IsNaN(v[i]) }
@@ -466,6 +573,11 @@ func (pc *portCtx) pmd() *score {
 	case ds.P99 >= r.DGDMarginalFraction*tol:
 		s.add(llrModerate, "DGD p99 %.1f ps is %s of the module's %.0f ps instantaneous tolerance.", ds.P99, pct(ds.P99/tol), tol)
 	}
+	if n, i := pc.lockLossOver(parse.DGDps, tol, false); n > 0 {
+		v := pc.s.Values[parse.DGDps][i]
+		s.add(lockLossLLR(v/tol), "%s, while the DGD was %.1f ps, %.1f× the module's %.0f ps instantaneous tolerance: a PMD excursion the equaliser could not follow.",
+			pc.lockLossText(i, n), v, v/tol, tol)
+	}
 	f := pc.an.DGDFit
 	if f != nil && f.MeanPs > 0 {
 		pe := f.ExceedProbability
@@ -484,13 +596,13 @@ func (pc *portCtx) pmd() *score {
 	}
 	if f != nil && f.N >= 30 && finite(f.KSPValue) {
 		if f.KSPValue >= 0.01 {
-			s.add(llrWeak, "The DGD spread fits a Maxwellian of that mean (Kolmogorov–Smirnov D = %.3f, p = %.2f over %d samples), as fibre PMD does.", f.KS, f.KSPValue, f.N)
+			s.add(llrWeak, "The DGD spread fits a Maxwellian of that mean (Kolmogorov–Smirnov D = %.3f, %s over %d samples), as fibre PMD does.", f.KS, pval(f.KSPValue), f.N)
 		} else if f.KSPValue < 0.001 {
-			s.add(-0.5, "The DGD spread is not Maxwellian-shaped (Kolmogorov–Smirnov D = %.3f, p = %.1g), which fibre PMD alone would give.", f.KS, f.KSPValue)
+			s.add(-0.5, "The DGD spread is not Maxwellian-shaped (Kolmogorov–Smirnov D = %.3f, %s), which fibre PMD alone would give.", f.KS, pval(f.KSPValue))
 		}
 	}
 	if c := pc.correlation(parse.DGDps); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < 0.01 {
-		s.add(llrModerate, "Pre-FEC BER follows the DGD (Spearman ρ = %.2f over %d samples, p = %.1g).", c.Rho, c.N, c.P)
+		s.add(llrModerate, "Pre-FEC BER follows the DGD (Spearman ρ = %.2f over %d samples, %s).", c.Rho, c.N, pval(c.P))
 	}
 	if pc.exp != nil && f != nil && pc.exp.MeanDGDPs > 0 && f.MeanPs > 2*pc.exp.MeanDGDPs {
 		s.add(llrWeak, "Mean DGD %.1f ps is %.1f× the %.1f ps the plan's fibre PMD coefficients predict.", f.MeanPs, f.MeanPs/pc.exp.MeanDGDPs, pc.exp.MeanDGDPs)
@@ -520,6 +632,10 @@ func (pc *portCtx) sopTransient() *score {
 			ss.Max, ss.Max/p.SOPTrackingKradS, p.SOPTrackingKradS, len(an.SOPSpikes), an.SOPSpikeThresholdKradS)
 	case ss.Max >= r.SOPRateMarginalFraction*p.SOPTrackingKradS:
 		s.add(llrModerate, "SOP rate peaked at %.0f krad/s, %s of the module's %.0f krad/s tracking speed.", ss.Max, pct(ss.Max/p.SOPTrackingKradS), p.SOPTrackingKradS)
+	}
+	if n, i := pc.lockLossOver(parse.SOPRateKradPerS, p.SOPTrackingKradS, false); n > 0 {
+		v := pc.s.Values[parse.SOPRateKradPerS][i]
+		s.add(lockLossLLR(v/p.SOPTrackingKradS), "%s, while the SOP rate was %.0f krad/s, %.1f× the module's %.0f krad/s tracking speed.", pc.lockLossText(i, n), v, v/p.SOPTrackingKradS, p.SOPTrackingKradS)
 	}
 	bursts := len(an.BERBursts)
 	kind := "BER bursts"
@@ -573,6 +689,10 @@ func (pc *portCtx) pdlHigh() *score {
 	case ps.P99 >= r.PDLMarginalFraction*tol:
 		s.add(llrModerate, "PDL p99 %.2f dB is %s of the module's %.1f dB tolerance.", ps.P99, pct(ps.P99/tol), tol)
 	}
+	if n, i := pc.lockLossOver(parse.PDLdB, tol, false); n > 0 {
+		v := pc.s.Values[parse.PDLdB][i]
+		s.add(lockLossLLR(v/tol), "%s, while the PDL was %.1f dB, %.1f× the module's %.1f dB tolerance.", pc.lockLossText(i, n), v, v/tol, tol)
+	}
 	if !s.supported() {
 		return s
 	}
@@ -580,7 +700,7 @@ func (pc *portCtx) pdlHigh() *score {
 		s.add(llrWeak, "PDL stays high: its median is %.2f dB.", ps.P50)
 	}
 	if c := pc.correlation(parse.PDLdB); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < 0.01 {
-		s.add(llrModerate, "Pre-FEC BER follows the PDL (Spearman ρ = %.2f over %d samples, p = %.1g).", c.Rho, c.N, c.P)
+		s.add(llrModerate, "Pre-FEC BER follows the PDL (Spearman ρ = %.2f over %d samples, %s).", c.Rho, c.N, pval(c.P))
 	}
 	return s
 }
@@ -604,6 +724,9 @@ func (pc *portCtx) loOffset() *score {
 		s.add(llrStrong, "|LO offset| reached %.0f MHz, %s of the module's ±%.0f MHz capture range.", a.Max, pct(a.Max/rng), rng)
 	case a.Max >= (r.LOOffsetMarginalFraction-0.2)*rng:
 		s.add(llrModerate, "|LO offset| reached %.0f MHz, %s of the module's ±%.0f MHz capture range.", a.Max, pct(a.Max/rng), rng)
+	}
+	if n, i := pc.lockLossOver(parse.LOOffsetMHz, rng, true); n > 0 {
+		s.add(llrStrong, "%s, while the carrier offset was %+.0f MHz, beyond the module's ±%.0f MHz capture range.", pc.lockLossText(i, n), pc.s.Values[parse.LOOffsetMHz][i], rng)
 	}
 	if t := pc.an.LOTrend; t != nil && pc.trendSignificant(t) {
 		switch {

@@ -72,7 +72,7 @@ func (pc *portCtx) metrics() {
 			limit = p.FECThresholdBER
 			margin = limit - mirror(s, r.QStatistic)
 		case parse.PostFECBER:
-			limit, margin = postFECLimitBER, postFECLimitBER-s.Max
+			limit, margin = postFECLimitBER, decadesBelow(postFECLimitBER, s.Max)
 		case parse.UncorrectedBlocks:
 			limit, margin = 0, 0-s.Max // 0 − x, not −x: no negative zero
 		case parse.QdB:
@@ -106,8 +106,8 @@ func (pc *portCtx) metrics() {
 				limit, margin = windowMargin(s, p.TxPowerMinDBm, p.TxPowerMaxDBm, rules.StatMin, rules.StatMax)
 			}
 		}
-		if limit == 0 && q != parse.UncorrectedBlocks {
-			limit, margin = nan, nan // the profile does not give this limit
+		if limit == 0 && q != parse.UncorrectedBlocks && q != parse.RxPowerDBm && q != parse.TxPowerDBm {
+			limit, margin = nan, nan // the profile does not give this limit (a 0 dBm power edge is a real limit)
 		}
 		pc.metric(q.Column(), q.Unit(), s, false, limit, margin)
 	}
@@ -159,7 +159,7 @@ func (pc *portCtx) notJudged(format string, a ...any) {
 
 // addCriterion appends a row judged "higher is better" (margin = measured − limit) or
 // "lower is better" (margin = limit − measured); marginal when the margin is below band.
-func (pc *portCtx) addCriterion(c Criterion, band float64) {
+func (pc *portCtx) addCriterion(c Criterion, band float64, owner string) {
 	if !finite(c.Measured) || !finite(c.Limit) {
 		return
 	}
@@ -171,7 +171,14 @@ func (pc *portCtx) addCriterion(c Criterion, band float64) {
 	default:
 		c.Verdict = Pass
 	}
+	pc.appendCriterion(c, owner)
+}
+
+// appendCriterion adds a judged row and remembers which cause owns its physics ("" for the
+// noise-family rows — Q, uncorrected blocks, post-FEC BER — that several causes share).
+func (pc *portCtx) appendCriterion(c Criterion, owner string) {
 	pc.res.Criteria = append(pc.res.Criteria, c)
+	pc.critOwner = append(pc.critOwner, owner)
 }
 
 // criteria builds the criteria table from the module limits and the rules' marginal bands.
@@ -184,62 +191,68 @@ func (pc *portCtx) criteria() {
 		m := pick(s, r.QStatistic)
 		pc.addCriterion(Criterion{Name: "Q-factor margin to the FEC threshold", Metric: "q_db", Statistic: string(r.QStatistic),
 			Measured: m, Limit: pc.qLimitDB, Margin: m - pc.qLimitDB, Unit: "dB",
-			Source: pc.source("fec_threshold_ber") + fmt.Sprintf("; limit = Q of BER %.3g", p.FECThresholdBER)}, r.QMarginalMarginDB)
+			Source: pc.source("fec_threshold_ber") + fmt.Sprintf("; limit = Q of BER %.3g", p.FECThresholdBER)}, r.QMarginalMarginDB, "")
 	} else {
 		pc.notJudged("Q-factor: the log has neither pre_fec_ber nor q_db")
 	}
 	if has(parse.OSNRdB) && pc.reqOSNRdB > 0 {
 		m := pick(pc.sum[parse.OSNRdB], r.OSNRStatistic)
 		pc.addCriterion(Criterion{Name: "OSNR margin to the required OSNR", Metric: "osnr_db", Statistic: string(r.OSNRStatistic),
-			Measured: m, Limit: pc.reqOSNRdB, Margin: m - pc.reqOSNRdB, Unit: "dB", Source: pc.source("required_osnr_db")}, r.OSNRMarginalMarginDB)
+			Measured: m, Limit: pc.reqOSNRdB, Margin: m - pc.reqOSNRdB, Unit: "dB", Source: pc.source("required_osnr_db")}, r.OSNRMarginalMarginDB, CauseOSNRLow)
 	}
 	if has(parse.RxPowerDBm) && p.RxPowerMaxDBm > p.RxPowerMinDBm {
 		s := pc.sum[parse.RxPowerDBm]
 		lo, hi := pick(s, r.RxPowerLowStatistic), pick(s, r.RxPowerHighStatistic)
 		pc.addCriterion(Criterion{Name: "Received power above the sensitivity limit", Metric: "rx_power_dbm", Statistic: string(r.RxPowerLowStatistic),
-			Measured: lo, Limit: p.RxPowerMinDBm, Margin: lo - p.RxPowerMinDBm, Unit: "dBm", Source: pc.source("rx_power_min_dbm")}, r.RxPowerMarginalBandDB)
+			Measured: lo, Limit: p.RxPowerMinDBm, Margin: lo - p.RxPowerMinDBm, Unit: "dBm", Source: pc.source("rx_power_min_dbm")}, r.RxPowerMarginalBandDB, pc.powerEdgeOwner(CauseRxPowerLow))
 		pc.addCriterion(Criterion{Name: "Received power below the overload limit", Metric: "rx_power_dbm", Statistic: string(r.RxPowerHighStatistic),
-			Measured: hi, Limit: p.RxPowerMaxDBm, Margin: p.RxPowerMaxDBm - hi, Unit: "dBm", Source: pc.source("rx_power_max_dbm")}, r.RxPowerMarginalBandDB)
+			Measured: hi, Limit: p.RxPowerMaxDBm, Margin: p.RxPowerMaxDBm - hi, Unit: "dBm", Source: pc.source("rx_power_max_dbm")}, r.RxPowerMarginalBandDB, pc.powerEdgeOwner(CauseRxOverload))
 	} else if !has(parse.RxPowerDBm) {
 		pc.notJudged("received power: the log has no rx_power_dbm")
 	}
 	if has(parse.TxPowerDBm) && p.TxPowerMaxDBm > p.TxPowerMinDBm {
 		s := pc.sum[parse.TxPowerDBm]
 		pc.addCriterion(Criterion{Name: "Transmit power inside the module's range", Metric: "tx_power_dbm", Statistic: "min",
-			Measured: s.Min, Limit: p.TxPowerMinDBm, Margin: s.Min - p.TxPowerMinDBm, Unit: "dBm", Source: pc.source("tx_power_min_dbm")}, 0)
+			Measured: s.Min, Limit: p.TxPowerMinDBm, Margin: s.Min - p.TxPowerMinDBm, Unit: "dBm", Source: pc.source("tx_power_min_dbm")}, 0, "")
 		pc.addCriterion(Criterion{Name: "Transmit power inside the module's range", Metric: "tx_power_dbm", Statistic: "max",
-			Measured: s.Max, Limit: p.TxPowerMaxDBm, Margin: p.TxPowerMaxDBm - s.Max, Unit: "dBm", Source: pc.source("tx_power_max_dbm")}, 0)
+			Measured: s.Max, Limit: p.TxPowerMaxDBm, Margin: p.TxPowerMaxDBm - s.Max, Unit: "dBm", Source: pc.source("tx_power_max_dbm")}, 0, "")
 	}
-	upper := func(name string, q parse.Quantity, sum series.Summary, st rules.Statistic, limit, frac float64, unit, key string) {
+	upper := func(name string, q parse.Quantity, sum series.Summary, st rules.Statistic, limit, frac float64, unit, key, owner string) {
 		if limit <= 0 {
 			pc.notJudged("%s: the profile gives no limit", name)
 			return
 		}
 		m := pick(sum, st)
 		pc.addCriterion(Criterion{Name: name, Metric: q.Column(), Statistic: string(st), Measured: m, Limit: limit,
-			Margin: limit - m, Unit: unit, Source: pc.source(key)}, (1-frac)*limit)
+			Margin: limit - m, Unit: unit, Source: pc.source(key)}, (1-frac)*limit, owner)
 	}
 	if has(parse.CDpsPerNm) {
-		upper("|CD| inside the compensation range", parse.CDpsPerNm, pc.absSum[parse.CDpsPerNm], r.CDStatistic, p.CDTolerancePsNm, r.CDMarginalFraction, "ps/nm", "cd_tolerance_ps_nm")
+		upper("|CD| inside the compensation range", parse.CDpsPerNm, pc.absSum[parse.CDpsPerNm], r.CDStatistic, p.CDTolerancePsNm, r.CDMarginalFraction, "ps/nm", "cd_tolerance_ps_nm", CauseCDOverLimit)
 	}
 	if has(parse.DGDps) {
-		upper("DGD inside the instantaneous tolerance", parse.DGDps, pc.sum[parse.DGDps], r.DGDStatistic, p.DGDTolerancePs, r.DGDMarginalFraction, "ps", "dgd_tolerance_ps")
+		upper("DGD inside the instantaneous tolerance", parse.DGDps, pc.sum[parse.DGDps], r.DGDStatistic, p.DGDTolerancePs, r.DGDMarginalFraction, "ps", "dgd_tolerance_ps", CausePMD)
 		if f := pc.an.DGDFit; f != nil && p.DGDTolerancePs > 0 && r.PMDOutageProbability > 0 {
-			allowed := p.DGDTolerancePs / optics.MaxwellQuantile(r.PMDOutageProbability, 1)
-			pc.addCriterion(Criterion{Name: fmt.Sprintf("Mean DGD (PMD) for outage probability ≤ %.2g", r.PMDOutageProbability), Metric: "dgd_ps", Statistic: "mean",
+			ratio := optics.MaxwellQuantile(r.PMDOutageProbability, 1)
+			allowed := p.DGDTolerancePs / ratio
+			src := fmt.Sprintf("limit %.1f ps = the module's %.0f ps instantaneous DGD tolerance / %.2f, the Maxwellian ratio of the DGD exceeded with probability %.2g to the mean DGD (M. Karlsson, J. Lightwave Technol. 19(3), 2001; rules pmd_outage_probability)",
+				allowed, p.DGDTolerancePs, ratio, r.PMDOutageProbability)
+			if p.MeanDGDTolerancePs > 0 {
+				src += fmt.Sprintf("; the profile's own mean-DGD figure is %.3g ps, which allows a slightly higher outage probability", p.MeanDGDTolerancePs)
+			}
+			pc.addCriterion(Criterion{Name: fmt.Sprintf("Mean DGD for outage ≤ %.2g (from the %.0f ps tolerance)", r.PMDOutageProbability, p.DGDTolerancePs), Metric: "dgd_ps", Statistic: "mean",
 				Measured: f.MeanPs, Limit: allowed, Margin: allowed - f.MeanPs, Unit: "ps",
-				Source: pc.source("dgd_tolerance_ps") + "; limit from the Maxwellian tail (M. Karlsson, J. Lightwave Technol. 19(3), 2001) and rules pmd_outage_probability"},
-				(1-r.DGDMarginalFraction)*allowed)
+				Source: pc.source("dgd_tolerance_ps") + "; " + src},
+				(1-r.DGDMarginalFraction)*allowed, CausePMD)
 		}
 	}
 	if has(parse.PDLdB) {
-		upper("PDL inside the tolerance", parse.PDLdB, pc.sum[parse.PDLdB], r.PDLStatistic, p.PDLTolerancedB, r.PDLMarginalFraction, "dB", "pdl_tolerance_db")
+		upper("PDL inside the tolerance", parse.PDLdB, pc.sum[parse.PDLdB], r.PDLStatistic, p.PDLTolerancedB, r.PDLMarginalFraction, "dB", "pdl_tolerance_db", CausePDLHigh)
 	}
 	if has(parse.SOPRateKradPerS) {
-		upper("SOP rate inside the tracking speed", parse.SOPRateKradPerS, pc.sum[parse.SOPRateKradPerS], r.SOPRateStatistic, p.SOPTrackingKradS, r.SOPRateMarginalFraction, "krad/s", "sop_tracking_krad_s")
+		upper("SOP rate inside the tracking speed", parse.SOPRateKradPerS, pc.sum[parse.SOPRateKradPerS], r.SOPRateStatistic, p.SOPTrackingKradS, r.SOPRateMarginalFraction, "krad/s", "sop_tracking_krad_s", CauseSOPTransient)
 	}
 	if has(parse.LOOffsetMHz) {
-		upper("|LO offset| inside the capture range", parse.LOOffsetMHz, pc.absSum[parse.LOOffsetMHz], r.LOOffsetStatistic, p.LOOffsetRangeMHz, r.LOOffsetMarginalFraction, "MHz", "lo_offset_range_mhz")
+		upper("|LO offset| inside the capture range", parse.LOOffsetMHz, pc.absSum[parse.LOOffsetMHz], r.LOOffsetStatistic, p.LOOffsetRangeMHz, r.LOOffsetMarginalFraction, "MHz", "lo_offset_range_mhz", CauseLOOffset)
 		if t := pc.an.LOTrend; t != nil && pc.trendSignificant(t) && finite(t.HoursToLimit) && t.HoursToLimit > 0 {
 			c := Criterion{Name: "LO offset drift: hours until the capture limit", Metric: "lo_offset_mhz", Statistic: "trend",
 				Measured: t.HoursToLimit, Limit: r.LODriftHorizonH, Margin: t.HoursToLimit - r.LODriftHorizonH, Unit: "h",
@@ -248,7 +261,7 @@ func (pc *portCtx) criteria() {
 			if c.Margin < 0 {
 				c.Verdict = Marginal
 			}
-			pc.res.Criteria = append(pc.res.Criteria, c)
+			pc.appendCriterion(c, CauseLOOffset)
 		}
 	}
 	if has(parse.UncorrectedBlocks) {
@@ -259,18 +272,18 @@ func (pc *portCtx) criteria() {
 			}
 		}
 		pc.addCriterion(Criterion{Name: "Uncorrected FEC blocks (total)", Metric: "uncorrected_blocks", Statistic: "sum",
-			Measured: total, Limit: 0, Margin: 0 - total, Unit: "blocks", Source: "common practice: error-free after FEC"}, 0)
+			Measured: total, Limit: 0, Margin: 0 - total, Unit: "blocks", Source: "common practice: error-free after FEC"}, 0, "")
 	}
 	if has(parse.PostFECBER) {
 		m := pc.sum[parse.PostFECBER].Max
-		pc.addCriterion(Criterion{Name: "Post-FEC BER", Metric: "post_fec_ber", Statistic: "max",
-			Measured: m, Limit: postFECLimitBER, Margin: postFECLimitBER - m, Unit: "",
-			Source: "common practice: 1e-12, the error-free reference of FEC specifications such as ITU-T G.975"}, 0)
+		pc.addCriterion(Criterion{Name: "Post-FEC BER (margin in decades)", Metric: "post_fec_ber", Statistic: "max",
+			Measured: m, Limit: postFECLimitBER, Margin: decadesBelow(postFECLimitBER, m), Unit: "", MarginUnit: "decades",
+			Source: "common practice: 1e-12, the error-free reference of FEC specifications such as ITU-T G.975; margin = log10(limit / measured), a measured 0 taken as 1e-15"}, 0, "")
 	}
 	if pc.darkCount > 0 {
 		pc.addCriterion(Criterion{Name: "Samples without signal", Metric: "rx_power_dbm", Statistic: "count",
 			Measured: float64(pc.darkCount), Limit: 0, Margin: -float64(pc.darkCount), Unit: "samples",
-			Source: fmt.Sprintf("rules signal_loss_floor_dbm %.1f dBm, or pre-FEC BER ≥ %.2g", r.SignalLossFloorDBm, noLockBER)}, 0)
+			Source: fmt.Sprintf("rules signal_loss_floor_dbm %.1f dBm, or pre-FEC BER ≥ %.2g", r.SignalLossFloorDBm, noLockBER)}, 0, pc.darkOwner())
 	}
 	if pc.exp != nil && has(parse.CDpsPerNm) {
 		exp := math.Abs(pc.exp.CDPsNm)
@@ -284,7 +297,7 @@ func (pc *portCtx) criteria() {
 			c.Verdict = Marginal
 		}
 		if finite(c.Measured) && finite(c.Limit) {
-			pc.res.Criteria = append(pc.res.Criteria, c)
+			pc.appendCriterion(c, CauseCDMismatch)
 		}
 	}
 }
@@ -332,7 +345,14 @@ func (pc *portCtx) planVsMeasured() {
 		add("osnr_implied_db", ref, v, "dB", "OSNR implied by the median eSNR (after the transceiver ceiling) vs the plan's generalized OSNR")
 	}
 	if s, ok := pc.sum[parse.FrequencyTHz]; ok {
-		add("frequency_thz", e.FrequencyTHz, s.P50, "THz", "")
+		note := ""
+		// A DWDM channel is placed on the ITU-T G.694.1 flexible grid, whose centre frequencies
+		// step by 6.25 GHz: a transceiver tuned further than one step from the plan's frequency
+		// sits on another channel than planned.
+		if d := math.Abs(s.P50-e.FrequencyTHz) * 1000; finite(d) && e.FrequencyTHz > 0 && d > gridStepGHz {
+			note = fmt.Sprintf("tuned to another channel than planned: %.2f GHz off (%.0f steps of the 6.25 GHz grid, %.1f of a 50 GHz grid)", d, d/gridStepGHz, d/50)
+		}
+		add("frequency_thz", e.FrequencyTHz, s.P50, "THz", note)
 	}
 	if s, ok := pc.sum[parse.TxPowerDBm]; ok && pc.plan.TxPowerDBm != 0 {
 		add("tx_power_dbm", pc.plan.TxPowerDBm, s.P50, "dBm", "")

@@ -23,6 +23,8 @@ const (
 	sopSpikeOverMedian = 5
 	// gapFactor: a time step this many times the usual sample interval is a gap in the samples.
 	gapFactor = 5
+	// gridStepGHz: the ITU-T G.694.1 flexible DWDM grid places channel centres on 6.25 GHz steps.
+	gridStepGHz = 6.25
 )
 
 // portCtx carries one port through the analysis.
@@ -51,11 +53,15 @@ type portCtx struct {
 
 	scratch []float64 // working copy for summaries
 
+	// critOwner[i] is the cause that owns the physics of res.Criteria[i] ("" when shared).
+	critOwner []string
+
 	// cache holds summaries several evidence tests use.
 	cache struct {
 		litPower, q         *series.Summary
 		qMargin, esnr       float64
 		qMarginSet, esnrSet bool
+		dark                *darkKinds
 	}
 
 	// Model figures of the profile.

@@ -101,8 +101,11 @@ type Criterion struct {
 	Limit     float64 `json:"limit"`
 	Margin    float64 `json:"margin"`
 	Unit      string  `json:"unit"`
-	Verdict   Verdict `json:"verdict"`
-	Source    string  `json:"source,omitempty"` // where the limit comes from
+	// MarginUnit is the margin's unit when it differs from Unit: "decades" for the post-FEC BER,
+	// whose margin is log10(limit/measured).
+	MarginUnit string  `json:"margin_unit,omitempty"`
+	Verdict    Verdict `json:"verdict"`
+	Source     string  `json:"source,omitempty"` // where the limit comes from
 }
 
 // PlanComparison is one quantity the link plan predicts, next to what was measured.

@@ -3,6 +3,7 @@ package diagnose
 import (
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"github.com/beatnote/beatnote/diagnose/optics"
@@ -119,25 +120,66 @@ func TestStyleSparseLogs(t *testing.T) {
 			t.Errorf("BER+power only, OSNR fault, seed %d: top cause %q, want osnr-low", seed, got)
 		}
 
-		g := styleLog(t, seed, nil)
-		keep := func(i int) bool { return i < 300 || i >= 340 }
-		var ts []int64
-		var vals [parse.NumQuantities][]float64
-		for i, tm := range g.TimesMs {
-			if !keep(i) {
-				continue
-			}
-			ts = append(ts, tm)
-			for q := range vals {
-				if g.Values[q] != nil {
-					vals[q] = append(vals[q], g.Values[q][i])
-				}
+		// 10 h of rows missing (40 polls at 15 min) with normal power on both sides: missed
+		// polls, not a loss of light (common practice: loss of signal is raised from the
+		// optical power). The port passes and the gap is a note.
+		res := AnalyzePort(dropRows(styleLog(t, seed, nil), 300, 340), p, nil, nil, r)
+		if res.Verdict != Pass || len(res.Causes) != 0 {
+			t.Errorf("10 h of missing rows, seed %d: verdict %s, causes %v, want pass with none", seed, res.Verdict, res.Causes)
+		}
+		if !hasNote(res, "telemetry gaps") {
+			t.Errorf("10 h of missing rows, seed %d: no telemetry-gap note in %q", seed, res.NotJudged)
+		}
+		// One poll that returned a row with no reading at all.
+		e := styleLog(t, seed, nil)
+		for q := range e.Values {
+			if e.Values[q] != nil {
+				e.Values[q][400] = math.NaN()
 			}
 		}
-		g.TimesMs, g.Values = ts, vals
-		res := AnalyzePort(g, p, nil, nil, r)
-		if got := topCause(res); got != CauseSignalLoss {
-			t.Errorf("10 h of missing rows, seed %d: top cause %q, want signal-loss", seed, got)
+		if res := AnalyzePort(e, p, nil, nil, r); res.Verdict != Pass || len(res.Causes) != 0 || !hasNote(res, "no reading") {
+			t.Errorf("one empty row, seed %d: verdict %s, causes %v, notes %q; want pass, none, a note", seed, res.Verdict, res.Causes, res.NotJudged)
+		}
+		// The light goes (power below the loss-of-signal floor, BER 0.5) for 10 polls and then
+		// the port stops reporting for 30: a signal loss, with the silence as supporting evidence.
+		d := styleLog(t, seed, nil)
+		for i := 300; i < 310; i++ {
+			d.Values[parse.RxPowerDBm][i] = r.SignalLossFloorDBm - 5
+			d.Values[parse.PreFECBER][i] = 0.5
+		}
+		res = AnalyzePort(dropRows(d, 310, 340), p, nil, nil, r)
+		if got := topCause(res); got != CauseSignalLoss || res.Verdict != Fail {
+			t.Errorf("light gone then silent, seed %d: verdict %s, top cause %q, want fail, signal-loss", seed, res.Verdict, got)
+		} else if ev := strings.Join(res.Causes[0].Evidence, " "); !strings.Contains(ev, "No light in 10 of") || !strings.Contains(ev, "goes silent") {
+			t.Errorf("light gone then silent, seed %d: evidence %q", seed, ev)
 		}
 	}
+}
+
+// dropRows removes the samples from..to−1 of s (a port that did not report then).
+func dropRows(s *parse.Series, from, to int) *parse.Series {
+	var ts []int64
+	var vals [parse.NumQuantities][]float64
+	for i, tm := range s.TimesMs {
+		if i >= from && i < to {
+			continue
+		}
+		ts = append(ts, tm)
+		for q := range vals {
+			if s.Values[q] != nil {
+				vals[q] = append(vals[q], s.Values[q][i])
+			}
+		}
+	}
+	s.TimesMs, s.Values = ts, vals
+	return s
+}
+
+func hasNote(res PortResult, sub string) bool {
+	for _, n := range res.NotJudged {
+		if strings.Contains(n, sub) {
+			return true
+		}
+	}
+	return false
 }

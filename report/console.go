@@ -38,7 +38,7 @@ func FormatValue(v float64, unit string) string {
 		s = strconv.FormatFloat(v, 'f', 2, 64)
 	case "ps/nm", "MHz", "blocks", "samples", "km":
 		s = strconv.FormatFloat(v, 'f', 0, 64)
-	case "ps", "krad/s", "h":
+	case "ps", "krad/s", "h", "decades":
 		s = strconv.FormatFloat(v, 'f', 1, 64)
 	case "THz":
 		// Five decimals: the ITU-T G.694.1 grid steps by 6.25 GHz (e.g. 193.10625 THz).
@@ -137,8 +137,12 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		fmt.Fprintln(tw, "  criterion\tstatistic\tmeasured\tlimit\tmargin\tverdict\t")
 		for _, c := range p.Criteria {
+			mu := c.Unit
+			if c.MarginUnit != "" {
+				mu = c.MarginUnit
+			}
 			fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t\n", c.Name, c.Statistic, FormatValue(c.Measured, c.Unit),
-				FormatValue(c.Limit, c.Unit), FormatMargin(c.Margin, c.Unit), verdictWord(c.Verdict))
+				FormatValue(c.Limit, c.Unit), FormatMargin(c.Margin, mu), verdictWord(c.Verdict))
 		}
 		tw.Flush()
 	}
@@ -155,7 +159,7 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 	}
 	fmt.Fprintln(w, "\nLikely causes")
 	if len(p.Causes) == 0 {
-		fmt.Fprintln(w, "  none found: no evidence test reached the confidence floor.")
+		writeWrapped(w, "  ", "  ", noCauseText(p), 96)
 	}
 	for i, c := range p.Causes {
 		fmt.Fprintf(w, "  %d. %s  (confidence %.2f)\n", i+1, c.ID, c.Confidence)
@@ -175,6 +179,20 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 			writeWrapped(w, "  - ", "    ", n, 96)
 		}
 	}
+}
+
+// noCauseText says in plain words why no cause is listed, and what to do next.
+func noCauseText(p *diagnose.PortResult) string {
+	switch p.Verdict {
+	case diagnose.Pass:
+		return "none: every judged limit is met and no physical cause shows in the log."
+	case diagnose.NoData:
+		return "none: the log holds nothing that can be judged (see Not judged)."
+	}
+	return "No single physical cause can be named from this log. Next step: look at the criteria " +
+		"above that are not PASS, read the notes under Not judged, check the module's alarm log for the " +
+		"same times, and re-run with a link plan (--plan) or a log that has OSNR, received power, CD, " +
+		"DGD, PDL, SOP rate and LO offset, so the causes can be told apart."
 }
 
 func writeInputsText(w io.Writer, res *diagnose.Result) {

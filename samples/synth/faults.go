@@ -215,7 +215,7 @@ func (f *faults) apply(m *linkModel, c *Case, prof rules.Profile) error {
 			f.lossFrom = 0.35 + 0.25*rng.Float64()
 			f.lossTo = math.Min(1, f.lossFrom+0.1+0.4*s)
 			if c.Spec.SignalLossAsGap {
-				note("light lost from %.0f %% to %.0f %% of the log; the port reports nothing meanwhile", 100*f.lossFrom, 100*f.lossTo)
+				note("light lost from %.0f %% to %.0f %% of the log: power at the %g dBm floor, BER 0.5 for the first fifth of that time, then the port reports nothing", 100*f.lossFrom, 100*f.lossTo, lossFloorDBm)
 			} else {
 				note("light lost from %.0f %% to %.0f %% of the log: power at the %g dBm floor, BER 0.5", 100*f.lossFrom, 100*f.lossTo, lossFloorDBm)
 			}

@@ -29,6 +29,7 @@ const (
 	slowCorrMinutes  = 60.0
 	loCorrMinutes    = 120.0
 	lossFloorDBm     = -40.0 // power monitor floor when the light is gone
+	silentAfter      = 0.2   // SignalLossAsGap: the fraction of the dark time reported before the port goes silent
 	fecBlockBits     = 10000 // nominal FEC block size for counting uncorrected blocks
 	pdlPenaltyPerDB  = 0.5   // SNR penalty per dB of PDL
 	cdPenaltyPerUnit = 20.0  // dB of SNR lost per unit of |CD|/tolerance beyond 1
@@ -216,9 +217,10 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 		}
 		dark := f.lossFrom >= 0 && frac >= f.lossFrom && frac <= f.lossTo
 		unlocked := math.Abs(lo) > prof.LOOffsetRangeMHz
-		if dark && spec.SignalLossAsGap {
-			// Missing samples prove no limit crossed: they may be a collection gap as well as a
-			// loss of light, so they leave the verdict marginal unless something else fails.
+		if dark && spec.SignalLossAsGap && frac > f.lossFrom+silentAfter*(f.lossTo-f.lossFrom) {
+			// The port reported the light going (power at the floor) and then went silent: the
+			// missing samples alone would not say the light went (a collector that misses polls
+			// leaves the same hole), the floor samples before them do.
 			continue
 		}
 		for q := range v {

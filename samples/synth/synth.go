@@ -58,8 +58,9 @@ type Spec struct {
 	// Plan, when not nil, is the link plan to use instead of drawing one from the seed. Its
 	// spans must be on fibre types optics.FiberByName knows.
 	Plan *rules.Plan
-	// SignalLossAsGap makes signal-loss leave the dark samples out of the series (a port that
-	// stops reporting) instead of reporting them at the power floor with BER 0.5.
+	// SignalLossAsGap makes signal-loss report the power floor (BER 0.5) only for the first fifth
+	// of the dark time and then leave the samples out (a port that reports the light going and
+	// then stops reporting), instead of reporting the whole dark time at the floor.
 	SignalLossAsGap bool
 }
 
