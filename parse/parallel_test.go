@@ -1,0 +1,71 @@
+package parse
+
+import (
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// The parallel paths (several files at once, several blocks of one large file at once, the
+// sharded merge) give exactly the Dataset of one worker: a folder mixing one large file (more
+// than two blocks, with bad rows), many small files read whole, a gzip-free JSON Lines file,
+// ports split across files, rows of one port and time repeated in a later file (the later one
+// wins and is counted), and rows out of time order.
+func TestParallelReadMatchesOneWorker(t *testing.T) {
+	dir := t.TempDir()
+	write := func(name, content string) {
+		t.Helper()
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(content), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	big, _ := bigCSV(40000, 23, 997)
+	write("a-big.csv", big)
+	header := strings.SplitN(big, "\n", 2)[0] + "\n"
+	for f := range 40 {
+		var b strings.Builder
+		b.WriteString(header)
+		for i := range 150 {
+			// port-000…port-004 also appear in the big file; times run backwards in every
+			// seventh file; every fifth file repeats times of the big file.
+			tm := 1773477000 + int64(i)*10
+			if f%7 == 3 {
+				tm = 1773477000 + int64(150-i)*10
+			}
+			if f%5 != 0 {
+				tm += 1_000_000
+			}
+			fmt.Fprintf(&b, "%d,port-%03d,%.4e,0,%d,%.2f,16.5,%.2f,1702.5,3.25,0.5,12.5,-120.5,-9.75,-1.5,193.1\n",
+				tm, f%45, 1e-3+float64(i%89)*1e-5, i%2, 9+float64(f)/10, 20+float64(i%11)/4)
+		}
+		if f == 13 {
+			b.WriteString("not a time,port-013,1e-3,0,0,9,16,20,1700,3,0.5,12,-120,-9,-1,193.1\n")
+		}
+		write(fmt.Sprintf("b-small-%02d.csv", f), b.String())
+	}
+	write("c-lines.jsonl", "{\"time\":\"2026-03-14T08:00:00Z\",\"port\":\"port-001\",\"osnr_db\":21}\n{\"time\":1773477060,\"port\":\"port-050\",\"osnr_db\":22.5}\n")
+
+	one, err1 := ReadPaths([]string{dir}, Options{Workers: 1})
+	checkAccounting(t, one)
+	if len(one.Inputs) != 42 || one.Inputs[0].RowsRejected == 0 || one.Inputs[14].RowsRejected != 1 {
+		t.Fatalf("unexpected reference read: %d inputs, %+v", len(one.Inputs), one.Inputs[:2])
+	}
+	dups := 0
+	for _, in := range one.Inputs {
+		dups += in.Duplicates
+	}
+	if dups == 0 {
+		t.Fatal("the test input has no repeated (port, time): it does not exercise the merge")
+	}
+	for _, workers := range []int{2, 3, 8} {
+		got, err := ReadPaths([]string{dir}, Options{Workers: workers})
+		if fmt.Sprint(err) != fmt.Sprint(err1) {
+			t.Errorf("%d workers: err %v, want %v", workers, err, err1)
+		}
+		if !sameDataset(got, one) {
+			t.Errorf("%d workers: dataset differs from one worker", workers)
+		}
+	}
+}
