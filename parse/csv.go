@@ -574,7 +574,13 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 				job.data = b[:nl+1]
 				carry = append([]byte(nil), b[nl+1:]...)
 			}
-			line += bytes.Count(job.data, []byte{'\n'})
+			lines := bytes.Count(job.data, []byte{'\n'})
+			line += lines
+			// Room for every row of the block, so that parsing never grows (and copies) them.
+			rows := lines + 1
+			job.rowPort = slices.Grow(job.rowPort, rows)
+			job.times = slices.Grow(job.times, rows)
+			job.vals = slices.Grow(job.vals, rows*len(lay.qs))
 			order <- job
 			jobs <- job
 			if eof {
