@@ -180,8 +180,11 @@ func FitMaxwell(samplesPs []float64) MaxwellFit {
 	x := append([]float64(nil), samplesPs...)
 	sort.Float64s(x)
 	d := 0.0
+	f := 0.0
 	for i, v := range x {
-		f := MaxwellCDF(v, fit.MeanPs)
+		if i == 0 || v != x[i-1] { // DSPs report DGD to 0.1 ps: most samples repeat the previous
+			f = MaxwellCDF(v, fit.MeanPs)
+		}
 		d = math.Max(d, math.Max(float64(i+1)/float64(n)-f, f-float64(i)/float64(n)))
 	}
 	fit.KS = d

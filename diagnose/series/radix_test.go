@@ -151,3 +151,19 @@ func TestSummarizeMatchesSortedBitForBit(t *testing.T) {
 		}
 	}
 }
+
+// selectMedian equals Quantile(sorted, 0.5) on every radix input (finite values).
+func TestSelectMedianMatchesSortedQuantile(t *testing.T) {
+	for name, v := range radixInputs() {
+		f := Finite(v)
+		if len(f) == 0 {
+			continue
+		}
+		s := slices.Clone(f)
+		sort.Float64s(s)
+		want := Quantile(s, 0.5)
+		if got := selectMedian(slices.Clone(f)); got != want && !(got == 0 && want == 0) {
+			t.Errorf("%s: median %v, want %v", name, got, want)
+		}
+	}
+}

@@ -244,11 +244,37 @@ func NoiseSigma(v []float64) float64 {
 	for i := 1; i < len(f); i++ {
 		d[i-1] = f[i] - f[i-1]
 	}
-	sort.Float64s(d)
-	med := Quantile(d, 0.5)
+	med := selectMedian(d)
 	for i := range d {
 		d[i] = math.Abs(d[i] - med)
 	}
-	sort.Float64s(d)
-	return 1.4826 * Quantile(d, 0.5) / math.Sqrt2
+	return 1.4826 * selectMedian(d) / math.Sqrt2
+}
+
+// selectMedian is Quantile(sorted v, 0.5) found by selection instead of a sort; v (no NaN, not
+// empty) is left in another order.
+func selectMedian(v []float64) float64 {
+	n := len(v)
+	h := float64(n-1) * 0.5
+	lo := int(math.Floor(h))
+	keys := asKeys(v)
+	for i, x := range v {
+		keys[i] = floatKey(x)
+	}
+	selectKey(keys, lo)
+	x := keyFloat(keys[lo])
+	var out float64
+	if lo >= n-1 {
+		out = x
+	} else {
+		next := keys[lo+1]
+		for _, k := range keys[lo+2:] {
+			next = min(next, k)
+		}
+		out = x + (h-float64(lo))*(keyFloat(next)-x)
+	}
+	for i, k := range keys {
+		v[i] = keyFloat(k)
+	}
+	return out
 }
