@@ -116,8 +116,8 @@ func (pc *portCtx) causes() {
 
 // ownedBreaches makes a marginal or failing criterion evidence for the cause that owns its
 // physics (mean DGD and DGD → pmd, SOP rate → sop-transient, PDL → pdl-high, and so on): when
-// that cause's own tests stay below the listing level, the breach is added as strong evidence
-// (the module's own limit for that quantity is at risk) and the cause is listed whatever its confidence, so a
+// that cause's own tests stay below the listing level, the breach is added as the evidence that
+// lifts it to that level (at least weak evidence) and the cause is listed whatever its confidence, so a
 // port is never marginal or failing "for no reason". When only the noise-family criteria (Q,
 // uncorrected blocks, post-FEC BER) break and nothing else is named, the Q shortfall with a good
 // OSNR, normal power and every impairment in range is the nonlinear signature. It returns the
@@ -151,7 +151,10 @@ func (pc *portCtx) ownedBreaches(scores []*score, im impairments) map[string]boo
 		if s == nil {
 			continue // the cause cannot be judged here (e.g. no plan)
 		}
-		s.add(llrStrong, "%s", criterionText(c))
+		// Top the cause up to the listing level, no further: its other tests may already
+		// describe the same quantity, and counting the breach twice would overrate it.
+		need := math.Log(confidenceFloor/(1-confidenceFloor)) - s.total() + 1e-3
+		s.add(math.Max(llrWeak, need), "%s", criterionText(c))
 		forced[owner] = true
 	}
 	if !noise {
@@ -316,6 +319,9 @@ func (pc *portCtx) signalLoss() *score {
 		}
 		if dk.noPower > 0 {
 			why = append(why, fmt.Sprintf("nothing decoded (pre-FEC BER ≥ %.2g) and no power reading in %d", noLockBER, dk.noPower))
+		}
+		if len(why) == 1 { // one kind of evidence: the count above is its count
+			why[0] = why[0][:strings.LastIndex(why[0], " in ")]
 		}
 		low := ""
 		if finite(dk.minPw) {
@@ -880,7 +886,7 @@ func (pc *portCtx) nonlinear(im impairments) *score {
 		}
 		if gap >= r.NonlinearSNRGapDB && osnrGood {
 			gapOK = true
-			s.add(llrStrong, "The %s of %.1f dB should give an eSNR of about %.1f dB with this module (%s); the eSNR %s is %.1f dB, %.1f dB lower: noise that is not amplifier noise.",
+			s.add(llrStrong, "The %s of %.1f dB should give an eSNR of about %.1f dB with this module (%s); the eSNR %s is %.1f dB, %.1f dB lower: noise that is not amplifier noise (fibre nonlinearity; a transceiver fault leaves the same signature, a loopback test of the module tells them apart).",
 				refName, ref, want, pc.trxAssumption, src, esnr, gap)
 			if gap >= 2*r.NonlinearSNRGapDB {
 				s.add(llrWeak, "The shortfall of %.1f dB is more than twice the %.1f dB threshold.", gap, r.NonlinearSNRGapDB)
@@ -917,7 +923,7 @@ func (pc *portCtx) nonlinear(im impairments) *score {
 	}
 	if qm := pc.qMarginP50(); !gapOK && finite(qm) && qm < r.QMarginalMarginDB && pc.has(parse.OSNRdB) &&
 		pc.sum[parse.OSNRdB].P50 >= pc.reqOSNRdB+r.OSNRMarginalMarginDB && len(im.names) == 0 && pc.has(parse.RxPowerDBm) {
-		s.add(llrModerate, "The Q margin is %.1f dB although the reported OSNR (%.1f dB) is well above the %.1f dB required and no measured impairment is out of line: the noise is not amplifier noise.",
+		s.add(llrModerate, "The Q margin is %.1f dB although the reported OSNR (%.1f dB) is well above the %.1f dB required and no measured impairment is out of line: the noise is not amplifier noise (fibre nonlinearity, or a transceiver fault, which leaves the same signature).",
 			qm, pc.sum[parse.OSNRdB].P50, pc.reqOSNRdB)
 	}
 	if pc.plan != nil {

@@ -244,6 +244,7 @@ type TriageRow struct {
 	QMarginDB  *float64
 	RxPowerDBm *float64
 	Samples    int
+	Dark       int    // samples without signal (their Q and power are left out of the figures)
 	Summary    string // first evidence sentence of the top cause
 }
 
@@ -263,6 +264,11 @@ func TriageRows(ports []diagnose.PortResult) []TriageRow {
 		}
 		if m, ok := p.Metrics["q_db"]; ok {
 			r.QMarginDB = m.Margin
+		}
+		for _, c := range p.Criteria {
+			if c.Statistic == "count" && c.Unit == "samples" {
+				r.Dark = int(c.Measured)
+			}
 		}
 		if m, ok := p.Metrics["rx_power_dbm"]; ok {
 			v := m.P50
@@ -349,8 +355,14 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 			cause, conf = r.Cause, fmt.Sprintf("%.2f", r.Confidence)
 		}
 		also := strings.Join(r.Others, ", ")
-		fmt.Fprintf(tw, "  %d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%d\t\n", r.Rank, r.Port, verdictWord(r.Verdict), cause, conf, also,
-			optValue(r.QMarginDB, "dB", true), optValue(r.RxPowerDBm, "dBm", false), r.Samples)
+		qm, samples := optValue(r.QMarginDB, "dB", true), strconv.Itoa(r.Samples)
+		if r.Dark > 0 {
+			// The Q figures come from the samples with signal: say so, and show the dark time.
+			qm += " (lit)"
+			samples += fmt.Sprintf(", %d dark", r.Dark)
+		}
+		fmt.Fprintf(tw, "  %d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t\n", r.Rank, r.Port, verdictWord(r.Verdict), cause, conf, also,
+			qm, optValue(r.RxPowerDBm, "dBm", false), samples)
 	}
 	tw.Flush()
 	counts := CountCauses(all)
@@ -409,8 +421,12 @@ func WriteTriageMarkdown(w io.Writer, shown, all []diagnose.PortResult) error {
 		if r.Cause != "" {
 			conf = fmt.Sprintf("%.2f", r.Confidence)
 		}
+		qm := optValue(r.QMarginDB, "dB", true)
+		if r.Dark > 0 {
+			qm += fmt.Sprintf(" (lit; %d samples dark)", r.Dark)
+		}
 		fmt.Fprintf(w, "| %d | %s | %s | %s | %s | %s | %s | %s | %s |\n", r.Rank, mdEscape(r.Port), verdictWord(r.Verdict), r.Cause, conf,
-			strings.Join(r.Others, ", "), optValue(r.QMarginDB, "dB", true), optValue(r.RxPowerDBm, "dBm", false), mdEscape(r.Summary))
+			strings.Join(r.Others, ", "), qm, optValue(r.RxPowerDBm, "dBm", false), mdEscape(r.Summary))
 	}
 	fmt.Fprintln(w, "\n### Ports per cause")
 	fmt.Fprintln(w)

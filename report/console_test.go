@@ -89,3 +89,33 @@ func TestConsoleWrapKeepsEveryWord(t *testing.T) {
 		}
 	}
 }
+
+// A signal-loss port must not read like a healthy one in triage: the Q figure is marked as from
+// lit samples and the dark samples are shown. A marginal port without a cause gets plain words
+// and a next step, a post-FEC margin prints in decades.
+func TestConsoleDarkSamplesAndNoCause(t *testing.T) {
+	m := 3.38
+	ports := []diagnose.PortResult{{Port: "sl", Verdict: diagnose.Fail, Samples: 1018,
+		Causes:   []diagnose.Cause{{ID: diagnose.CauseSignalLoss, Confidence: 0.88}},
+		Metrics:  map[string]diagnose.Metric{"q_db": {Margin: &m}},
+		Criteria: []diagnose.Criterion{{Name: "Samples without signal", Metric: "rx_power_dbm", Statistic: "count", Measured: 164, Unit: "samples", Verdict: diagnose.Fail}}}}
+	var b bytes.Buffer
+	res := &diagnose.Result{Ports: ports}
+	if err := WriteTriageText(&b, res, ports, ports); err != nil {
+		t.Fatal(err)
+	}
+	if out := b.String(); !strings.Contains(out, "+3.38 dB (lit)") || !strings.Contains(out, "1018, 164 dark") {
+		t.Errorf("triage text hides the dark samples:\n%s", out)
+	}
+	b.Reset()
+	p := diagnose.PortResult{Port: "x", Verdict: diagnose.Marginal, Criteria: []diagnose.Criterion{{Name: "Post-FEC BER (margin in decades)",
+		Metric: "post_fec_ber", Statistic: "max", Measured: 1e-14, Limit: 1e-12, Margin: 2, MarginUnit: "decades", Verdict: diagnose.Pass}}}
+	writeCheckPort(&b, &p)
+	out := b.String()
+	if strings.Contains(out, "confidence floor") || !strings.Contains(out, "Next step") {
+		t.Errorf("no-cause text:\n%s", out)
+	}
+	if !strings.Contains(out, "+2.0 decades") {
+		t.Errorf("post-FEC margin not in decades:\n%s", out)
+	}
+}
