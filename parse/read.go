@@ -31,6 +31,8 @@ type Options struct {
 	Progress func(done, total int64)
 	// Workers bounds the goroutines parsing one CSV input; 0 means GOMAXPROCS.
 	Workers int
+
+	arena *slabArena // set by ReadPaths: where small files' columns are cut from
 }
 
 func (o Options) workers() int {
@@ -188,6 +190,7 @@ func ReadPaths(paths []string, opt Options) (*Dataset, error) {
 		return nil, err
 	}
 	meter := &progressMeter{fn: opt.Progress}
+	opt.arena = &slabArena{}
 	for _, f := range files {
 		if f == "-" {
 			meter.total = -1
