@@ -16,7 +16,7 @@ import (
 const floatRadixMin = 1 << 14
 
 // smallSort is the length below which a comparison sort is faster than eight radix passes.
-const smallSort = 96
+const smallSort = 256
 
 // floatKey maps a float64 to a uint64 whose unsigned order is the numeric order of the floats
 // (−0 just before +0; not for NaN): flip every bit of a negative, only the sign bit of a positive.

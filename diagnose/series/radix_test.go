@@ -44,7 +44,13 @@ func radixInputs() map[string][]float64 {
 		for i := range same {
 			same[i] = -3.25
 		}
-		for name, v := range map[string][]float64{"mixed": mixed, "ties": ties, "up": up, "down": down, "same": same} {
+		// Values one ulp apart: the packed ordering of Ranks cannot tell them apart and must
+		// fall back to the exact sort.
+		close := make([]float64, n)
+		for i := range close {
+			close[i] = 1 + float64(rng.IntN(5))*0x1p-52
+		}
+		for name, v := range map[string][]float64{"mixed": mixed, "ties": ties, "up": up, "down": down, "same": same, "close": close} {
 			in[name+"/"+itoa(n)] = v
 		}
 	}
@@ -165,5 +171,13 @@ func TestSelectMedianMatchesSortedQuantile(t *testing.T) {
 		if got := selectMedian(slices.Clone(f)); got != want && !(got == 0 && want == 0) {
 			t.Errorf("%s: median %v, want %v", name, got, want)
 		}
+	}
+}
+
+func BenchmarkRanks200(b *testing.B) {
+	v := benchData()[:200]
+	b.ReportAllocs()
+	for b.Loop() {
+		Ranks(v)
 	}
 }

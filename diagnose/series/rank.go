@@ -3,6 +3,7 @@ package series
 import (
 	"cmp"
 	"math"
+	"math/bits"
 	"slices"
 	"sync"
 
@@ -36,14 +37,20 @@ func RanksInto(v, r []float64) []float64 {
 	sc.keys = slices.Grow(sc.keys[:0], 2*n)[:2*n]
 	sc.idx = slices.Grow(sc.idx[:0], 2*n)[:2*n]
 	keys, idx := sc.keys, sc.idx
-	for i, x := range v {
-		keys[i] = floatKey(x)
-		idx[i] = int32(i)
-	}
-	if n < smallSort {
+	if packedOrder(v, keys, idx) {
+		idx = idx[:n]
+	} else if n < smallSort {
+		for i, x := range v {
+			keys[i] = floatKey(x)
+			idx[i] = int32(i)
+		}
 		idx = idx[:n]
 		slices.SortFunc(idx, func(a, b int32) int { return cmp.Compare(keys[a], keys[b]) })
 	} else {
+		for i, x := range v {
+			keys[i] = floatKey(x)
+			idx[i] = int32(i)
+		}
 		radixSort(keys[:n], keys[n:], idx[:n], idx[n:])
 	}
 	for i := 0; i < n; {
@@ -58,6 +65,34 @@ func RanksInto(v, r []float64) []float64 {
 		i = j + 1
 	}
 	return r
+}
+
+// packedOrder puts into idx[:len(v)] the positions of v in ascending order of value, by sorting
+// single integers: each value's order-preserving key with its low bits replaced by its position.
+// That orders by value unless two different values share the kept high bits (they differ only
+// in the last bits of the mantissa); it checks for that and reports false, leaving the work to
+// the exact sort. keys needs room for len(v) values.
+func packedOrder(v []float64, keys []uint64, idx []int32) bool {
+	n := len(v)
+	b := uint(bits.Len(uint(n - 1)))
+	if b > 24 {
+		return false
+	}
+	mask := uint64(1)<<b - 1
+	p := keys[:n]
+	for i, x := range v {
+		p[i] = floatKey(x)&^mask | uint64(i)
+	}
+	slices.Sort(p)
+	for i := 1; i < n; i++ {
+		if p[i-1]&^mask == p[i]&^mask && v[p[i-1]&mask] != v[p[i]&mask] {
+			return false
+		}
+	}
+	for i, k := range p {
+		idx[i] = int32(k & mask)
+	}
+	return true
 }
 
 // Spearman returns Spearman's rank correlation ρ of the pairs where x and y are both finite —
