@@ -108,7 +108,7 @@ func (a *Acceptance) WriteMarkdown(w io.Writer) error {
 			p("### Criteria\n\n| criterion | statistic | measured | limit | margin | verdict |\n| --- | --- | ---: | ---: | ---: | --- |\n")
 			for _, c := range port.Criteria {
 				p("| %s | %s | %s | %s | %s | %s |\n", mdCell(c.Name), mdCell(c.Statistic), FormatValue(c.Measured, c.Unit),
-					FormatValue(c.Limit, c.Unit), FormatMargin(c.Margin, c.Unit), VerdictWords(c.Verdict))
+					FormatValue(c.Limit, c.Unit), CriterionMargin(c), VerdictWords(c.Verdict))
 			}
 			p("\n")
 		}

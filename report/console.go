@@ -49,6 +49,15 @@ func FormatValue(v float64, unit string) string {
 	return s + " " + unit
 }
 
+// CriterionMargin prints a criterion's margin in its own unit: MarginUnit where the margin is
+// not in the measured quantity's unit (decades for the post-FEC BER).
+func CriterionMargin(c diagnose.Criterion) string {
+	if c.MarginUnit != "" {
+		return FormatMargin(c.Margin, c.MarginUnit)
+	}
+	return FormatMargin(c.Margin, c.Unit)
+}
+
 // FormatMargin prints a margin with its sign and unit.
 func FormatMargin(v float64, unit string) string {
 	s := FormatValue(v, unit)
@@ -137,12 +146,8 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		fmt.Fprintln(tw, "  criterion\tstatistic\tmeasured\tlimit\tmargin\tverdict\t")
 		for _, c := range p.Criteria {
-			mu := c.Unit
-			if c.MarginUnit != "" {
-				mu = c.MarginUnit
-			}
 			fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t\n", c.Name, c.Statistic, FormatValue(c.Measured, c.Unit),
-				FormatValue(c.Limit, c.Unit), FormatMargin(c.Margin, mu), verdictWord(c.Verdict))
+				FormatValue(c.Limit, c.Unit), CriterionMargin(c), verdictWord(c.Verdict))
 		}
 		tw.Flush()
 	}

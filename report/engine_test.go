@@ -73,7 +73,7 @@ func TestEngineReportCarriesTheJudgement(t *testing.T) {
 			port := a.Ports[0]
 			wants := []string{"Verdict:" + VerdictWords(a.Verdict), signing.KeyFingerprint, "Lasersafety"}
 			for _, c := range port.Criteria {
-				wants = append(wants, strings.ReplaceAll(FormatMargin(c.Margin, c.Unit), " ", ""))
+				wants = append(wants, strings.ReplaceAll(CriterionMargin(c), " ", ""))
 			}
 			for _, c := range port.Causes {
 				wants = append(wants, c.ID)

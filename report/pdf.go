@@ -542,7 +542,7 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 			if c.Source != "" {
 				name += "\nlimit: " + c.Source
 			}
-			rows[i] = []string{name, c.Statistic, FormatValue(c.Measured, c.Unit), FormatValue(c.Limit, c.Unit), FormatMargin(c.Margin, c.Unit), VerdictWords(c.Verdict)}
+			rows[i] = []string{name, c.Statistic, FormatValue(c.Measured, c.Unit), FormatValue(c.Limit, c.Unit), CriterionMargin(c), VerdictWords(c.Verdict)}
 		}
 		pw.table([]column{
 			{title: "criterion", width: 0.37, align: "L", subdued: true}, {title: "statistic", width: 0.1, align: "L"},
