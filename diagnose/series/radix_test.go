@@ -181,3 +181,11 @@ func BenchmarkRanks200(b *testing.B) {
 		Ranks(v)
 	}
 }
+
+func BenchmarkRanksConstant(b *testing.B) {
+	v := make([]float64, 1440)
+	b.ReportAllocs()
+	for b.Loop() {
+		Ranks(v)
+	}
+}

@@ -71,7 +71,7 @@ func RanksInto(v, r []float64) []float64 {
 // single integers: each value's order-preserving key with its low bits replaced by its position.
 // That orders by value unless two different values share the kept high bits (they differ only
 // in the last bits of the mantissa); it checks for that and reports false, leaving the work to
-// the exact sort. keys needs room for len(v) values.
+// the exact sort. keys needs room for 2·len(v) values.
 func packedOrder(v []float64, keys []uint64, idx []int32) bool {
 	n := len(v)
 	b := uint(bits.Len(uint(n - 1)))
@@ -83,7 +83,11 @@ func packedOrder(v []float64, keys []uint64, idx []int32) bool {
 	for i, x := range v {
 		p[i] = floatKey(x)&^mask | uint64(i)
 	}
-	slices.Sort(p)
+	if n < smallSort {
+		slices.Sort(p)
+	} else {
+		radixSort(p, keys[n:2*n], nil, nil)
+	}
 	for i := 1; i < n; i++ {
 		if p[i-1]&^mask == p[i]&^mask && v[p[i-1]&mask] != v[p[i]&mask] {
 			return false
