@@ -3,7 +3,7 @@ package diagnose
 import (
 	"fmt"
 	"math"
-	"sort"
+	"slices"
 
 	"github.com/beatnote/beatnote/diagnose/optics"
 	"github.com/beatnote/beatnote/diagnose/series"
@@ -202,7 +202,7 @@ func medianInterval(ts []int64) int64 {
 	for i := 1; i < len(ts); i++ {
 		d[i-1] = ts[i] - ts[i-1]
 	}
-	sort.Slice(d, func(i, j int) bool { return d[i] < d[j] })
+	slices.Sort(d)
 	return d[len(d)/2]
 }
 
