@@ -8,7 +8,6 @@ import (
 
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/parse"
-	"github.com/beatnote/beatnote/rules"
 	"github.com/beatnote/beatnote/samples/synth"
 )
 
@@ -61,12 +60,23 @@ func fleetDataset(tb testing.TB, n, samples int, workers int) (*parse.Dataset, d
 	return ds, cfg
 }
 
-var benchFleet = sync.OnceValues(func() (*parse.Dataset, diagnose.Config) {
-	return fleetDataset(&testing.B{}, 96, 1440, 0)
-})
+var (
+	benchOnce sync.Once
+	benchDS   *parse.Dataset
+	benchCfg  diagnose.Config
+)
+
+// benchFleet is the 96-port fleet, made once for all benchmarks.
+func benchFleet(b *testing.B) (*parse.Dataset, diagnose.Config) {
+	benchOnce.Do(func() { benchDS, benchCfg = fleetDataset(b, 96, 1440, 0) })
+	if benchDS == nil {
+		b.Fatal("the benchmark fleet could not be made")
+	}
+	return benchDS, benchCfg
+}
 
 func benchAnalyze(b *testing.B, workers int) {
-	ds, cfg := benchFleet()
+	ds, cfg := benchFleet(b)
 	cfg.Workers = workers
 	samples := 0
 	for _, s := range ds.Series {
@@ -104,5 +114,3 @@ func BenchmarkAnalyzeSmallPorts(b *testing.B) {
 	}
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/200, "ns/port")
 }
-
-var _ = rules.Rules{}
