@@ -213,6 +213,23 @@ const (
 
 // checkRange returns nil when v (stored unit) is finite and physically possible for q, else the
 // reason wrapping ErrImpossible. Range tests are written !(lo <= v && v <= hi) so NaN fails them.
+// plainLo and plainHi bound, per quantity, values that checkRange surely accepts (finite and
+// within the quantity's physical range), so the hot path can skip it for them; anything else
+// is left to checkRange.
+var plainLo, plainHi = func() (lo, hi [NumQuantities]float64) {
+	for q := range lo {
+		lo[q], hi[q] = -math.MaxFloat64, math.MaxFloat64
+	}
+	lo[PreFECBER], hi[PreFECBER] = 0, 0.5
+	lo[PostFECBER], hi[PostFECBER] = 0, 0.5
+	lo[UncorrectedBlocks], lo[DGDps], lo[PDLdB], lo[SOPRateKradPerS] = 0, 0, 0, 0
+	lo[CDpsPerNm], hi[CDpsPerNm] = -maxAbsCDpsPerNm, maxAbsCDpsPerNm
+	lo[LOOffsetMHz], hi[LOOffsetMHz] = -maxAbsLOMHz, maxAbsLOMHz
+	hi[RxPowerDBm], hi[TxPowerDBm] = maxPowerDBm, maxPowerDBm
+	lo[FrequencyTHz], hi[FrequencyTHz] = minFrequencyTHz, maxFrequencyTHz
+	return lo, hi
+}()
+
 func checkRange(q Quantity, v float64) error {
 	switch q {
 	case PreFECBER, PostFECBER:

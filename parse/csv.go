@@ -439,8 +439,10 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 		if !ok {
 			return cp.fieldErr(lineNo, fi, col.convFailure(v))
 		}
-		if err := checkRange(lay.qs[j], v); err != nil {
-			return cp.fieldErr(lineNo, fi, err)
+		if q := lay.qs[j]; !(v >= plainLo[q] && v <= plainHi[q]) { // else surely in range
+			if err := checkRange(q, v); err != nil {
+				return cp.fieldErr(lineNo, fi, err)
+			}
 		}
 		job.vals = append(job.vals, v)
 	}

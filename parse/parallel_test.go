@@ -2,6 +2,7 @@ package parse
 
 import (
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -66,6 +67,24 @@ func TestParallelReadMatchesOneWorker(t *testing.T) {
 		}
 		if !sameDataset(got, one) {
 			t.Errorf("%d workers: dataset differs from one worker", workers)
+		}
+	}
+}
+
+// The hot path's plain bounds never accept what checkRange rejects: values at, just inside and
+// just outside every bound, ±0, ±Inf and NaN, for every quantity.
+func TestPlainBoundsAgreeWithCheckRange(t *testing.T) {
+	probes := []float64{math.Inf(-1), -math.MaxFloat64, -1e300, -1, math.Copysign(0, -1), 0, 0.25, 1, 1e300, math.MaxFloat64, math.Inf(1), math.NaN()}
+	for q := Quantity(0); q < NumQuantities; q++ {
+		for _, b := range []float64{plainLo[q], plainHi[q]} {
+			probes = append(probes, b, math.Nextafter(b, math.Inf(1)), math.Nextafter(b, math.Inf(-1)))
+		}
+	}
+	for q := Quantity(0); q < NumQuantities; q++ {
+		for _, v := range probes {
+			if v >= plainLo[q] && v <= plainHi[q] && checkRange(q, v) != nil {
+				t.Errorf("%s: %v passes the plain bounds but checkRange rejects it", q, v)
+			}
 		}
 	}
 }
