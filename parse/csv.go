@@ -176,6 +176,26 @@ func splitFields(line []byte, delim byte, fields [][]byte, scratch []byte) ([][]
 	fields = fields[:0]
 	scratch = scratch[:0]
 	isSpace := func(c byte) bool { return c == ' ' || (c == '\t' && delim != '\t') }
+	if bytes.IndexByte(line, '"') < 0 {
+		// No quotes (nearly every telemetry line): cut at each delimiter in one pass and trim,
+		// which is what the general loop below does for unquoted fields.
+		start := 0
+		for i := 0; i <= len(line); i++ {
+			if i < len(line) && line[i] != delim {
+				continue
+			}
+			f := line[start:i]
+			for len(f) > 0 && isSpace(f[0]) {
+				f = f[1:]
+			}
+			for len(f) > 0 && isSpace(f[len(f)-1]) {
+				f = f[:len(f)-1]
+			}
+			fields = append(fields, f)
+			start = i + 1
+		}
+		return fields, scratch, nil
+	}
 	i, n := 0, len(line)
 	for {
 		for i < n && isSpace(line[i]) {

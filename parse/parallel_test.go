@@ -3,6 +3,7 @@ package parse
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"strings"
@@ -84,6 +85,38 @@ func TestPlainBoundsAgreeWithCheckRange(t *testing.T) {
 		for _, v := range probes {
 			if v >= plainLo[q] && v <= plainHi[q] && checkRange(q, v) != nil {
 				t.Errorf("%s: %v passes the plain bounds but checkRange rejects it", q, v)
+			}
+		}
+	}
+}
+
+// splitFields' quote-free fast path cuts and trims exactly like the definition: split at every
+// delimiter, then drop spaces (and tabs unless tab is the delimiter) at both ends of each field.
+func TestSplitFieldsUnquotedMatchesDefinition(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	alphabet := []byte("a1. \t,;")
+	for _, delim := range []byte{',', ';', '\t'} {
+		spaces := " \t"
+		if delim == '\t' {
+			spaces = " "
+		}
+		for range 2000 {
+			line := make([]byte, rng.IntN(24))
+			for i := range line {
+				line[i] = alphabet[rng.IntN(len(alphabet))]
+			}
+			var want []string
+			for _, f := range strings.Split(string(line), string(delim)) {
+				want = append(want, strings.Trim(f, spaces))
+			}
+			got, _, err := splitFields(line, delim, nil, nil)
+			if err != nil || len(got) != len(want) {
+				t.Fatalf("%q (delimiter %q): %q, %v; want %q", line, delim, got, err, want)
+			}
+			for i := range got {
+				if string(got[i]) != want[i] {
+					t.Fatalf("%q (delimiter %q): field %d %q, want %q", line, delim, i, got[i], want[i])
+				}
 			}
 		}
 	}
