@@ -49,13 +49,18 @@ func writeResultJSON(w io.Writer, res *diagnose.Result) error {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			// An Encoder keeps its indentation buffer from port to port; its output is
+			// json.MarshalIndent's plus a newline.
+			var buf bytes.Buffer
+			enc := json.NewEncoder(&buf)
+			enc.SetIndent("    ", "  ")
 			for i := k; i < len(res.Ports); i += workers {
-				js, err := json.MarshalIndent(&res.Ports[i], "    ", "  ")
-				if err != nil {
+				buf.Reset()
+				if err := enc.Encode(&res.Ports[i]); err != nil {
 					errs[k] = err
 					return
 				}
-				parts[i] = js
+				parts[i] = bytes.Clone(bytes.TrimSuffix(buf.Bytes(), []byte("\n")))
 			}
 		}()
 	}
