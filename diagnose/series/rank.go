@@ -83,7 +83,7 @@ func packedOrder(v []float64, keys []uint64, idx []int32) bool {
 	for i, x := range v {
 		p[i] = floatKey(x)&^mask | uint64(i)
 	}
-	if n < smallSort {
+	if n < 64 {
 		slices.Sort(p)
 	} else {
 		radixSort(p, keys[n:2*n], nil, nil)
