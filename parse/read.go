@@ -192,6 +192,9 @@ func ReadPaths(paths []string, opt Options) (*Dataset, error) {
 	meter := &progressMeter{fn: opt.Progress}
 	opt.arena = &slabArena{}
 	for _, f := range files {
+		if opt.Progress == nil {
+			break // the total only serves progress reports: no stat per file otherwise
+		}
 		if f == "-" {
 			meter.total = -1
 			break
