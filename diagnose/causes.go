@@ -443,6 +443,7 @@ func (pc *portCtx) rxPowerLow() *score {
 }
 
 func (pc *portCtx) correlation(q parse.Quantity) *Correlation {
+	pc.computeCorrelation(q) // no-op when already computed
 	for i := range pc.an.Correlations {
 		if pc.an.Correlations[i].B == q.Column() {
 			return &pc.an.Correlations[i]

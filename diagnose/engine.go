@@ -35,6 +35,11 @@ type Config struct {
 	Lookup func(port string) (s Setup, ok bool)
 	// Workers bounds the ports analysed at once; 0 means GOMAXPROCS.
 	Workers int
+	// CorrelationsOnDemand computes the Spearman correlations of a port only when a cause test
+	// asks for one: PortAnalysis.Correlations then holds just those (in the order asked).
+	// Verdicts, causes, evidence, metrics and criteria are the same either way; it saves the
+	// rank sorts of ports whose causes never get that far. False: all of them, as AnalyzePort.
+	CorrelationsOnDemand bool
 }
 
 // Analyze judges every port of ds and returns the Result of the design contract, ports sorted
@@ -86,7 +91,7 @@ func Analyze(ds *parse.Dataset, cfg Config) (*Result, error) {
 			defer wg.Done()
 			for i := range next {
 				st := setups[i]
-				res.Ports[i] = AnalyzePort(ds.Series[i], st.Profile, st.Plan, expects[st.Plan], cfg.Rules)
+				res.Ports[i] = analyzePort(ds.Series[i], st.Profile, st.Plan, expects[st.Plan], cfg.Rules, cfg.CorrelationsOnDemand)
 			}
 		}()
 	}
@@ -134,7 +139,11 @@ func qMargin(p *PortResult) float64 {
 // AnalyzePort judges one port against a profile and an optional plan (with its expectation,
 // from optics.ExpectLink; nil when there is no plan).
 func AnalyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules) PortResult {
-	pc := newPortCtx(s, prof, plan, exp, r)
+	return analyzePort(s, prof, plan, exp, r, false)
+}
+
+func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules, lazyCorr bool) PortResult {
+	pc := newPortCtx(s, prof, plan, exp, r, lazyCorr)
 	pc.metrics()
 	pc.criteria()
 	pc.planVsMeasured()

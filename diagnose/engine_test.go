@@ -73,7 +73,7 @@ func noise(rng *rand.Rand, sd float64) float64 { return sd * rng.NormFloat64() }
 func TestTransceiverCeilingAndImpliedOSNR(t *testing.T) {
 	p, r := testSetup(t, "400g-dp-16qam-cfec")
 	s := newSeries(10, 60_000, map[parse.Quantity]func(int) float64{parse.PreFECBER: func(int) float64 { return 1e-3 }})
-	pc := newPortCtx(s, p, nil, nil, r)
+	pc := newPortCtx(s, p, nil, nil, r, false)
 	near(t, "SNR at threshold", pc.snrThDB, 13.589023773307291, 1e-3)
 	near(t, "transceiver ceiling", pc.snrTrxDB, 14.984382431885475, 1e-3)
 	near(t, "implied OSNR", pc.impliedOSNRdB(12), 21.837460948997403, 1e-3)

@@ -104,3 +104,46 @@ func sameValue(a, b reflect.Value, path string) (string, bool) {
 	}
 	return path + " (kind " + a.Kind().String() + " not compared)", false
 }
+
+// Correlations computed on demand leave every verdict, cause, evidence sentence, metric,
+// criterion and finding as computing them all does; the correlations kept are a subset of the
+// full list, each with the same value. The fleet must make some cause ask for one, or the
+// check would not exercise the lazy path.
+func TestCorrelationsOnDemandMatchFull(t *testing.T) {
+	ds, cfg := fleetDataset(t, 48, 360, 1)
+	full, err := diagnose.Analyze(ds, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg.CorrelationsOnDemand = true
+	lean, err := diagnose.Analyze(ds, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	asked, fewer := 0, 0
+	for i := range full.Ports {
+		f, l := full.Ports[i].Analysis, lean.Ports[i].Analysis
+		byB := map[string]diagnose.Correlation{}
+		for _, c := range f.Correlations {
+			byB[c.B] = c
+		}
+		for _, c := range l.Correlations {
+			asked++
+			if path, ok := sameValue(reflect.ValueOf(c), reflect.ValueOf(byB[c.B]), "Correlation"); !ok {
+				t.Errorf("port %s: on-demand correlation differs at %s", full.Ports[i].Port, path)
+			}
+		}
+		if len(l.Correlations) < len(f.Correlations) {
+			fewer++
+		}
+		fc, lc := f.Correlations, l.Correlations
+		f.Correlations, l.Correlations = nil, nil
+		if path, ok := sameValue(reflect.ValueOf(lean.Ports[i]), reflect.ValueOf(full.Ports[i]), "Port"); !ok {
+			t.Errorf("port %s: result differs at %s", full.Ports[i].Port, path)
+		}
+		f.Correlations, l.Correlations = fc, lc
+	}
+	if asked == 0 || fewer == 0 {
+		t.Fatalf("the fleet should have ports whose causes ask for a correlation (%d asked) and ports that skip some (%d)", asked, fewer)
+	}
+}

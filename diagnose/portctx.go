@@ -53,6 +53,14 @@ type portCtx struct {
 
 	scratch []float64 // working copy for summaries
 
+	// Rank correlations (computeCorrelation): lazyCorr computes each only when a cause test
+	// asks for it (Config.CorrelationsOnDemand); corrDone marks the quantities done.
+	lazyCorr         bool
+	corrDone         uint32
+	corrInit         bool
+	litBER           []float64
+	berRanks, yRanks []float64
+
 	// critOwner[i] is the cause that owns the physics of res.Criteria[i] ("" when shared).
 	critOwner []string
 
@@ -72,8 +80,8 @@ type portCtx struct {
 	trxAssumption string
 }
 
-func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules) *portCtx {
-	pc := &portCtx{s: s, prof: prof, plan: plan, exp: exp, r: r, n: s.Len()}
+func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules, lazyCorr bool) *portCtx {
+	pc := &portCtx{s: s, prof: prof, plan: plan, exp: exp, r: r, n: s.Len(), lazyCorr: lazyCorr}
 	pc.res = &PortResult{
 		Port: s.Port, Profile: prof.ID, Samples: s.Len(),
 		Causes: []Cause{}, Metrics: map[string]Metric{},
@@ -386,34 +394,55 @@ func (pc *portCtx) analyseSeries() {
 			an.DGDFit = mf
 		}
 	}
-	if pc.ber != nil {
-		litBER := pc.lit(pc.ber)
+	if !pc.lazyCorr {
+		for _, q := range corrQuantities {
+			pc.computeCorrelation(q)
+		}
+	}
+}
+
+// corrQuantities are the quantities pre-FEC BER is rank-correlated with, in the order of
+// PortAnalysis.Correlations when all are computed.
+var corrQuantities = [...]parse.Quantity{parse.DGDps, parse.PDLdB, parse.RxPowerDBm, parse.SOPRateKradPerS}
+
+// computeCorrelation appends to the analysis the Spearman rank correlation of pre-FEC BER (lit
+// samples) with q (lit received power for q = rx power), once per q, when the port has both and
+// at least MinSamplesForTrend (≥ 3) usable pairs. When BER has no gaps its ranks are computed
+// once and reused; a q without gaps is then ranked alone, otherwise the pairs are ranked
+// together (series.Spearman). The value of one correlation does not depend on which others
+// were computed before it.
+func (pc *portCtx) computeCorrelation(q parse.Quantity) {
+	if pc.ber == nil || pc.corrDone&(1<<q) != 0 {
+		return
+	}
+	pc.corrDone |= 1 << q
+	s := pc.s
+	if !s.Has(q) {
+		return
+	}
+	if !pc.corrInit {
+		pc.corrInit = true
+		pc.litBER = pc.lit(pc.ber)
 		// Rank BER once when it has no gaps; pair-wise ranking otherwise.
-		var berRanks, yRanks []float64
-		if countFinite(litBER) == pc.n {
-			berRanks = series.Ranks(litBER)
+		if countFinite(pc.litBER) == pc.n {
+			pc.berRanks = series.Ranks(pc.litBER)
 		}
-		for _, q := range []parse.Quantity{parse.DGDps, parse.PDLdB, parse.RxPowerDBm, parse.SOPRateKradPerS} {
-			if !s.Has(q) {
-				continue
-			}
-			y := s.Values[q]
-			if q == parse.RxPowerDBm {
-				y = pc.litPower
-			}
-			var rho, p float64
-			var n int
-			if berRanks != nil && countFinite(y) == pc.n {
-				yRanks = series.RanksInto(y, yRanks)
-				rho, p = series.RankCorrelation(berRanks, yRanks)
-				n = pc.n
-			} else {
-				rho, n, p = series.Spearman(litBER, y)
-			}
-			if n >= minN && !math.IsNaN(rho) {
-				an.Correlations = append(an.Correlations, Correlation{A: "pre_fec_ber", B: q.Column(), Rho: rho, N: n, P: p})
-			}
-		}
+	}
+	y := s.Values[q]
+	if q == parse.RxPowerDBm {
+		y = pc.litPower
+	}
+	var rho, p float64
+	var n int
+	if pc.berRanks != nil && countFinite(y) == pc.n {
+		pc.yRanks = series.RanksInto(y, pc.yRanks)
+		rho, p = series.RankCorrelation(pc.berRanks, pc.yRanks)
+		n = pc.n
+	} else {
+		rho, n, p = series.Spearman(pc.litBER, y)
+	}
+	if n >= max(pc.r.MinSamplesForTrend, 3) && !math.IsNaN(rho) {
+		pc.an.Correlations = append(pc.an.Correlations, Correlation{A: "pre_fec_ber", B: q.Column(), Rho: rho, N: n, P: p})
 	}
 }
 

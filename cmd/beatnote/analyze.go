@@ -79,7 +79,9 @@ func analyze(paths []string, jf judgeFlags, mapFile string, pr *printer) (*analy
 	if err != nil {
 		return nil, fmt.Errorf("--profile: %w", err)
 	}
-	cfg := diagnose.Config{Version: version, Rules: rs, Default: diagnose.Setup{Profile: defProf, Plan: plan}}
+	cfg := diagnose.Config{Version: version, Rules: rs, Default: diagnose.Setup{Profile: defProf, Plan: plan},
+		// Nothing the commands print uses a correlation no cause asked for.
+		CorrelationsOnDemand: true}
 	if pm != nil {
 		lk, err := portMapLookup(pm, profiles, jf.Profile, defProf, plan)
 		if err != nil {
