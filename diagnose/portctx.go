@@ -235,6 +235,12 @@ func (pc *portCtx) deriveSeries() {
 	}
 	for _, q := range []parse.Quantity{parse.CDpsPerNm, parse.LOOffsetMHz} {
 		if s.Has(q) {
+			// All finite values positive (or none): |x| is x itself, bit for bit, so the
+			// summary of |x| is the one already made.
+			if sq := pc.sum[q]; sq.N == 0 || sq.Min > 0 {
+				pc.absSum[q] = sq
+				continue
+			}
 			a := make([]float64, n)
 			for i, v := range s.Values[q] {
 				a[i] = math.Abs(v)

@@ -50,7 +50,12 @@ func radixInputs() map[string][]float64 {
 		for i := range close {
 			close[i] = 1 + float64(rng.IntN(5))*0x1p-52
 		}
-		for name, v := range map[string][]float64{"mixed": mixed, "ties": ties, "up": up, "down": down, "same": same, "close": close} {
+		// All −0: a constant series whose summary must keep the sign of its zero.
+		negZero := make([]float64, n)
+		for i := range negZero {
+			negZero[i] = math.Copysign(0, -1)
+		}
+		for name, v := range map[string][]float64{"mixed": mixed, "ties": ties, "up": up, "down": down, "same": same, "close": close, "negzero": negZero} {
 			in[name+"/"+itoa(n)] = v
 		}
 	}

@@ -92,22 +92,27 @@ func SummarizeInto(v, scratch []float64) (Summary, []float64) {
 	} else {
 		var loBuf, hiBuf [maxTail]uint64
 		lo, hi := tails(keys, m, &loBuf, &hiBuf)
-		selectKey(keys, mid)
-		stat = func(j int) uint64 {
-			switch {
-			case j < m:
-				return lo[j]
-			case n-1-j < m:
-				return hi[n-1-j]
-			case j == mid:
-				return keys[mid]
+		if lo[0] == hi[0] { // smallest key = largest: every order statistic is that key
+			c := lo[0]
+			stat = func(int) uint64 { return c }
+		} else {
+			selectKey(keys, mid)
+			stat = func(j int) uint64 {
+				switch {
+				case j < m:
+					return lo[j]
+				case n-1-j < m:
+					return hi[n-1-j]
+				case j == mid:
+					return keys[mid]
+				}
+				// j == mid+1: the smallest above the selected median
+				next := keys[mid+1]
+				for _, k := range keys[mid+2:] {
+					next = min(next, k)
+				}
+				return next
 			}
-			// j == mid+1: the smallest above the selected median
-			next := keys[mid+1]
-			for _, k := range keys[mid+2:] {
-				next = min(next, k)
-			}
-			return next
 		}
 	}
 	quant := func(p float64) float64 {
