@@ -31,6 +31,17 @@ type ChangePointOptions struct {
 	ThresholdFactor float64
 }
 
+// countOK is the number of finite values of v.
+func countOK(v []float64) int {
+	n := 0
+	for _, y := range v {
+		if ok(y) {
+			n++
+		}
+	}
+	return n
+}
+
 // ChangePoints finds shifts in the mean of v by binary segmentation with the CUSUM statistic:
 // in a segment of n samples, the split k maximising T(k) = |x̄(k+1..n) − x̄(1..k)|·√(k(n−k)/n)/σ
 // is accepted when T exceeds C·√(2·ln n) and the step is at least MinStep; both halves are then
@@ -50,19 +61,25 @@ func ChangePoints(v []float64, opt ChangePointOptions) []Step {
 	if opt.ThresholdFactor <= 0 {
 		opt.ThresholdFactor = 1.3
 	}
-	idx := make([]int, 0, len(v))
-	x := make([]float64, 0, len(v))
-	for i, y := range v {
-		if ok(y) {
-			idx = append(idx, i)
-			x = append(x, y)
+	// x: the finite samples; idx[k] is the index in v of x[k] (nil when every sample is
+	// finite: x is v itself then and idx[k] = k).
+	var idx []int
+	x := v
+	if countOK(v) < len(v) {
+		x = make([]float64, 0, len(v))
+		idx = make([]int, 0, len(v))
+		for i, y := range v {
+			if ok(y) {
+				idx = append(idx, i)
+				x = append(x, y)
+			}
 		}
 	}
 	n := len(x)
 	if n < 2*opt.MinSegment {
 		return nil
 	}
-	sigma := NoiseSigma(x)
+	sigma := noiseSigmaFinite(x) // = NoiseSigma(x): x is all finite
 	scale := 0.0
 	for _, y := range x {
 		scale = math.Max(scale, math.Abs(y))
@@ -118,7 +135,11 @@ func ChangePoints(v []float64, opt ChangePointOptions) []Step {
 		if math.Abs(after-before) < opt.MinStep {
 			continue // neighbours moved after later splits; the step no longer counts
 		}
-		steps = append(steps, Step{Index: idx[k], Before: before, After: after, Stat: stats[k]})
+		at := k
+		if idx != nil {
+			at = idx[k]
+		}
+		steps = append(steps, Step{Index: at, Before: before, After: after, Stat: stats[k]})
 	}
 	return steps
 }

@@ -241,7 +241,11 @@ func MedianAbsDev(v []float64) float64 {
 // thresholds in P. Fryzlewicz, "Wild binary segmentation for multiple change-point detection",
 // Ann. Statist. 42(6), 2014, §3. NaN with fewer than 3 finite values.
 func NoiseSigma(v []float64) float64 {
-	f := Finite(v)
+	return noiseSigmaFinite(Finite(v))
+}
+
+// noiseSigmaFinite is NoiseSigma of f, whose values are all finite (f is not changed).
+func noiseSigmaFinite(f []float64) float64 {
 	if len(f) < 3 {
 		return math.NaN()
 	}

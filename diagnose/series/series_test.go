@@ -117,6 +117,19 @@ func TestChangePointsFindsPlantedStep(t *testing.T) {
 	near(t, "before", steps[0].Before, b/float64(nb), 1e-9)
 	near(t, "after", steps[0].After, a/float64(n-at), 1e-9)
 	near(t, "size", steps[0].Size(), -3, 0.05)
+
+	// Without the gap (every sample finite, ChangePoints' no-copy path): the same step, with
+	// before the mean of the now complete first segment.
+	v[20] = v[21]
+	steps = ChangePoints(v, ChangePointOptions{MinStep: 1})
+	if len(steps) != 1 || steps[0].Index != at {
+		t.Fatalf("no gap: got steps %+v, want one at %d", steps, at)
+	}
+	b = 0
+	for i := 0; i < at; i++ {
+		b += v[i]
+	}
+	near(t, "before (no gap)", steps[0].Before, b/float64(at), 1e-9)
 }
 
 func TestChangePointsNoneInNoise(t *testing.T) {
