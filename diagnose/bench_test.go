@@ -78,6 +78,7 @@ func benchFleet(b *testing.B) (*parse.Dataset, diagnose.Config) {
 func benchAnalyze(b *testing.B, workers int) {
 	ds, cfg := benchFleet(b)
 	cfg.Workers = workers
+	cfg.CorrelationsOnDemand = true // as the command line judges
 	samples := 0
 	for _, s := range ds.Series {
 		samples += s.Len()
@@ -105,6 +106,7 @@ func BenchmarkAnalyzeFleetOneWorker(b *testing.B) { benchAnalyze(b, 1) }
 // BenchmarkAnalyzeSmallPorts judges 5,000-file-shaped ports: 200 samples each.
 func BenchmarkAnalyzeSmallPorts(b *testing.B) {
 	ds, cfg := fleetDataset(b, 200, 200, 0)
+	cfg.CorrelationsOnDemand = true // as the command line judges
 	b.ReportAllocs()
 	b.ResetTimer()
 	for b.Loop() {
