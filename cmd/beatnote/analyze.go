@@ -205,7 +205,12 @@ func portMapLookup(pm *rules.PortMap, profiles []rules.Profile, flagProfile stri
 
 // readInputs reads the inputs with a progress bar on a terminal.
 func readInputs(paths []string, pr *printer) (*parse.Dataset, error) {
-	opt := parse.Options{}
+	return readWithProgress(paths, parse.Options{}, pr)
+}
+
+// readWithProgress reads the inputs with opt, drawing a progress bar on stderr when it is a
+// terminal (and not --quiet).
+func readWithProgress(paths []string, opt parse.Options, pr *printer) (*parse.Dataset, error) {
 	var bar *progressbar.ProgressBar
 	if pr.ShowProgress() {
 		opt.Progress = func(done, total int64) {

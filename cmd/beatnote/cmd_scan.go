@@ -12,7 +12,6 @@ import (
 	"time"
 
 	"github.com/beatnote/beatnote/parse"
-	"github.com/schollz/progressbar/v3"
 )
 
 // ScanCmd reads telemetry exports and says what was read and what was not.
@@ -52,22 +51,7 @@ type scanPort struct {
 
 // Run reads the inputs and prints the summary.
 func (c *ScanCmd) Run(g *Globals, pr *printer) error {
-	opt := parse.Options{Strict: c.Strict, Statistic: c.Statistic}
-	var bar *progressbar.ProgressBar
-	if pr.ShowProgress() {
-		opt.Progress = func(done, total int64) {
-			if bar == nil {
-				bar = progressbar.NewOptions64(total, progressbar.OptionSetWriter(os.Stderr),
-					progressbar.OptionSetDescription("reading"), progressbar.OptionShowBytes(true),
-					progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
-			}
-			_ = bar.Set64(done)
-		}
-	}
-	ds, readErr := parse.ReadPaths(c.Paths, opt)
-	if bar != nil {
-		_ = bar.Finish()
-	}
+	ds, readErr := readWithProgress(c.Paths, parse.Options{Strict: c.Strict, Statistic: c.Statistic}, pr)
 	if ds == nil {
 		return &exitError{code: 2, err: readErr}
 	}
