@@ -842,33 +842,34 @@ type slabArena struct {
 const arenaChunk = 1 << 20
 
 func (a *slabArena) floats(n int) []float64 {
-	if a == nil || n > arenaChunk/4 {
+	if a == nil {
 		return make([]float64, n)
 	}
-	a.mu.Lock()
-	defer a.mu.Unlock()
-	if cap(a.f)-len(a.f) < n {
-		a.f = make([]float64, 0, arenaChunk)
-		adviseHuge(a.f)
-	}
-	m := len(a.f)
-	a.f = a.f[:m+n]
-	return a.f[m : m+n : m+n]
+	return carve(&a.mu, &a.f, n)
 }
 
 func (a *slabArena) times(n int) []int64 {
-	if a == nil || n > arenaChunk/4 {
+	if a == nil {
 		return make([]int64, n)
 	}
-	a.mu.Lock()
-	defer a.mu.Unlock()
-	if cap(a.t)-len(a.t) < n {
-		a.t = make([]int64, 0, arenaChunk)
-		adviseHuge(a.t)
+	return carve(&a.mu, &a.t, n)
+}
+
+// carve cuts n values from the arena chunk *chunk, starting a new chunk (advised for huge pages)
+// when the current one is full; requests above a quarter chunk get their own allocation.
+func carve[T float64 | int64](mu *sync.Mutex, chunk *[]T, n int) []T {
+	if n > arenaChunk/4 {
+		return make([]T, n)
 	}
-	m := len(a.t)
-	a.t = a.t[:m+n]
-	return a.t[m : m+n : m+n]
+	mu.Lock()
+	defer mu.Unlock()
+	if cap(*chunk)-len(*chunk) < n {
+		*chunk = make([]T, 0, arenaChunk)
+		adviseHuge(*chunk)
+	}
+	m := len(*chunk)
+	*chunk = (*chunk)[:m+n]
+	return (*chunk)[m : m+n : m+n]
 }
 
 // apply gives port p (group g of the hinted block) its pre-sized columns.
