@@ -228,9 +228,14 @@ func writeInputsText(w io.Writer, res *diagnose.Result) {
 	}
 }
 
+// consoleRejection prints a rejection as file:line[:column]: reason. The reason already names
+// the field, so it is not repeated.
 func consoleRejection(r parse.Rejection) string {
 	loc := fmt.Sprintf("%s:%d", r.File, r.Line)
-	if r.Field != "" {
+	if r.Column > 0 {
+		loc += fmt.Sprintf(":%d", r.Column)
+	}
+	if r.Field != "" && !strings.HasPrefix(r.Reason, r.Field+":") {
 		loc += " " + r.Field
 	}
 	return loc + ": " + r.Reason

@@ -106,6 +106,9 @@ func analyze(paths []string, jf judgeFlags, mapFile string, pr *printer) (*analy
 		}
 		return nil, errors.New("nothing usable was read: no row was accepted (try 'beatnote scan' to see why)")
 	}
+	if read, rejected := rowCounts(ds); rejected > 0 {
+		pr.Notef("%d of %d rows were rejected and not judged; 'beatnote scan' lists every reason", rejected, read)
+	}
 	if defNote != "" && pm == nil {
 		pr.Notef("%s", defNote)
 	}
@@ -201,6 +204,15 @@ func portMapLookup(pm *rules.PortMap, profiles []rules.Profile, flagProfile stri
 		}
 		return diagnose.Setup{}, false
 	}, nil
+}
+
+// rowCounts sums the data rows read and rejected over all inputs.
+func rowCounts(ds *parse.Dataset) (read, rejected int) {
+	for _, in := range ds.Inputs {
+		read += in.RowsRead
+		rejected += in.RowsRejected
+	}
+	return read, rejected
 }
 
 // readInputs reads the inputs with a progress bar on a terminal.
