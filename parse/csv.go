@@ -531,14 +531,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 			buf = slices.Grow(buf, cap(buf))
 			*hb = buf
 		}
-		n, err := r.Read(buf[len(buf):cap(buf)])
-		buf = buf[:len(buf)+n]
-		if err != nil {
-			eof = true
-			if err != io.EOF {
-				readErr = err
-			}
-		}
+		buf = readMore(r, buf, &eof, &readErr)
 	}
 	lay, notes, err := parseHeader(file, line-1, header)
 	if err != nil {
@@ -578,14 +571,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 					copy(nb, b)
 					b = nb
 				}
-				n, err := r.Read(b[len(b):cap(b)])
-				b = b[:len(b)+n]
-				if err != nil {
-					eof = true
-					if err != io.EOF {
-						readErr = err
-					}
-				}
+				b = readMore(r, b, &eof, &readErr)
 			}
 			job := rec.job(bp, line)
 			if eof {
@@ -679,6 +665,19 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 	}
 }
 
+// readMore reads into the spare capacity of b and returns b extended by what was read. At the end
+// of the stream it sets *eof, and it keeps a read error other than io.EOF in *readErr.
+func readMore(r io.Reader, b []byte, eof *bool, readErr *error) []byte {
+	n, err := r.Read(b[len(b):cap(b)])
+	if err != nil {
+		*eof = true
+		if err != io.EOF {
+			*readErr = err
+		}
+	}
+	return b[:len(b)+n]
+}
+
 // readCSVWhole reads the rest of a small input (known to fit one block) as one block on this
 // goroutine: the same steps as the parallel path of readCSV with one block, without its
 // goroutines and channels, which cost more than parsing a file of a few hundred rows (folders
@@ -692,14 +691,7 @@ func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line 
 			b = slices.Grow(b, cap(b)) // larger than announced (a file still growing)
 			*bp = b
 		}
-		n, err := r.Read(b[len(b):cap(b)])
-		b = b[:len(b)+n]
-		if err != nil {
-			eof = true
-			if err != io.EOF {
-				readErr = err
-			}
-		}
+		b = readMore(r, b, &eof, &readErr)
 	}
 	*bp = b
 	w := wholePool.Get().(*wholeScratch)
