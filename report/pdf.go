@@ -245,6 +245,20 @@ func (pw *pdfWriter) bullet(indent float64, mark, s string) {
 	pdf.MultiCell(pw.contentW-indent-5, pdfLineH, pw.text(s), "", "L", false)
 }
 
+// causeList writes an italic label and one bullet per item, indented under a likely cause;
+// nothing when items is empty.
+func (pw *pdfWriter) causeList(label, mark string, items []string) {
+	if len(items) == 0 {
+		return
+	}
+	pw.pdf.SetFont("sans", "I", pdfBodySize)
+	pw.pdf.SetX(pdfMargin + 4)
+	pw.pdf.CellFormat(40, pdfLineH, label, "", 1, "L", false, 0, "")
+	for _, it := range items {
+		pw.bullet(4, mark, it)
+	}
+}
+
 // verdictColours gives a light fill and a strong colour per verdict; the word and the drawn mark
 // carry the meaning, colour only helps.
 func verdictColours(v diagnose.Verdict) (fill, strong [3]int) {
@@ -571,22 +585,8 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 		pw.ensure(3 * pdfLineH)
 		pdf.SetFont("sans", "B", pdfBodySize+0.5)
 		pdf.MultiCell(pw.contentW, pdfLineH+0.4, pw.text(fmt.Sprintf("%d. %s — confidence %.0f %%", i+1, c.ID, 100*c.Confidence)), "", "L", false)
-		if len(c.Evidence) > 0 {
-			pdf.SetFont("sans", "I", pdfBodySize)
-			pdf.SetX(pdfMargin + 4)
-			pdf.CellFormat(40, pdfLineH, "Evidence", "", 1, "L", false, 0, "")
-			for _, e := range c.Evidence {
-				pw.bullet(4, "•", e)
-			}
-		}
-		if len(c.Actions) > 0 {
-			pdf.SetFont("sans", "I", pdfBodySize)
-			pdf.SetX(pdfMargin + 4)
-			pdf.CellFormat(40, pdfLineH, "Recommended actions", "", 1, "L", false, 0, "")
-			for _, act := range c.Actions {
-				pw.bullet(4, "→", act)
-			}
-		}
+		pw.causeList("Evidence", "•", c.Evidence)
+		pw.causeList("Recommended actions", "→", c.Actions)
 		pdf.Ln(1.5)
 	}
 	if len(port.NotJudged) > 0 {
