@@ -1,8 +1,6 @@
 package main
 
 import (
-	"go.yaml.in/yaml/v3"
-	"os"
 	"path/filepath"
 	"slices"
 	"testing"
@@ -25,14 +23,7 @@ func TestEngineAgreesWithManifest(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	data, err := os.ReadFile("../manifest.yaml")
-	if err != nil {
-		t.Fatal(err)
-	}
-	var m manifest
-	if err := yaml.Unmarshal(data, &m); err != nil {
-		t.Fatal(err)
-	}
+	m := readManifest(t)
 	for _, e := range m.Logs {
 		t.Run(filepath.Base(e.File), func(t *testing.T) {
 			ds, err := parse.ReadPaths([]string{filepath.Join("..", e.File)}, parse.Options{})

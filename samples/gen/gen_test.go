@@ -57,14 +57,7 @@ func TestPlansLoad(t *testing.T) {
 	if _, err := rules.LoadPortMap("../portmap.yaml", profs...); err != nil {
 		t.Fatal(err)
 	}
-	data, err := os.ReadFile("../manifest.yaml")
-	if err != nil {
-		t.Fatal(err)
-	}
-	var m manifest
-	if err := yaml.Unmarshal(data, &m); err != nil {
-		t.Fatal(err)
-	}
+	m := readManifest(t)
 	total := int64(0)
 	for _, e := range m.Logs {
 		if _, err := rules.LoadPlan(filepath.Join("..", e.Plan), profs...); err != nil {
@@ -99,12 +92,7 @@ func TestLogsReadBack(t *testing.T) {
 			if len(ds.Series) != 1 || ds.Series[0].Port != ct.port {
 				t.Fatalf("ports %v", ds.Series)
 			}
-			n := samples
-			if ct.format == openConfigOTN || ct.format == openConfigBare {
-				n = openConfigSamples
-			}
-			c, err := synth.Make(synth.Spec{Causes: ct.causes, Severity: severity, Seed: ct.seed, ProfileID: ct.profile,
-				Samples: n, Port: ct.port, Circuit: ct.id, EndA: ct.endA, EndZ: ct.endZ, SignalLossAsGap: ct.gap})
+			c, err := synth.Make(ct.spec())
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -132,4 +120,18 @@ func TestLogsReadBack(t *testing.T) {
 			}
 		})
 	}
+}
+
+// readManifest reads the committed samples/manifest.yaml.
+func readManifest(t *testing.T) manifest {
+	t.Helper()
+	data, err := os.ReadFile("../manifest.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var m manifest
+	if err := yaml.Unmarshal(data, &m); err != nil {
+		t.Fatal(err)
+	}
+	return m
 }
