@@ -226,6 +226,16 @@ func (pc *portCtx) noiseNotAmplifier(s *score, im impairments) bool {
 
 func (pc *portCtx) has(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
 
+// present reports whether the log has q for the cause's test; when it has not, it notes that the
+// cause is not judged for want of q.
+func (pc *portCtx) present(cause string, q parse.Quantity) bool {
+	if pc.has(q) {
+		return true
+	}
+	pc.notJudged("%s: no %s in the log", cause, q.Column())
+	return false
+}
+
 // qMarginP50 is the median Q margin of lit samples to the FEC-threshold Q (dB); NaN when unknown.
 func (pc *portCtx) qMarginP50() float64 {
 	if pc.cache.qMarginSet {
@@ -389,8 +399,7 @@ func dur(ms int64) string {
 // rxPowerLow: lit power below the window or near it, a step loss, below the plan.
 func (pc *portCtx) rxPowerLow() *score {
 	s := &score{id: CauseRxPowerLow}
-	if !pc.has(parse.RxPowerDBm) {
-		pc.notJudged("%s: no rx_power_dbm in the log", CauseRxPowerLow)
+	if !pc.present(CauseRxPowerLow, parse.RxPowerDBm) {
 		return nil
 	}
 	p, r := pc.prof, pc.r
@@ -496,8 +505,7 @@ func (pc *portCtx) cdMismatch() *score {
 		pc.notJudged("%s: no link plan, so there is no expected CD to compare with", CauseCDMismatch)
 		return nil
 	}
-	if !pc.has(parse.CDpsPerNm) {
-		pc.notJudged("%s: no cd_ps_nm in the log", CauseCDMismatch)
+	if !pc.present(CauseCDMismatch, parse.CDpsPerNm) {
 		return nil
 	}
 	// Magnitudes are compared: DSPs differ in the sign they report CD with.
@@ -533,8 +541,7 @@ func (pc *portCtx) cdMismatch() *score {
 // cdOverLimit: |CD| beyond the module's compensation range.
 func (pc *portCtx) cdOverLimit() *score {
 	s := &score{id: CauseCDOverLimit}
-	if !pc.has(parse.CDpsPerNm) {
-		pc.notJudged("%s: no cd_ps_nm in the log", CauseCDOverLimit)
+	if !pc.present(CauseCDOverLimit, parse.CDpsPerNm) {
 		return nil
 	}
 	tol := pc.prof.CDTolerancePsNm
@@ -564,8 +571,7 @@ func (pc *portCtx) cdOverLimit() *score {
 // pmd: DGD near the tolerance, Maxwellian outage, Maxwellian-shaped spread, BER following DGD.
 func (pc *portCtx) pmd() *score {
 	s := &score{id: CausePMD}
-	if !pc.has(parse.DGDps) {
-		pc.notJudged("%s: no dgd_ps in the log", CausePMD)
+	if !pc.present(CausePMD, parse.DGDps) {
 		return nil
 	}
 	p, r := pc.prof, pc.r
@@ -622,8 +628,7 @@ func (pc *portCtx) pmd() *score {
 func (pc *portCtx) sopTransient() *score {
 	s := &score{id: CauseSOPTransient}
 	an, p, r := pc.an, pc.prof, pc.r
-	if !pc.has(parse.SOPRateKradPerS) {
-		pc.notJudged("%s: no sop_rate_krad_s in the log", CauseSOPTransient)
+	if !pc.present(CauseSOPTransient, parse.SOPRateKradPerS) {
 		if n := len(an.BERBursts) + len(an.BlockBursts); n > 0 {
 			s.add(llrWeak, "The log shows %d BER or uncorrected-block bursts on an otherwise steady link, the pattern of polarization transients, but has no SOP rate to confirm it.", n)
 		}
@@ -681,8 +686,7 @@ func (pc *portCtx) sopTransient() *score {
 // pdlHigh: PDL near or above the tolerance; BER following PDL.
 func (pc *portCtx) pdlHigh() *score {
 	s := &score{id: CausePDLHigh}
-	if !pc.has(parse.PDLdB) {
-		pc.notJudged("%s: no pdl_db in the log", CausePDLHigh)
+	if !pc.present(CausePDLHigh, parse.PDLdB) {
 		return nil
 	}
 	tol, r := pc.prof.PDLTolerancedB, pc.r
@@ -715,8 +719,7 @@ func (pc *portCtx) pdlHigh() *score {
 // loOffset: carrier offset near the capture range, or drifting to reach it within the horizon.
 func (pc *portCtx) loOffset() *score {
 	s := &score{id: CauseLOOffset}
-	if !pc.has(parse.LOOffsetMHz) {
-		pc.notJudged("%s: no lo_offset_mhz in the log", CauseLOOffset)
+	if !pc.present(CauseLOOffset, parse.LOOffsetMHz) {
 		return nil
 	}
 	rng, r := pc.prof.LOOffsetRangeMHz, pc.r
