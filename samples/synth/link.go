@@ -78,29 +78,16 @@ func spanLossDB(s rules.Span, f optics.Fiber) float64 {
 	return f.AttenuationDBPerKm*s.LengthKm + float64(s.Connectors)*cl + float64(s.Splices)*sl
 }
 
-// spanFiber resolves a plan span's fibre with its overrides.
+// spanFiber resolves a plan span's fibre with its overrides by optics.SpanFiber; a fibre type
+// it does not know takes the G.652 figures when the span gives its dispersion (as "custom" does).
 func spanFiber(s rules.Span, lambdaNm float64) (optics.Fiber, error) {
-	f, err := optics.FiberByName(s.Fiber)
-	if err != nil && s.DispersionPsNmKm == nil {
-		return f, err
-	}
-	if err != nil {
-		f = optics.FiberG652
-	}
-	if s.DispersionPsNmKm != nil {
-		slope := f.SlopePsNm2Km(lambdaNm)
-		if s.SlopePsNm2Km != nil {
-			slope = *s.SlopePsNm2Km
+	if f, err := optics.FiberByName(s.Fiber); err != nil {
+		if s.DispersionPsNmKm == nil {
+			return f, err
 		}
-		f = optics.CustomFiber(f, lambdaNm, *s.DispersionPsNmKm, slope)
+		s.Fiber = "custom"
 	}
-	if s.AttenuationDBPerKm != nil {
-		f.AttenuationDBPerKm = *s.AttenuationDBPerKm
-	}
-	if s.PMDCoefficientPsSqrtKm != nil {
-		f.PMDCoefficientPsSqrtKm = *s.PMDCoefficientPsSqrtKm
-	}
-	return f, nil
+	return optics.SpanFiber(s, lambdaNm)
 }
 
 // newLinkModel turns a plan into a model. Amplifier output levels come from walking the plan's
