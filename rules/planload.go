@@ -3,6 +3,7 @@ package rules
 import (
 	"fmt"
 	"os"
+	"slices"
 	"strings"
 )
 
@@ -20,12 +21,7 @@ func KnownFiber(name string) bool {
 		return true
 	}
 	k := strings.NewReplacer(".", "", "-", "", "_", "", " ", "").Replace(strings.ToLower(name))
-	for _, a := range fiberAliases {
-		if a == k {
-			return true
-		}
-	}
-	return false
+	return slices.Contains(fiberAliases, k)
 }
 
 // Validate checks a link plan's structure and ranges: at least one span, positive lengths, known
@@ -56,7 +52,7 @@ func (p *Plan) Validate() error {
 	if p.Channels > 1 && p.ChannelSpacingGHz == 0 {
 		return fieldErr("channel_spacing_ghz", ErrMissing, "%d channels need a channel spacing", p.Channels)
 	}
-	if p.HazardLevel != "" && !validHazard(p.HazardLevel) {
+	if p.HazardLevel != "" && !slices.Contains(HazardLevels, p.HazardLevel) {
 		return fieldErr("hazard_level", ErrRange, "%q is not one of %s", p.HazardLevel, strings.Join(HazardLevels, ", "))
 	}
 	if !(p.ExtraLossDB >= 0 && p.ExtraLossDB <= 60) {

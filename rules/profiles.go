@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"regexp"
+	"slices"
 	"strings"
 
 	"go.yaml.in/yaml/v3"
@@ -169,7 +170,7 @@ func (p Profile) Validate() error {
 			return fieldErr("line_rate_gbps", ErrRange, "%g Gb/s disagrees with %d × %d bit × %g GBd = %.4g Gb/s", p.LineRateGbps, p.Polarizations, p.BitsPerSymbol(), p.BaudGBd, want)
 		}
 	}
-	if p.HazardLevel != "" && !validHazard(p.HazardLevel) {
+	if p.HazardLevel != "" && !slices.Contains(HazardLevels, p.HazardLevel) {
 		return fieldErr("hazard_level", ErrRange, "%q is not one of %s", p.HazardLevel, strings.Join(HazardLevels, ", "))
 	}
 	for _, key := range profileFigures {
@@ -178,29 +179,11 @@ func (p Profile) Validate() error {
 		}
 	}
 	for key := range p.Sources {
-		if !knownFigure(key) {
+		if !slices.Contains(profileFigures, key) {
 			return fieldErr("sources."+key, ErrUnknownField, "no figure is named %q", key)
 		}
 	}
 	return nil
-}
-
-func knownFigure(key string) bool {
-	for _, k := range profileFigures {
-		if k == key {
-			return true
-		}
-	}
-	return false
-}
-
-func validHazard(h string) bool {
-	for _, l := range HazardLevels {
-		if l == h {
-			return true
-		}
-	}
-	return false
 }
 
 // BuiltinProfiles returns the module profiles built into beatnote (rules/profiles.yaml), validated.
@@ -268,7 +251,7 @@ func decodeProfiles(file string, data []byte, base []Profile) ([]Profile, error)
 				p.Sources = map[string]string{}
 			}
 			for _, key := range mentionedKeys(item) {
-				if knownFigure(key) && !mentionsSource(item, key) {
+				if slices.Contains(profileFigures, key) && !mentionsSource(item, key) {
 					p.Sources[key] = "user profiles file " + file
 				}
 			}
