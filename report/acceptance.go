@@ -380,3 +380,19 @@ func sortedMetricKeys(m map[string]diagnose.Metric) []string {
 	})
 	return keys
 }
+
+// metricRows are a port's measurements as table rows in sortedMetricKeys order: the name (marked
+// "(derived)" when computed from other columns), then min, median, p99 and max with their unit.
+func metricRows(m map[string]diagnose.Metric) [][]string {
+	keys := sortedMetricKeys(m)
+	rows := make([][]string, len(keys))
+	for i, k := range keys {
+		mt := m[k]
+		name := k
+		if mt.Derived {
+			name += " (derived)"
+		}
+		rows[i] = []string{name, FormatValue(mt.Min, mt.Unit), FormatValue(mt.P50, mt.Unit), FormatValue(mt.P99, mt.Unit), FormatValue(mt.Max, mt.Unit)}
+	}
+	return rows
+}

@@ -141,15 +141,10 @@ func (a *Acceptance) WriteMarkdown(w io.Writer) error {
 			}
 			p("\n")
 		}
-		if keys := sortedMetricKeys(port.Metrics); len(keys) > 0 {
+		if rows := metricRows(port.Metrics); len(rows) > 0 {
 			p("### Measurements\n\n| quantity | min | median | p99 | max |\n| --- | ---: | ---: | ---: | ---: |\n")
-			for _, k := range keys {
-				m := port.Metrics[k]
-				name := k
-				if m.Derived {
-					name += " (derived)"
-				}
-				p("| %s | %s | %s | %s | %s |\n", mdCell(name), FormatValue(m.Min, m.Unit), FormatValue(m.P50, m.Unit), FormatValue(m.P99, m.Unit), FormatValue(m.Max, m.Unit))
+			for _, r := range rows {
+				p("| %s | %s | %s | %s | %s |\n", mdCell(r[0]), r[1], r[2], r[3], r[4])
 			}
 			p("\n")
 		}

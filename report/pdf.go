@@ -595,17 +595,8 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 			pw.bullet(0, "•", n)
 		}
 	}
-	if keys := sortedMetricKeys(port.Metrics); len(keys) > 0 {
+	if rows := metricRows(port.Metrics); len(rows) > 0 {
 		pw.heading("Measurements", 11)
-		rows := make([][]string, len(keys))
-		for i, k := range keys {
-			m := port.Metrics[k]
-			name := k
-			if m.Derived {
-				name += " (derived)"
-			}
-			rows[i] = []string{name, FormatValue(m.Min, m.Unit), FormatValue(m.P50, m.Unit), FormatValue(m.P99, m.Unit), FormatValue(m.Max, m.Unit)}
-		}
 		pw.table([]column{
 			{title: "quantity", width: 0.28, align: "L"}, {title: "min", width: 0.18, align: "R"},
 			{title: "median", width: 0.18, align: "R"}, {title: "p99", width: 0.18, align: "R"},
