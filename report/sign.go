@@ -167,15 +167,11 @@ func writePEM(path string, flags int, mode os.FileMode, kind string, der []byte)
 
 // LoadPrivateKey reads an Ed25519 private key written by WriteKeyPair (PEM PKCS #8).
 func LoadPrivateKey(path string) (ed25519.PrivateKey, error) {
-	data, err := os.ReadFile(path)
+	der, err := readPEM(path, "PRIVATE KEY", " (create one with beatnote keygen)")
 	if err != nil {
 		return nil, err
 	}
-	block, _ := pem.Decode(data)
-	if block == nil || block.Type != "PRIVATE KEY" {
-		return nil, fmt.Errorf("%s: not a PEM \"PRIVATE KEY\" file (create one with beatnote keygen)", path)
-	}
-	k, err := x509.ParsePKCS8PrivateKey(block.Bytes)
+	k, err := x509.ParsePKCS8PrivateKey(der)
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", path, err)
 	}
@@ -188,15 +184,11 @@ func LoadPrivateKey(path string) (ed25519.PrivateKey, error) {
 
 // LoadPublicKey reads an Ed25519 public key written by WriteKeyPair (PEM PKIX).
 func LoadPublicKey(path string) (ed25519.PublicKey, error) {
-	data, err := os.ReadFile(path)
+	der, err := readPEM(path, "PUBLIC KEY", "")
 	if err != nil {
 		return nil, err
 	}
-	block, _ := pem.Decode(data)
-	if block == nil || block.Type != "PUBLIC KEY" {
-		return nil, fmt.Errorf("%s: not a PEM \"PUBLIC KEY\" file", path)
-	}
-	k, err := x509.ParsePKIXPublicKey(block.Bytes)
+	k, err := x509.ParsePKIXPublicKey(der)
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", path, err)
 	}
@@ -205,6 +197,20 @@ func LoadPublicKey(path string) (ed25519.PublicKey, error) {
 		return nil, fmt.Errorf("%s: the key is %T, beatnote verifies Ed25519 keys only", path, k)
 	}
 	return pub, nil
+}
+
+// readPEM returns the bytes of the first PEM block of the file at path, which must be of type
+// kind; hint ends the error when it is not.
+func readPEM(path, kind, hint string) ([]byte, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	block, _ := pem.Decode(data)
+	if block == nil || block.Type != kind {
+		return nil, fmt.Errorf("%s: not a PEM %q file%s", path, kind, hint)
+	}
+	return block.Bytes, nil
 }
 
 // FileSHA256 is the lowercase hex SHA-256 of a file's bytes.
