@@ -135,17 +135,23 @@ func fmtTime(ms int64) string {
 	return t.Format("2006-01-02T15:04:05.000Z07:00")
 }
 
-func writeScanJSON(w io.Writer, ds *parse.Dataset, ports []scanPort, readErr error) error {
-	rej := ds.Rejected
-	if len(rej) > maxJSONRejections {
-		rej = rej[:maxJSONRejections]
-	}
+// inputErrors lists, in input order, why each input that was not read completely stopped.
+func inputErrors(ds *parse.Dataset) []string {
 	var errs []string
 	for _, in := range ds.Inputs {
 		if in.Error != "" {
 			errs = append(errs, in.Error)
 		}
 	}
+	return errs
+}
+
+func writeScanJSON(w io.Writer, ds *parse.Dataset, ports []scanPort, readErr error) error {
+	rej := ds.Rejected
+	if len(rej) > maxJSONRejections {
+		rej = rej[:maxJSONRejections]
+	}
+	errs := inputErrors(ds)
 	if readErr != nil && len(errs) == 0 {
 		errs = append(errs, readErr.Error())
 	}
@@ -280,12 +286,7 @@ func writeScanText(w io.Writer, ds *parse.Dataset, ports []scanPort) error {
 			fmt.Fprintln(w, "  "+n)
 		}
 	}
-	var errs []string
-	for _, in := range ds.Inputs {
-		if in.Error != "" {
-			errs = append(errs, in.Error)
-		}
-	}
+	errs := inputErrors(ds)
 	if len(errs) > 0 {
 		fmt.Fprintln(w, "\nInputs not read completely (rows before the problem were used):")
 		for _, e := range errs {
