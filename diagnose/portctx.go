@@ -108,7 +108,7 @@ func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opti
 		pc.an.RequiredESNRdB = pc.snrThDB
 		pc.snrTrxDB, pc.trxAssumption = transceiverSNRdB(prof, pc.snrThDB)
 		if !(pc.reqOSNRdB > 0) && prof.BaudGBd > 0 {
-			pc.reqOSNRdB = optics.RequiredOSNRdB(pc.mod, prof.BaudGBd, polOf(prof), prof.FECThresholdBER, prof.ImplementationPenaltyDB)
+			pc.reqOSNRdB = optics.RequiredOSNRdB(pc.mod, prof.BaudGBd, prof.PolarizationCount(), prof.FECThresholdBER, prof.ImplementationPenaltyDB)
 		}
 	} else {
 		pc.an.RequiredESNRdB = math.NaN()
@@ -151,13 +151,6 @@ func (pc *portCtx) summarize(v []float64) series.Summary {
 	return s
 }
 
-func polOf(p rules.Profile) int {
-	if p.Polarizations == 0 {
-		return 2
-	}
-	return p.Polarizations
-}
-
 // transceiverSNRdB is the transceiver's own SNR ceiling SNR_trx. When the profile gives a
 // back-to-back SNR it is used; otherwise it is derived from the implementation penalty Δ at the
 // FEC threshold: the module needs SNR_th·10^(Δ/10) of line SNR to reach the theoretical SNR_th,
@@ -181,7 +174,7 @@ func transceiverSNRdB(p rules.Profile, snrThDB float64) (float64, string) {
 // SNR_line = OSNR − 10·log10(p·Rs/(2·Bref)) (optics.SNRdBFromOSNRdB) combined with the
 // transceiver ceiling, 1/SNR = 1/SNR_line + 1/SNR_trx.
 func (pc *portCtx) expectedESNRdB(osnrDB float64) float64 {
-	line := optics.SNRdBFromOSNRdB(osnrDB, pc.prof.BaudGBd, polOf(pc.prof))
+	line := optics.SNRdBFromOSNRdB(osnrDB, pc.prof.BaudGBd, pc.prof.PolarizationCount())
 	if math.IsInf(pc.snrTrxDB, 1) {
 		return line
 	}
@@ -199,7 +192,7 @@ func (pc *portCtx) impliedOSNRdB(esnrDB float64) float64 {
 		}
 		line = -optics.LinearToDB(inv)
 	}
-	return optics.OSNRdBFromSNRdB(line, pc.prof.BaudGBd, polOf(pc.prof))
+	return optics.OSNRdBFromSNRdB(line, pc.prof.BaudGBd, pc.prof.PolarizationCount())
 }
 
 func medianInterval(ts []int64) int64 {

@@ -46,6 +46,15 @@ var profileFigures = []string{
 // BitsPerSymbol is the number of bits a symbol carries on one polarization (0 if unknown).
 func (p Profile) BitsPerSymbol() int { return Modulations[p.Modulation] }
 
+// PolarizationCount is the number of polarizations carrying data: Polarizations, or 2 when the
+// profile gives none (the models' default; every modulation name is dual-polarization).
+func (p Profile) PolarizationCount() int {
+	if p.Polarizations == 0 {
+		return 2
+	}
+	return p.Polarizations
+}
+
 // isSet reports whether the figure named key holds a value (non-zero, non-empty).
 func (p Profile) isSet(key string) bool {
 	switch key {

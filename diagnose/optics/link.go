@@ -151,9 +151,8 @@ func ExpectLink(plan rules.Plan, prof rules.Profile) (LinkExpectation, error) {
 	if len(plan.Spans) == 0 {
 		return e, &PlanError{"plan", "spans", fmt.Errorf("no spans")}
 	}
-	pol := prof.Polarizations
-	if pol == 0 {
-		pol = 2
+	pol := prof.PolarizationCount()
+	if prof.Polarizations == 0 {
 		note("2 polarizations (the profile gives none)")
 	}
 	baud := prof.BaudGBd

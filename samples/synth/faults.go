@@ -39,7 +39,7 @@ func requiredOSNRdB(prof rules.Profile) float64 {
 		return prof.RequiredOSNRdB
 	}
 	mod, _ := optics.ParseModulation(prof.Modulation)
-	return optics.RequiredOSNRdB(mod, prof.BaudGBd, polarizations(prof), prof.FECThresholdBER, prof.ImplementationPenaltyDB)
+	return optics.RequiredOSNRdB(mod, prof.BaudGBd, prof.PolarizationCount(), prof.FECThresholdBER, prof.ImplementationPenaltyDB)
 }
 
 // apply draws the healthy time-varying figures, then changes the link model for each cause of

@@ -95,7 +95,7 @@ func spanFiber(s rules.Span, lambdaNm float64) (optics.Fiber, error) {
 // at the receiver.
 func newLinkModel(plan rules.Plan, prof rules.Profile) (linkModel, error) {
 	m := linkModel{fTHz: plan.FrequencyTHz, txDBm: plan.TxPowerDBm, extraLossDB: plan.ExtraLossDB,
-		baudGBd: prof.BaudGBd, pol: polarizations(prof)}
+		baudGBd: prof.BaudGBd, pol: prof.PolarizationCount()}
 	if !(plan.FrequencyTHz >= 150 && plan.FrequencyTHz <= 250) {
 		return m, fmt.Errorf("%w: plan %s: frequency %g THz", ErrSpec, plan.Circuit, plan.FrequencyTHz)
 	}
@@ -140,7 +140,7 @@ func backToBackSNRdB(prof rules.Profile) float64 {
 		return prof.BackToBackSNRdB
 	}
 	mod, _ := optics.ParseModulation(prof.Modulation)
-	pol := polarizations(prof)
+	pol := prof.PolarizationCount()
 	th := optics.SNRdBFromBER(mod, prof.FECThresholdBER)
 	rosnr := prof.RequiredOSNRdB
 	if rosnr == 0 {
@@ -353,12 +353,4 @@ func planAmplifiers(rng *rand.Rand, plan rules.Plan, f optics.Fiber, rxTarget fl
 		}
 	}
 	return amps
-}
-
-// polarizations is the profile's polarization count, 2 when it gives none (as optics.ExpectLink).
-func polarizations(prof rules.Profile) int {
-	if prof.Polarizations == 0 {
-		return 2
-	}
-	return prof.Polarizations
 }

@@ -165,7 +165,7 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 	}
 	lineRate := prof.LineRateGbps
 	if lineRate == 0 {
-		lineRate = float64(polarizations(prof)*prof.BitsPerSymbol()) * prof.BaudGBd
+		lineRate = float64(prof.PolarizationCount()*prof.BitsPerSymbol()) * prof.BaudGBd
 	}
 	blocksPerInterval := lineRate * 1e9 * spec.Interval.Seconds() / fecBlockBits
 
@@ -199,7 +199,7 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 		noise := [...]float64{rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(),
 			rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64()}
 
-		ase := optics.SNRdBFromOSNRdB(osnr, prof.BaudGBd, polarizations(prof))
+		ase := optics.SNRdBFromOSNRdB(osnr, prof.BaudGBd, prof.PolarizationCount())
 		snr := optics.CombineSNRdB(ase, a.NLISNRdB, a.B2BSNRdB, rxNoise(rx))
 		snr -= pen.pdl(pdl) + pen.dgd(dgd) + pen.cd(a.CDPsNm) + pen.overload(rx) + pen.lo(lo)
 		snr += snrJitterDB * noise[0]
