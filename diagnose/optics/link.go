@@ -123,6 +123,28 @@ func SpanFiber(s rules.Span, lambdaNm float64) (Fiber, error) {
 	return f, nil
 }
 
+// SpanLossDB is the planned loss of span s (dB): its measured_loss_db when given, otherwise the
+// link-budget sum
+//
+//	L = α·ℓ + n_c·a_c + n_s·a_s
+//
+// with α the fibre's attenuation (dB/km), ℓ the length (km), n_c connectors of a_c dB and n_s
+// splices of a_s dB each (DefaultConnectorLossDB and DefaultSpliceLossDB when the span gives no
+// value). Common practice. Domain: ℓ ≥ 0 km, counts ≥ 0.
+func SpanLossDB(s rules.Span, f Fiber) float64 {
+	if s.MeasuredLossDB != nil {
+		return *s.MeasuredLossDB
+	}
+	cl, sl := DefaultConnectorLossDB, DefaultSpliceLossDB
+	if s.ConnectorLossDB != nil {
+		cl = *s.ConnectorLossDB
+	}
+	if s.SpliceLossDB != nil {
+		sl = *s.SpliceLossDB
+	}
+	return f.AttenuationDBPerKm*s.LengthKm + float64(s.Connectors)*cl + float64(s.Splices)*sl
+}
+
 // ExpectLink runs the models over a link plan for a module profile: accumulated CD (Σ D·L),
 // mean DGD (quadrature sum), per-channel power along the chain and at the receiver, amplifier ASE
 // OSNR (1/OSNR summed), GN-model NLI per span (incoherent sum), their combination with the
@@ -243,21 +265,14 @@ func ExpectLink(plan rules.Plan, prof rules.Profile) (LinkExpectation, error) {
 			DispersionPsNmKm: f.DispersionPsNmKm(lambda), MeanDGDPs: MeanDGDPs(f.PMDCoefficientPsSqrtKm, s.LengthKm),
 			NLISNRdB: math.Inf(1)}
 		se.CDPsNm = se.DispersionPsNmKm * s.LengthKm
-		if s.MeasuredLossDB != nil {
-			se.LossDB, se.LossMeasured = *s.MeasuredLossDB, true
-		} else {
-			cl, sl := DefaultConnectorLossDB, DefaultSpliceLossDB
-			if s.ConnectorLossDB != nil {
-				cl = *s.ConnectorLossDB
-			} else if s.Connectors > 0 {
-				note("%s: %.2g dB per connector (common practice)", elem, cl)
+		se.LossDB, se.LossMeasured = SpanLossDB(s, f), s.MeasuredLossDB != nil
+		if !se.LossMeasured {
+			if s.ConnectorLossDB == nil && s.Connectors > 0 {
+				note("%s: %.2g dB per connector (common practice)", elem, DefaultConnectorLossDB)
 			}
-			if s.SpliceLossDB != nil {
-				sl = *s.SpliceLossDB
-			} else if s.Splices > 0 {
-				note("%s: %.2g dB per splice (common practice)", elem, sl)
+			if s.SpliceLossDB == nil && s.Splices > 0 {
+				note("%s: %.2g dB per splice (common practice)", elem, DefaultSpliceLossDB)
 			}
-			se.LossDB = f.AttenuationDBPerKm*s.LengthKm + float64(s.Connectors)*cl + float64(s.Splices)*sl
 		}
 		if nliOK {
 			eta := NLIEta(f, s.LengthKm, lambda, comb)

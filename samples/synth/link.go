@@ -61,23 +61,6 @@ type linkModel struct {
 	pol        int
 }
 
-// spanLossDB returns the planned loss of s: its measured loss when given, otherwise
-// attenuation × length + connectors + splices (defaults optics.DefaultConnectorLossDB and
-// optics.DefaultSpliceLossDB).
-func spanLossDB(s rules.Span, f optics.Fiber) float64 {
-	if s.MeasuredLossDB != nil {
-		return *s.MeasuredLossDB
-	}
-	cl, sl := optics.DefaultConnectorLossDB, optics.DefaultSpliceLossDB
-	if s.ConnectorLossDB != nil {
-		cl = *s.ConnectorLossDB
-	}
-	if s.SpliceLossDB != nil {
-		sl = *s.SpliceLossDB
-	}
-	return f.AttenuationDBPerKm*s.LengthKm + float64(s.Connectors)*cl + float64(s.Splices)*sl
-}
-
 // spanFiber resolves a plan span's fibre with its overrides by optics.SpanFiber; a fibre type
 // it does not know takes the G.652 figures when the span gives its dispersion (as "custom" does).
 func spanFiber(s rules.Span, lambdaNm float64) (optics.Fiber, error) {
@@ -109,7 +92,7 @@ func newLinkModel(plan rules.Plan, prof rules.Profile) (linkModel, error) {
 		if err != nil {
 			return m, fmt.Errorf("%w: plan %s span %d: %v", ErrSpec, plan.Circuit, i+1, err)
 		}
-		m.spans = append(m.spans, spanModel{fiber: f, lengthKm: s.LengthKm, lossDB: spanLossDB(s, f), pmd: f.PMDCoefficientPsSqrtKm})
+		m.spans = append(m.spans, spanModel{fiber: f, lengthKm: s.LengthKm, lossDB: optics.SpanLossDB(s, f), pmd: f.PMDCoefficientPsSqrtKm})
 	}
 	p := plan.TxPowerDBm
 	for k := 0; k <= len(plan.Spans); k++ {
@@ -341,7 +324,7 @@ func planAmplifiers(rng *rand.Rand, plan rules.Plan, f optics.Fiber, rxTarget fl
 		amps[0].GainDB = 0.1
 	}
 	for i, s := range plan.Spans {
-		loss := spanLossDB(s, f)
+		loss := optics.SpanLossDB(s, f)
 		if i < n-1 {
 			amps = append(amps, rules.Amplifier{Name: fmt.Sprintf("line-amp-%d", i+1), AfterSpan: i + 1, GainDB: round(loss, 1), NoiseFigureDB: nf[i+1]})
 		} else {
