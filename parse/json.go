@@ -570,6 +570,9 @@ func (jr *jsonReader) openConfig(obj map[string]any, lineNo int) {
 			jr.reject(r.bad)
 		case r.rec.mask == 0:
 			jr.reject(&ParseError{File: file, Line: lineNo, Field: p, Err: ErrNoData})
+		case p == "":
+			// A component or assignment with an empty name names no port.
+			jr.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: empty port name", ErrMissingValue)})
 		case !utf8.ValidString(p):
 			jr.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: port name %q", ErrEncoding, p)})
 		default:
