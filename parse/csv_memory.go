@@ -1,0 +1,124 @@
+package parse
+
+import "sync"
+
+// capacityHint pre-sizes the columns of the ports seen in an input's first block, when the
+// input's size is known: a port with c rows in a first block of b bytes is expected to have
+// about c·size/b rows in all. Regular telemetry (every port every interval) then fills exactly
+// one allocation per column, which finish hands over without copying; a wrong guess only
+// costs extra segments. All the hinted columns are cut from two slabs, so that the kernel can
+// back them with huge pages (see adviseHuge).
+//
+// Only ports whose rows are spread over most of the block are hinted: in a file sorted by
+// port the first block holds a few ports end to end, and scaling their counts up would
+// reserve far too much.
+type capacityHint struct {
+	rows  []int // expected rows of each group (port) of the block; 0: not hinted
+	off   []int // first row of each group in the slabs
+	times []int64
+	vals  []float64 // group g, column j: vals[off[g]*k + j*rows[g] : … + rows[g]]
+}
+
+func newCapacityHint(job *csvJob, ratio float64, k int) *capacityHint {
+	h := &capacityHint{rows: make([]int, len(job.names)), off: make([]int, len(job.names))}
+	start, total := int32(0), 0
+	blockRows := len(job.times)
+	for g := range job.names {
+		end := job.groupEnd[g]
+		h.off[g] = total
+		if 2*int(job.spread[g]) >= blockRows {
+			// +1 row and 5 %: the first block sees each port a few dozen times, so its
+			// count is easily off by one; capacity never written costs address space.
+			h.rows[g] = int(float64(end-start+1)*ratio*1.05) + 16
+			total += h.rows[g]
+		}
+		start = end
+	}
+	if total == 0 {
+		return nil
+	}
+	h.times = make([]int64, total)
+	h.vals = make([]float64, total*k)
+	adviseHuge(h.times)
+	adviseHuge(h.vals)
+	return h
+}
+
+// exactHint sizes the columns of every port of a whole-input job to its rows in the job, cut
+// from one slab for the file: the ports' columns are then filled without growing and handed
+// over by finish without a copy.
+func exactHint(job *csvJob, k int, arena *slabArena) *capacityHint {
+	if len(job.names) == 0 {
+		return nil
+	}
+	h := &capacityHint{rows: make([]int, len(job.names)), off: make([]int, len(job.names))}
+	start, total := int32(0), 0
+	for g := range job.names {
+		end := job.groupEnd[g]
+		h.off[g], h.rows[g] = total, int(end-start)
+		total += h.rows[g]
+		start = end
+	}
+	h.times, h.vals = arena.times(total), arena.floats(total*k)
+	return h
+}
+
+// slabArena cuts the columns of many small inputs from a few large chunks advised for huge
+// pages (adviseHuge): thousands of files' columns allocated one by one would each be faulted in
+// page by page, which on a virtual machine costs more than parsing them. A nil arena allocates
+// plainly. Safe for concurrent use.
+type slabArena struct {
+	mu sync.Mutex
+	f  []float64
+	t  []int64
+}
+
+// arenaChunk is the number of values in one chunk (8 MiB).
+const arenaChunk = 1 << 20
+
+func (a *slabArena) floats(n int) []float64 {
+	if a == nil {
+		return make([]float64, n)
+	}
+	return carve(&a.mu, &a.f, n)
+}
+
+func (a *slabArena) times(n int) []int64 {
+	if a == nil {
+		return make([]int64, n)
+	}
+	return carve(&a.mu, &a.t, n)
+}
+
+// carve cuts n values from the arena chunk *chunk, starting a new chunk (advised for huge pages)
+// when the current one is full; requests above a quarter chunk get their own allocation.
+func carve[T float64 | int64](mu *sync.Mutex, chunk *[]T, n int) []T {
+	if n > arenaChunk/4 {
+		return make([]T, n)
+	}
+	mu.Lock()
+	defer mu.Unlock()
+	if cap(*chunk)-len(*chunk) < n {
+		*chunk = make([]T, 0, arenaChunk)
+		adviseHuge(*chunk)
+	}
+	m := len(*chunk)
+	*chunk = (*chunk)[:m+n]
+	return (*chunk)[m : m+n : m+n]
+}
+
+// apply gives port p (group g of the hinted block) its pre-sized columns.
+func (h *capacityHint) apply(p *portBuf, g int, qs []Quantity) {
+	n, o := h.rows[g], h.off[g]
+	if n == 0 {
+		return
+	}
+	p.hint = n
+	p.times = h.times[o : o : o+n]
+	k := len(qs)
+	for j, q := range qs {
+		a := o*k + j*n
+		p.vals[q] = &colBuf{hint: n, segs: [][]float64{h.vals[a : a : a+n]}}
+		p.mask |= 1 << q
+	}
+}

@@ -1,0 +1,400 @@
+package parse
+
+import (
+	"bytes"
+	"fmt"
+	"io"
+	"slices"
+	"sync"
+	"sync/atomic"
+)
+
+// chunkSize is the size of the blocks a CSV input is cut into (at line ends) for parallel parsing.
+const chunkSize = 1 << 20
+
+// recycler hands back the blocks and jobs of one input once merged, so that a long input
+// allocates them only for the few blocks in flight (a sync.Pool would drop them at every GC).
+type recycler struct {
+	bufs chan *[]byte
+	jobs chan *csvJob
+	size int // bytes of a new block buffer
+}
+
+// newRecycler keeps up to n blocks; size is the input's size when known (0: unknown), so that a
+// small file gets a block its size rather than a whole chunkSize to allocate and clear.
+func newRecycler(n int, size int64) *recycler {
+	r := &recycler{bufs: make(chan *[]byte, n), jobs: make(chan *csvJob, n), size: chunkSize}
+	if size > 0 && size < chunkSize {
+		r.size = int(size) + 1 // + 1: room to see the end of the input without growing
+	}
+	return r
+}
+
+func (r *recycler) buf() *[]byte {
+	select {
+	case b := <-r.bufs:
+		return b
+	default:
+		b := make([]byte, r.size)
+		return &b
+	}
+}
+
+func (r *recycler) putBuf(b *[]byte) {
+	select {
+	case r.bufs <- b:
+	default:
+	}
+}
+
+// job takes a recycled job, reset, or a new one.
+func (r *recycler) job(bp *[]byte, firstLine int) *csvJob {
+	var j *csvJob
+	select {
+	case j = <-r.jobs:
+	default:
+		j = new(csvJob)
+	}
+	*j = csvJob{buf: bp, firstLine: firstLine, done: make(chan struct{}),
+		names: j.names[:0], rowPort: j.rowPort[:0], times: j.times[:0], vals: j.vals[:0],
+		groupEnd: j.groupEnd[:0], spread: j.spread[:0], gTimes: j.gTimes[:0], gVals: j.gVals[:0]}
+	return j
+}
+
+func (r *recycler) putJob(j *csvJob) {
+	j.rejects = nil
+	select {
+	case r.jobs <- j:
+	default:
+	}
+}
+
+// csvJob is one block of complete lines and, once parsed, its rows.
+type csvJob struct {
+	buf       *[]byte
+	data      []byte
+	firstLine int
+	cutTail   bool          // the last line has no line end because the stream broke off
+	dataLen   int           // len(data), kept after data is released
+	hint      *capacityHint // set on the first block with rows when the input size is known
+	pending   atomic.Int32  // merge shards still to take this job
+	done      chan struct{}
+
+	rowsRead int
+	names    []string  // the job's distinct port names, in order of first sight
+	rowPort  []int32   // index into names of each accepted row
+	times    []int64   // time of each accepted row
+	vals     []float64 // len(qs) values per accepted row, row after row
+	rejects  []*ParseError
+	nReject  int
+
+	// The accepted rows regrouped by port (see group), so that the merge appends whole runs.
+	groupEnd []int32   // end (in rows) of each port's group
+	spread   []int32   // rows between each port's first and last row in the block
+	gTimes   []int64   // times, port group after port group, arrival order inside a group
+	gVals    []float64 // per group: len(qs) columns of the group's length, one after the other
+}
+
+// group reorders the accepted rows by port, stably, with each port's values column by column:
+// the merge can then append a port's run of each quantity in one copy. It runs on the worker.
+func (job *csvJob) group(k int) {
+	np := len(job.names)
+	n := len(job.times)
+	job.groupEnd = slices.Grow(job.groupEnd[:0], np)[:np]
+	counts := job.groupEnd
+	clear(counts)
+	for _, pi := range job.rowPort {
+		counts[pi]++
+	}
+	// start of each group, in rows; counts becomes the running cursor
+	starts := make([]int32, np)
+	sum := int32(0)
+	for i := range counts {
+		starts[i] = sum
+		sum += counts[i]
+		counts[i] = 0
+	}
+	job.gTimes = slices.Grow(job.gTimes[:0], n)[:n]
+	job.gVals = slices.Grow(job.gVals[:0], n*k)[:n*k]
+	sizes := make([]int32, np)
+	job.spread = slices.Grow(job.spread[:0], np)[:np]
+	first := make([]int32, np)
+	for r, pi := range job.rowPort {
+		if sizes[pi] == 0 {
+			first[pi] = int32(r)
+		}
+		sizes[pi]++
+		job.spread[pi] = int32(r) - first[pi]
+	}
+	for r, pi := range job.rowPort {
+		at := starts[pi] + counts[pi]
+		job.gTimes[at] = job.times[r]
+		base := int(starts[pi]) * k
+		cnt := int(sizes[pi])
+		off := int(counts[pi])
+		row := job.vals[r*k : (r+1)*k]
+		for j, v := range row {
+			job.gVals[base+j*cnt+off] = v
+		}
+		counts[pi]++
+	}
+	for i := range counts {
+		counts[i] = starts[i] + sizes[i]
+	}
+}
+
+// readCSV reads one CSV stream into res. r delivers the decompressed bytes without BOM.
+func readCSV(res *fileResult, r io.Reader, opt Options) {
+	file := res.stats.File
+	hb := getBytes(bufferSize(res.sizeHint))
+	defer func() { bytesPool.Put(hb) }()
+	st, ok := readCSVHeader(res, r, hb)
+	if !ok {
+		return
+	}
+	lay := res.lay
+	carry, line, eof, readErr := st.carry, st.line, st.eof, st.readErr
+	if res.sizeHint > 0 && res.sizeHint <= chunkSize {
+		readCSVWhole(res, r, opt, carry, line, eof, readErr)
+		return
+	}
+
+	workers := opt.workers()
+	rec := newRecycler(4*workers+4, res.sizeHint)
+	var stop atomic.Bool
+	order := make(chan *csvJob, workers)
+	jobs := make(chan *csvJob, workers)
+	go func() { // producer: cut the stream into jobs of whole lines
+		defer close(order)
+		defer close(jobs)
+		for !stop.Load() {
+			bp := rec.buf()
+			b := (*bp)[:0]
+			if len(carry) > cap(b) {
+				b = make([]byte, 0, 2*len(carry))
+			}
+			b = append(b, carry...)
+			carry = nil
+			for !eof {
+				if len(b) == cap(b) {
+					if bytes.IndexByte(b, '\n') >= 0 {
+						break
+					}
+					nb := make([]byte, len(b), 2*cap(b)) // a line longer than the block
+					copy(nb, b)
+					b = nb
+				}
+				b = readMore(r, b, &eof, &readErr)
+			}
+			job := rec.job(bp, line)
+			if eof {
+				job.data = b
+				job.cutTail = readErr != nil && len(b) > 0 && b[len(b)-1] != '\n'
+			} else {
+				nl := bytes.LastIndexByte(b, '\n')
+				job.data = b[:nl+1]
+				carry = append([]byte(nil), b[nl+1:]...)
+			}
+			lines := bytes.Count(job.data, []byte{'\n'})
+			line += lines
+			// Room for every row of the block, so that parsing never grows (and copies) them.
+			rows := lines + 1
+			job.rowPort = slices.Grow(job.rowPort, rows)
+			job.times = slices.Grow(job.times, rows)
+			job.vals = slices.Grow(job.vals, rows*len(lay.qs))
+			order <- job
+			jobs <- job
+			if eof {
+				return
+			}
+		}
+	}()
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			cp := &csvParser{file: file, lay: lay}
+			for job := range jobs {
+				if !stop.Load() {
+					cp.parse(job)
+				}
+				rec.putBuf(job.buf)
+				job.dataLen = len(job.data)
+				job.buf, job.data = nil, nil
+				close(job.done)
+			}
+		}()
+	}
+	// The merge is sharded by port: shard i appends the ports whose name hashes to i, every
+	// shard taking the jobs in input order, so each port's rows keep their order while
+	// several goroutines fill (and fault in) the columns.
+	shards := workers
+	builders := make([]*fileBuilder, shards)
+	chans := make([]chan *csvJob, shards)
+	var swg sync.WaitGroup
+	for i := range shards {
+		builders[i] = newFileBuilder()
+		chans[i] = make(chan *csvJob, 1)
+		swg.Add(1)
+		go func() {
+			defer swg.Done()
+			for job := range chans[i] {
+				applyCSV(builders[i], lay, job, i, shards)
+				if job.pending.Add(-1) == 0 {
+					rec.putJob(job)
+				}
+			}
+		}()
+	}
+	for job := range order {
+		<-job.done
+		if stop.Load() {
+			continue
+		}
+		res.accountCSV(job, opt.Strict)
+		if res.strictErr != nil {
+			stop.Store(true)
+			continue
+		}
+		job.pending.Store(int32(shards))
+		for _, ch := range chans {
+			ch <- job
+		}
+	}
+	for _, ch := range chans {
+		close(ch)
+	}
+	swg.Wait()
+	wg.Wait()
+	for _, b := range builders {
+		for _, p := range b.order {
+			res.fb.ports[p.name] = p
+			res.fb.order = append(res.fb.order, p)
+		}
+	}
+	if readErr != nil {
+		res.fail(&ParseError{File: file, Line: line, Err: fmt.Errorf("%w: %v", ErrTruncated, readErr)}, nil)
+	}
+}
+
+// readMore reads into the spare capacity of b and returns b extended by what was read. At the end
+// of the stream it sets *eof, and it keeps a read error other than io.EOF in *readErr.
+func readMore(r io.Reader, b []byte, eof *bool, readErr *error) []byte {
+	n, err := r.Read(b[len(b):cap(b)])
+	if err != nil {
+		*eof = true
+		if err != io.EOF {
+			*readErr = err
+		}
+	}
+	return b[:len(b)+n]
+}
+
+// readCSVWhole reads the rest of a small input (known to fit one block) as one block on this
+// goroutine: the same steps as the parallel path of readCSV with one block, without its
+// goroutines and channels, which cost more than parsing a file of a few hundred rows (folders
+// of many small files are read in parallel one file per goroutine instead, by ReadPaths).
+func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line int, eof bool, readErr error) {
+	bp := getBytes(max(int(res.sizeHint)+1, len(carry)+512))
+	defer func() { bytesPool.Put(bp) }()
+	b := append(*bp, carry...)
+	for !eof {
+		if len(b) == cap(b) {
+			b = slices.Grow(b, cap(b)) // larger than announced (a file still growing)
+			*bp = b
+		}
+		b = readMore(r, b, &eof, &readErr)
+	}
+	*bp = b
+	w := wholePool.Get().(*wholeScratch)
+	defer wholePool.Put(w)
+	job := &w.job
+	*job = csvJob{data: b, firstLine: line,
+		names: job.names[:0], groupEnd: job.groupEnd[:0], spread: job.spread[:0], gTimes: job.gTimes[:0], gVals: job.gVals[:0]}
+	job.cutTail = readErr != nil && len(b) > 0 && b[len(b)-1] != '\n'
+	lines := bytes.Count(b, []byte{'\n'})
+	line += lines
+	k := len(res.lay.qs)
+	rows := lines + 1 // at most
+	job.rowPort = slices.Grow(w.rowPort[:0], rows)
+	job.times = slices.Grow(w.times[:0], rows)
+	job.vals = slices.Grow(w.vals[:0], rows*k)
+	defer func() { w.rowPort, w.times, w.vals = job.rowPort, job.times, job.vals }()
+	cp := &w.cp
+	cp.file, cp.lay, cp.lastTime = res.stats.File, res.lay, cp.lastTime[:0]
+	cp.parse(job)
+	job.dataLen = len(job.data)
+	job.data = nil
+	res.accountCSV(job, opt.Strict)
+	if res.strictErr == nil {
+		job.hint = exactHint(job, k, opt.arena)
+		applyCSV(res.fb, res.lay, job, 0, 1)
+	}
+	if readErr != nil {
+		res.fail(&ParseError{File: res.stats.File, Line: line, Err: fmt.Errorf("%w: %v", ErrTruncated, readErr)}, nil)
+	}
+}
+
+// accountCSV adds a parsed job's counts and rejections to the file's accounting, in input
+// order; in strict mode the first rejection stops the file instead.
+func (res *fileResult) accountCSV(job *csvJob, strict bool) {
+	res.stats.RowsRead += job.rowsRead
+	if strict && len(job.rejects) > 0 {
+		res.strictErr = job.rejects[0]
+		// The block with the bad row is not taken: the counts cover the blocks before it.
+		res.stats.RowsRead -= job.rowsRead
+		return
+	}
+	res.stats.RowsRejected += job.nReject
+	res.stats.RowsUsed += len(job.times)
+	for _, pe := range job.rejects {
+		res.addRejection(pe.rejection())
+	}
+	if !res.hinted && len(job.times) > 0 {
+		res.hinted = true
+		if res.sizeHint > 0 && job.dataLen > 0 {
+			if ratio := float64(res.sizeHint) / float64(job.dataLen); ratio >= 1.5 {
+				job.hint = newCapacityHint(job, ratio, len(res.lay.qs))
+			}
+		}
+	}
+}
+
+// wholeScratch is the reusable working space of readCSVWhole (one per concurrent reader).
+type wholeScratch struct {
+	job     csvJob
+	cp      csvParser
+	rowPort []int32
+	times   []int64
+	vals    []float64
+}
+
+var wholePool = sync.Pool{New: func() any { return new(wholeScratch) }}
+
+// applyCSV appends the rows of the ports of shard (of shards) from a parsed job.
+func applyCSV(fb *fileBuilder, lay *csvLayout, job *csvJob, shard, shards int) {
+	k := len(lay.qs)
+	start := int32(0)
+	for g, name := range job.names {
+		end := job.groupEnd[g]
+		if shards == 1 || shardOf(name, shards) == shard {
+			p := fb.port([]byte(name))
+			if job.hint != nil && len(p.times) == 0 && p.mask == 0 {
+				job.hint.apply(p, g, lay.qs)
+			}
+			p.addBlock(job.gTimes[start:end], lay.qs, job.gVals[int(start)*k:int(end)*k], lay.qmask)
+		}
+		start = end
+	}
+}
+
+// shardOf hashes a port name (FNV-1a) to one of n shards.
+func shardOf(name string, n int) int {
+	h := uint32(2166136261)
+	for i := 0; i < len(name); i++ {
+		h ^= uint32(name[i])
+		h *= 16777619
+	}
+	return int(h % uint32(n))
+}

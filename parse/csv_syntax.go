@@ -1,0 +1,415 @@
+package parse
+
+import (
+	"bytes"
+	"fmt"
+	"io"
+	"math"
+	"slices"
+	"strings"
+	"unicode/utf8"
+)
+
+// csvLayout is what the header row says about every following row.
+type csvLayout struct {
+	delim        byte
+	decimalComma bool
+	cols         []column
+	names        []string // header cells as written
+	timeCol      int
+	portCol      int
+	qFields      []int      // field index of each quantity column
+	qs           []Quantity // quantity of each quantity column
+	qmask        uint32
+}
+
+// sniffDelimiter picks the most frequent of tab, semicolon and comma outside quotes; ties go to
+// tab, then semicolon.
+func sniffDelimiter(line []byte) byte {
+	var tabs, semis, commas int
+	inQuote := false
+	for _, c := range line {
+		switch c {
+		case '"':
+			inQuote = !inQuote
+		case '\t':
+			if !inQuote {
+				tabs++
+			}
+		case ';':
+			if !inQuote {
+				semis++
+			}
+		case ',':
+			if !inQuote {
+				commas++
+			}
+		}
+	}
+	switch {
+	case tabs >= semis && tabs >= commas && tabs > 0:
+		return '\t'
+	case semis >= commas && semis > 0:
+		return ';'
+	}
+	return ','
+}
+
+// parseHeader reads the header row. notes lists unknown columns.
+func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, error) {
+	lay := &csvLayout{delim: sniffDelimiter(line), timeCol: -1, portCol: -1}
+	lay.decimalComma = lay.delim == ';'
+	fields, _, err := splitFields(line, lay.delim, nil, nil)
+	if err != nil {
+		return nil, nil, &ParseError{File: file, Line: lineNo, Err: err}
+	}
+	var notes []string
+	seen := map[column]int{}
+	for i, f := range fields {
+		name := string(f)
+		lay.names = append(lay.names, name)
+		c := lookupColumn(name)
+		lay.cols = append(lay.cols, c)
+		if c.kind == colUnknown {
+			notes = append(notes, fmt.Sprintf("unknown column %d %q ignored", i+1, name))
+			continue
+		}
+		key := column{kind: c.kind, q: c.q}
+		if j, dup := seen[key]; dup {
+			return nil, nil, &ParseError{File: file, Line: lineNo, Column: i + 1, Field: name,
+				Err: fmt.Errorf("%w: columns %d %q and %d %q are the same quantity", ErrDuplicateColumn, j+1, lay.names[j], i+1, name)}
+		}
+		seen[key] = i
+		switch c.kind {
+		case colTime:
+			lay.timeCol = i
+		case colPort:
+			lay.portCol = i
+		case colQuantity:
+			lay.qFields = append(lay.qFields, i)
+			lay.qs = append(lay.qs, c.q)
+			lay.qmask |= 1 << c.q
+		}
+	}
+	var missing []string
+	if lay.timeCol < 0 {
+		missing = append(missing, "time")
+	}
+	if lay.portCol < 0 {
+		missing = append(missing, "port")
+	}
+	if len(lay.qs) == 0 {
+		missing = append(missing, "any measured quantity")
+	}
+	if len(missing) > 0 {
+		return nil, nil, &ParseError{File: file, Line: lineNo, Err: fmt.Errorf("%w: header has no %s column", ErrMissingColumn, strings.Join(missing, ", no "))}
+	}
+	return lay, notes, nil
+}
+
+// splitFields cuts line at delim. Fields are trimmed of spaces (and tabs unless tab is the
+// delimiter). A field may be quoted with "; inside quotes the delimiter is literal and "" is a
+// quote. Unescaped fields are slices of line; fields with "" are copied into scratch.
+func splitFields(line []byte, delim byte, fields [][]byte, scratch []byte) ([][]byte, []byte, error) {
+	fields = fields[:0]
+	scratch = scratch[:0]
+	isSpace := func(c byte) bool { return c == ' ' || (c == '\t' && delim != '\t') }
+	if bytes.IndexByte(line, '"') < 0 {
+		// No quotes (nearly every telemetry line): cut at each delimiter in one pass and trim,
+		// which is what the general loop below does for unquoted fields.
+		start := 0
+		for i := 0; i <= len(line); i++ {
+			if i < len(line) && line[i] != delim {
+				continue
+			}
+			f := line[start:i]
+			for len(f) > 0 && isSpace(f[0]) {
+				f = f[1:]
+			}
+			for len(f) > 0 && isSpace(f[len(f)-1]) {
+				f = f[:len(f)-1]
+			}
+			fields = append(fields, f)
+			start = i + 1
+		}
+		return fields, scratch, nil
+	}
+	i, n := 0, len(line)
+	for {
+		for i < n && isSpace(line[i]) {
+			i++
+		}
+		if i < n && line[i] == '"' {
+			i++
+			start := i
+			escaped := false
+			for {
+				j := bytes.IndexByte(line[i:], '"')
+				if j < 0 {
+					return fields, scratch, ErrQuote
+				}
+				i += j
+				if i+1 < n && line[i+1] == '"' {
+					escaped = true
+					i += 2
+					continue
+				}
+				break
+			}
+			f := line[start:i]
+			i++ // closing quote
+			if escaped {
+				s0 := len(scratch)
+				for k := 0; k < len(f); k++ {
+					scratch = append(scratch, f[k])
+					if f[k] == '"' {
+						k++
+					}
+				}
+				f = scratch[s0:]
+			}
+			for i < n && isSpace(line[i]) {
+				i++
+			}
+			fields = append(fields, f)
+			if i == n {
+				return fields, scratch, nil
+			}
+			if line[i] != delim {
+				return fields, scratch, fmt.Errorf("%w: text after closing quote", ErrQuote)
+			}
+			i++
+			continue
+		}
+		j := bytes.IndexByte(line[i:], delim)
+		end := n
+		if j >= 0 {
+			end = i + j
+		}
+		f := line[i:end]
+		for len(f) > 0 && isSpace(f[len(f)-1]) {
+			f = f[:len(f)-1]
+		}
+		fields = append(fields, f)
+		if j < 0 {
+			return fields, scratch, nil
+		}
+		i = end + 1
+	}
+}
+
+// csvParser parses jobs; one per worker goroutine, so its scratch space is private.
+type csvParser struct {
+	file    string
+	lay     *csvLayout
+	fields  [][]byte
+	scratch []byte
+	num     []byte
+	// the last time field parsed and its value: rows of one sample time usually follow each other
+	lastTime   []byte
+	lastTimeMs int64
+	portIdx    map[string]int32 // port name → index into the current job's names
+}
+
+func (cp *csvParser) parse(job *csvJob) {
+	if cp.portIdx == nil {
+		cp.portIdx = map[string]int32{}
+	}
+	clear(cp.portIdx)
+	defer job.group(len(cp.lay.qs))
+	data := job.data
+	line := job.firstLine
+	for len(data) > 0 {
+		nl := bytes.IndexByte(data, '\n')
+		var ln []byte
+		last := false
+		if nl < 0 {
+			ln, data, last = data, nil, true
+		} else {
+			ln, data = data[:nl], data[nl+1:]
+		}
+		lineNo := line
+		line++
+		if len(ln) > 0 && ln[len(ln)-1] == '\r' {
+			ln = ln[:len(ln)-1]
+		}
+		if isBlank(ln) {
+			continue
+		}
+		job.rowsRead++
+		if last && job.cutTail {
+			job.reject(&ParseError{File: cp.file, Line: lineNo, Err: fmt.Errorf("%w: last line cut short", ErrTruncated)})
+			continue
+		}
+		base := len(job.vals)
+		if pe := cp.row(job, ln, lineNo); pe != nil {
+			job.vals = job.vals[:base]
+			job.reject(pe)
+		}
+	}
+}
+
+func (job *csvJob) reject(pe *ParseError) {
+	job.nReject++
+	if len(job.rejects) < MaxRejectionsKept {
+		job.rejects = append(job.rejects, pe)
+	}
+}
+
+func isBlank(b []byte) bool {
+	for _, c := range b {
+		if c != ' ' && c != '\t' {
+			return false
+		}
+	}
+	return true
+}
+
+// row parses one record into job, or says why it is rejected.
+func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
+	lay := cp.lay
+	var err error
+	cp.fields, cp.scratch, err = splitFields(ln, lay.delim, cp.fields, cp.scratch)
+	if err != nil {
+		return &ParseError{File: cp.file, Line: lineNo, Err: err}
+	}
+	fields := cp.fields
+	if len(fields) != len(lay.cols) {
+		return &ParseError{File: cp.file, Line: lineNo, Column: min(len(fields), len(lay.cols)) + 1,
+			Err: fmt.Errorf("%w: row has %d fields, header has %d", ErrFieldCount, len(fields), len(lay.cols))}
+	}
+	tf := fields[lay.timeCol]
+	if isMissing(tf) {
+		return cp.fieldErr(lineNo, lay.timeCol, ErrMissingValue)
+	}
+	var t int64
+	if len(cp.lastTime) > 0 && bytes.Equal(tf, cp.lastTime) {
+		t = cp.lastTimeMs
+	} else {
+		var ok bool
+		if t, ok = parseTime(tf); !ok {
+			return cp.fieldErr(lineNo, lay.timeCol, fmt.Errorf("%w: %s", ErrBadTime, quoteShort(tf)))
+		}
+		cp.lastTime = append(cp.lastTime[:0], tf...)
+		cp.lastTimeMs = t
+	}
+	pf := fields[lay.portCol]
+	if isMissing(pf) {
+		return cp.fieldErr(lineNo, lay.portCol, ErrMissingValue)
+	}
+	pi, known := cp.portIdx[bytesString(pf)]
+	if !known && !utf8.Valid(pf) { // a name seen before in this block was valid then
+		return cp.fieldErr(lineNo, lay.portCol, fmt.Errorf("%w: port name %s", ErrEncoding, quoteShort(pf)))
+	}
+	for j, fi := range lay.qFields {
+		f := fields[fi]
+		if isMissing(f) {
+			job.vals = append(job.vals, math.NaN())
+			continue
+		}
+		if lay.decimalComma {
+			if c := bytes.IndexByte(f, ','); c >= 0 {
+				cp.num = append(cp.num[:0], f...)
+				cp.num[c] = '.'
+				f = cp.num
+			}
+		}
+		v, ok := parseFloat(f)
+		if !ok {
+			return cp.fieldErr(lineNo, fi, fmt.Errorf("%w: %s", ErrNotNumber, quoteShort(fields[fi])))
+		}
+		col := lay.cols[fi]
+		v, ok = col.convert(v)
+		if !ok {
+			return cp.fieldErr(lineNo, fi, col.convFailure(v))
+		}
+		if q := lay.qs[j]; !(v >= plainLo[q] && v <= plainHi[q]) { // else surely in range
+			if err := checkRange(q, v); err != nil {
+				return cp.fieldErr(lineNo, fi, err)
+			}
+		}
+		job.vals = append(job.vals, v)
+	}
+	if !known {
+		pi = int32(len(job.names))
+		name := string(pf)
+		job.names = append(job.names, name)
+		cp.portIdx[name] = pi
+	}
+	job.rowPort = append(job.rowPort, pi)
+	job.times = append(job.times, t)
+	return nil
+}
+
+func (cp *csvParser) fieldErr(lineNo, fi int, err error) *ParseError {
+	return &ParseError{File: cp.file, Line: lineNo, Column: fi + 1, Field: cp.lay.names[fi], Err: err}
+}
+
+// quoteShort quotes b for a message, cut to 40 bytes.
+func quoteShort(b []byte) string {
+	if len(b) > 40 {
+		return fmt.Sprintf("%q…", b[:40])
+	}
+	return fmt.Sprintf("%q", b)
+}
+
+// readCSVHeader reads the stream up to and including its header row into *hb (a buffer from
+// getBytes, which the caller puts back once done with the returned carry) and parses the
+// header into res.lay, adding its notes. On failure it records the error in res and returns false.
+func readCSVHeader(res *fileResult, r io.Reader, hb *[]byte) (st csvStart, ok bool) {
+	file := res.stats.File
+	buf := *hb
+	line := 1
+	var readErr error
+	eof := false
+	var header []byte
+	for header == nil {
+		if nl := bytes.IndexByte(buf, '\n'); nl >= 0 || eof {
+			var ln []byte
+			if nl >= 0 {
+				ln = buf[:nl]
+			} else {
+				ln = buf
+			}
+			rest := len(ln) + 1
+			if nl < 0 {
+				rest = len(ln)
+			}
+			trimmed := bytes.TrimRight(ln, "\r")
+			if isBlank(trimmed) {
+				if nl < 0 { // nothing but blank lines
+					res.fail(&ParseError{File: file, Line: line, Err: ErrNoHeader}, readErr)
+					return st, false
+				}
+				buf = buf[rest:]
+				line++
+				continue
+			}
+			header = append([]byte(nil), trimmed...)
+			buf = buf[rest:]
+			line++
+			break
+		}
+		if len(buf) == cap(buf) {
+			buf = slices.Grow(buf, cap(buf))
+			*hb = buf
+		}
+		buf = readMore(r, buf, &eof, &readErr)
+	}
+	lay, notes, err := parseHeader(file, line-1, header)
+	if err != nil {
+		res.fail(err, readErr)
+		return st, false
+	}
+	res.stats.Notes = append(res.stats.Notes, notes...)
+	res.lay = lay
+	return csvStart{carry: buf, line: line, eof: eof, readErr: readErr}, true
+}
+
+// csvStart is where a CSV stream stands once its header row is read.
+type csvStart struct {
+	carry   []byte // bytes after the header, not yet parsed
+	line    int    // line number of the first byte of carry
+	eof     bool
+	readErr error
+}
