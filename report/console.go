@@ -69,17 +69,6 @@ func FormatMargin(v float64, unit string) string {
 
 func verdictWord(v diagnose.Verdict) string { return strings.ToUpper(string(v)) }
 
-// WriteResultJSON writes the Result as the JSON object of the design contract (check and triage).
-func WriteResultJSON(w io.Writer, res *diagnose.Result) error {
-	return writeResultJSON(w, res) // json.Encoder's bytes, ports encoded in parallel (json_ports.go)
-}
-
-// WriteCheckJSON writes the check result as the JSON of the design contract.
-func WriteCheckJSON(w io.Writer, res *diagnose.Result) error { return WriteResultJSON(w, res) }
-
-// WriteTriageJSON writes the triage result as the JSON of the design contract.
-func WriteTriageJSON(w io.Writer, res *diagnose.Result) error { return WriteResultJSON(w, res) }
-
 // wrap breaks text into lines of at most width runes, on spaces.
 func wrap(text string, width int) []string {
 	var lines []string
@@ -383,7 +372,7 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 		tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		fmt.Fprintln(tw, "  cause\ttop cause of\tlisted on\t")
 		for _, c := range counts {
-			fmt.Fprintf(tw, "  %s\t%s\t%s\t\n", c.ID, ports(c.Top), ports(c.Ports))
+			fmt.Fprintf(tw, "  %s\t%s\t%s\t\n", c.ID, plural(c.Top, "port", "ports"), plural(c.Ports, "port", "ports"))
 		}
 		tw.Flush()
 	}
@@ -446,11 +435,4 @@ func WriteTriageMarkdown(w io.Writer, shown, all []diagnose.PortResult) error {
 		fmt.Fprintf(w, "| %s | %d | %d |\n", c.ID, c.Top, c.Ports)
 	}
 	return nil
-}
-
-func ports(n int) string {
-	if n == 1 {
-		return "1 port"
-	}
-	return strconv.Itoa(n) + " ports"
 }

@@ -1,8 +1,7 @@
-// Package report writes what beatnote tells its users: the console writers of check and
-// triage (text, the JSON of the design contract, CSV, Markdown), and the acceptance report of
-// one circuit as PDF (fpdf, with charts drawn by gonum/plot), Markdown and JSON, with its
-// detached Ed25519 signature (RFC 8032; keys in PKCS #8 and PKIX PEM) and its verification.
+// Package report holds the console writers of beatnote's commands: the text, JSON (the design
+// contract's object), CSV and Markdown output of check and triage, and the text and JSON of scan
+// and profiles, with the value and margin formatting they share.
 //
-// The package judges nothing: verdicts, criteria, causes and chart annotations come from the
-// diagnose engine. docs/report.md describes the acceptance report and the signature format.
+// The package judges nothing: verdicts, criteria and causes come from the diagnose engine. The
+// acceptance report lives in report/acceptance, its signature and verification in report/sign.
 package report

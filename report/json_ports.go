@@ -11,12 +11,13 @@ import (
 	"github.com/beatnote/beatnote/diagnose"
 )
 
-// writeResultJSON writes res exactly as json.Encoder with SetIndent("", "  ") does, but encodes
+// WriteResultJSON writes res, the result of check or triage, as the JSON object of the design
+// contract: exactly as json.Encoder with SetIndent("", "  ") does, but it encodes
 // the ports — nearly all of the bytes of a fleet triage — on several goroutines. A port at
 // depth 2 of the indented document is json.MarshalIndent(port, "    ", "  ") after four spaces
 // of indentation, so the pieces join into the same bytes (a test compares them). Nothing is
 // written when any part fails to encode, as with the Encoder.
-func writeResultJSON(w io.Writer, res *diagnose.Result) error {
+func WriteResultJSON(w io.Writer, res *diagnose.Result) error {
 	const small = 64 // below this many ports the plain Encoder is as fast
 	if len(res.Ports) < small {
 		enc := json.NewEncoder(w)

@@ -46,7 +46,7 @@ func (c *CheckCmd) Run(g *Globals, pr *printer) error {
 		res.Ports = keep
 	}
 	if c.Format == "json" {
-		err = report.WriteCheckJSON(pr.Out(), res)
+		err = report.WriteResultJSON(pr.Out(), res)
 	} else {
 		err = report.WriteCheckText(pr.Out(), res)
 	}

@@ -1,6 +1,6 @@
 package main
 
-import "github.com/beatnote/beatnote/report"
+import "github.com/beatnote/beatnote/report/sign"
 
 // KeygenCmd creates an Ed25519 key pair for signing acceptance reports.
 type KeygenCmd struct {
@@ -19,7 +19,7 @@ every report the key signs. See docs/report.md.`
 
 // Run writes the key pair and prints its fingerprint.
 func (c *KeygenCmd) Run(g *Globals, pr *printer) error {
-	fp, err := report.WriteKeyPair(c.Out, c.Force, nil)
+	fp, err := sign.WriteKeyPair(c.Out, c.Force, nil)
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}

@@ -10,7 +10,8 @@ import (
 	"time"
 
 	"github.com/beatnote/beatnote/diagnose"
-	"github.com/beatnote/beatnote/report"
+	"github.com/beatnote/beatnote/report/acceptance"
+	"github.com/beatnote/beatnote/report/sign"
 	"github.com/beatnote/beatnote/rules"
 )
 
@@ -67,32 +68,32 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 
 	// Load the key first: a report must not be written when it cannot be signed.
 	var priv ed25519.PrivateKey
-	var signing *report.Signing
+	var signing *acceptance.Signing
 	if c.SignKey != "" {
-		k, err := report.LoadPrivateKey(c.SignKey)
+		k, err := sign.LoadPrivateKey(c.SignKey)
 		if err != nil {
 			return &exitError{code: 2, err: err}
 		}
 		if st, err := os.Stat(c.SignKey); err == nil && st.Mode().Perm()&0o077 != 0 {
 			pr.Notef("note: %s is readable by others (mode %v); keep private keys to yourself (chmod 600)", c.SignKey, st.Mode().Perm())
 		}
-		fp, err := report.KeyFingerprint(k.Public().(ed25519.PublicKey))
+		fp, err := sign.KeyFingerprint(k.Public().(ed25519.PublicKey))
 		if err != nil {
 			return &exitError{code: 2, err: err}
 		}
-		priv, signing = k, &report.Signing{Signer: c.Signer, KeyFingerprint: fp}
+		priv, signing = k, &acceptance.Signing{Signer: c.Signer, KeyFingerprint: fp}
 	}
 
 	in, err := c.load(pr)
 	if err != nil {
 		return err
 	}
-	in.Fields = report.SignOff{
+	in.Fields = acceptance.SignOff{
 		Technician: c.Technician, Organisation: c.Organisation, AcceptingParty: c.AcceptingParty,
 		EndA: c.EndA, EndZ: c.EndZ, Notes: c.Notes,
 	}
 	in.Time, in.Signing = when, signing
-	acc, err := report.NewAcceptance(in.AcceptanceInput)
+	acc, err := acceptance.New(in.Input)
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}
@@ -104,7 +105,7 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 	case "json":
 		err = acc.WriteJSON(&buf)
 	default:
-		err = acc.WritePDF(&buf, report.PDFOptions{Paper: report.Paper(c.Paper)})
+		err = acc.WritePDF(&buf, acceptance.PDFOptions{Paper: acceptance.Paper(c.Paper)})
 	}
 	if err != nil {
 		return &exitError{code: 2, err: err}
@@ -117,18 +118,18 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 	if err := writeFileAtomic(c.Out, buf.Bytes()); err != nil {
 		return &exitError{code: 2, err: err}
 	}
-	pr.Printf("%s: %s (report %s)\n", c.Out, report.VerdictWords(acc.Verdict), acc.ReportID)
+	pr.Printf("%s: %s (report %s)\n", c.Out, acceptance.VerdictWords(acc.Verdict), acc.ReportID)
 
 	if priv != nil {
-		sigPath := report.SignaturePath(c.Out)
-		if _, err := report.Sign(priv, c.Signer, when, c.Out, in.files, sigPath); err != nil {
+		sigPath := sign.SignaturePath(c.Out)
+		if _, err := sign.Sign(priv, c.Signer, when, c.Out, in.files, sigPath); err != nil {
 			return &exitError{code: 2, err: fmt.Errorf("signing: %w", err)}
 		}
 		pr.Printf("%s: signed with key %s\n", sigPath, signing.KeyFingerprint)
 	}
 	if priv == nil {
-		if _, err := os.Stat(report.SignaturePath(c.Out)); err == nil {
-			pr.Notef("note: %s belongs to an earlier report and no longer matches this one; remove it or sign again", report.SignaturePath(c.Out))
+		if _, err := os.Stat(sign.SignaturePath(c.Out)); err == nil {
+			pr.Notef("note: %s belongs to an earlier report and no longer matches this one; remove it or sign again", sign.SignaturePath(c.Out))
 		}
 	}
 	if acc.Verdict != diagnose.Pass {
@@ -164,7 +165,7 @@ const maxReportPorts = 16
 
 // reportInput is what the report is made from, plus the input files the signature covers.
 type reportInput struct {
-	report.AcceptanceInput
+	acceptance.Input
 	files []string
 }
 
@@ -180,7 +181,7 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 		return nil, &exitError{code: 2, err: fmt.Errorf("no report: %w", a.ReadErr)}
 	}
 	res := *a.Result
-	in := &reportInput{AcceptanceInput: report.AcceptanceInput{Result: &res, Dataset: a.DS}}
+	in := &reportInput{Input: acceptance.Input{Result: &res, Dataset: a.DS}}
 	for _, p := range res.Ports {
 		if p.Analysis != nil {
 			prof := p.Analysis.Profile

@@ -1,17 +1,11 @@
 package main
 
 import (
-	"encoding/json"
 	"errors"
-	"fmt"
-	"io"
 	"os"
-	"slices"
-	"strings"
-	"text/tabwriter"
-	"time"
 
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/report"
 )
 
 // ScanCmd reads telemetry exports and says what was read and what was not.
@@ -32,35 +26,18 @@ was rejected with its line and reason. Formats are described in docs/formats.md.
 Exit status 2 when an input cannot be read completely or nothing usable was read.`
 }
 
-// maxTextPorts bounds the port table of the text output; JSON lists every port.
-const (
-	maxTextPorts      = 50
-	maxTextRejections = 20
-	maxJSONRejections = 1000
-)
-
-// scanPort is one port's summary.
-type scanPort struct {
-	Port       string   `json:"port"`
-	Samples    int      `json:"samples"`
-	From       string   `json:"from"`
-	To         string   `json:"to"`
-	IntervalS  *float64 `json:"interval_s"` // median spacing of samples; null with fewer than 2
-	Quantities []string `json:"quantities"`
-}
-
 // Run reads the inputs and prints the summary.
 func (c *ScanCmd) Run(g *Globals, pr *printer) error {
 	ds, readErr := readWithProgress(c.Paths, parse.Options{Strict: c.Strict, Statistic: c.Statistic}, pr)
 	if ds == nil {
 		return &exitError{code: 2, err: readErr}
 	}
-	ports := summarizePorts(ds)
+	ports := report.SummarizePorts(ds)
 	var err error
 	if c.Format == "json" {
-		err = writeScanJSON(pr.Out(), ds, ports, readErr)
+		err = report.WriteScanJSON(pr.Out(), version, ds, ports, readErr)
 	} else {
-		err = writeScanText(pr.Out(), ds, ports)
+		err = report.WriteScanText(pr.Out(), ds, ports)
 	}
 	if err != nil {
 		return err
@@ -98,220 +75,4 @@ func countSamples(ds *parse.Dataset) int {
 		n += s.Len()
 	}
 	return n
-}
-
-func summarizePorts(ds *parse.Dataset) []scanPort {
-	out := make([]scanPort, 0, len(ds.Series))
-	for _, s := range ds.Series {
-		sp := scanPort{Port: s.Port, Samples: s.Len(), Quantities: []string{}}
-		if s.Len() > 0 {
-			sp.From = fmtTime(s.TimesMs[0])
-			sp.To = fmtTime(s.TimesMs[s.Len()-1])
-		}
-		if s.Len() > 1 {
-			d := make([]int64, s.Len()-1)
-			for i := range d {
-				d[i] = s.TimesMs[i+1] - s.TimesMs[i]
-			}
-			slices.Sort(d)
-			v := float64(d[len(d)/2]) / 1000
-			sp.IntervalS = &v
-		}
-		for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
-			if s.Has(q) {
-				sp.Quantities = append(sp.Quantities, q.Column())
-			}
-		}
-		out = append(out, sp)
-	}
-	return out
-}
-
-func fmtTime(ms int64) string {
-	t := time.UnixMilli(ms).UTC()
-	if ms%1000 == 0 {
-		return t.Format(time.RFC3339)
-	}
-	return t.Format("2006-01-02T15:04:05.000Z07:00")
-}
-
-// inputErrors lists, in input order, why each input that was not read completely stopped.
-func inputErrors(ds *parse.Dataset) []string {
-	var errs []string
-	for _, in := range ds.Inputs {
-		if in.Error != "" {
-			errs = append(errs, in.Error)
-		}
-	}
-	return errs
-}
-
-func writeScanJSON(w io.Writer, ds *parse.Dataset, ports []scanPort, readErr error) error {
-	rej := ds.Rejected
-	if len(rej) > maxJSONRejections {
-		rej = rej[:maxJSONRejections]
-	}
-	errs := inputErrors(ds)
-	if readErr != nil && len(errs) == 0 {
-		errs = append(errs, readErr.Error())
-	}
-	doc := struct {
-		Tool     string             `json:"tool"`
-		Version  string             `json:"version"`
-		Inputs   []parse.InputStats `json:"inputs"`
-		Ports    []scanPort         `json:"ports"`
-		Rejected []parse.Rejection  `json:"rejected"`
-		Skipped  []string           `json:"skipped"`
-		Errors   []string           `json:"errors"`
-	}{"beatnote", version, ds.Inputs, ports, rej, ds.Skipped, errs}
-	if doc.Inputs == nil {
-		doc.Inputs = []parse.InputStats{}
-	}
-	if doc.Rejected == nil {
-		doc.Rejected = []parse.Rejection{}
-	}
-	if doc.Skipped == nil {
-		doc.Skipped = []string{}
-	}
-	if doc.Errors == nil {
-		doc.Errors = []string{}
-	}
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(doc)
-}
-
-// group writes n with thin grouping for readability: 12345 → "12 345".
-func group(n int) string {
-	s := fmt.Sprint(n)
-	if n < 0 || len(s) <= 4 {
-		return s
-	}
-	var b strings.Builder
-	for i, c := range s {
-		if i > 0 && (len(s)-i)%3 == 0 {
-			b.WriteByte(' ')
-		}
-		b.WriteRune(c)
-	}
-	return b.String()
-}
-
-func plural(n int, one, many string) string {
-	if n == 1 {
-		return "1 " + one
-	}
-	return group(n) + " " + many
-}
-
-func writeScanText(w io.Writer, ds *parse.Dataset, ports []scanPort) error {
-	var read, used, rejected, dups int
-	for _, in := range ds.Inputs {
-		read += in.RowsRead
-		used += in.RowsUsed
-		rejected += in.RowsRejected
-		dups += in.Duplicates
-	}
-	fmt.Fprintf(w, "Read %s: %s, %s used, %s rejected; %s.\n", plural(len(ds.Inputs), "file", "files"),
-		plural(read, "row", "rows"), group(used), group(rejected), plural(len(ports), "port", "ports"))
-	if dups > 0 {
-		fmt.Fprintf(w, "%s repeated an earlier port and time; the later row was kept.\n", plural(dups, "row", "rows"))
-	}
-
-	fmt.Fprintln(w)
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "FILE\tFORMAT\tROWS\tUSED\tREJECTED\tSTATUS")
-	for _, in := range ds.Inputs {
-		status := "ok"
-		if in.Error != "" {
-			status = "NOT READ COMPLETELY"
-		} else if in.RowsRejected > 0 {
-			status = "some rows rejected"
-		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", in.File, in.Format, group(in.RowsRead), group(in.RowsUsed), group(in.RowsRejected), status)
-	}
-	if err := tw.Flush(); err != nil {
-		return err
-	}
-
-	if len(ports) > 0 {
-		fmt.Fprintln(w)
-		tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-		fmt.Fprintln(tw, "PORT\tSAMPLES\tFROM (UTC)\tTO (UTC)\tEVERY\tQUANTITIES")
-		for i, p := range ports {
-			if i == maxTextPorts {
-				break
-			}
-			every := "-"
-			if p.IntervalS != nil {
-				every = fmtInterval(*p.IntervalS)
-			}
-			q := strings.Join(p.Quantities, " ")
-			switch len(p.Quantities) {
-			case 0:
-				q = "(no values)"
-			case int(parse.NumQuantities):
-				q = fmt.Sprintf("all %d (every canonical column)", len(p.Quantities))
-			}
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", p.Port, group(p.Samples), p.From, p.To, every, q)
-		}
-		if err := tw.Flush(); err != nil {
-			return err
-		}
-		if len(ports) > maxTextPorts {
-			fmt.Fprintf(w, "… and %s more ports (--format json lists them all)\n", group(len(ports)-maxTextPorts))
-		}
-	}
-
-	if rejected > 0 {
-		shown := min(len(ds.Rejected), maxTextRejections)
-		fmt.Fprintf(w, "\nRejected rows (first %d of %s; --format json lists up to %d):\n", shown, group(rejected), maxJSONRejections)
-		for _, r := range ds.Rejected[:shown] {
-			loc := fmt.Sprintf("%s line %d", r.File, r.Line)
-			if r.Column > 0 {
-				loc += fmt.Sprintf(" column %d", r.Column)
-			}
-			fmt.Fprintf(w, "  %s: %s\n", loc, r.Reason)
-		}
-	}
-	var notes []string
-	for _, in := range ds.Inputs {
-		for _, n := range in.Notes {
-			notes = append(notes, in.File+": "+n)
-		}
-	}
-	if len(notes) > 0 {
-		fmt.Fprintln(w, "\nNotes:")
-		for _, n := range notes {
-			fmt.Fprintln(w, "  "+n)
-		}
-	}
-	errs := inputErrors(ds)
-	if len(errs) > 0 {
-		fmt.Fprintln(w, "\nInputs not read completely (rows before the problem were used):")
-		for _, e := range errs {
-			fmt.Fprintln(w, "  "+e)
-		}
-	}
-	if len(ds.Skipped) > 0 {
-		fmt.Fprintf(w, "\nSkipped %s in folders (hidden, or not a telemetry file name):\n", plural(len(ds.Skipped), "file", "files"))
-		for i, s := range ds.Skipped {
-			if i == 10 {
-				fmt.Fprintf(w, "  … %d more\n", len(ds.Skipped)-10)
-				break
-			}
-			fmt.Fprintln(w, "  "+s)
-		}
-	}
-	return nil
-}
-
-func fmtInterval(s float64) string {
-	switch {
-	case s >= 3600 && s == float64(int64(s)) && int64(s)%3600 == 0:
-		return fmt.Sprintf("%d h", int64(s)/3600)
-	case s >= 60 && s == float64(int64(s)) && int64(s)%60 == 0:
-		return fmt.Sprintf("%d min", int64(s)/60)
-	}
-	return fmt.Sprintf("%g s", s)
 }

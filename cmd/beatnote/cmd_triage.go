@@ -97,7 +97,7 @@ func (c *TriageCmd) Run(g *Globals, pr *printer) error {
 	case "json":
 		out := *res
 		out.Ports = shown
-		err = report.WriteTriageJSON(pr.Out(), &out)
+		err = report.WriteResultJSON(pr.Out(), &out)
 	case "csv":
 		err = report.WriteTriageCSV(pr.Out(), shown)
 	case "markdown":

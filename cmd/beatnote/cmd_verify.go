@@ -6,7 +6,7 @@ import (
 	"errors"
 	"fmt"
 
-	"github.com/beatnote/beatnote/report"
+	"github.com/beatnote/beatnote/report/sign"
 )
 
 // VerifyCmd checks a signed report against its detached signature and its inputs.
@@ -34,19 +34,19 @@ Exit status: 0 verified; 1 something changed or does not match (the message says
 func (c *VerifyCmd) Run(g *Globals, pr *printer) error {
 	sig := c.Sig
 	if sig == "" {
-		sig = report.SignaturePath(c.Report)
+		sig = sign.SignaturePath(c.Report)
 	}
 	var pin ed25519.PublicKey
 	if c.Pub != "" {
-		k, err := report.LoadPublicKey(c.Pub)
+		k, err := sign.LoadPublicKey(c.Pub)
 		if err != nil {
 			return &exitError{code: 2, err: err}
 		}
 		pin = k
 	}
-	v, err := report.Verify(c.Report, sig, pin)
+	v, err := sign.Verify(c.Report, sig, pin)
 	if err != nil {
-		var ve *report.VerifyError
+		var ve *sign.VerifyError
 		if errors.As(err, &ve) {
 			return &exitError{code: 2, err: fmt.Errorf("cannot verify: %w", err)}
 		}
@@ -57,7 +57,7 @@ func (c *VerifyCmd) Run(g *Globals, pr *printer) error {
 		enc.SetIndent("", "  ")
 		out := struct {
 			Verified bool `json:"verified"`
-			*report.Verification
+			*sign.Verification
 		}{v.OK(), v}
 		if out.Failures == nil {
 			out.Failures = []string{}

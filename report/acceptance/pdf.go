@@ -1,4 +1,4 @@
-package report
+package acceptance
 
 import (
 	"bytes"
@@ -17,6 +17,7 @@ import (
 	"golang.org/x/image/font/sfnt"
 
 	"github.com/beatnote/beatnote/diagnose"
+	"github.com/beatnote/beatnote/report"
 )
 
 // Paper is a page size for the PDF report.
@@ -71,7 +72,7 @@ func (c *fontCoverage) has(r rune) bool {
 
 // pdfWriter lays out one acceptance report.
 type pdfWriter struct {
-	a        *Acceptance
+	a        *Report
 	pdf      *fpdf.Fpdf
 	cover    *fontCoverage
 	missing  map[rune]bool // runes replaced because the font lacks them
@@ -82,23 +83,23 @@ type pdfWriter struct {
 
 // WritePDF writes the report as a PDF. The output depends only on the report content and the
 // options: the same content gives byte-identical files.
-func (a *Acceptance) WritePDF(w io.Writer, opt PDFOptions) error {
+func (a *Report) WritePDF(w io.Writer, opt PDFOptions) error {
 	size := "A4"
 	switch opt.Paper {
 	case "", PaperA4:
 	case PaperLetter:
 		size = "Letter"
 	default:
-		return fmt.Errorf("report: unknown paper %q (a4 or letter)", opt.Paper)
+		return fmt.Errorf("acceptance: unknown paper %q (a4 or letter)", opt.Paper)
 	}
 	cover, err := newFontCoverage(liberationsansregular.TTF)
 	if err != nil {
-		return fmt.Errorf("report: font: %w", err)
+		return fmt.Errorf("acceptance: font: %w", err)
 	}
 	pdf := fpdf.New("P", "mm", size, "")
 	when, err := time.Parse(time.RFC3339, a.GeneratedAt)
 	if err != nil {
-		return fmt.Errorf("report: report time %q: %w", a.GeneratedAt, err)
+		return fmt.Errorf("acceptance: report time %q: %w", a.GeneratedAt, err)
 	}
 	pdf.SetCreationDate(when)
 	pdf.SetModificationDate(when)
@@ -129,11 +130,11 @@ func (a *Acceptance) WritePDF(w io.Writer, opt PDFOptions) error {
 		return err
 	}
 	if pdf.Err() {
-		return fmt.Errorf("report: pdf: %w", pdf.Error())
+		return fmt.Errorf("acceptance: pdf: %w", pdf.Error())
 	}
 	var buf bytes.Buffer
 	if err := pdf.Output(&buf); err != nil {
-		return fmt.Errorf("report: pdf: %w", err)
+		return fmt.Errorf("acceptance: pdf: %w", err)
 	}
 	_, err = w.Write(buf.Bytes())
 	return err
@@ -556,7 +557,7 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 			if c.Source != "" {
 				name += "\nlimit: " + c.Source
 			}
-			rows[i] = []string{name, c.Statistic, FormatValue(c.Measured, c.Unit), FormatValue(c.Limit, c.Unit), CriterionMargin(c), VerdictWords(c.Verdict)}
+			rows[i] = []string{name, c.Statistic, report.FormatValue(c.Measured, c.Unit), report.FormatValue(c.Limit, c.Unit), report.CriterionMargin(c), VerdictWords(c.Verdict)}
 		}
 		pw.table([]column{
 			{title: "criterion", width: 0.37, align: "L", subdued: true}, {title: "statistic", width: 0.1, align: "L"},
@@ -568,7 +569,7 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 		pw.heading("Plan vs measured", 11)
 		rows := make([][]string, len(port.PlanVsMeasured))
 		for i, pc := range port.PlanVsMeasured {
-			rows[i] = []string{pc.Quantity, FormatValue(pc.Expected, pc.Unit), FormatValue(pc.Measured, pc.Unit), FormatMargin(pc.Measured-pc.Expected, pc.Unit), pc.Note}
+			rows[i] = []string{pc.Quantity, report.FormatValue(pc.Expected, pc.Unit), report.FormatValue(pc.Measured, pc.Unit), report.FormatMargin(pc.Measured-pc.Expected, pc.Unit), pc.Note}
 		}
 		pw.table([]column{
 			{title: "quantity", width: 0.22, align: "L"}, {title: "planned", width: 0.15, align: "R"},
@@ -730,7 +731,7 @@ func (pw *pdfWriter) signOffSection() {
 
 // criteriaTally counts the judged criteria by verdict, e.g. "16 criteria judged on 1 port:
 // 12 pass, 0 marginal, 4 fail."
-func criteriaTally(a *Acceptance) string {
+func criteriaTally(a *Report) string {
 	var n, pass, marg, fail int
 	for _, p := range a.Ports {
 		for _, c := range p.Criteria {

@@ -1,4 +1,13 @@
-package report
+// Package sign signs acceptance reports and verifies them.
+//
+// Keys are Ed25519 (RFC 8032). The private key is stored as PEM "PRIVATE KEY" holding PKCS #8
+// (RFC 5208, RFC 8410), the public key as PEM "PUBLIC KEY" holding a PKIX SubjectPublicKeyInfo
+// (RFC 5280, RFC 8410). A key's fingerprint is "SHA256:" followed by the lowercase hex SHA-256
+// of that SubjectPublicKeyInfo DER.
+//
+// A signature is a detached JSON file (SignatureFile) beside the report. Its Ed25519 signature
+// covers the canonical encoding of every other field (see SignatureFile.Canonical).
+package sign
 
 import (
 	"bytes"
@@ -21,16 +30,6 @@ import (
 	"strings"
 	"time"
 )
-
-// Signing of acceptance reports.
-//
-// Keys are Ed25519 (RFC 8032). The private key is stored as PEM "PRIVATE KEY" holding PKCS #8
-// (RFC 5208, RFC 8410), the public key as PEM "PUBLIC KEY" holding a PKIX SubjectPublicKeyInfo
-// (RFC 5280, RFC 8410). A key's fingerprint is "SHA256:" followed by the lowercase hex SHA-256
-// of that SubjectPublicKeyInfo DER.
-//
-// A signature is a detached JSON file (SignatureFile) beside the report. Its Ed25519 signature
-// covers the canonical encoding of every other field (see SignatureFile.Canonical).
 
 // SignatureFormat is the value of the "format" member of a signature file this version writes.
 const SignatureFormat = "beatnote-signature/1"
@@ -94,7 +93,7 @@ func (s *SignatureFile) Canonical() []byte {
 func KeyFingerprint(pub ed25519.PublicKey) (string, error) {
 	der, err := x509.MarshalPKIXPublicKey(pub)
 	if err != nil {
-		return "", fmt.Errorf("report: encode public key: %w", err)
+		return "", fmt.Errorf("sign: encode public key: %w", err)
 	}
 	sum := sha256.Sum256(der)
 	return KeyFingerprintPrefix + hex.EncodeToString(sum[:]), nil
@@ -122,15 +121,15 @@ func WriteKeyPair(prefix string, force bool, random io.Reader) (fingerprint stri
 	}
 	pub, priv, err := ed25519.GenerateKey(random)
 	if err != nil {
-		return "", fmt.Errorf("report: generate key: %w", err)
+		return "", fmt.Errorf("sign: generate key: %w", err)
 	}
 	privDER, err := x509.MarshalPKCS8PrivateKey(priv)
 	if err != nil {
-		return "", fmt.Errorf("report: encode private key: %w", err)
+		return "", fmt.Errorf("sign: encode private key: %w", err)
 	}
 	pubDER, err := x509.MarshalPKIXPublicKey(pub)
 	if err != nil {
-		return "", fmt.Errorf("report: encode public key: %w", err)
+		return "", fmt.Errorf("sign: encode public key: %w", err)
 	}
 	flags := os.O_WRONLY | os.O_CREATE | os.O_EXCL
 	if force {
@@ -236,7 +235,7 @@ func SignaturePath(document string) string { return document + ".sig" }
 func Sign(priv ed25519.PrivateKey, signer string, signedAt time.Time, document string, inputs []string, sigPath string) (*SignatureFile, error) {
 	pub, ok := priv.Public().(ed25519.PublicKey)
 	if !ok {
-		return nil, errors.New("report: not an Ed25519 key")
+		return nil, errors.New("sign: not an Ed25519 key")
 	}
 	fp, err := KeyFingerprint(pub)
 	if err != nil {

@@ -1,4 +1,4 @@
-package report
+package acceptance
 
 import (
 	"bytes"
@@ -75,7 +75,7 @@ var (
 
 // portCharts renders the charts the port's data allows, in a fixed order. firstIndex numbers the
 // charts across the document (see renderChart).
-func (a *Acceptance) portCharts(port string, firstIndex int) ([]Chart, error) {
+func (a *Report) portCharts(port string, firstIndex int) ([]Chart, error) {
 	s := a.series[port]
 	if s == nil {
 		return nil, nil
@@ -333,7 +333,7 @@ func addSpans(p *plot.Plot, spans []TimeSpan, lo, hi, minWidthS float64, label s
 // renderChart draws p to a PNG. Each chart of a document is made one pixel wider than the one
 // before: fpdf (v0.12) orders images of equal pixel width by map iteration, so equal widths
 // would make the PDF bytes differ between runs. One pixel in about a thousand does not show.
-func (a *Acceptance) renderChart(p *plot.Plot, title, caption string) (*Chart, error) {
+func (a *Report) renderChart(p *plot.Plot, title, caption string) (*Chart, error) {
 	extra := vg.Length(a.chartIndex) * vg.Inch / chartDPI
 	a.chartIndex++
 	c := vgimg.NewWith(vgimg.UseWH(chartWidthMM*vg.Millimeter+extra, chartHeightMM*vg.Millimeter),
@@ -341,14 +341,14 @@ func (a *Acceptance) renderChart(p *plot.Plot, title, caption string) (*Chart, e
 	p.Draw(draw.New(c))
 	var buf bytes.Buffer
 	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
-		return nil, fmt.Errorf("report: chart %q: %w", title, err)
+		return nil, fmt.Errorf("acceptance: chart %q: %w", title, err)
 	}
 	return &Chart{Title: title, Caption: caption, PNG: buf.Bytes(), WidthMM: chartWidthMM, HeightMM: chartHeightMM}, nil
 }
 
 // chartQ draws the Q-factor over time with its limit, or the pre-FEC BER on a log axis with the
 // FEC threshold when the log has no Q.
-func (a *Acceptance) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
+func (a *Report) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 	if ts, vs := s.Present(parse.QdB); len(ts) >= 2 {
 		span := ts[len(ts)-1] - ts[0]
 		p := newTimePlot("Q-factor over time", "Q (dB)", span)
@@ -422,7 +422,7 @@ func (a *Acceptance) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 	return a.renderChart(p, "Pre-FEC BER over time", caption)
 }
 
-func (a *Acceptance) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error) {
+func (a *Report) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error) {
 	ts, vs := s.Present(parse.RxPowerDBm)
 	if len(ts) < 2 {
 		return nil, nil
@@ -478,7 +478,7 @@ func (a *Acceptance) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error)
 	return a.renderChart(p, "Received power over time", caption)
 }
 
-func (a *Acceptance) chartDGD(s *parse.Series, m ChartMarks) (*Chart, error) {
+func (a *Report) chartDGD(s *parse.Series, m ChartMarks) (*Chart, error) {
 	_, vs := s.Present(parse.DGDps)
 	if len(vs) < 10 {
 		return nil, nil
@@ -531,7 +531,7 @@ func (a *Acceptance) chartDGD(s *parse.Series, m ChartMarks) (*Chart, error) {
 	return a.renderChart(p, "DGD distribution", caption)
 }
 
-func (a *Acceptance) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
+func (a *Report) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 	ts, vs := s.Present(parse.SOPRateKradPerS)
 	if len(ts) < 2 {
 		return nil, nil
@@ -584,7 +584,7 @@ func (a *Acceptance) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 	return a.renderChart(p, "SOP rate of change over time", caption)
 }
 
-func (a *Acceptance) chartLO(s *parse.Series, m ChartMarks) (*Chart, error) {
+func (a *Report) chartLO(s *parse.Series, m ChartMarks) (*Chart, error) {
 	ts, vs := s.Present(parse.LOOffsetMHz)
 	if len(ts) < 2 {
 		return nil, nil

@@ -1,4 +1,4 @@
-package report
+package acceptance
 
 import (
 	"crypto/sha256"
@@ -13,11 +13,12 @@ import (
 
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/report"
 	"github.com/beatnote/beatnote/rules"
 )
 
-// AcceptanceFormat is the value of the "format" member of the JSON acceptance report.
-const AcceptanceFormat = "beatnote-acceptance/1"
+// DocumentFormat is the value of the "format" member of the JSON acceptance report.
+const DocumentFormat = "beatnote-acceptance/1"
 
 // MaxRejectionsShown bounds the rejected rows an acceptance report lists; the counts stay complete.
 const MaxRejectionsShown = 10
@@ -77,9 +78,9 @@ type Signing struct {
 	KeyFingerprint string `json:"key_fingerprint"`
 }
 
-// Acceptance is the content of an acceptance report, the same for PDF, Markdown and JSON.
-// Build it with NewAcceptance.
-type Acceptance struct {
+// Report is the content of an acceptance report, the same for PDF, Markdown and JSON.
+// Build it with New.
+type Report struct {
 	Format      string                `json:"format"`
 	Tool        string                `json:"tool"`
 	Version     string                `json:"version"`
@@ -110,9 +111,9 @@ type Acceptance struct {
 	chartIndex int
 }
 
-// AcceptanceInput is everything an acceptance report is made from. Result is required; the
+// Input is everything an acceptance report is made from. Result is required; the
 // rest is optional.
-type AcceptanceInput struct {
+type Input struct {
 	Result  *diagnose.Result
 	Dataset *parse.Dataset // telemetry for the charts
 	Profile *rules.Profile // the module profile in force
@@ -125,20 +126,20 @@ type AcceptanceInput struct {
 	Marks map[string]ChartMarks
 }
 
-// NewAcceptance gathers the report content. It does not judge anything itself: verdicts,
+// New gathers the report content. It does not judge anything itself: verdicts,
 // criteria and causes are the engine's.
-func NewAcceptance(in AcceptanceInput) (*Acceptance, error) {
+func New(in Input) (*Report, error) {
 	if in.Result == nil {
-		return nil, errors.New("report: no diagnosis result")
+		return nil, errors.New("acceptance: no diagnosis result")
 	}
 	if len(in.Result.Ports) == 0 {
-		return nil, errors.New("report: the inputs hold no port to report on")
+		return nil, errors.New("acceptance: the inputs hold no port to report on")
 	}
 	if in.Time.IsZero() {
-		return nil, errors.New("report: no report time given")
+		return nil, errors.New("acceptance: no report time given")
 	}
-	a := &Acceptance{
-		Format:      AcceptanceFormat,
+	a := &Report{
+		Format:      DocumentFormat,
 		Tool:        in.Result.Tool,
 		Version:     in.Result.Version,
 		GeneratedAt: in.Time.UTC().Format(time.RFC3339),
@@ -260,12 +261,12 @@ func NewAcceptance(in AcceptanceInput) (*Acceptance, error) {
 
 // computeID is "BN-" and the first 16 hex digits of the SHA-256 of the report's JSON content
 // with an empty id: the same content gives the same id, any change a different one.
-func (a *Acceptance) computeID() (string, error) {
+func (a *Report) computeID() (string, error) {
 	c := *a
 	c.ReportID = ""
 	data, err := json.Marshal(&c)
 	if err != nil {
-		return "", fmt.Errorf("report: %w", err)
+		return "", fmt.Errorf("acceptance: %w", err)
 	}
 	sum := sha256.Sum256(data)
 	return "BN-" + strings.ToUpper(hex.EncodeToString(sum[:8])), nil
@@ -353,7 +354,7 @@ func DefaultActions(causeID string) []string {
 }
 
 // WriteJSON writes the report as one indented JSON object.
-func (a *Acceptance) WriteJSON(w io.Writer) error {
+func (a *Report) WriteJSON(w io.Writer) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	return enc.Encode(a)
@@ -392,7 +393,7 @@ func metricRows(m map[string]diagnose.Metric) [][]string {
 		if mt.Derived {
 			name += " (derived)"
 		}
-		rows[i] = []string{name, FormatValue(mt.Min, mt.Unit), FormatValue(mt.P50, mt.Unit), FormatValue(mt.P99, mt.Unit), FormatValue(mt.Max, mt.Unit)}
+		rows[i] = []string{name, report.FormatValue(mt.Min, mt.Unit), report.FormatValue(mt.P50, mt.Unit), report.FormatValue(mt.P99, mt.Unit), report.FormatValue(mt.Max, mt.Unit)}
 	}
 	return rows
 }

@@ -1,4 +1,4 @@
-package report
+package acceptance
 
 import (
 	"bufio"
@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"github.com/beatnote/beatnote/diagnose"
+	"github.com/beatnote/beatnote/report"
 )
 
 // VerdictWords is how a verdict is written out in a report, never by colour alone.
@@ -59,7 +60,7 @@ func mdText(s string) string {
 
 // WriteMarkdown writes the report as Markdown for tickets: the same content as the PDF, less
 // the charts.
-func (a *Acceptance) WriteMarkdown(w io.Writer) error {
+func (a *Report) WriteMarkdown(w io.Writer) error {
 	b := bufio.NewWriter(w)
 	p := func(format string, args ...any) { fmt.Fprintf(b, format, args...) }
 
@@ -107,16 +108,16 @@ func (a *Acceptance) WriteMarkdown(w io.Writer) error {
 		if len(port.Criteria) > 0 {
 			p("### Criteria\n\n| criterion | statistic | measured | limit | margin | verdict |\n| --- | --- | ---: | ---: | ---: | --- |\n")
 			for _, c := range port.Criteria {
-				p("| %s | %s | %s | %s | %s | %s |\n", mdCell(c.Name), mdCell(c.Statistic), FormatValue(c.Measured, c.Unit),
-					FormatValue(c.Limit, c.Unit), CriterionMargin(c), VerdictWords(c.Verdict))
+				p("| %s | %s | %s | %s | %s | %s |\n", mdCell(c.Name), mdCell(c.Statistic), report.FormatValue(c.Measured, c.Unit),
+					report.FormatValue(c.Limit, c.Unit), report.CriterionMargin(c), VerdictWords(c.Verdict))
 			}
 			p("\n")
 		}
 		if len(port.PlanVsMeasured) > 0 {
 			p("### Plan vs measured\n\n| quantity | planned | measured | difference | note |\n| --- | ---: | ---: | ---: | --- |\n")
 			for _, pc := range port.PlanVsMeasured {
-				p("| %s | %s | %s | %s | %s |\n", mdCell(pc.Quantity), FormatValue(pc.Expected, pc.Unit), FormatValue(pc.Measured, pc.Unit),
-					FormatMargin(pc.Measured-pc.Expected, pc.Unit), mdCell(pc.Note))
+				p("| %s | %s | %s | %s | %s |\n", mdCell(pc.Quantity), report.FormatValue(pc.Expected, pc.Unit), report.FormatValue(pc.Measured, pc.Unit),
+					report.FormatMargin(pc.Measured-pc.Expected, pc.Unit), mdCell(pc.Note))
 			}
 			p("\n")
 		}

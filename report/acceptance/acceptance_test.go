@@ -1,4 +1,4 @@
-package report
+package acceptance
 
 import (
 	"bytes"
@@ -97,9 +97,9 @@ func fixtureMarks() map[string]ChartMarks {
 
 var fixtureTime = time.Date(2026, 3, 2, 10, 30, 0, 0, time.UTC)
 
-func fixtureAcceptance(t *testing.T, fields SignOff, signing *Signing) *Acceptance {
+func fixtureAcceptance(t *testing.T, fields SignOff, signing *Signing) *Report {
 	t.Helper()
-	a, err := NewAcceptance(AcceptanceInput{
+	a, err := New(Input{
 		Result: fixtureResult(), Dataset: fixtureSeries(), Profile: fixtureProfile(),
 		Fields: fields, Time: fixtureTime, Signing: signing, Marks: fixtureMarks(),
 	})
@@ -234,7 +234,7 @@ func TestOddTextLaysOut(t *testing.T) {
 	res.Ports[0].Causes[0].Evidence = append(res.Ports[0].Causes[0].Evidence, strings.Repeat("evidence-without-spaces", 20))
 	ds := fixtureSeries()
 	ds.Series[0].Port = res.Ports[0].Port
-	a, err := NewAcceptance(AcceptanceInput{Result: res, Dataset: ds, Profile: fixtureProfile(), Fields: fields, Time: fixtureTime})
+	a, err := New(Input{Result: res, Dataset: ds, Profile: fixtureProfile(), Fields: fields, Time: fixtureTime})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -302,11 +302,11 @@ func TestOddTextLaysOut(t *testing.T) {
 	}
 }
 
-func TestNewAcceptanceRefusesEmpty(t *testing.T) {
-	if _, err := NewAcceptance(AcceptanceInput{Result: &diagnose.Result{}, Time: fixtureTime}); err == nil {
+func TestNewRefusesEmpty(t *testing.T) {
+	if _, err := New(Input{Result: &diagnose.Result{}, Time: fixtureTime}); err == nil {
 		t.Error("a result without ports gave a report")
 	}
-	if _, err := NewAcceptance(AcceptanceInput{Result: fixtureResult()}); err == nil {
+	if _, err := New(Input{Result: fixtureResult()}); err == nil {
 		t.Error("a report without a time was made")
 	}
 }

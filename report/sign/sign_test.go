@@ -1,4 +1,4 @@
-package report
+package sign
 
 import (
 	"crypto/ed25519"

@@ -1,4 +1,4 @@
-package report
+package acceptance
 
 import (
 	"bytes"
@@ -12,13 +12,14 @@ import (
 
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/report"
 	"github.com/beatnote/beatnote/rules"
 	"github.com/beatnote/beatnote/samples/synth"
 )
 
 // engineAcceptance runs the real engine on a generated port (samples/synth) and builds the
 // report from its result, as the report command does.
-func engineAcceptance(t testing.TB, causes []string, seed int64, signing *Signing, fields SignOff) (*Acceptance, synth.Case) {
+func engineAcceptance(t testing.TB, causes []string, seed int64, signing *Signing, fields SignOff) (*Report, synth.Case) {
 	t.Helper()
 	c, err := synth.Make(synth.Spec{Causes: causes, Severity: 0.7, Seed: seed, Circuit: "demo-circuit-7", EndA: "north-hub", EndZ: "river-pop"})
 	if err != nil {
@@ -33,7 +34,7 @@ func engineAcceptance(t testing.TB, causes []string, seed int64, signing *Signin
 	if err != nil {
 		t.Fatal(err)
 	}
-	a, err := NewAcceptance(AcceptanceInput{Result: res, Dataset: ds, Profile: &c.Profile, Plan: &c.Plan,
+	a, err := New(Input{Result: res, Dataset: ds, Profile: &c.Profile, Plan: &c.Plan,
 		Fields: fields, Time: time.Date(2026, 3, 15, 9, 0, 0, 0, time.UTC), Signing: signing})
 	if err != nil {
 		t.Fatal(err)
@@ -73,7 +74,7 @@ func TestEngineReportCarriesTheJudgement(t *testing.T) {
 			port := a.Ports[0]
 			wants := []string{"Verdict:" + VerdictWords(a.Verdict), signing.KeyFingerprint, "Lasersafety"}
 			for _, c := range port.Criteria {
-				wants = append(wants, strings.ReplaceAll(CriterionMargin(c), " ", ""))
+				wants = append(wants, strings.ReplaceAll(report.CriterionMargin(c), " ", ""))
 			}
 			for _, c := range port.Causes {
 				wants = append(wants, c.ID)
@@ -86,7 +87,7 @@ func TestEngineReportCarriesTheJudgement(t *testing.T) {
 					t.Errorf("Markdown lacks %q", w)
 				}
 			}
-			var back Acceptance
+			var back Report
 			if err := json.Unmarshal(js.Bytes(), &back); err != nil {
 				t.Fatal(err)
 			}
