@@ -7,7 +7,6 @@ package diagnose
 import (
 	"fmt"
 	"runtime"
-	"sort"
 	"sync"
 	"time"
 
@@ -43,7 +42,7 @@ type Config struct {
 }
 
 // Analyze judges every port of ds and returns the Result of the design contract, ports sorted
-// worst first. It fails only when a link plan cannot be modelled (the error names the plan).
+// by service impact (SortByImpact). It fails only when a link plan cannot be modelled (the error names the plan).
 func Analyze(ds *parse.Dataset, cfg Config) (*Result, error) {
 	res := &Result{Tool: "beatnote", Version: cfg.Version, Inputs: ds.Inputs, Rejected: ds.Rejected}
 	if res.Inputs == nil {
@@ -100,26 +99,8 @@ func Analyze(ds *parse.Dataset, cfg Config) (*Result, error) {
 	}
 	close(next)
 	wg.Wait()
-	SortWorstFirst(res.Ports)
+	SortByImpact(res.Ports)
 	return res, nil
-}
-
-// SortWorstFirst orders ports by verdict (fail, marginal, no-data, pass), then by the
-// confidence of the top cause, then by the smallest Q margin, then by port id.
-func SortWorstFirst(ports []PortResult) {
-	sort.SliceStable(ports, func(i, j int) bool {
-		a, b := &ports[i], &ports[j]
-		if sa, sb := a.Verdict.Severity(), b.Verdict.Severity(); sa != sb {
-			return sa > sb
-		}
-		if ca, cb := topConfidence(a), topConfidence(b); ca != cb {
-			return ca > cb
-		}
-		if qa, qb := qMargin(a), qMargin(b); qa != qb {
-			return qa < qb
-		}
-		return a.Port < b.Port
-	})
 }
 
 func topConfidence(p *PortResult) float64 {

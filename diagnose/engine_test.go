@@ -278,24 +278,6 @@ func TestDegenerateInputsEncode(t *testing.T) {
 	}
 }
 
-func TestSortWorstFirst(t *testing.T) {
-	ports := []PortResult{
-		{Port: "a", Verdict: Pass},
-		{Port: "b", Verdict: Marginal, Causes: []Cause{{ID: CausePDLHigh, Confidence: 0.6}}},
-		{Port: "c", Verdict: Fail},
-		{Port: "d", Verdict: NoData},
-		{Port: "e", Verdict: Marginal, Causes: []Cause{{ID: CauseLOOffset, Confidence: 0.9}}},
-	}
-	SortWorstFirst(ports)
-	var got []string
-	for _, p := range ports {
-		got = append(got, p.Port)
-	}
-	if strings.Join(got, "") != "cebda" {
-		t.Errorf("order %v, want c e b d a", got)
-	}
-}
-
 // Random ports — any subset of columns, random lengths and gaps, NaNs, extreme but legal values —
 // never panic and always encode as JSON.
 func TestRandomPortsNeverPanic(t *testing.T) {

@@ -245,13 +245,36 @@ type TriageRow struct {
 	Samples    int
 	Dark       int    // samples without signal (their Q and power are left out of the figures)
 	Summary    string // first evidence sentence of the top cause
+	Impact     string // the service-impact rung and its figure (ImpactText)
+}
+
+// ImpactText says in a few words why a port ranks where it does (diagnose.SortByImpact).
+func ImpactText(im diagnose.Impact) string {
+	switch im.Tier {
+	case diagnose.TierDark:
+		return fmt.Sprintf("dark %d samples", im.DarkSamples)
+	case diagnose.TierBlocks:
+		if im.UncorrectedBlocks == 1 {
+			return "1 uncorrected block"
+		}
+		if im.UncorrectedBlocks < 1e6 {
+			return fmt.Sprintf("%.0f uncorrected blocks", im.UncorrectedBlocks)
+		}
+		return fmt.Sprintf("%.2g uncorrected blocks", im.UncorrectedBlocks)
+	case diagnose.TierQBelow:
+		return "Q " + FormatMargin(im.QMarginDB, "dB") + " to FEC limit"
+	case diagnose.TierForecast:
+		return fmt.Sprintf("limit in %.1f h", im.HoursToLimit)
+	}
+	return im.Tier.String()
 }
 
 // TriageRows turns ranked ports into table rows.
 func TriageRows(ports []diagnose.PortResult) []TriageRow {
 	rows := make([]TriageRow, len(ports))
 	for i, p := range ports {
-		r := TriageRow{Rank: i + 1, Port: p.Port, Circuit: p.Circuit, Profile: p.Profile, Verdict: p.Verdict, Samples: p.Samples}
+		r := TriageRow{Rank: i + 1, Port: p.Port, Circuit: p.Circuit, Profile: p.Profile, Verdict: p.Verdict, Samples: p.Samples,
+			Impact: ImpactText(diagnose.ImpactOf(&ports[i]))}
 		if len(p.Causes) > 0 {
 			r.Cause, r.Confidence = p.Causes[0].ID, p.Causes[0].Confidence
 			if len(p.Causes[0].Evidence) > 0 {
@@ -336,18 +359,18 @@ func TriageSummary(ports []diagnose.PortResult) map[diagnose.Verdict]int {
 	return m
 }
 
-// WriteTriageText writes the ranked worst-first table of shown (already filtered and cut to
+// WriteTriageText writes the ranked table of shown (already filtered and cut to
 // the top N), the count per cause over all (the filtered set before the cut), and the inputs.
 func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.PortResult) error {
 	v := TriageSummary(all)
 	fmt.Fprintf(w, "%d ports: %d fail, %d marginal, %d pass, %d no data", len(all), v[diagnose.Fail], v[diagnose.Marginal], v[diagnose.Pass], v[diagnose.NoData])
 	if len(shown) < len(all) {
-		fmt.Fprintf(w, " (showing the worst %d)", len(shown))
+		fmt.Fprintf(w, " (showing the first %d)", len(shown))
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "  #\tport\tverdict\ttop cause\tconfidence\talso\tQ margin\trx power\tsamples\t")
+	fmt.Fprintln(tw, "  #\tport\tverdict\timpact\ttop cause\tconfidence\talso\tQ margin\trx power\tsamples\t")
 	for _, r := range TriageRows(shown) {
 		cause, conf := "—", ""
 		if r.Cause != "" {
@@ -360,7 +383,7 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 			qm += " (lit)"
 			samples += fmt.Sprintf(", %d dark", r.Dark)
 		}
-		fmt.Fprintf(tw, "  %d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t\n", r.Rank, r.Port, verdictWord(r.Verdict), cause, conf, also,
+		fmt.Fprintf(tw, "  %d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t\n", r.Rank, r.Port, verdictWord(r.Verdict), r.Impact, cause, conf, also,
 			qm, optValue(r.RxPowerDBm, "dBm", false), samples)
 	}
 	tw.Flush()
@@ -381,12 +404,12 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 	return nil
 }
 
-// WriteTriageCSV writes one row per shown port: rank, port, circuit, profile, verdict, top
-// cause, confidence, other causes (separated by "|"), Q margin (dB), median rx power (dBm),
+// WriteTriageCSV writes one row per shown port: rank, port, circuit, profile, verdict, impact,
+// top cause, confidence, other causes (separated by "|"), Q margin (dB), median rx power (dBm),
 // samples, and the top cause's first evidence sentence.
 func WriteTriageCSV(w io.Writer, shown []diagnose.PortResult) error {
 	cw := csv.NewWriter(w)
-	_ = cw.Write([]string{"rank", "port", "circuit", "profile", "verdict", "top_cause", "confidence", "other_causes", "q_margin_db", "rx_power_p50_dbm", "samples", "evidence"})
+	_ = cw.Write([]string{"rank", "port", "circuit", "profile", "verdict", "impact", "top_cause", "confidence", "other_causes", "q_margin_db", "rx_power_p50_dbm", "samples", "evidence"})
 	f := func(v *float64) string {
 		if v == nil {
 			return ""
@@ -398,7 +421,7 @@ func WriteTriageCSV(w io.Writer, shown []diagnose.PortResult) error {
 		if r.Cause != "" {
 			conf = strconv.FormatFloat(r.Confidence, 'f', 3, 64)
 		}
-		if err := cw.Write([]string{strconv.Itoa(r.Rank), r.Port, r.Circuit, r.Profile, string(r.Verdict), r.Cause, conf,
+		if err := cw.Write([]string{strconv.Itoa(r.Rank), r.Port, r.Circuit, r.Profile, string(r.Verdict), r.Impact, r.Cause, conf,
 			strings.Join(r.Others, "|"), f(r.QMarginDB), f(r.RxPowerDBm), strconv.Itoa(r.Samples), r.Summary}); err != nil {
 			return err
 		}
@@ -413,8 +436,8 @@ func mdEscape(s string) string { return strings.NewReplacer("|", `\|`, "\n", " "
 func WriteTriageMarkdown(w io.Writer, shown, all []diagnose.PortResult) error {
 	v := TriageSummary(all)
 	fmt.Fprintf(w, "## Triage: %d ports — %d fail, %d marginal, %d pass, %d no data\n\n", len(all), v[diagnose.Fail], v[diagnose.Marginal], v[diagnose.Pass], v[diagnose.NoData])
-	fmt.Fprintln(w, "| # | port | verdict | top cause | confidence | also | Q margin | rx power (p50) | evidence |")
-	fmt.Fprintln(w, "|---:|---|---|---|---:|---|---:|---:|---|")
+	fmt.Fprintln(w, "| # | port | verdict | impact | top cause | confidence | also | Q margin | rx power (p50) | evidence |")
+	fmt.Fprintln(w, "|---:|---|---|---|---|---:|---|---:|---:|---|")
 	for _, r := range TriageRows(shown) {
 		conf := ""
 		if r.Cause != "" {
@@ -424,7 +447,7 @@ func WriteTriageMarkdown(w io.Writer, shown, all []diagnose.PortResult) error {
 		if r.Dark > 0 {
 			qm += fmt.Sprintf(" (lit; %d samples dark)", r.Dark)
 		}
-		fmt.Fprintf(w, "| %d | %s | %s | %s | %s | %s | %s | %s | %s |\n", r.Rank, mdEscape(r.Port), verdictWord(r.Verdict), r.Cause, conf,
+		fmt.Fprintf(w, "| %d | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", r.Rank, mdEscape(r.Port), verdictWord(r.Verdict), r.Impact, r.Cause, conf,
 			strings.Join(r.Others, ", "), qm, optValue(r.RxPowerDBm, "dBm", false), mdEscape(r.Summary))
 	}
 	fmt.Fprintln(w, "\n### Ports per cause")

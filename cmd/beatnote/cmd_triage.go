@@ -15,17 +15,22 @@ type TriageCmd struct {
 	judgeFlags
 	Map     string   `help:"Port map (YAML) giving ports their link plan and profile (see docs/rules.md)." type:"existingfile" placeholder:"PORTMAP.yaml"`
 	Format  string   `help:"Output format: text, json, csv or markdown." enum:"text,json,csv,markdown" default:"text"`
-	Top     int      `help:"Show only the N worst ports (0: all)." placeholder:"N" default:"0"`
+	Sort    string   `help:"Order: impact (service impact, the default), margin (Q margin, smallest first) or port (port id)." enum:"impact,margin,port" default:"impact"`
+	Top     int      `help:"Show only the N first ports of that order (0: all)." placeholder:"N" default:"0"`
 	Verdict []string `help:"Show only ports with these verdicts (comma-separated: fail, marginal, pass, no-data)." placeholder:"LIST"`
 	Cause   []string `help:"Show only ports listing one of these cause ids (comma-separated)." placeholder:"LIST"`
 }
 
 // Help is the long help of the command.
 func (c *TriageCmd) Help() string {
-	return `Reads every export given (files and folders), judges every port and prints them worst
-first — failing, then marginal, then no-data, then passing; within a verdict the most confident
-cause first — with the top cause, the other causes, the Q margin and the received power, then
-how many ports each cause affects. Filters (--verdict, --cause) apply before --top; the count per
+	return `Reads every export given (files and folders), judges every port and prints them ranked by
+service impact, with the top cause, the other causes, the Q margin and the received power, then
+how many ports each cause affects. The impact order: ports with samples without signal (dark,
+or loss of frame), most dark samples first; then ports with uncorrected FEC blocks, most first;
+then Q below the FEC threshold, most negative margin first; then ports whose trend reaches a
+module limit within the forecast horizon, soonest first; then the other failing ports, the
+marginal ones, those with no data and the passing ones. --sort margin orders by Q margin
+instead, --sort port by port id. Filters (--verdict, --cause) apply before --top; the count per
 cause covers the filtered ports. A port map gives each port its link plan and profile.
 
 Exit status: 0 every shown port passes; 1 some shown port is marginal, failing or could not be
@@ -88,6 +93,12 @@ func (c *TriageCmd) Run(g *Globals, pr *printer) error {
 		if c.keep(&res.Ports[i]) {
 			all = append(all, res.Ports[i])
 		}
+	}
+	switch c.Sort {
+	case "margin":
+		diagnose.SortByMargin(all)
+	case "port":
+		diagnose.SortByPort(all)
 	}
 	shown := all
 	if c.Top > 0 && len(shown) > c.Top {

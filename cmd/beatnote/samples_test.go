@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 	"slices"
+	"strings"
 	"testing"
 )
 
@@ -78,5 +79,90 @@ func TestTriageOnDemoSamplesMatchesManifest(t *testing.T) {
 				t.Errorf("%s (%s): causes %v lack %s", want.Port, want.File, ids, c)
 			}
 		}
+	}
+}
+
+// The service-impact ranking on the demo samples: the two ports that went dark first, then the
+// ports with uncorrected blocks or Q below the FEC threshold, then the ports whose carrier offset
+// is forecast to leave the capture range within the horizon (the one marginal port among them
+// about 1.1 h away) ahead of every other failing port; --sort port orders by id.
+func TestTriageImpactOrderOnDemoSamples(t *testing.T) {
+	root := filepath.Join("..", "..", "samples")
+	if _, err := os.Stat(filepath.Join(root, "portmap.yaml")); err != nil {
+		t.Skipf("no demo samples: %v", err)
+	}
+	type port struct {
+		Port     string `json:"port"`
+		Verdict  string `json:"verdict"`
+		Criteria []struct {
+			Metric    string  `json:"metric"`
+			Statistic string  `json:"statistic"`
+			Unit      string  `json:"unit"`
+			Measured  float64 `json:"measured"`
+			Margin    float64 `json:"margin"`
+		} `json:"criteria"`
+		Metrics map[string]struct {
+			Margin *float64 `json:"margin"`
+		} `json:"metrics"`
+	}
+	run := func(args ...string) []port {
+		t.Helper()
+		code, out, errw := runCLI(t, append([]string{"triage", filepath.Join(root, "logs"), "--map", filepath.Join(root, "portmap.yaml"), "--format", "json"}, args...)...)
+		if code != 1 {
+			t.Fatalf("exit %d, want 1 (%s)", code, errw)
+		}
+		var res struct{ Ports []port }
+		if err := json.Unmarshal([]byte(out), &res); err != nil {
+			t.Fatal(err)
+		}
+		return res.Ports
+	}
+	ports := run()
+	rank := map[string]int{}
+	for i, p := range ports {
+		rank[p.Port] = i + 1
+	}
+	// Ports named by what the generator put in them (samples/manifest.yaml).
+	if rank["OSK-LC5/2"] > 2 || rank["TLV-LC2/5"] > 2 {
+		t.Errorf("dark ports rank %d and %d, want 1 and 2", rank["OSK-LC5/2"], rank["TLV-LC2/5"])
+	}
+	lastErrored, forecast := 0, 0
+	urgent := make([]bool, len(ports)) // dark, errored or forecast
+	for i, p := range ports {
+		for _, c := range p.Criteria {
+			switch {
+			case c.Metric == "rx_power_dbm" && c.Statistic == "count" && c.Measured > 0:
+				urgent[i] = true
+			case c.Metric == "uncorrected_blocks" && c.Measured > 0:
+				lastErrored, urgent[i] = i+1, true
+			case c.Statistic == "trend" && c.Unit == "h" && c.Margin < 0:
+				urgent[i] = true
+				if p.Verdict == "marginal" {
+					forecast = i + 1
+					if c.Measured < 0.9 || c.Measured > 1.3 {
+						t.Errorf("%s forecast %.2f h, want about 1.1 h", p.Port, c.Measured)
+					}
+				}
+			}
+		}
+		if m := p.Metrics["q_db"].Margin; m != nil && *m < 0 {
+			lastErrored, urgent[i] = i+1, true
+		}
+	}
+	if lastErrored == 0 || forecast == 0 {
+		t.Fatalf("no errored port (%d) or no forecast port (%d) in the samples", lastErrored, forecast)
+	}
+	// Right after the errored ones: only another forecast port (sooner) may stand between.
+	if forecast-lastErrored < 1 || forecast-lastErrored > 2 {
+		t.Errorf("forecast port ranks %d, the last errored port %d", forecast, lastErrored)
+	}
+	for i, p := range ports[:forecast] {
+		if !urgent[i] {
+			t.Errorf("%s (%s, nothing dark, errored or forecast) ranks %d, above the forecast port", p.Port, p.Verdict, i+1)
+		}
+	}
+	byPort := run("--sort", "port")
+	if !slices.IsSortedFunc(byPort, func(a, b port) int { return strings.Compare(a.Port, b.Port) }) {
+		t.Errorf("--sort port: not in port order")
 	}
 }
