@@ -19,6 +19,8 @@ import (
 type Setup struct {
 	Profile rules.Profile
 	Plan    *rules.Plan
+	// ProfileSource says what chose Profile (ProfileFromMap, …); copied to the result.
+	ProfileSource string
 }
 
 // Config says how to judge a Dataset.
@@ -91,6 +93,7 @@ func Analyze(ds *parse.Dataset, cfg Config) (*Result, error) {
 			for i := range next {
 				st := setups[i]
 				res.Ports[i] = analyzePort(ds.Series[i], st.Profile, st.Plan, expects[st.Plan], cfg.Rules, cfg.CorrelationsOnDemand)
+				res.Ports[i].ProfileSource = st.ProfileSource
 			}
 		}()
 	}

@@ -41,6 +41,14 @@ const (
 	CauseSignalLoss   = "signal-loss"
 )
 
+// Where a port's profile came from (PortResult.ProfileSource, Setup.ProfileSource).
+const (
+	ProfileFromMap    = "map"     // the port map's entry (its profile, or its plan's)
+	ProfileFromColumn = "column"  // a profile column in the telemetry
+	ProfileFromFlag   = "flag"    // --profile, or the profile of the --plan given
+	ProfileAssumed    = "default" // nothing said: the built-in default, an assumption
+)
+
 // Result is the machine-readable outcome of check and triage (the JSON of the design contract).
 type Result struct {
 	Tool     string             `json:"tool"`
@@ -69,6 +77,10 @@ type PortResult struct {
 	NotJudged []string `json:"not_judged,omitempty"`
 	// Analysis holds the time-series findings for charts (change points, bursts, trends, fits).
 	Analysis *PortAnalysis `json:"-"`
+
+	// ProfileSource says what chose the profile: ProfileFromMap, ProfileFromColumn,
+	// ProfileFromFlag or ProfileAssumed ("" when the caller did not say).
+	ProfileSource string `json:"profile_source,omitempty"`
 }
 
 // Cause is one likely physical cause with the evidence for it.

@@ -127,7 +127,7 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 		title = "Circuit " + p.Circuit + ", port " + p.Port
 	}
 	fmt.Fprintf(w, "%s\n", title)
-	fmt.Fprintf(w, "Profile %s · %d samples · %s to %s\n", p.Profile, p.Samples, p.From, p.To)
+	fmt.Fprintf(w, "Profile %s · %d samples · %s to %s\n", ProfileText(p), p.Samples, p.From, p.To)
 	fmt.Fprintf(w, "VERDICT: %s\n", verdictWord(p.Verdict))
 
 	if len(p.Criteria) > 0 {
@@ -173,6 +173,14 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 			writeWrapped(w, "  - ", "    ", n, 96)
 		}
 	}
+}
+
+// ProfileText is the port's profile id, with the assumption spelled out when nothing named it.
+func ProfileText(p *diagnose.PortResult) string {
+	if p.ProfileSource == diagnose.ProfileAssumed {
+		return p.Profile + " (assumed: no --profile, plan or port map names it)"
+	}
+	return p.Profile
 }
 
 // noCauseText says in plain words why no cause is listed, and what to do next.
@@ -232,20 +240,22 @@ func consoleRejection(r parse.Rejection) string {
 
 // TriageRow is one line of the triage table.
 type TriageRow struct {
-	Rank       int
-	Port       string
-	Circuit    string
-	Profile    string
-	Verdict    diagnose.Verdict
-	Cause      string // top cause id, "" when none
-	Confidence float64
-	Others     []string // further cause ids
-	QMarginDB  *float64
-	RxPowerDBm *float64
-	Samples    int
-	Dark       int    // samples without signal (their Q and power are left out of the figures)
-	Summary    string // first evidence sentence of the top cause
-	Impact     string // the service-impact rung and its figure (ImpactText)
+	Rank    int
+	Port    string
+	Circuit string
+	Profile string
+	// ProfileSource says what chose Profile (map, column, flag or default).
+	ProfileSource string
+	Verdict       diagnose.Verdict
+	Cause         string // top cause id, "" when none
+	Confidence    float64
+	Others        []string // further cause ids
+	QMarginDB     *float64
+	RxPowerDBm    *float64
+	Samples       int
+	Dark          int    // samples without signal (their Q and power are left out of the figures)
+	Summary       string // first evidence sentence of the top cause
+	Impact        string // the service-impact rung and its figure (ImpactText)
 }
 
 // ImpactText says in a few words why a port ranks where it does (diagnose.SortByImpact).
@@ -273,7 +283,7 @@ func ImpactText(im diagnose.Impact) string {
 func TriageRows(ports []diagnose.PortResult) []TriageRow {
 	rows := make([]TriageRow, len(ports))
 	for i, p := range ports {
-		r := TriageRow{Rank: i + 1, Port: p.Port, Circuit: p.Circuit, Profile: p.Profile, Verdict: p.Verdict, Samples: p.Samples,
+		r := TriageRow{Rank: i + 1, Port: p.Port, Circuit: p.Circuit, Profile: p.Profile, ProfileSource: p.ProfileSource, Verdict: p.Verdict, Samples: p.Samples,
 			Impact: ImpactText(diagnose.ImpactOf(&ports[i]))}
 		if len(p.Causes) > 0 {
 			r.Cause, r.Confidence = p.Causes[0].ID, p.Causes[0].Confidence
@@ -404,12 +414,13 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 	return nil
 }
 
-// WriteTriageCSV writes one row per shown port: rank, port, circuit, profile, verdict, impact,
+// WriteTriageCSV writes one row per shown port: rank, port, circuit, profile and what chose it,
+// verdict, impact,
 // top cause, confidence, other causes (separated by "|"), Q margin (dB), median rx power (dBm),
 // samples, and the top cause's first evidence sentence.
 func WriteTriageCSV(w io.Writer, shown []diagnose.PortResult) error {
 	cw := csv.NewWriter(w)
-	_ = cw.Write([]string{"rank", "port", "circuit", "profile", "verdict", "impact", "top_cause", "confidence", "other_causes", "q_margin_db", "rx_power_p50_dbm", "samples", "evidence"})
+	_ = cw.Write([]string{"rank", "port", "circuit", "profile", "profile_source", "verdict", "impact", "top_cause", "confidence", "other_causes", "q_margin_db", "rx_power_p50_dbm", "samples", "evidence"})
 	f := func(v *float64) string {
 		if v == nil {
 			return ""
@@ -421,7 +432,7 @@ func WriteTriageCSV(w io.Writer, shown []diagnose.PortResult) error {
 		if r.Cause != "" {
 			conf = strconv.FormatFloat(r.Confidence, 'f', 3, 64)
 		}
-		if err := cw.Write([]string{strconv.Itoa(r.Rank), r.Port, r.Circuit, r.Profile, string(r.Verdict), r.Impact, r.Cause, conf,
+		if err := cw.Write([]string{strconv.Itoa(r.Rank), r.Port, r.Circuit, r.Profile, r.ProfileSource, string(r.Verdict), r.Impact, r.Cause, conf,
 			strings.Join(r.Others, "|"), f(r.QMarginDB), f(r.RxPowerDBm), strconv.Itoa(r.Samples), r.Summary}); err != nil {
 			return err
 		}

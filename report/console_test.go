@@ -63,7 +63,7 @@ func TestConsoleTriageCSVAndMarkdown(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(rows) != 4 || rows[1][1] != "a|1" || rows[1][5] != "limit-crossed" || rows[1][6] != "rx-power-low" || rows[1][8] != "sop-transient" || rows[1][9] != "0.40" {
+	if len(rows) != 4 || rows[1][1] != "a|1" || rows[1][6] != "limit-crossed" || rows[1][7] != "rx-power-low" || rows[1][9] != "sop-transient" || rows[1][10] != "0.40" {
 		t.Errorf("CSV rows = %q", rows)
 	}
 	b.Reset()

@@ -14,6 +14,8 @@ type PortMap struct {
 	// File is the path the map was read from.
 	File    string         `yaml:"-" json:"file"`
 	Entries []PortMapEntry `yaml:"ports" json:"ports"`
+
+	exact map[string]int // exact port id → entry index, built by Validate
 }
 
 // PortMapEntry maps the ports matching Port to a plan and/or a profile.
@@ -78,6 +80,7 @@ func globRegexp(pattern string) (*regexp.Regexp, error) {
 // compile, no exact port given twice. Its error is a *FieldError naming the field at fault.
 func (m *PortMap) Validate() error {
 	seen := map[string]int{}
+	m.exact = map[string]int{}
 	for i := range m.Entries {
 		e := &m.Entries[i]
 		pre := fmt.Sprintf("ports[%d]", i)
@@ -98,6 +101,8 @@ func (m *PortMap) Validate() error {
 				return fieldErr(pre+".port", ErrRange, "bad pattern: %v", err)
 			}
 			e.re = re
+		} else {
+			m.exact[e.Port] = i
 		}
 	}
 	return nil
@@ -106,17 +111,23 @@ func (m *PortMap) Validate() error {
 // Lookup finds the entry for a port: an exact entry first, otherwise the first pattern in file
 // order that matches.
 func (m *PortMap) Lookup(port string) (PortMapEntry, bool) {
-	for _, e := range m.Entries {
-		if e.re == nil && e.Port == port {
-			return e, true
-		}
-	}
-	for _, e := range m.Entries {
-		if e.re != nil && e.re.MatchString(port) {
-			return e, true
-		}
+	if i, ok := m.Index(port); ok {
+		return m.Entries[i], true
 	}
 	return PortMapEntry{}, false
+}
+
+// Index is Lookup's entry as an index into Entries. The map must have been validated.
+func (m *PortMap) Index(port string) (int, bool) {
+	if i, ok := m.exact[port]; ok {
+		return i, true
+	}
+	for i := range m.Entries {
+		if e := &m.Entries[i]; e.re != nil && e.re.MatchString(port) {
+			return i, true
+		}
+	}
+	return 0, false
 }
 
 // LoadPortMap reads and validates the port map at path. Profile ids are checked against

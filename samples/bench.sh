@@ -22,9 +22,10 @@ fi
 mkdir -p "$BIN"
 go build -o "$BIN/beatnote" ./cmd/beatnote
 go build -o "$BIN/baseline" ./samples/fleetgen/baseline
-[ -f out/fleet.csv ] || go run ./samples/fleetgen -out out/fleet.csv
-[ -f out/fleet-250k.csv ] || go run ./samples/fleetgen -out out/fleet-250k.csv -samples 360
-[ -d out/fleet-files ] || go run ./samples/fleetgen -out "" -files-dir out/fleet-files
+# The port maps give each port its profile (triage refuses to assume one); older out/ lacks them.
+[ -f out/fleet.portmap.yaml ] || go run ./samples/fleetgen -out out/fleet.csv
+[ -f out/fleet-250k.portmap.yaml ] || go run ./samples/fleetgen -out out/fleet-250k.csv -samples 360
+[ -f out/fleet-files.portmap.yaml ] || go run ./samples/fleetgen -out "" -files-dir out/fleet-files
 
 calc() { awk "BEGIN { print $1 }"; } # arithmetic without bc
 
@@ -52,11 +53,11 @@ peak() { sort -n -k2 "$BIN/$1" | tail -n 1 | cut -d' ' -f2; } # largest peak RSS
 for n in base1m tri1m base250k tri250k basefiles trifiles; do : >"$BIN/$n"; done
 for i in $(seq "$RUNS"); do
 	run base1m "$BIN/baseline" out/fleet.csv
-	run tri1m "$BIN/beatnote" triage out/fleet.csv --format json
+	run tri1m "$BIN/beatnote" triage out/fleet.csv --map out/fleet.portmap.yaml --format json
 	run base250k "$BIN/baseline" out/fleet-250k.csv
-	run tri250k "$BIN/beatnote" triage out/fleet-250k.csv --format json
+	run tri250k "$BIN/beatnote" triage out/fleet-250k.csv --map out/fleet-250k.portmap.yaml --format json
 	run basefiles "$BIN/baseline" out/fleet-files
-	run trifiles "$BIN/beatnote" triage out/fleet-files --format json
+	run trifiles "$BIN/beatnote" triage out/fleet-files --map out/fleet-files.portmap.yaml --format json
 done
 
 r1m=$(rows out/fleet.csv)

@@ -19,7 +19,7 @@ const defaultProfileID = "400g-dp-16qam-cfec"
 
 // judgeFlags are the options check, triage and report share for judging ports.
 type judgeFlags struct {
-	Profile  string `help:"Module profile id to judge against (see 'beatnote profiles'). Default: the plan's or the map's, else 400g-dp-16qam-cfec." placeholder:"ID"`
+	Profile  string `help:"Module profile id to judge against (see 'beatnote profiles'). Default: the map's or the plan's; else triage stops, check and report assume 400g-dp-16qam-cfec and say so." placeholder:"ID"`
 	Profiles string `help:"YAML file of module profiles adding to or overriding the built-in ones (by id)." type:"existingfile" placeholder:"FILE"`
 	Rules    string `help:"YAML file overriding threshold rules (see docs/rules.md)." type:"existingfile" placeholder:"FILE"`
 	Plan     string `help:"Link plan (YAML) the ports are judged against; enables plan vs measured and cd-mismatch." type:"existingfile" placeholder:"PLAN.yaml"`
@@ -33,9 +33,11 @@ type analysis struct {
 	ReadErr error
 }
 
-// analyze reads the inputs and judges every port. mapFile is a port map (triage) or "".
+// analyze reads the inputs and judges every port. mapFile is a port map (triage) or "". With
+// requireProfile it refuses (an error) to judge a port on the assumed default profile: when
+// neither --profile, --plan, the map nor the data names the port's profile.
 // Errors it returns are usage or input errors (exit 2).
-func analyze(paths []string, jf judgeFlags, mapFile string, pr *printer) (*analysis, error) {
+func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool, pr *printer) (*analysis, error) {
 	boundHeap()
 	profiles, err := loadProfiles(jf.Profiles)
 	if err != nil {
@@ -66,24 +68,23 @@ func analyze(paths []string, jf judgeFlags, mapFile string, pr *printer) (*analy
 		}
 		pm = &m
 	}
-	// The default profile: --profile, else the plan's, else the built-in default.
-	defID, defNote := jf.Profile, ""
+	// The default profile: --profile, else the plan's, else the built-in default (assumed).
+	defID, defSource := jf.Profile, diagnose.ProfileFromFlag
 	if defID == "" && plan != nil && plan.Profile != "" {
 		defID = plan.Profile
 	}
 	if defID == "" {
-		defID = defaultProfileID
-		defNote = fmt.Sprintf("no --profile given: judging against the default profile %s (see 'beatnote profiles')", defaultProfileID)
+		defID, defSource = defaultProfileID, diagnose.ProfileAssumed
 	}
 	defProf, err := rules.ProfileByID(profiles, defID)
 	if err != nil {
 		return nil, fmt.Errorf("--profile: %w", err)
 	}
-	cfg := diagnose.Config{Version: version, Rules: rs, Default: diagnose.Setup{Profile: defProf, Plan: plan},
+	cfg := diagnose.Config{Version: version, Rules: rs, Default: diagnose.Setup{Profile: defProf, Plan: plan, ProfileSource: defSource},
 		// Nothing the commands print uses a correlation no cause asked for.
 		CorrelationsOnDemand: true}
 	if pm != nil {
-		lk, err := portMapLookup(pm, profiles, jf.Profile, defProf, plan)
+		lk, err := portMapLookup(pm, profiles, jf.Profile, cfg.Default)
 		if err != nil {
 			return nil, err
 		}
@@ -109,20 +110,30 @@ func analyze(paths []string, jf judgeFlags, mapFile string, pr *printer) (*analy
 	if read, rejected := rowCounts(ds); rejected > 0 {
 		pr.Notef("%d of %d rows were rejected and not judged; 'beatnote scan' lists every reason", rejected, read)
 	}
-	if defNote != "" && pm == nil {
-		pr.Notef("%s", defNote)
-	}
-	if pm != nil {
-		unmapped := 0
-		for _, s := range ds.Series {
-			if _, ok := pm.Lookup(s.Port); !ok {
-				unmapped++
+	unmapped, assumed := 0, 0
+	for _, s := range ds.Series {
+		st, ok := cfg.Default, false
+		if cfg.Lookup != nil {
+			if st, ok = cfg.Lookup(s.Port); !ok {
+				st = cfg.Default
 			}
 		}
-		if unmapped > 0 {
-			pr.Notef("%d of %d ports are not in the port map %s: judged against profile %s%s", unmapped, len(ds.Series), pm.File, defProf.ID,
-				map[bool]string{true: " and the --plan given", false: " without a plan"}[plan != nil])
+		if pm != nil && !ok {
+			unmapped++
 		}
+		if st.ProfileSource == diagnose.ProfileAssumed {
+			assumed++
+		}
+	}
+	if assumed > 0 && requireProfile {
+		return nil, fmt.Errorf("%d of %d ports have no known profile (no --profile, --plan or port map entry names it): pass --profile ID or --map PORTMAP.yaml rather than judge them on an assumed %s", assumed, len(ds.Series), defProf.ID)
+	}
+	if unmapped > 0 {
+		pr.Notef("%d of %d ports are not in the port map %s: judged against profile %s%s", unmapped, len(ds.Series), pm.File, defProf.ID,
+			map[bool]string{true: " and the --plan given", false: " without a plan"}[plan != nil])
+	}
+	if assumed > 0 {
+		pr.Notef("%d of %d ports judged against the assumed default profile %s: nothing names theirs (pass --profile ID; see 'beatnote profiles')", assumed, len(ds.Series), defProf.ID)
 	}
 	res, err := diagnose.Analyze(ds, cfg)
 	if err != nil {
@@ -154,8 +165,9 @@ func loadProfiles(file string) ([]rules.Profile, error) {
 }
 
 // portMapLookup gives each mapped port its plan and profile. Plans are read once each. The
-// profile is the entry's, else --profile, else the plan's, else the default.
-func portMapLookup(pm *rules.PortMap, profiles []rules.Profile, flagProfile string, def rules.Profile, flagPlan *rules.Plan) (func(string) (diagnose.Setup, bool), error) {
+// profile is the entry's, else --profile, else the plan's (the entry's plan, else --plan's),
+// else def's; ProfileSource says which.
+func portMapLookup(pm *rules.PortMap, profiles []rules.Profile, flagProfile string, def diagnose.Setup) (func(string) (diagnose.Setup, bool), error) {
 	plans := map[string]*rules.Plan{}
 	for _, e := range pm.Entries {
 		if e.PlanPath == "" {
@@ -172,35 +184,32 @@ func portMapLookup(pm *rules.PortMap, profiles []rules.Profile, flagProfile stri
 	}
 	setups := make([]diagnose.Setup, len(pm.Entries))
 	for i, e := range pm.Entries {
-		st := diagnose.Setup{Profile: def, Plan: flagPlan}
+		st := def
 		if e.PlanPath != "" {
 			st.Plan = plans[e.PlanPath]
 		}
-		id := e.Profile
+		id, src := e.Profile, diagnose.ProfileFromMap
 		if id == "" {
-			id = flagProfile
+			id, src = flagProfile, diagnose.ProfileFromFlag
 		}
-		if id == "" && st.Plan != nil {
-			id = st.Plan.Profile
+		if id == "" && st.Plan != nil && st.Plan.Profile != "" {
+			id, src = st.Plan.Profile, diagnose.ProfileFromFlag
+			if e.PlanPath != "" {
+				src = diagnose.ProfileFromMap
+			}
 		}
 		if id != "" {
 			p, err := rules.ProfileByID(profiles, id)
 			if err != nil {
 				return nil, fmt.Errorf("port map %s line %d: %w", pm.File, e.Line, err)
 			}
-			st.Profile = p
+			st.Profile, st.ProfileSource = p, src
 		}
 		setups[i] = st
 	}
 	return func(port string) (diagnose.Setup, bool) {
-		e, ok := pm.Lookup(port)
-		if !ok {
-			return diagnose.Setup{}, false
-		}
-		for i := range pm.Entries {
-			if pm.Entries[i].Port == e.Port && pm.Entries[i].Line == e.Line {
-				return setups[i], true
-			}
+		if i, ok := pm.Index(port); ok {
+			return setups[i], true
 		}
 		return diagnose.Setup{}, false
 	}, nil

@@ -28,7 +28,7 @@ Exit status: 0 every port passes; 1 some port is marginal, failing or could not 
 
 // Run reads, judges and prints.
 func (c *CheckCmd) Run(g *Globals, pr *printer) error {
-	a, err := analyze(c.Logs, c.judgeFlags, "", pr)
+	a, err := analyze(c.Logs, c.judgeFlags, "", false, pr)
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}

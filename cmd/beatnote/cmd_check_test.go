@@ -115,7 +115,7 @@ func TestCheckAndTriageJSONContract(t *testing.T) {
 	writeCase(t, dir, "sop-1", synth.Spec{Seed: 5, Samples: 200, Causes: []string{"sop-transient"}, Severity: 1})
 	writeCase(t, dir, "los-1", synth.Spec{Seed: 5, Samples: 200, Causes: []string{"signal-loss"}, Severity: 1})
 	for _, cmd := range []string{"check", "triage"} {
-		code, out, errw := runCLI(t, cmd, dir, "--format", "json")
+		code, out, errw := runCLI(t, cmd, dir, "--format", "json", "--profile", "400g-dp-16qam-cfec")
 		if code != 1 {
 			t.Errorf("%s: exit %d, want 1 (%s)", cmd, code, errw)
 		}
@@ -134,7 +134,7 @@ func TestCheckAndTriageJSONContract(t *testing.T) {
 			t.Fatalf("%s: %d ports, want 3", cmd, len(ports))
 		}
 		for _, p := range ports {
-			for _, k := range []string{"port", "profile", "samples", "from", "to", "verdict", "causes", "metrics"} {
+			for _, k := range []string{"port", "profile", "samples", "from", "to", "verdict", "causes", "metrics", "profile_source"} {
 				if _, ok := p[k]; !ok {
 					t.Errorf("%s: port %v lacks %q", cmd, p["port"], k)
 				}
@@ -166,20 +166,34 @@ func TestTriageFormatsAndFilters(t *testing.T) {
 	writeCase(t, dir, "pdl-1", synth.Spec{Seed: 7, Samples: 200, Causes: []string{"pdl-high"}, Severity: 1})
 	writeCase(t, dir, "lo-1", synth.Spec{Seed: 7, Samples: 200, Causes: []string{"lo-offset"}, Severity: 1})
 
-	code, out, _ := runCLI(t, "triage", dir)
+	// Nothing names the ports' profile: triage refuses to assume one; check judges on the default
+	// and says so in its output.
+	code, out, errw := runCLI(t, "triage", dir)
+	if code != 2 || out != "" || !strings.Contains(errw, "3 of 3 ports have no known profile") || !strings.Contains(errw, "--profile") {
+		t.Errorf("triage without a profile: exit %d, want 2 and a clear error\n%s%s", code, out, errw)
+	}
+	code, out, _ = runCLI(t, "check", filepath.Join(dir, "ok-1.csv"))
+	if code != 0 || !strings.Contains(out, "Profile 400g-dp-16qam-cfec (assumed: ") {
+		t.Errorf("check without a profile: exit %d, the assumption not shown\n%s", code, out)
+	}
+	code, out, _ = runCLI(t, "check", filepath.Join(dir, "ok-1.csv"), "--format", "json")
+	if code != 0 || !strings.Contains(out, `"profile_source": "default"`) {
+		t.Errorf("check JSON without a profile: exit %d, no profile_source default\n%s", code, out)
+	}
+	code, out, _ = runCLI(t, "triage", dir, "--profile", "400g-dp-16qam-cfec")
 	if code != 1 || !strings.Contains(out, "Ports per cause") || !strings.Contains(out, "pdl-high") {
 		t.Errorf("triage text: exit %d\n%s", code, out)
 	}
-	code, out, _ = runCLI(t, "triage", dir, "--verdict", "pass")
+	code, out, _ = runCLI(t, "triage", dir, "--verdict", "pass", "--profile", "400g-dp-16qam-cfec")
 	if code != 0 || !strings.Contains(out, "1 ports: 0 fail, 0 marginal, 1 pass") || !strings.Contains(out, "ok-1  PASS") {
 		t.Errorf("--verdict pass: exit %d\n%s", code, out)
 	}
-	_, out, _ = runCLI(t, "triage", dir, "--cause", "lo-offset", "--format", "csv")
+	_, out, _ = runCLI(t, "triage", dir, "--cause", "lo-offset", "--format", "csv", "--profile", "400g-dp-16qam-cfec")
 	lines := strings.Split(strings.TrimSpace(out), "\n")
 	if len(lines) != 2 || !strings.Contains(lines[1], "lo-1") || !strings.HasPrefix(lines[0], "rank,port") {
 		t.Errorf("--cause lo-offset csv:\n%s", out)
 	}
-	_, out, _ = runCLI(t, "triage", dir, "--top", "1", "--format", "markdown")
+	_, out, _ = runCLI(t, "triage", dir, "--top", "1", "--format", "markdown", "--profile", "400g-dp-16qam-cfec")
 	rows := 0
 	for _, l := range strings.Split(out, "\n") {
 		if strings.Contains(l, "| FAIL |") || strings.Contains(l, "| MARGINAL |") || strings.Contains(l, "| PASS |") {

@@ -172,7 +172,7 @@ type reportInput struct {
 // load reads and judges the telemetry with the shared analysis (as check does) and gathers
 // what the report shows. Only the plan's ports are reported when the plan lists them.
 func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
-	a, err := analyze(c.Logs, c.judgeFlags, "", pr)
+	a, err := analyze(c.Logs, c.judgeFlags, "", false, pr)
 	if err != nil {
 		return nil, &exitError{code: 2, err: err}
 	}

@@ -104,7 +104,7 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 
 	for _, port := range a.Ports {
 		p("## Port %s — %s\n\n", mdText(port.Port), VerdictWords(port.Verdict))
-		p("Profile %s; %d samples from %s to %s.\n\n", orBlank(port.Profile, "not stated"), port.Samples, port.From, port.To)
+		p("Profile %s; %d samples from %s to %s.\n\n", orBlank(report.ProfileText(&port), "not stated"), port.Samples, port.From, port.To)
 		if len(port.Criteria) > 0 {
 			p("### Criteria\n\n| criterion | statistic | measured | limit | margin | verdict |\n| --- | --- | ---: | ---: | ---: | --- |\n")
 			for _, c := range port.Criteria {

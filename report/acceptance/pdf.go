@@ -546,7 +546,7 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 	pdf.SetFont("sans", "B", 10)
 	pdf.CellFormat(pw.contentW-9, 5, "Port verdict: "+VerdictWords(port.Verdict), "", 1, "L", false, 0, "")
 	pdf.SetTextColor(0, 0, 0)
-	pw.para(fmt.Sprintf("Profile %s; %d samples from %s to %s.", orBlank(port.Profile, "not stated"), port.Samples, port.From, port.To), "", pdfBodySize)
+	pw.para(fmt.Sprintf("Profile %s; %d samples from %s to %s.", orBlank(report.ProfileText(&port), "not stated"), port.Samples, port.From, port.To), "", pdfBodySize)
 	pdf.Ln(1)
 
 	if len(port.Criteria) > 0 {

@@ -7,7 +7,9 @@
 //	go run ./samples/fleetgen -files-dir out/fleet-files
 //
 // Its output is never committed (out/ is scratch). The list of troubled ports and their causes is
-// written beside each output as <out>.truth.json and <files-dir>.truth.json.
+// written beside each output as <out>.truth.json and <files-dir>.truth.json, and a port map
+// giving every port its module profile as <out without .csv>.portmap.yaml and
+// <files-dir>.portmap.yaml (triage refuses to guess a profile).
 package main
 
 import (
@@ -18,12 +20,14 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"strings"
 	"sync"
 	"time"
 
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/samples/synth"
+	"go.yaml.in/yaml/v3"
 )
 
 var profiles = []string{"400g-dp-16qam-cfec", "400g-dp-16qam-ofec", "200g-dp-16qam", "100g-dp-qpsk", "800g-dp-16qam"}
@@ -91,8 +95,34 @@ func spec(k int, n int, trouble float64, seed int64) synth.Spec {
 	return s
 }
 
-// makeAll builds n ports in parallel, in order.
-func makeAll(n, samples int, trouble float64, seed int64) ([]*parse.Series, []truth, error) {
+// portMapPath is where the port map of the output at path goes: beside it, never inside a
+// folder triage reads.
+func portMapPath(path string) string {
+	path = filepath.Clean(path)
+	return strings.TrimSuffix(path, filepath.Ext(path)) + ".portmap.yaml"
+}
+
+// writePortMap writes a port map (docs/rules.md) giving each port its profile, exactly.
+func writePortMap(path string, ports, profiles []string) error {
+	type entry struct {
+		Port    string `yaml:"port"`
+		Profile string `yaml:"profile"`
+	}
+	doc := struct {
+		Ports []entry `yaml:"ports"`
+	}{}
+	for i := range ports {
+		doc.Ports = append(doc.Ports, entry{ports[i], profiles[i]})
+	}
+	y, err := yaml.Marshal(doc)
+	if err != nil {
+		return err
+	}
+	return os.WriteFile(path, append([]byte("# Written by samples/fleetgen: each fleet port and its module profile.\n"), y...), 0o644)
+}
+
+// makeAll builds n ports in parallel, in order, and the port map of them at mapPath.
+func makeAll(n, samples int, trouble float64, seed int64, mapPath string) ([]*parse.Series, []truth, error) {
 	series := make([]*parse.Series, n)
 	truths := make([]*truth, n)
 	errs := make([]error, n)
@@ -122,6 +152,7 @@ func makeAll(n, samples int, trouble float64, seed int64) ([]*parse.Series, []tr
 	close(next)
 	wg.Wait()
 	var out []truth
+	names, profs := make([]string, n), make([]string, n)
 	for k := range n {
 		if errs[k] != nil {
 			return nil, nil, errs[k]
@@ -129,8 +160,9 @@ func makeAll(n, samples int, trouble float64, seed int64) ([]*parse.Series, []tr
 		if truths[k] != nil {
 			out = append(out, *truths[k])
 		}
+		names[k], profs[k] = series[k].Port, spec(k, samples, trouble, seed).ProfileID
 	}
-	return series, out, nil
+	return series, out, writePortMap(mapPath, names, profs)
 }
 
 func writeTruth(path string, t []truth) error {
@@ -142,11 +174,11 @@ func writeTruth(path string, t []truth) error {
 }
 
 func writeFleet(path string, ports, samples int, trouble float64, seed int64) error {
-	series, truths, err := makeAll(ports, samples, trouble, seed)
-	if err != nil {
+	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
 		return err
 	}
-	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
+	series, truths, err := makeAll(ports, samples, trouble, seed, portMapPath(path))
+	if err != nil {
 		return err
 	}
 	f, err := os.Create(path)
@@ -167,7 +199,7 @@ func writeFiles(dir string, files, rows int, trouble float64, seed int64) error 
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
-	series, truths, err := makeAll(files, rows, trouble, seed+1)
+	series, truths, err := makeAll(files, rows, trouble, seed+1, portMapPath(dir))
 	if err != nil {
 		return err
 	}

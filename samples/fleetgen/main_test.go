@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/rules"
 )
 
 // TestDeterministicAndComplete: the same seed writes the same bytes, every row has all sixteen
@@ -43,6 +44,27 @@ func TestDeterministicAndComplete(t *testing.T) {
 	if in.RowsRead != 40*60 || in.RowsUsed != in.RowsRead || len(ds.Series) != 40 {
 		t.Fatalf("accounting %+v, %d ports", in, len(ds.Series))
 	}
+	// The port map names every port's own profile, so triage need not assume one.
+	pm, err := rules.LoadPortMap(filepath.Join(dir, "a.portmap.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k, s := range ds.Series {
+		e, ok := pm.Lookup(s.Port)
+		if !ok || e.Profile == "" {
+			t.Fatalf("port %s not in the map %v", s.Port, e)
+		}
+		if k == 0 && e.Profile != spec(0, 60, 0.2, 9).ProfileID {
+			t.Errorf("port %s mapped to %s", s.Port, e.Profile)
+		}
+	}
+	profiles := map[string]bool{}
+	for _, e := range pm.Entries {
+		profiles[e.Profile] = true
+	}
+	if len(pm.Entries) != 40 || len(profiles) < 2 {
+		t.Errorf("map: %d entries, %d profiles", len(pm.Entries), len(profiles))
+	}
 	truth, _ := os.ReadFile(a + ".truth.json")
 	if !bytes.Contains(truth, []byte(`"causes"`)) {
 		t.Fatalf("no troubled port at 20 %%: %s", truth)
@@ -58,6 +80,9 @@ func TestDeterministicAndComplete(t *testing.T) {
 	}
 	if len(ds.Inputs) != 30 || len(ds.Series) != 30 {
 		t.Fatalf("%d inputs, %d ports", len(ds.Inputs), len(ds.Series))
+	}
+	if _, err := rules.LoadPortMap(files + ".portmap.yaml"); err != nil {
+		t.Fatal(err)
 	}
 	if _, err := os.Stat(files + ".truth.json"); err != nil {
 		t.Fatal(err)
