@@ -23,6 +23,7 @@ type judgeFlags struct {
 	Profiles string `help:"YAML file of module profiles adding to or overriding the built-in ones (by id)." type:"existingfile" placeholder:"FILE"`
 	Rules    string `help:"YAML file overriding threshold rules (see docs/rules.md)." type:"existingfile" placeholder:"FILE"`
 	Plan     string `help:"Link plan (YAML) the ports are judged against; enables plan vs measured and cd-mismatch." type:"existingfile" placeholder:"PLAN.yaml"`
+	storeFlags
 }
 
 // analysis is the outcome of reading and judging inputs.
@@ -91,7 +92,10 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		cfg.Lookup = lk
 	}
 
-	ds, readErr := readInputs(paths, pr)
+	if err := jf.checkSource(paths); err != nil {
+		return nil, err
+	}
+	ds, readErr := readInputs(paths, &jf.storeFlags, pr)
 	if ds == nil {
 		return nil, readErr
 	}
@@ -224,8 +228,11 @@ func rowCounts(ds *parse.Dataset) (read, rejected int) {
 	return read, rejected
 }
 
-// readInputs reads the inputs with a progress bar on a terminal.
-func readInputs(paths []string, pr *printer) (*parse.Dataset, error) {
+// readInputs reads the inputs with a progress bar on a terminal, or the store the flags name.
+func readInputs(paths []string, sf *storeFlags, pr *printer) (*parse.Dataset, error) {
+	if sf.active() {
+		return readStore(sf, false, pr)
+	}
 	return readWithProgress(paths, parse.Options{}, pr)
 }
 

@@ -9,7 +9,7 @@ import (
 
 // CheckCmd judges one circuit at turn-up or acceptance.
 type CheckCmd struct {
-	Logs []string `arg:"" name:"log" help:"Telemetry exports of the circuit: files, folders or - for standard input."`
+	Logs []string `arg:"" optional:"" name:"log" help:"Telemetry exports of the circuit: files, folders or - for standard input (or --prometheus URL)."`
 	judgeFlags
 	Port   string `help:"Judge only this port of the logs." placeholder:"PORT"`
 	Format string `help:"Output format: text or json." enum:"text,json" default:"text"`

@@ -19,7 +19,7 @@ import (
 type ReportCmd struct {
 	// Logs stay as typed (no type:"path"): the report prints them, and absolute paths would
 	// make it depend on the folder it was made in.
-	Logs []string `arg:"" name:"log" help:"Telemetry exports of the circuit (files or folders)."`
+	Logs []string `arg:"" optional:"" name:"log" help:"Telemetry exports of the circuit (files or folders; or --prometheus URL)."`
 	judgeFlags
 	Out    string `required:"" help:"Report file to write." placeholder:"FILE.pdf" type:"path"`
 	Format string `help:"Report format: pdf, markdown or json." enum:"pdf,markdown,json" default:"pdf"`
@@ -152,6 +152,9 @@ func (c *ReportCmd) validate() error {
 		if l == "-" && c.SignKey != "" {
 			return errors.New("a signed report needs its inputs as files (not standard input) so that verify can check them")
 		}
+	}
+	if c.active() && c.SignKey != "" {
+		return errors.New("a signed report needs its inputs as files that verify can check: write the store's data with 'beatnote scan --prometheus URL … --export FILE.csv' and report that file")
 	}
 	if c.Format != "pdf" && c.Paper != "a4" {
 		return errors.New("--paper applies to PDF reports only")

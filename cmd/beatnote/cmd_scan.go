@@ -10,11 +10,12 @@ import (
 
 // ScanCmd reads telemetry exports and says what was read and what was not.
 type ScanCmd struct {
-	Paths     []string `arg:"" name:"path" help:"Files, folders (read recursively) or - for standard input."`
+	Paths     []string `arg:"" optional:"" name:"path" help:"Files, folders (read recursively) or - for standard input (or --prometheus URL)."`
 	Format    string   `help:"Output format: text or json." enum:"text,json" default:"text"`
 	Export    string   `help:"Write the normalised data to FILE as canonical CSV." placeholder:"FILE.csv" type:"path"`
 	Strict    bool     `help:"Stop at the first rejected row (exit 2) instead of reporting it."`
 	Statistic string   `help:"Which OpenConfig statistic to read: instant, avg, min or max." enum:"instant,avg,min,max" default:"instant"`
+	storeFlags
 }
 
 // Help is the long help of the command.
@@ -28,7 +29,16 @@ Exit status 2 when an input cannot be read completely or nothing usable was read
 
 // Run reads the inputs and prints the summary.
 func (c *ScanCmd) Run(g *Globals, pr *printer) error {
-	ds, readErr := readWithProgress(c.Paths, parse.Options{Strict: c.Strict, Statistic: c.Statistic}, pr)
+	if err := c.checkSource(c.Paths); err != nil {
+		return &exitError{code: 2, err: err}
+	}
+	var ds *parse.Dataset
+	var readErr error
+	if c.active() {
+		ds, readErr = readStore(&c.storeFlags, c.Strict, pr)
+	} else {
+		ds, readErr = readWithProgress(c.Paths, parse.Options{Strict: c.Strict, Statistic: c.Statistic}, pr)
+	}
 	if ds == nil {
 		return &exitError{code: 2, err: readErr}
 	}

@@ -11,7 +11,7 @@ import (
 
 // TriageCmd ranks many ports worst first, each with its likely cause.
 type TriageCmd struct {
-	Paths []string `arg:"" name:"path" help:"Telemetry exports: files, folders (read recursively) or - for standard input."`
+	Paths []string `arg:"" optional:"" name:"path" help:"Telemetry exports: files, folders (read recursively) or - for standard input (or --prometheus URL)."`
 	judgeFlags
 	Map     string   `help:"Port map (YAML) giving ports their link plan and profile (see docs/rules.md)." type:"existingfile" placeholder:"PORTMAP.yaml"`
 	Format  string   `help:"Output format: text, json, csv or markdown." enum:"text,json,csv,markdown" default:"text"`
