@@ -6,10 +6,13 @@ import (
 	"path/filepath"
 	"regexp"
 	"strings"
+	"unicode/utf8"
 )
 
-// PortMap tells triage which link plan and which profile belong to each port. Its YAML file is
-// a list under "ports"; see docs/rules.md.
+// PortMap tells triage which link plan and which profile belong to each port, and the topology
+// around it: the fibre line it shares with other channels, the port of the other direction of
+// its circuit, and the module's identity. Its YAML file is a list under "ports"; see
+// docs/rules.md.
 type PortMap struct {
 	// File is the path the map was read from.
 	File    string         `yaml:"-" json:"file"`
@@ -27,6 +30,16 @@ type PortMapEntry struct {
 	Plan string `yaml:"plan" json:"plan,omitempty"`
 	// Profile is a profile id.
 	Profile string `yaml:"profile" json:"profile,omitempty"`
+	// FibreLine names the shared fibre line (or multiplex section) the port's channel travels:
+	// channels with the same FibreLine see the same spans and amplifiers, in the same direction.
+	FibreLine string `yaml:"line" json:"fibre_line,omitempty"`
+	// Peer is the exact port id of the other direction of the circuit: the port at the far end,
+	// whose receiver hears what this port's module transmits (this port receives the far end's).
+	Peer string `yaml:"peer" json:"peer,omitempty"`
+	// PartNumber, Serial and Firmware identify the module (as its inventory states them).
+	PartNumber string `yaml:"part_number" json:"part_number,omitempty"`
+	Serial     string `yaml:"serial" json:"serial,omitempty"`
+	Firmware   string `yaml:"firmware" json:"firmware,omitempty"`
 	// PlanPath is Plan resolved against the map file's folder; "" when no plan is given.
 	PlanPath string `yaml:"-" json:"plan_path,omitempty"`
 	// Line is the line of the entry in the map file.
@@ -76,8 +89,29 @@ func globRegexp(pattern string) (*regexp.Regexp, error) {
 	return regexp.Compile(b.String())
 }
 
-// Validate checks every entry: a port or pattern, a plan or a profile (or both), patterns that
-// compile, no exact port given twice. Its error is a *FieldError naming the field at fault.
+// maxNameLen bounds the free-text fields of an entry (line, peer, module identity).
+const maxNameLen = 128
+
+// checkName checks a free-text field: printable, one line, at most maxNameLen bytes.
+func checkName(field, v string) error {
+	if len(v) > maxNameLen {
+		return fieldErr(field, ErrRange, "%d bytes; at most %d", len(v), maxNameLen)
+	}
+	for _, r := range v {
+		if r < 0x20 || r == 0x7f || (r >= 0x80 && r < 0xa0) || r == utf8.RuneError {
+			return fieldErr(field, ErrRange, "control or invalid character %U", r)
+		}
+	}
+	if v != "" && strings.TrimSpace(v) == "" {
+		return fieldErr(field, ErrMissing, "only spaces")
+	}
+	return nil
+}
+
+// Validate checks every entry: a port or pattern, a plan, a profile or a line (or several),
+// patterns that compile, no exact port given twice, printable names, and peers that are exact
+// ports other than the entry's own and, when both are listed, point back at each other. Its
+// error is a *FieldError naming the field at fault.
 func (m *PortMap) Validate() error {
 	seen := map[string]int{}
 	m.exact = map[string]int{}
@@ -87,8 +121,24 @@ func (m *PortMap) Validate() error {
 		if strings.TrimSpace(e.Port) == "" {
 			return fieldErr(pre+".port", ErrMissing, "give a port id or pattern")
 		}
-		if e.Plan == "" && e.Profile == "" {
-			return fieldErr(pre, ErrMissing, "give a plan, a profile or both for %q", e.Port)
+		if e.Plan == "" && e.Profile == "" && e.FibreLine == "" && e.Peer == "" {
+			return fieldErr(pre, ErrMissing, "give a plan, a profile, a line or a peer for %q", e.Port)
+		}
+		for _, f := range []struct{ name, v string }{{"port", e.Port}, {"line", e.FibreLine}, {"peer", e.Peer},
+			{"part_number", e.PartNumber}, {"serial", e.Serial}, {"firmware", e.Firmware}} {
+			if err := checkName(pre+"."+f.name, f.v); err != nil {
+				return err
+			}
+		}
+		if e.Peer != "" {
+			switch {
+			case strings.ContainsAny(e.Port, globMeta):
+				return fieldErr(pre+".peer", ErrRange, "a pattern (%q) cannot have one peer: give the peer on each exact port", e.Port)
+			case strings.ContainsAny(e.Peer, globMeta):
+				return fieldErr(pre+".peer", ErrRange, "%q: the peer is one exact port id, not a pattern", e.Peer)
+			case e.Peer == e.Port:
+				return fieldErr(pre+".peer", ErrRange, "%q is the port itself", e.Peer)
+			}
 		}
 		if j, dup := seen[e.Port]; dup {
 			return fieldErr(pre+".port", ErrDuplicate, "%q is also entry %d", e.Port, j)
@@ -105,6 +155,15 @@ func (m *PortMap) Validate() error {
 			m.exact[e.Port] = i
 		}
 	}
+	for i := range m.Entries {
+		e := &m.Entries[i]
+		if e.Peer == "" {
+			continue
+		}
+		if j, ok := m.exact[e.Peer]; ok && m.Entries[j].Peer != "" && m.Entries[j].Peer != e.Port {
+			return fieldErr(fmt.Sprintf("ports[%d].peer", i), ErrRange, "%q names %q as its peer, but %q names %q", e.Port, e.Peer, e.Peer, m.Entries[j].Peer)
+		}
+	}
 	return nil
 }
 
@@ -119,7 +178,7 @@ func (m *PortMap) Lookup(port string) (PortMapEntry, bool) {
 
 // Index is Lookup's entry as an index into Entries. The map must have been validated.
 func (m *PortMap) Index(port string) (int, bool) {
-	if i, ok := m.exact[port]; ok {
+	if i, ok := m.exact[port]; ok && i < len(m.Entries) && m.Entries[i].Port == port {
 		return i, true
 	}
 	for i := range m.Entries {

@@ -54,8 +54,10 @@ func TestPlansLoad(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := rules.LoadPortMap("../portmap.yaml", profs...); err != nil {
-		t.Fatal(err)
+	for _, pm := range []string{"../portmap.yaml", "../network/portmap.yaml"} {
+		if _, err := rules.LoadPortMap(pm, profs...); err != nil {
+			t.Fatal(err)
+		}
 	}
 	m := readManifest(t)
 	total := int64(0)

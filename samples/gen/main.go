@@ -1,7 +1,8 @@
 // Command gen writes beatnote's demo scenario, deterministically, from samples/synth: the logs
 // under samples/logs, one link plan per circuit under samples/plans, the triage port map
 // samples/portmap.yaml and samples/manifest.yaml, which lists for every log its port, circuit,
-// plan, profile, intended verdict and intended causes (top cause first).
+// plan, profile, intended verdict and intended causes (top cause first); and the demo network
+// under samples/network (fibre lines of several channels with events on them; network.go).
 //
 // Run from the module root: go run ./samples/gen (or go generate ./samples/...). The flag -dir
 // writes elsewhere (the tests compare a fresh run with the committed files).
@@ -183,7 +184,10 @@ func generate(dir string) error {
 	if err := enc.Close(); err != nil {
 		return err
 	}
-	return os.WriteFile(filepath.Join(dir, "manifest.yaml"), buf.Bytes(), 0o644)
+	if err := os.WriteFile(filepath.Join(dir, "manifest.yaml"), buf.Bytes(), 0o644); err != nil {
+		return err
+	}
+	return generateNetwork(dir)
 }
 
 // linkJSON gives a link's figures, by their JSON names, rounded to 0.01 for the manifest; a

@@ -155,7 +155,7 @@ func poisson(rng *rand.Rand, lambda float64) float64 {
 
 // render makes the telemetry of the link as built, one sample per interval, and judges it
 // against the profile's limits (see Case.Verdict).
-func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation, a Link, f *faults) (*parse.Series, diagnose.Verdict) {
+func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation, a Link, f *faults, lw []lineWindow) (*parse.Series, diagnose.Verdict) {
 	n := spec.Samples
 	step := spec.Interval.Minutes()
 	pen := penalties{prof}
@@ -184,8 +184,17 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 		var v [parse.NumQuantities]float64
 		x, y, z := dgdAR[0].next(rng), dgdAR[1].next(rng), dgdAR[2].next(rng)
 		dgd := dgdScale * math.Sqrt(x*x+y*y+z*z)
-		osnr := a.OSNRdB + osnrDriftDB*osnrAR.next(rng)
-		rx := a.RxPowerDBm + rxDriftDB*rxAR.next(rng)
+		cur, lineDark := a, false // the link as it stands at this sample, after the line events
+		for _, w := range lw {
+			if i >= w.from && i <= w.to {
+				lineDark = lineDark || w.dark
+				if w.link != nil {
+					cur = *w.link
+				}
+			}
+		}
+		osnr := cur.OSNRdB + osnrDriftDB*osnrAR.next(rng)
+		rx := cur.RxPowerDBm + rxDriftDB*rxAR.next(rng)
 		if f.stepAt >= 0 && frac < f.stepAt {
 			rx += f.stepDB
 		}
@@ -200,7 +209,7 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 			rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64()}
 
 		ase := optics.SNRdBFromOSNRdB(osnr, prof.BaudGBd, prof.PolarizationCount())
-		snr := optics.CombineSNRdB(ase, a.NLISNRdB, a.B2BSNRdB, rxNoise(rx))
+		snr := optics.CombineSNRdB(ase, cur.NLISNRdB, a.B2BSNRdB, rxNoise(rx))
 		snr -= pen.pdl(pdl) + pen.dgd(dgd) + pen.cd(a.CDPsNm) + pen.overload(rx) + pen.lo(lo)
 		snr += snrJitterDB * noise[0]
 		ber := berOf(mod, snr)
@@ -215,7 +224,7 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 			ber = (1-d)*ber + d*berB
 			snr = -optics.LinearToDB((1-d)/optics.DBToLinear(snr) + d/optics.DBToLinear(snrB))
 		}
-		dark := f.lossFrom >= 0 && frac >= f.lossFrom && frac <= f.lossTo
+		dark := lineDark || (f.lossFrom >= 0 && frac >= f.lossFrom && frac <= f.lossTo)
 		unlocked := math.Abs(lo) > prof.LOOffsetRangeMHz
 		if dark && spec.SignalLossAsGap && frac > f.lossFrom+silentAfter*(f.lossTo-f.lossFrom) {
 			// The port reported the light going (power at the floor) and then went silent: the

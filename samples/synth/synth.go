@@ -62,6 +62,9 @@ type Spec struct {
 	// of the dark time and then leave the samples out (a port that reports the light going and
 	// then stops reporting), instead of reporting the whole dark time at the floor.
 	SignalLossAsGap bool
+	// LineEvents happen on the fibre line the channel travels (see LineEvent); give every
+	// channel of a line the same events and the same Plan (each with its own frequency).
+	LineEvents []LineEvent
 }
 
 // DefaultProfileID is the profile used when Spec.ProfileID is empty.
@@ -167,8 +170,12 @@ func Make(spec Spec) (Case, error) {
 	c.Actual = m.evaluate(prof)
 	c.Actual.PDLdB = f.pdlDB
 	c.Design.PDLdB = basePDLdB
-	c.Series, c.Verdict = render(noiseRNG, spec, prof, mod, c.Actual, &f)
-	if len(c.Causes) == 0 && c.Verdict == diagnose.Marginal {
+	lw, err := prepareLineEvents(spec, m, prof, &f, &c)
+	if err != nil {
+		return Case{}, err
+	}
+	c.Series, c.Verdict = render(noiseRNG, spec, prof, mod, c.Actual, &f, lw)
+	if len(c.Causes) == 0 && len(spec.LineEvents) == 0 && c.Verdict == diagnose.Marginal {
 		c.Verdict = diagnose.Pass // no trouble injected and no limit crossed (a given plan may cross one)
 	}
 	return c, nil
