@@ -41,6 +41,9 @@ type Config struct {
 	// Verdicts, causes, evidence, metrics and criteria are the same either way; it saves the
 	// rank sorts of ports whose causes never get that far. False: all of them, as AnalyzePort.
 	CorrelationsOnDemand bool
+	// Acceptance, when set, judges each port's test-period coverage and error performance too
+	// (check and report).
+	Acceptance *AcceptanceTest
 }
 
 // Analyze judges every port of ds and returns the Result of the design contract, ports sorted
@@ -94,6 +97,9 @@ func Analyze(ds *parse.Dataset, cfg Config) (*Result, error) {
 				st := setups[i]
 				res.Ports[i] = analyzePort(ds.Series[i], st.Profile, st.Plan, expects[st.Plan], cfg.Rules, cfg.CorrelationsOnDemand)
 				res.Ports[i].ProfileSource = st.ProfileSource
+				if cfg.Acceptance != nil {
+					judgeAcceptance(&res.Ports[i], ds.Series[i], st, cfg.Rules, *cfg.Acceptance)
+				}
 			}
 		}()
 	}
@@ -133,6 +139,7 @@ func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 	pc.planVsMeasured()
 	pc.causes()
 	pc.verdict()
+	addCautions(pc.res)
 	return *pc.res
 }
 

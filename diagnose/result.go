@@ -1,6 +1,9 @@
 package diagnose
 
-import "github.com/beatnote/beatnote/parse"
+import (
+	"github.com/beatnote/beatnote/diagnose/soak"
+	"github.com/beatnote/beatnote/parse"
+)
 
 // Verdict is the judgement of one port or one criterion.
 type Verdict string
@@ -11,14 +14,20 @@ const (
 	Marginal Verdict = "marginal"
 	Fail     Verdict = "fail"
 	NoData   Verdict = "no-data"
+	// Incomplete is a port that met every limit over a log too short or too sparse for the
+	// acceptance test period: never a pass.
+	Incomplete Verdict = "incomplete"
 )
 
-// Severity orders verdicts for worst-first sorting: fail 3, marginal 2, no-data 1, pass 0.
+// Severity orders verdicts for worst-first sorting: fail 4, marginal 3, incomplete 2,
+// no-data 1, pass 0.
 func (v Verdict) Severity() int {
 	switch v {
 	case Fail:
-		return 3
+		return 4
 	case Marginal:
+		return 3
+	case Incomplete:
 		return 2
 	case NoData:
 		return 1
@@ -75,6 +84,10 @@ type PortResult struct {
 	PlanVsMeasured []PlanComparison `json:"plan_vs_measured,omitempty"`
 	// NotJudged says what could not be judged and why (no plan, quantity missing, …).
 	NotJudged []string `json:"not_judged,omitempty"`
+	// TestPeriod says how the log covers the acceptance test period (check and report).
+	TestPeriod *soak.Coverage `json:"test_period,omitempty"`
+	// ErrorPerformance holds the ITU-T G.826 / G.8201 events (check and report).
+	ErrorPerformance *ErrorPerformance `json:"error_performance,omitempty"`
 	// Analysis holds the time-series findings for charts (change points, bursts, trends, fits).
 	Analysis *PortAnalysis `json:"-"`
 
@@ -89,6 +102,9 @@ type Cause struct {
 	Confidence float64  `json:"confidence"` // 0…1
 	Evidence   []string `json:"evidence"`
 	Actions    []string `json:"actions,omitempty"`
+	// Cautions[i] is the laser-safety caution of Actions[i] (FibreCaution), "" for an action
+	// that touches no fibre; nil when none does.
+	Cautions []string `json:"cautions,omitempty"`
 }
 
 // Metric summarises one quantity of a port, measured or derived. Limit and Margin are nil where

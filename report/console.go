@@ -36,7 +36,7 @@ func FormatValue(v float64, unit string) string {
 		return s
 	case "dB", "dBm":
 		s = strconv.FormatFloat(v, 'f', 2, 64)
-	case "ps/nm", "MHz", "blocks", "samples", "km":
+	case "ps/nm", "MHz", "blocks", "samples", "km", "s":
 		s = strconv.FormatFloat(v, 'f', 0, 64)
 	case "ps", "krad/s", "h", "decades":
 		s = strconv.FormatFloat(v, 'f', 1, 64)
@@ -46,8 +46,17 @@ func FormatValue(v float64, unit string) string {
 	default:
 		s = strconv.FormatFloat(v, 'g', 4, 64)
 	}
+	if strings.Trim(s, "-0.") == "" {
+		s = strings.TrimPrefix(s, "-") // a value that rounds to zero prints without a sign
+	}
+	if one, ok := countUnitOne[unit]; ok && (s == "1" || s == "-1") {
+		unit = one
+	}
 	return s + " " + unit
 }
+
+// countUnitOne is the singular of the count units: "1 block", not "1 blocks".
+var countUnitOne = map[string]string{"blocks": "block", "samples": "sample"}
 
 // CriterionMargin prints a criterion's margin in its own unit: MarginUnit where the margin is
 // not in the measured quantity's unit (decades for the post-FEC BER).
@@ -129,6 +138,13 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 	fmt.Fprintf(w, "%s\n", title)
 	fmt.Fprintf(w, "Profile %s · %d samples · %s to %s\n", ProfileText(p), p.Samples, p.From, p.To)
 	fmt.Fprintf(w, "VERDICT: %s\n", verdictWord(p.Verdict))
+	writeWrapped(w, "  ", "  ", VerdictSentence(p), 96)
+	if p.TestPeriod != nil {
+		writeWrapped(w, "  ", "  ", TestPeriodText(p.TestPeriod), 96)
+	}
+	if p.ErrorPerformance != nil {
+		writeWrapped(w, "  ", "  ", ErrorPerformanceText(p.ErrorPerformance), 96)
+	}
 
 	if len(p.Criteria) > 0 {
 		fmt.Fprintln(w, "\nCriteria")
@@ -146,7 +162,7 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 		fmt.Fprintln(tw, "  quantity\texpected\tmeasured\tdifference\tnote\t")
 		for _, c := range p.PlanVsMeasured {
 			diff := c.Measured - c.Expected
-			fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t\n", c.Quantity, FormatValue(c.Expected, c.Unit), FormatValue(c.Measured, c.Unit),
+			fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t\n", QuantityLabel(c.Quantity), FormatValue(c.Expected, c.Unit), FormatValue(c.Measured, c.Unit),
 				FormatMargin(diff, c.Unit), c.Note)
 		}
 		tw.Flush()
@@ -162,8 +178,11 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 		}
 		if len(c.Actions) > 0 {
 			fmt.Fprintln(w, "     What to do on site:")
-			for _, a := range c.Actions {
+			for j, a := range c.Actions {
 				writeWrapped(w, "     * ", "       ", a, 92)
+				if j < len(c.Cautions) && c.Cautions[j] != "" {
+					writeWrapped(w, "       ", "       ", c.Cautions[j], 90)
+				}
 			}
 		}
 	}
@@ -186,7 +205,7 @@ func ProfileText(p *diagnose.PortResult) string {
 // noCauseText says in plain words why no cause is listed, and what to do next.
 func noCauseText(p *diagnose.PortResult) string {
 	switch p.Verdict {
-	case diagnose.Pass:
+	case diagnose.Pass, diagnose.Incomplete:
 		return "none: every judged limit is met and no physical cause shows in the log."
 	case diagnose.NoData:
 		return "none: the log holds nothing that can be judged (see Not judged)."
@@ -405,7 +424,7 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 		tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		fmt.Fprintln(tw, "  cause\ttop cause of\tlisted on\t")
 		for _, c := range counts {
-			fmt.Fprintf(tw, "  %s\t%s\t%s\t\n", c.ID, plural(c.Top, "port", "ports"), plural(c.Ports, "port", "ports"))
+			fmt.Fprintf(tw, "  %s\t%s\t%s\t\n", c.ID, Plural(c.Top, "port", "ports"), Plural(c.Ports, "port", "ports"))
 		}
 		tw.Flush()
 	}

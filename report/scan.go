@@ -133,7 +133,8 @@ func group(n int) string {
 	return b.String()
 }
 
-func plural(n int, one, many string) string {
+// Plural writes a count with its noun: "1 row", "12 345 rows".
+func Plural(n int, one, many string) string {
 	if n == 1 {
 		return "1 " + one
 	}
@@ -149,10 +150,10 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 		rejected += in.RowsRejected
 		dups += in.Duplicates
 	}
-	fmt.Fprintf(w, "Read %s: %s, %s used, %s rejected; %s.\n", plural(len(ds.Inputs), "file", "files"),
-		plural(read, "row", "rows"), group(used), group(rejected), plural(len(ports), "port", "ports"))
+	fmt.Fprintf(w, "Read %s: %s, %s used, %s rejected; %s.\n", Plural(len(ds.Inputs), "file", "files"),
+		Plural(read, "row", "rows"), group(used), group(rejected), Plural(len(ports), "port", "ports"))
 	if dups > 0 {
-		fmt.Fprintf(w, "%s repeated an earlier port and time; the later row was kept.\n", plural(dups, "row", "rows"))
+		fmt.Fprintf(w, "%s repeated an earlier port and time; the later row was kept.\n", Plural(dups, "row", "rows"))
 	}
 
 	fmt.Fprintln(w)
@@ -231,7 +232,7 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 		}
 	}
 	if len(ds.Skipped) > 0 {
-		fmt.Fprintf(w, "\nSkipped %s in folders (hidden, or not a telemetry file name):\n", plural(len(ds.Skipped), "file", "files"))
+		fmt.Fprintf(w, "\nSkipped %s in folders (hidden, or not a telemetry file name):\n", Plural(len(ds.Skipped), "file", "files"))
 		for i, s := range ds.Skipped {
 			if i == 10 {
 				fmt.Fprintf(w, "  … %d more\n", len(ds.Skipped)-10)

@@ -27,6 +27,9 @@ type Plan struct {
 	Amplifiers []Amplifier `yaml:"amplifiers" json:"amplifiers"`
 	// ExtraLossDB is loss outside the spans (patch panels, mux/demux), dB.
 	ExtraLossDB float64 `yaml:"extra_loss_db" json:"extra_loss_db"`
+	// Soak is the acceptance test period (ParseTestPeriod: 15m, 2h, 24h, 7d, …); empty means
+	// the rules' acceptance.test_period_h.
+	Soak string `yaml:"soak" json:"soak,omitempty"`
 }
 
 // Span is one fibre section between two sites or amplifiers.

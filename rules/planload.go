@@ -33,6 +33,11 @@ func (p *Plan) Validate() error {
 	if strings.TrimSpace(p.Circuit) == "" {
 		return fieldErr("circuit", ErrMissing, "give the circuit id")
 	}
+	if p.Soak != "" {
+		if _, err := ParseTestPeriod(p.Soak); err != nil {
+			return fieldErr("soak", ErrRange, "%v", err)
+		}
+	}
 	// 184.5…238 THz spans the O to U bands (about 1260…1625 nm); 0 means "not given".
 	if p.FrequencyTHz != 0 && !(p.FrequencyTHz >= 184.5 && p.FrequencyTHz <= 238) {
 		return fieldErr("frequency_thz", ErrRange, "%g THz is outside the optical bands 184.5…238 THz", p.FrequencyTHz)

@@ -103,6 +103,9 @@ type Rules struct {
 	// MinSamplesForTrend: fewer samples than this give no trend, change point or fit.
 	MinSamplesForTrend int `yaml:"min_samples_for_trend" json:"min_samples_for_trend"`
 
+	// Acceptance holds the test period, coverage and error-performance figures (acceptance.go).
+	Acceptance AcceptanceRules `yaml:"acceptance" json:"acceptance"`
+
 	// Sources names where each value comes from, keyed by its YAML name.
 	Sources map[string]string `yaml:"sources" json:"sources"`
 }
@@ -135,17 +138,19 @@ type ruleValue struct {
 	v   reflect.Value
 }
 
+// rangeCheck is one value's sanity range for Validate.
+type rangeCheck struct {
+	key    string
+	v      float64
+	lo, hi float64
+	unit   string
+}
+
 // Validate checks every value's range and that every value names a source. Its error is a
 // *FieldError naming the value at fault.
 func (r Rules) Validate() error {
-	type rng struct {
-		key    string
-		v      float64
-		lo, hi float64
-		unit   string
-	}
 	// Bounds are sanity limits; !(v >= lo && v <= hi) lets NaN fail too.
-	checks := []rng{
+	checks := []rangeCheck{
 		{"q_marginal_margin_db", r.QMarginalMarginDB, 0, 10, "dB"},
 		{"osnr_marginal_margin_db", r.OSNRMarginalMarginDB, 0, 20, "dB"},
 		{"rx_power_marginal_band_db", r.RxPowerMarginalBandDB, 0, 20, "dB"},
@@ -169,6 +174,7 @@ func (r Rules) Validate() error {
 		{"correlation_min_spearman", r.CorrelationMinSpearman, 0.05, 1, ""},
 		{"min_samples_for_trend", float64(r.MinSamplesForTrend), 3, 1e7, "samples"},
 	}
+	checks = append(checks, r.Acceptance.checks()...)
 	for _, c := range checks {
 		if !(c.v >= c.lo && c.v <= c.hi) {
 			return fieldErr(c.key, ErrRange, "%g %s is outside %g…%g %s", c.v, c.unit, c.lo, c.hi, c.unit)

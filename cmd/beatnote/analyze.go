@@ -26,6 +26,24 @@ type judgeFlags struct {
 	storeFlags
 }
 
+// soakFlag is the test-period option of the commands that accept a circuit (check, report).
+type soakFlag struct {
+	Soak string `help:"Acceptance test period: 15m, 2h, 24h or 7d (ITU-T M.2110), or any duration. Default: the plan's soak, else 24h. A log shorter than it, or with fewer than 95 % of its sample slots used, gives the verdict incomplete." placeholder:"PERIOD"`
+}
+
+// acceptanceTest is what the flag asks of each port; the rejected rows are added by analyze.
+func (f soakFlag) acceptanceTest() (*diagnose.AcceptanceTest, error) {
+	t := &diagnose.AcceptanceTest{}
+	if f.Soak != "" {
+		d, err := rules.ParseTestPeriod(f.Soak)
+		if err != nil {
+			return nil, fmt.Errorf("--soak: %w", err)
+		}
+		t.Period = d
+	}
+	return t, nil
+}
+
 // analysis is the outcome of reading and judging inputs.
 type analysis struct {
 	DS     *parse.Dataset
@@ -36,9 +54,10 @@ type analysis struct {
 
 // analyze reads the inputs and judges every port. mapFile is a port map (triage) or "". With
 // requireProfile it refuses (an error) to judge a port on the assumed default profile: when
-// neither --profile, --plan, the map nor the data names the port's profile.
+// neither --profile, --plan, the map nor the data names the port's profile. With acc, each
+// port's test period and error performance are judged too (check and report).
 // Errors it returns are usage or input errors (exit 2).
-func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool, pr *printer) (*analysis, error) {
+func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool, acc *diagnose.AcceptanceTest, pr *printer) (*analysis, error) {
 	boundHeap()
 	profiles, err := loadProfiles(jf.Profiles)
 	if err != nil {
@@ -111,8 +130,13 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		}
 		return nil, errors.New("nothing usable was read: no row was accepted (try 'beatnote scan' to see why)")
 	}
-	if read, rejected := rowCounts(ds); rejected > 0 {
+	read, rejected := rowCounts(ds)
+	if rejected > 0 {
 		pr.Notef("%d of %d rows were rejected and not judged; 'beatnote scan' lists every reason", rejected, read)
+	}
+	if acc != nil {
+		acc.Rejected = rejected
+		cfg.Acceptance = acc
 	}
 	unmapped, assumed := 0, 0
 	for _, s := range ds.Series {

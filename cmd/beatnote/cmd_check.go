@@ -11,6 +11,7 @@ import (
 type CheckCmd struct {
 	Logs []string `arg:"" optional:"" name:"log" help:"Telemetry exports of the circuit: files, folders or - for standard input (or --prometheus URL)."`
 	judgeFlags
+	soakFlag
 	Port   string `help:"Judge only this port of the logs." placeholder:"PORT"`
 	Format string `help:"Output format: text or json." enum:"text,json" default:"text"`
 }
@@ -28,7 +29,11 @@ Exit status: 0 every port passes; 1 some port is marginal, failing or could not 
 
 // Run reads, judges and prints.
 func (c *CheckCmd) Run(g *Globals, pr *printer) error {
-	a, err := analyze(c.Logs, c.judgeFlags, "", false, pr)
+	acc, err := c.acceptanceTest()
+	if err != nil {
+		return &exitError{code: 2, err: err}
+	}
+	a, err := analyze(c.Logs, c.judgeFlags, "", false, acc, pr)
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}

@@ -71,7 +71,7 @@ func TestCheckExitCodes(t *testing.T) {
 	healthy, healthyPlan := writeCase(t, dir, "ok-1", synth.Spec{Seed: 3, Samples: 300})
 	bad, badPlan := writeCase(t, dir, "low-1", synth.Spec{Seed: 3, Samples: 300, Causes: []string{"rx-power-low"}, Severity: 1})
 
-	code, out, errw := runCLI(t, "check", healthy, "--plan", healthyPlan)
+	code, out, errw := runCLI(t, "check", healthy, "--plan", healthyPlan, "--soak", "2h")
 	if code != 0 {
 		t.Errorf("healthy check: exit %d, want 0\n%s\n%s", code, out, errw)
 	}
@@ -102,7 +102,7 @@ func TestCheckExitCodes(t *testing.T) {
 		t.Errorf("nothing usable: exit %d, want 2", code)
 	}
 	// Without a plan cd-mismatch is not judged, and the default profile is announced on stderr.
-	code, out, errw = runCLI(t, "check", healthy)
+	code, out, errw = runCLI(t, "check", healthy, "--soak", "5h")
 	if code != 0 || !strings.Contains(out, "cd-mismatch: no link plan") || !strings.Contains(errw, "default profile") {
 		t.Errorf("check without plan: exit %d\nstdout:\n%s\nstderr:\n%s", code, out, errw)
 	}
@@ -115,7 +115,11 @@ func TestCheckAndTriageJSONContract(t *testing.T) {
 	writeCase(t, dir, "sop-1", synth.Spec{Seed: 5, Samples: 200, Causes: []string{"sop-transient"}, Severity: 1})
 	writeCase(t, dir, "los-1", synth.Spec{Seed: 5, Samples: 200, Causes: []string{"signal-loss"}, Severity: 1})
 	for _, cmd := range []string{"check", "triage"} {
-		code, out, errw := runCLI(t, cmd, dir, "--format", "json", "--profile", "400g-dp-16qam-cfec")
+		args := []string{cmd, dir, "--format", "json", "--profile", "400g-dp-16qam-cfec"}
+		if cmd == "check" {
+			args = append(args, "--soak", "2h")
+		}
+		code, out, errw := runCLI(t, args...)
 		if code != 1 {
 			t.Errorf("%s: exit %d, want 1 (%s)", cmd, code, errw)
 		}
@@ -172,11 +176,11 @@ func TestTriageFormatsAndFilters(t *testing.T) {
 	if code != 2 || out != "" || !strings.Contains(errw, "3 of 3 ports have no known profile") || !strings.Contains(errw, "--profile") {
 		t.Errorf("triage without a profile: exit %d, want 2 and a clear error\n%s%s", code, out, errw)
 	}
-	code, out, _ = runCLI(t, "check", filepath.Join(dir, "ok-1.csv"))
+	code, out, _ = runCLI(t, "check", filepath.Join(dir, "ok-1.csv"), "--soak", "2h")
 	if code != 0 || !strings.Contains(out, "Profile 400g-dp-16qam-cfec (assumed: ") {
 		t.Errorf("check without a profile: exit %d, the assumption not shown\n%s", code, out)
 	}
-	code, out, _ = runCLI(t, "check", filepath.Join(dir, "ok-1.csv"), "--format", "json")
+	code, out, _ = runCLI(t, "check", filepath.Join(dir, "ok-1.csv"), "--format", "json", "--soak", "2h")
 	if code != 0 || !strings.Contains(out, `"profile_source": "default"`) {
 		t.Errorf("check JSON without a profile: exit %d, no profile_source default\n%s", code, out)
 	}
@@ -208,5 +212,73 @@ func TestTriageFormatsAndFilters(t *testing.T) {
 	}
 	if code, _, _ := runCLI(t, "triage", dir, "--format", "xml"); code != 2 {
 		t.Errorf("bad format: exit %d, want 2", code)
+	}
+}
+
+// A log shorter than the test period, or too sparse, cannot pass: its verdict is incomplete
+// (exit 1), in text and JSON, whatever its limits say.
+func TestCheckShortLogIsIncomplete(t *testing.T) {
+	dir := t.TempDir()
+	healthy, plan := writeCase(t, dir, "ok-1", synth.Spec{Seed: 3, Samples: 300}) // 5 h of 1-min samples
+	for _, tc := range []struct {
+		soak    []string
+		verdict string
+		code    int
+	}{
+		{nil, "incomplete", 1}, // the 24 h default
+		{[]string{"--soak", "7d"}, "incomplete", 1},
+		{[]string{"--soak", "2h"}, "pass", 0},
+	} {
+		args := append([]string{"check", healthy, "--plan", plan, "--format", "json"}, tc.soak...)
+		code, out, errw := runCLI(t, args...)
+		var doc struct {
+			Ports []struct {
+				Verdict    string `json:"verdict"`
+				TestPeriod struct {
+					RequiredS float64 `json:"required_s"`
+					Complete  bool    `json:"complete"`
+				} `json:"test_period"`
+				ErrorPerformance *struct {
+					SES int `json:"severely_errored_seconds"`
+				} `json:"error_performance"`
+			} `json:"ports"`
+		}
+		if err := json.Unmarshal([]byte(out), &doc); err != nil || len(doc.Ports) != 1 {
+			t.Fatalf("%v: %v\n%s%s", tc.soak, err, out, errw)
+		}
+		p := doc.Ports[0]
+		if code != tc.code || p.Verdict != tc.verdict || p.TestPeriod.Complete != (tc.verdict == "pass") || p.ErrorPerformance == nil {
+			t.Errorf("%v: exit %d verdict %q test period %+v; want exit %d %q with error performance", tc.soak, code, p.Verdict, p.TestPeriod, tc.code, tc.verdict)
+		}
+	}
+	code, out, _ := runCLI(t, "check", healthy, "--plan", plan)
+	if code != 1 || !strings.Contains(out, "VERDICT: INCOMPLETE") || !strings.Contains(out, "the log covers 5 h of the 24 h test period") {
+		t.Errorf("text: exit %d\n%s", code, out)
+	}
+	if code, _, errw := runCLI(t, "check", healthy, "--soak", "soon"); code != 2 || !strings.Contains(errw, "--soak") {
+		t.Errorf("bad --soak: exit %d, %s", code, errw)
+	}
+}
+
+// Three rows, two of them impossible (BER 0.7, +45 dBm): the one row left is no acceptance
+// test, whatever its values, in check and in report.
+func TestCheckRejectedRowsCannotPass(t *testing.T) {
+	dir := t.TempDir()
+	log := filepath.Join(dir, "three.csv")
+	os.WriteFile(log, []byte("time,port,pre_fec_ber,rx_power_dbm\n"+
+		"2026-03-14T00:00:00Z,P1,1e-4,-8\n"+
+		"2026-03-14T00:01:00Z,P1,0.7,-8\n"+
+		"2026-03-14T00:02:00Z,P1,1e-4,45\n"), 0o644)
+	for _, soak := range []string{"15m", "24h"} {
+		code, out, errw := runCLI(t, "check", log, "--soak", soak, "--format", "json")
+		if code != 1 || !strings.Contains(out, `"verdict": "incomplete"`) {
+			t.Errorf("check --soak %s: exit %d\n%s%s", soak, code, out, errw)
+		}
+	}
+	pdf := filepath.Join(dir, "r.md")
+	code, _, errw := runCLI(t, "report", log, "--soak", "15m", "--format", "markdown", "--out", pdf)
+	md, _ := os.ReadFile(pdf)
+	if code != 1 || strings.Contains(string(md), "Verdict: PASS") || !strings.Contains(string(md), "INCOMPLETE") {
+		t.Errorf("report: exit %d (%s)\n%s", code, errw, md)
 	}
 }

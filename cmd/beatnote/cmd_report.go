@@ -21,6 +21,7 @@ type ReportCmd struct {
 	// make it depend on the folder it was made in.
 	Logs []string `arg:"" optional:"" name:"log" help:"Telemetry exports of the circuit (files or folders; or --prometheus URL)."`
 	judgeFlags
+	soakFlag
 	Out    string `required:"" help:"Report file to write." placeholder:"FILE.pdf" type:"path"`
 	Format string `help:"Report format: pdf, markdown or json." enum:"pdf,markdown,json" default:"pdf"`
 	Paper  string `help:"Paper size of the PDF: a4 or letter." enum:"a4,letter" default:"a4"`
@@ -175,7 +176,11 @@ type reportInput struct {
 // load reads and judges the telemetry with the shared analysis (as check does) and gathers
 // what the report shows. Only the plan's ports are reported when the plan lists them.
 func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
-	a, err := analyze(c.Logs, c.judgeFlags, "", false, pr)
+	acc, err := c.acceptanceTest()
+	if err != nil {
+		return nil, &exitError{code: 2, err: err}
+	}
+	a, err := analyze(c.Logs, c.judgeFlags, "", false, acc, pr)
 	if err != nil {
 		return nil, &exitError{code: 2, err: err}
 	}

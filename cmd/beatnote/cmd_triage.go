@@ -83,7 +83,7 @@ func (c *TriageCmd) Run(g *Globals, pr *printer) error {
 	if err := c.validate(); err != nil {
 		return &exitError{code: 2, err: err}
 	}
-	a, err := analyze(c.Paths, c.judgeFlags, c.Map, true, pr)
+	a, err := analyze(c.Paths, c.judgeFlags, c.Map, true, nil, pr)
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}

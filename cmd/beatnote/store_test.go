@@ -53,10 +53,10 @@ func TestMain(m *testing.M) {
 const badMetric = "test_line_pre_fec_ber"
 
 // demoRangeStart and demoRangeEnd bound the demo logs (samples/README.md: 2026-03-14, one
-// sample a minute for up to ten hours).
+// sample a minute for up to 24 hours).
 const (
 	demoRangeStart = "2026-03-14T00:00:00Z"
-	demoRangeEnd   = "2026-03-14T09:59:00Z"
+	demoRangeEnd   = "2026-03-14T23:59:00Z"
 )
 
 // prometheusURL starts (once) a Prometheus server holding the demo logs and returns its URL.

@@ -389,7 +389,7 @@ func metricRows(m map[string]diagnose.Metric) [][]string {
 	rows := make([][]string, len(keys))
 	for i, k := range keys {
 		mt := m[k]
-		name := k
+		name := report.QuantityLabel(k)
 		if mt.Derived {
 			name += " (derived)"
 		}

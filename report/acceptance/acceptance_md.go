@@ -36,8 +36,38 @@ func verdictMeaning(v diagnose.Verdict) string {
 		return "At least one criterion exceeds its limit."
 	case diagnose.NoData:
 		return "The telemetry did not allow any criterion to be judged."
+	case diagnose.Incomplete:
+		return "Every judged limit is met, but the log does not cover the required test period: the link cannot be accepted on it."
 	}
 	return ""
+}
+
+// headline is the report's verdict as a sentence naming what decided it: the sentence of the
+// first port (ports run worst first) whose verdict is the report's.
+func headline(a *Report) string {
+	for i := range a.Ports {
+		if p := &a.Ports[i]; p.Verdict == a.Verdict {
+			s := report.VerdictSentence(p)
+			if len(a.Ports) > 1 {
+				s = "Port " + p.Port + ": " + s
+			}
+			return s
+		}
+	}
+	return verdictMeaning(a.Verdict)
+}
+
+// portFacts are the sentences under a port's heading: its verdict with what decided it, the
+// test period it covers and its error performance.
+func portFacts(p *diagnose.PortResult) []string {
+	out := []string{report.VerdictSentence(p)}
+	if s := report.TestPeriodText(p.TestPeriod); s != "" {
+		out = append(out, s)
+	}
+	if s := report.ErrorPerformanceText(p.ErrorPerformance); s != "" {
+		out = append(out, s)
+	}
+	return out
 }
 
 func orBlank(s, blank string) string {
@@ -65,7 +95,7 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 	p := func(format string, args ...any) { fmt.Fprintf(b, format, args...) }
 
 	p("# Coherent link acceptance report — %s\n\n", mdText(a.Circuit))
-	p("**Verdict: %s** — %s", VerdictWords(a.Verdict), verdictMeaning(a.Verdict))
+	p("**Verdict: %s** — %s", VerdictWords(a.Verdict), mdText(headline(a)))
 	if tally := criteriaTally(a); tally != "" {
 		p(" %s", tally)
 	}
@@ -104,7 +134,10 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 
 	for _, port := range a.Ports {
 		p("## Port %s — %s\n\n", mdText(port.Port), VerdictWords(port.Verdict))
-		p("Profile %s; %d samples from %s to %s.\n\n", orBlank(report.ProfileText(&port), "not stated"), port.Samples, port.From, port.To)
+		p("Profile %s; %s from %s to %s.\n\n", mdText(orBlank(report.ProfileText(&port), "not stated")), report.Plural(port.Samples, "sample", "samples"), port.From, port.To)
+		for _, f := range portFacts(&port) {
+			p("%s\n\n", mdText(f))
+		}
 		if len(port.Criteria) > 0 {
 			p("### Criteria\n\n| criterion | statistic | measured | limit | margin | verdict |\n| --- | --- | ---: | ---: | ---: | --- |\n")
 			for _, c := range port.Criteria {
@@ -116,7 +149,7 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 		if len(port.PlanVsMeasured) > 0 {
 			p("### Plan vs measured\n\n| quantity | planned | measured | difference | note |\n| --- | ---: | ---: | ---: | --- |\n")
 			for _, pc := range port.PlanVsMeasured {
-				p("| %s | %s | %s | %s | %s |\n", mdCell(pc.Quantity), report.FormatValue(pc.Expected, pc.Unit), report.FormatValue(pc.Measured, pc.Unit),
+				p("| %s | %s | %s | %s | %s |\n", mdCell(report.QuantityLabel(pc.Quantity)), report.FormatValue(pc.Expected, pc.Unit), report.FormatValue(pc.Measured, pc.Unit),
 					report.FormatMargin(pc.Measured-pc.Expected, pc.Unit), mdCell(pc.Note))
 			}
 			p("\n")
@@ -130,8 +163,11 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 			for _, e := range c.Evidence {
 				p("   - evidence: %s\n", mdText(e))
 			}
-			for _, act := range c.Actions {
+			for j, act := range c.Actions {
 				p("   - action: %s\n", mdText(act))
+				if j < len(c.Cautions) && c.Cautions[j] != "" {
+					p("     *%s*\n", mdText(c.Cautions[j]))
+				}
 			}
 		}
 		p("\n")

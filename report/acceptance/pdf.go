@@ -246,17 +246,24 @@ func (pw *pdfWriter) bullet(indent float64, mark, s string) {
 	pdf.MultiCell(pw.contentW-indent-5, pdfLineH, pw.text(s), "", "L", false)
 }
 
-// causeList writes an italic label and one bullet per item, indented under a likely cause;
-// nothing when items is empty.
-func (pw *pdfWriter) causeList(label, mark string, items []string) {
+// causeList writes an italic label and one bullet per item, indented under a likely cause, with
+// notes[i] (a laser-safety caution) in small italics under item i when given; nothing when
+// items is empty.
+func (pw *pdfWriter) causeList(label, mark string, items, notes []string) {
 	if len(items) == 0 {
 		return
 	}
-	pw.pdf.SetFont("sans", "I", pdfBodySize)
-	pw.pdf.SetX(pdfMargin + 4)
-	pw.pdf.CellFormat(40, pdfLineH, label, "", 1, "L", false, 0, "")
-	for _, it := range items {
+	pdf := pw.pdf
+	pdf.SetFont("sans", "I", pdfBodySize)
+	pdf.SetX(pdfMargin + 4)
+	pdf.CellFormat(40, pdfLineH, label, "", 1, "L", false, 0, "")
+	for i, it := range items {
 		pw.bullet(4, mark, it)
+		if i < len(notes) && notes[i] != "" {
+			pdf.SetFont("sans", "I", pdfSmallSize+0.5)
+			pdf.SetX(pdfMargin + 9)
+			pdf.MultiCell(pw.contentW-9, 3.6, pw.text(notes[i]), "", "L", false)
+		}
 	}
 }
 
@@ -546,7 +553,10 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 	pdf.SetFont("sans", "B", 10)
 	pdf.CellFormat(pw.contentW-9, 5, "Port verdict: "+VerdictWords(port.Verdict), "", 1, "L", false, 0, "")
 	pdf.SetTextColor(0, 0, 0)
-	pw.para(fmt.Sprintf("Profile %s; %d samples from %s to %s.", orBlank(report.ProfileText(&port), "not stated"), port.Samples, port.From, port.To), "", pdfBodySize)
+	pw.para(fmt.Sprintf("Profile %s; %s from %s to %s.", orBlank(report.ProfileText(&port), "not stated"), report.Plural(port.Samples, "sample", "samples"), port.From, port.To), "", pdfBodySize)
+	for _, f := range portFacts(&port) {
+		pw.para(f, "", pdfBodySize)
+	}
 	pdf.Ln(1)
 
 	if len(port.Criteria) > 0 {
@@ -569,7 +579,7 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 		pw.heading("Plan vs measured", 11)
 		rows := make([][]string, len(port.PlanVsMeasured))
 		for i, pc := range port.PlanVsMeasured {
-			rows[i] = []string{pc.Quantity, report.FormatValue(pc.Expected, pc.Unit), report.FormatValue(pc.Measured, pc.Unit), report.FormatMargin(pc.Measured-pc.Expected, pc.Unit), pc.Note}
+			rows[i] = []string{report.QuantityLabel(pc.Quantity), report.FormatValue(pc.Expected, pc.Unit), report.FormatValue(pc.Measured, pc.Unit), report.FormatMargin(pc.Measured-pc.Expected, pc.Unit), pc.Note}
 		}
 		pw.table([]column{
 			{title: "quantity", width: 0.22, align: "L"}, {title: "planned", width: 0.15, align: "R"},
@@ -586,8 +596,8 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 		pw.ensure(3 * pdfLineH)
 		pdf.SetFont("sans", "B", pdfBodySize+0.5)
 		pdf.MultiCell(pw.contentW, pdfLineH+0.4, pw.text(fmt.Sprintf("%d. %s — confidence %.0f %%", i+1, c.ID, 100*c.Confidence)), "", "L", false)
-		pw.causeList("Evidence", "•", c.Evidence)
-		pw.causeList("Recommended actions", "→", c.Actions)
+		pw.causeList("Evidence", "•", c.Evidence, nil)
+		pw.causeList("Recommended actions", "→", c.Actions, c.Cautions)
 		pdf.Ln(1.5)
 	}
 	if len(port.NotJudged) > 0 {

@@ -55,12 +55,15 @@ type circuit struct {
 	format               format
 	file                 string
 	gap                  bool
+	// samples overrides the number of one-minute samples (default: samples, or
+	// openConfigSamples for the OpenConfig logs).
+	samples int
 }
 
 // The invented operator's sites: Ferrowick, Lantry Ford, Oskelby, Vennermoor, Glimmerby,
 // Tollaven, Ruskhollow, Mardle Quay, Cindervale, Pellorin.
 var circuits = []circuit{
-	{id: "QRO-FRW-LTF-401", endA: "Ferrowick", endZ: "Lantry Ford", port: "FRW-OT1/1/C1", profile: "400g-dp-16qam-cfec", seed: 101, format: csvCanonical, file: "ferrowick-lantryford-healthy.csv"},
+	{id: "QRO-FRW-LTF-401", endA: "Ferrowick", endZ: "Lantry Ford", port: "FRW-OT1/1/C1", profile: "400g-dp-16qam-cfec", seed: 101, format: csvCanonical, file: "ferrowick-lantryford-healthy.csv", samples: 1440}, // a full 24-hour test period
 	{id: "QRO-OSK-VEN-402", endA: "Oskelby", endZ: "Vennermoor", port: "OSK-OT2/1/C1", profile: "400g-dp-16qam-ofec", causes: []string{diagnose.CauseOSNRLow}, seed: 102, format: csvFriendly, file: "oskelby-vennermoor-osnr.csv"},
 	{id: "QRO-GLM-TLV-403", endA: "Glimmerby", endZ: "Tollaven", port: "GLM-OT1/2/C1", profile: "400g-dp-16qam-cfec", causes: []string{diagnose.CauseRxPowerLow}, seed: 103, format: csvSemicolon, file: "glimmerby-tollaven-lowpower.csv"},
 	{id: "QRO-RSK-MDQ-104", endA: "Ruskhollow", endZ: "Mardle Quay", port: "RSK-LC3/4", profile: "100g-dp-qpsk", causes: []string{diagnose.CauseRxOverload}, seed: 104, format: jsonLines, file: "ruskhollow-mardlequay-overload.jsonl"},
@@ -89,6 +92,9 @@ func (ct circuit) spec() synth.Spec {
 	n := samples
 	if ct.format == openConfigOTN || ct.format == openConfigBare {
 		n = openConfigSamples
+	}
+	if ct.samples > 0 {
+		n = ct.samples
 	}
 	return synth.Spec{Causes: ct.causes, Severity: severity, Seed: ct.seed, ProfileID: ct.profile,
 		Samples: n, Port: ct.port, Circuit: ct.id, EndA: ct.endA, EndZ: ct.endZ, SignalLossAsGap: ct.gap}

@@ -1,0 +1,137 @@
+package report
+
+import (
+	"fmt"
+	"strconv"
+	"strings"
+
+	"github.com/beatnote/beatnote/diagnose"
+	"github.com/beatnote/beatnote/diagnose/soak"
+)
+
+// This file words the acceptance-test parts of a port's judgement — the test period and the
+// error performance — for the console, the Markdown and the PDF alike.
+
+// TestPeriodText says how the log covers the test period, e.g. "Test period 24 h: the log
+// covers 10 h at 1 min per sample; 600 of 600 sample slots hold a used row (100.0 %, at least
+// 95 % needed). Incomplete: the log covers 10 h of the 24 h test period."
+func TestPeriodText(c *soak.Coverage) string {
+	if c == nil {
+		return ""
+	}
+	s := fmt.Sprintf("Test period %s: the log covers %s", soak.Duration(c.RequiredS), soak.Duration(c.ObservedS))
+	if c.IntervalS > 0 {
+		s += " at " + soak.Duration(c.IntervalS) + " per sample"
+	}
+	s += fmt.Sprintf("; %s of %s sample slots hold a used row (%.1f %%, at least %.0f %% needed)",
+		group(c.Samples), group(c.Slots), 100*c.Fraction, 100*c.MinCoverage)
+	if c.RejectedRows > 0 {
+		s += fmt.Sprintf(", %s counted against it", Plural(c.RejectedRows, "rejected row", "rejected rows"))
+	}
+	if c.Complete {
+		return s + "."
+	}
+	return s + ". Incomplete: " + c.Shortfall + "."
+}
+
+// ratio prints an error-performance ratio ("0", "2.3e-04"; "n/a" without available time).
+func ratio(v *float64) string {
+	switch {
+	case v == nil:
+		return "n/a"
+	case *v == 0:
+		return "0"
+	}
+	return strconv.FormatFloat(*v, 'e', 1, 64)
+}
+
+// ErrorPerformanceText words the error-performance events and ratios with their objectives.
+func ErrorPerformanceText(ep *diagnose.ErrorPerformance) string {
+	if ep == nil {
+		return ""
+	}
+	basis := "uncorrected FEC blocks"
+	if ep.Basis == "post_fec_ber" {
+		basis = "the post-FEC BER"
+	}
+	o := ep.Objectives
+	return fmt.Sprintf("Error performance (ITU-T G.826 / G.8201 events from %s over %s): %s, %s, %s, %s unavailable. "+
+		"ESR %s; SESR %s (objective %g); BBER %s (objective %g).",
+		basis, soak.Duration(float64(ep.EvaluatedS)),
+		Plural(int(ep.ES), "errored second", "errored seconds"), Plural(int(ep.SES), "severely errored second", "severely errored seconds"),
+		Plural(int(ep.BBE+0.5), "background block error", "background block errors"), soak.Duration(float64(ep.UnavailableS)),
+		ratio(ep.ESR), ratio(ep.SESR), o.SESR, ratio(ep.BBER), o.BBER)
+}
+
+// VerdictSentence states a port's verdict in words with what decided it: for a fail or a
+// marginal, the first criterion (in the engine's order, most telling first) with that verdict
+// and how many share it; for a pass, the first criterion, the Q-factor margin when the log has
+// one; for an incomplete, the test-period shortfall.
+func VerdictSentence(p *diagnose.PortResult) string {
+	switch p.Verdict {
+	case diagnose.NoData:
+		return "No verdict: the log holds nothing that can be judged."
+	case diagnose.Incomplete:
+		short := "the test period is not covered"
+		if p.TestPeriod != nil && p.TestPeriod.Shortfall != "" {
+			short = p.TestPeriod.Shortfall
+		}
+		return "Incomplete: every judged limit is met, but " + short + "; the link cannot be accepted on this log."
+	}
+	var decide *diagnose.Criterion
+	n := 0
+	for i := range p.Criteria {
+		if c := &p.Criteria[i]; c.Verdict == p.Verdict {
+			if decide == nil {
+				decide = c
+			}
+			n++
+		}
+	}
+	word := map[diagnose.Verdict]string{diagnose.Pass: "Passes", diagnose.Marginal: "Marginal", diagnose.Fail: "Fails"}[p.Verdict]
+	if decide == nil {
+		if len(p.Causes) > 0 {
+			return word + ": every limit is met, but the log shows " + p.Causes[0].ID + " (see the likely causes)."
+		}
+		return word + "."
+	}
+	lead := word + " on " + lowerFirst(decide.Name)
+	switch {
+	case p.Verdict == diagnose.Pass:
+		lead = fmt.Sprintf("Passes all %d criteria; %s", n, lowerFirst(decide.Name))
+	case n > 1:
+		lead += fmt.Sprintf(" (and %d more)", n-1)
+	}
+	return fmt.Sprintf("%s: %s against a limit of %s, margin %s.", lead,
+		FormatValue(decide.Measured, decide.Unit), FormatValue(decide.Limit, decide.Unit), CriterionMargin(*decide))
+}
+
+func lowerFirst(s string) string {
+	for _, keep := range []string{"Q", "OSNR", "PDL", "DGD", "SOP", "LO", "CD", "|", "Post-FEC", "Mean DGD"} {
+		if strings.HasPrefix(s, keep) {
+			return s
+		}
+	}
+	if s == "" {
+		return s
+	}
+	return strings.ToLower(s[:1]) + s[1:]
+}
+
+// quantityLabels name the canonical columns and derived quantities for people.
+var quantityLabels = map[string]string{
+	"pre_fec_ber": "pre-FEC BER", "post_fec_ber": "post-FEC BER", "uncorrected_blocks": "uncorrected FEC blocks",
+	"q_db": "Q-factor", "esnr_db": "eSNR", "osnr_db": "OSNR", "cd_ps_nm": "CD", "dgd_ps": "DGD", "mean_dgd_ps": "mean DGD",
+	"pdl_db": "PDL", "sop_rate_krad_s": "SOP rate", "lo_offset_mhz": "LO offset", "rx_power_dbm": "Rx power",
+	"tx_power_dbm": "Tx power", "frequency_thz": "channel frequency", "route_length_km": "route length",
+	"osnr_implied_db": "OSNR implied by the eSNR",
+}
+
+// QuantityLabel names a quantity key (a canonical column or a derived quantity) for people:
+// "cd_ps_nm" → "CD"; an unknown key with its underscores as spaces.
+func QuantityLabel(key string) string {
+	if l, ok := quantityLabels[key]; ok {
+		return l
+	}
+	return strings.ReplaceAll(key, "_", " ")
+}
