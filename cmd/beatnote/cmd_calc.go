@@ -82,8 +82,8 @@ func printCalc(pr *printer, format string, items []calcItem) error {
 			}
 			fmt.Fprintf(&b, "%q:%s", it.key, strconv.FormatFloat(it.value, 'g', -1, 64))
 		}
-		b.WriteString("}\n")
-		pr.Printf("%s", b.String())
+		b.WriteString("}")
+		pr.Printf("%s\n", b.String())
 		return nil
 	}
 	width := 0
@@ -107,11 +107,6 @@ func printCalc(pr *printer, format string, items []calcItem) error {
 		pr.Printf("%s\n", line)
 	}
 	return nil
-}
-
-// usageErrorf is a bad-input error: exit status 2 with the message on stderr.
-func usageErrorf(format string, a ...any) error {
-	return &exitError{code: 2, err: fmt.Errorf("calc: "+format, a...)}
 }
 
 func checkBER(ber float64) error {

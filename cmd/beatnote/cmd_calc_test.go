@@ -1,37 +1,17 @@
 package main
 
 import (
-	"bytes"
 	"encoding/json"
 	"math"
 	"strings"
 	"testing"
-
-	"github.com/alecthomas/kong"
 )
 
-// runCalc parses and runs "beatnote calc ..." in-process and returns stdout, stderr and the exit
-// status main would use.
+// runCalc runs "beatnote calc ..." as main does and returns stdout, stderr and the exit status.
 func runCalc(t *testing.T, args ...string) (string, string, int) {
 	t.Helper()
-	var cli CLI
-	var out, errb bytes.Buffer
-	parser, err := kong.New(&cli, kong.Name("beatnote"), kong.Exit(func(int) {}),
-		kong.Writers(&out, &errb))
-	if err != nil {
-		t.Fatal(err)
-	}
-	ctx, err := parser.Parse(append([]string{"calc"}, args...))
-	if err != nil {
-		return out.String(), err.Error(), 2
-	}
-	pr := newPrinter(&out, &errb, false)
-	ctx.Bind(&cli.Globals, pr)
-	if err := ctx.Run(); err != nil {
-		code := exitCode(err, pr)
-		return out.String(), errb.String(), code
-	}
-	return out.String(), errb.String(), 0
+	code, out, errw := runCLI(t, append([]string{"calc"}, args...)...)
+	return out, errw, code
 }
 
 func TestCalcJSON(t *testing.T) {

@@ -8,32 +8,17 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/alecthomas/kong"
 	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/samples/synth"
 	"go.yaml.in/yaml/v3"
 )
 
-// runCLI parses args as main does and runs the command, returning the exit status and output.
+// runCLI runs the command line args as main does, returning the exit status and output.
 func runCLI(t *testing.T, args ...string) (code int, stdout, stderr string) {
 	t.Helper()
-	var cli CLI
 	var out, errw bytes.Buffer
-	parser, err := kong.New(&cli, kong.Name("beatnote"), kong.Exit(func(int) {}), kong.Writers(&out, &errw),
-		kong.Vars{"version": "beatnote test"})
-	if err != nil {
-		t.Fatal(err)
-	}
-	ctx, err := parser.Parse(args)
-	if err != nil {
-		return 2, out.String(), err.Error()
-	}
-	pr := newPrinter(&out, &errw, false)
-	ctx.Bind(&cli.Globals, pr)
-	if err := ctx.Run(); err != nil {
-		return exitCode(err, pr), out.String(), errw.String()
-	}
-	return 0, out.String(), errw.String()
+	code = run(args, &out, &errw, func(int) {})
+	return code, out.String(), errw.String()
 }
 
 // writeCase writes a synthetic port as canonical CSV and its plan as YAML into dir.

@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"crypto/ed25519"
-	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -56,13 +55,13 @@ marginal or failing; 2 no report (usage, unreadable input, nothing usable).`
 // Run writes the report (and its signature).
 func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 	if err := c.validate(); err != nil {
-		return &exitError{code: 2, err: err}
+		return err
 	}
 	when := time.Now().UTC().Truncate(time.Second)
 	if c.Time != "" {
 		t, err := time.Parse(time.RFC3339, c.Time)
 		if err != nil {
-			return &exitError{code: 2, err: fmt.Errorf("--time %q: want RFC 3339, e.g. 2026-03-02T10:30:00Z", c.Time)}
+			return usageErrorf("--time %q: want RFC 3339, e.g. 2026-03-02T10:30:00Z", c.Time)
 		}
 		when = t.UTC()
 	}
@@ -144,21 +143,21 @@ func (c *ReportCmd) validate() error {
 		c.Signer = c.Technician
 	}
 	if c.SignKey != "" && c.Signer == "" {
-		return errors.New("--sign-key needs --signer NAME (or --technician NAME): a signature says who signed")
+		return usageErrorf("--sign-key needs --signer NAME (or --technician NAME): a signature says who signed")
 	}
 	if c.Signer != "" && c.SignKey == "" {
-		return errors.New("--signer is only used with --sign-key")
+		return usageErrorf("--signer is only used with --sign-key")
 	}
 	for _, l := range c.Logs {
 		if l == "-" && c.SignKey != "" {
-			return errors.New("a signed report needs its inputs as files (not standard input) so that verify can check them")
+			return usageErrorf("a signed report needs its inputs as files (not standard input) so that verify can check them")
 		}
 	}
 	if c.active() && c.SignKey != "" {
 		return errors.New("a signed report needs its inputs as files that verify can check: write the store's data with 'beatnote scan --prometheus URL … --export FILE.csv' and report that file")
 	}
 	if c.Format != "pdf" && c.Paper != "a4" {
-		return errors.New("--paper applies to PDF reports only")
+		return usageErrorf("--paper applies to PDF reports only")
 	}
 	return nil
 }

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"fmt"
 	"slices"
 	"strings"
 
@@ -46,18 +45,18 @@ var causeIDs = []string{
 // validate checks flag values before any input is read.
 func (c *TriageCmd) validate() error {
 	if c.Top < 0 {
-		return fmt.Errorf("--top %d: give a positive number of ports, or 0 for all", c.Top)
+		return usageErrorf("--top %d: give a positive number of ports, or 0 for all", c.Top)
 	}
 	for _, v := range c.Verdict {
 		switch diagnose.Verdict(v) {
 		case diagnose.Pass, diagnose.Marginal, diagnose.Fail, diagnose.NoData:
 		default:
-			return fmt.Errorf("--verdict %q: use pass, marginal, fail or no-data", v)
+			return usageErrorf("--verdict %q: use pass, marginal, fail or no-data", v)
 		}
 	}
 	for _, id := range c.Cause {
 		if !slices.Contains(causeIDs, id) {
-			return fmt.Errorf("--cause %q: unknown cause id (known: %s)", id, strings.Join(causeIDs, ", "))
+			return usageErrorf("--cause %q: unknown cause id (known: %s)", id, strings.Join(causeIDs, ", "))
 		}
 	}
 	return nil
@@ -81,7 +80,7 @@ func (c *TriageCmd) keep(p *diagnose.PortResult) bool {
 // Run reads, judges, filters, ranks and prints.
 func (c *TriageCmd) Run(g *Globals, pr *printer) error {
 	if err := c.validate(); err != nil {
-		return &exitError{code: 2, err: err}
+		return err
 	}
 	a, err := analyze(c.Paths, c.judgeFlags, c.Map, true, nil, pr)
 	if err != nil {

@@ -5,7 +5,9 @@ package main
 import (
 	"errors"
 	"fmt"
+	"io"
 	"os"
+	"strings"
 
 	"github.com/alecthomas/kong"
 )
@@ -59,41 +61,91 @@ Exit status: 0 completed and every port passes; 1 completed and some port is mar
 2 could not complete (usage, unreadable input, nothing usable).`
 
 func main() {
+	os.Exit(run(os.Args[1:], os.Stdout, os.Stderr, os.Exit))
+}
+
+// run parses args, runs the command and returns the exit status. exit is what --help and
+// --version call to end the program (os.Exit in main).
+func run(args []string, stdout, stderr io.Writer, exit func(int)) int {
 	var cli CLI
+	exited := -1
 	parser, err := kong.New(&cli,
 		kong.Name("beatnote"),
 		kong.Description(rootHelp),
-		kong.UsageOnError(),
 		kong.Vars{"version": "beatnote " + version},
+		kong.Writers(stdout, stderr),
 		kong.Exit(func(code int) {
-			if code != 0 {
-				code = 2
-			}
-			os.Exit(code)
+			exited = code
+			exit(code)
 		}),
 	)
+	pr := newPrinter(stdout, stderr, false)
 	if err != nil {
-		fmt.Fprintln(os.Stderr, "beatnote:", err)
-		os.Exit(2)
+		pr.Errorf("%v", err)
+		return 2
 	}
-	ctx, err := parser.Parse(os.Args[1:])
-	parser.FatalIfErrorf(err)
-	pr := newPrinter(os.Stdout, os.Stderr, cli.Quiet)
+	ctx, err := parser.Parse(args)
+	if exited >= 0 { // --help or --version, with an exit func that returned
+		return exited
+	}
+	if err != nil {
+		// A usage error is one line on stderr and nothing on stdout, so that output redirected
+		// to a file never holds help text.
+		command := ""
+		var pe *kong.ParseError
+		if errors.As(err, &pe) && pe.Context != nil {
+			command = pe.Context.Command()
+		}
+		pr.Errorf("%v; %s", err, seeHelp(command))
+		return 2
+	}
+	pr.quiet = cli.Quiet
 	ctx.Bind(&cli.Globals, pr)
 	if err := ctx.Run(); err != nil {
-		os.Exit(exitCode(err, pr))
+		return exitCode(err, pr, ctx.Command())
 	}
+	return 0
 }
 
-// exitCode reports err on stderr (unless it only carries a status) and maps it to an exit status.
-func exitCode(err error, pr *printer) int {
+// seeHelp is the hint that ends a usage error.
+func seeHelp(command string) string {
+	// kong writes positional arguments into the command path ("check <log>"): keep the words.
+	var words []string
+	for _, w := range strings.Fields(command) {
+		if !strings.HasPrefix(w, "<") {
+			words = append(words, w)
+		}
+	}
+	return "see '" + strings.Join(append([]string{"beatnote"}, append(words, "--help")...), " ") + "'"
+}
+
+// usageError is a wrong option or combination of options found by a command's own checks:
+// reported like kong's usage errors, with the hint to --help, exit status 2.
+type usageError struct{ err error }
+
+func (e *usageError) Error() string { return e.err.Error() }
+func (e *usageError) Unwrap() error { return e.err }
+
+// usageErrorf makes a usage error (exit status 2).
+func usageErrorf(format string, a ...any) error {
+	return &exitError{code: 2, err: &usageError{fmt.Errorf(format, a...)}}
+}
+
+// exitCode reports err on stderr (unless it only carries a status) and maps it to an exit
+// status. command is the command that ran, for the hint of a usage error.
+func exitCode(err error, pr *printer, command string) int {
+	code := 2
 	var ee *exitError
 	if errors.As(err, &ee) {
-		if ee.err != nil {
-			pr.Errorf("%v", ee.err)
-		}
-		return ee.code
+		code, err = ee.code, ee.err
 	}
-	pr.Errorf("%v", err)
-	return 2
+	var ue *usageError
+	switch {
+	case err == nil:
+	case errors.As(err, &ue):
+		pr.Errorf("%v; %s", ue.err, seeHelp(command))
+	default:
+		pr.Error(err)
+	}
+	return code
 }
