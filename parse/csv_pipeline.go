@@ -214,7 +214,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			cp := &csvParser{file: file, lay: lay}
+			cp := &csvParser{file: file, lay: lay, strict: opt.Strict}
 			for job := range jobs {
 				if !stop.Load() {
 					cp.parse(job)
@@ -254,8 +254,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		}
 		res.accountCSV(job, opt.Strict)
 		if res.strictErr != nil {
-			stop.Store(true)
-			continue
+			stop.Store(true) // this block's rows before the bad one are still taken
 		}
 		job.pending.Store(int32(shards))
 		for _, ch := range chans {
@@ -322,29 +321,25 @@ func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line 
 	job.vals = slices.Grow(w.vals[:0], rows*k)
 	defer func() { w.rowPort, w.times, w.vals = job.rowPort, job.times, job.vals }()
 	cp := &w.cp
-	cp.file, cp.lay, cp.lastTime = res.stats.File, res.lay, cp.lastTime[:0]
+	cp.file, cp.lay, cp.strict, cp.lastTime = res.stats.File, res.lay, opt.Strict, cp.lastTime[:0]
 	cp.parse(job)
 	job.dataLen = len(job.data)
 	job.data = nil
 	res.accountCSV(job, opt.Strict)
-	if res.strictErr == nil {
-		job.hint = exactHint(job, k, opt.arena)
-		applyCSV(res.fb, res.lay, job, 0, 1)
-	}
+	job.hint = exactHint(job, k, opt.arena)
+	applyCSV(res.fb, res.lay, job, 0, 1)
 	if readErr != nil {
 		res.fail(&ParseError{File: res.stats.File, Line: line, Err: fmt.Errorf("%w: %v", ErrTruncated, readErr)}, nil)
 	}
 }
 
 // accountCSV adds a parsed job's counts and rejections to the file's accounting, in input
-// order; in strict mode the first rejection stops the file instead.
+// order. In strict mode a job's parse stopped at its first rejected row, which stops the file:
+// the counts then cover every row up to and including it.
 func (res *fileResult) accountCSV(job *csvJob, strict bool) {
 	res.stats.RowsRead += job.rowsRead
 	if strict && len(job.rejects) > 0 {
-		res.strictErr = job.rejects[0]
-		// The block with the bad row is not taken: the counts cover the blocks before it.
-		res.stats.RowsRead -= job.rowsRead
-		return
+		res.stopStrict(job.rejects[0])
 	}
 	res.stats.RowsRejected += job.nReject
 	res.stats.RowsUsed += len(job.times)

@@ -202,6 +202,7 @@ func splitFields(line []byte, delim byte, fields [][]byte, scratch []byte) ([][]
 type csvParser struct {
 	file    string
 	lay     *csvLayout
+	strict  bool // stop the block at its first rejected row
 	fields  [][]byte
 	scratch []byte
 	num     []byte
@@ -239,12 +240,15 @@ func (cp *csvParser) parse(job *csvJob) {
 		job.rowsRead++
 		if last && job.cutTail {
 			job.reject(&ParseError{File: cp.file, Line: lineNo, Err: fmt.Errorf("%w: last line cut short", ErrTruncated)})
-			continue
+			return
 		}
 		base := len(job.vals)
 		if pe := cp.row(job, ln, lineNo); pe != nil {
 			job.vals = job.vals[:base]
 			job.reject(pe)
+			if cp.strict {
+				return // the rows before it are kept and counted; none after it is read
+			}
 		}
 	}
 }

@@ -165,16 +165,12 @@ func (lc *lineCounter) at(off int) int {
 }
 
 func (jr *jsonReader) reject(pe *ParseError) {
-	if jr.opt.Strict {
-		if jr.res.strictErr == nil {
-			jr.res.strictErr = pe
-		}
-		jr.res.stats.RowsRead-- // the bad row stops the read and is not counted
-		jr.stopped = true
-		return
-	}
 	jr.res.stats.RowsRejected++
 	jr.res.addRejection(pe.rejection())
+	if jr.opt.Strict {
+		jr.res.stopStrict(pe)
+		jr.stopped = true
+	}
 }
 
 func (jr *jsonReader) use(port string, t int64, rec *record) {

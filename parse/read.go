@@ -20,7 +20,9 @@ import (
 
 // Options control reading. The zero value reads leniently with instant OpenConfig statistics.
 type Options struct {
-	// Strict makes the first rejected row an error: reading stops there.
+	// Strict makes the first rejected row of an input an error: reading of that input stops
+	// there. The row is counted as read and rejected, the rows before it as read and used, and
+	// InputStats.Error says where reading stopped.
 	Strict bool
 	// Statistic selects the OpenConfig statistic: "instant" (default, also ""), "avg", "min" or
 	// "max". When the selected one is absent the instant value is used.
@@ -67,6 +69,15 @@ type fileResult struct {
 func (res *fileResult) addRejection(r Rejection) {
 	if len(res.rejects) < MaxRejectionsKept {
 		res.rejects = append(res.rejects, r)
+	}
+}
+
+// stopStrict records the rejected row at which a strict read of the input stops. The row is
+// counted as read and rejected like any other; the input's Error says reading stopped there.
+func (res *fileResult) stopStrict(pe *ParseError) {
+	if res.strictErr == nil {
+		res.strictErr = pe
+		res.stats.Error = pe.Error() + " (strict reading stops at the first rejected row)"
 	}
 }
 

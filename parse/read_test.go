@@ -390,3 +390,67 @@ func TestSHA256(t *testing.T) {
 		t.Errorf("sha256 %q, want %q", got, want)
 	}
 }
+
+// A strict read stops each input at its first rejected row and counts exactly: every row up to
+// and including the bad one is read, the ones before it used, the bad one rejected; nothing
+// after it is read. Large inputs are cut into blocks parsed in parallel, so the bad row is put
+// in the middle of a later block as well as in a small file read whole.
+func TestStrictCountsExact(t *testing.T) {
+	csvRows := func(n, bad int) string {
+		var b strings.Builder
+		b.WriteString("time,port,osnr_db\n")
+		for i := 1; i <= n; i++ {
+			v := "20.5"
+			if i == bad {
+				v = "abc"
+			}
+			fmt.Fprintf(&b, "%d,port-%d,%s\n", 1_700_000_000+i, i%7, v)
+		}
+		return b.String()
+	}
+	jsonRows := func(n, bad int) string {
+		var b strings.Builder
+		for i := 1; i <= n; i++ {
+			v := "20.5"
+			if i == bad {
+				v = "-1e9"
+			}
+			fmt.Fprintf(&b, "{\"time\":%d,\"port\":\"p\",\"osnr_db\":20,\"pdl_db\":%s}\n", 1_700_000_000+i, v)
+		}
+		return b.String()
+	}
+	for _, tc := range []struct {
+		name, file, content string
+		bad, headerLines    int
+	}{
+		{"small CSV", "s.csv", csvRows(50, 17), 17, 1},
+		{"CSV of several blocks", "big.csv", csvRows(150_000, 101_234), 101_234, 1},
+		{"bad row on the first line", "first.csv", csvRows(10, 1), 1, 1},
+		{"JSON Lines", "s.jsonl", jsonRows(40, 9), 9, 0},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			ds, err := ReadFile(tc.file, strings.NewReader(tc.content), Options{Strict: true, Workers: 4})
+			var pe *ParseError
+			if !errors.As(err, &pe) || pe.Line != tc.bad+tc.headerLines {
+				t.Fatalf("err %v, want a *ParseError on line %d", err, tc.bad+tc.headerLines)
+			}
+			in := ds.Inputs[0]
+			if in.RowsRead != tc.bad || in.RowsUsed != tc.bad-1 || in.RowsRejected != 1 {
+				t.Errorf("read %d used %d rejected %d, want %d, %d, 1", in.RowsRead, in.RowsUsed, in.RowsRejected, tc.bad, tc.bad-1)
+			}
+			if !strings.Contains(in.Error, fmt.Sprintf(":%d:", tc.bad+tc.headerLines)) || !strings.Contains(in.Error, "strict") {
+				t.Errorf("Error = %q: want the bad line and that strict reading stopped there", in.Error)
+			}
+			if len(ds.Rejected) != 1 || ds.Rejected[0].Line != tc.bad+tc.headerLines {
+				t.Errorf("rejected %+v", ds.Rejected)
+			}
+			samples := 0
+			for _, s := range ds.Series {
+				samples += s.Len()
+			}
+			if samples != tc.bad-1 {
+				t.Errorf("%d samples kept, want %d", samples, tc.bad-1)
+			}
+		})
+	}
+}
