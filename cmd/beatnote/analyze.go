@@ -23,6 +23,7 @@ type judgeFlags struct {
 	Profiles string `help:"YAML file of module profiles adding to or overriding the built-in ones (by id)." type:"existingfile" placeholder:"FILE"`
 	Rules    string `help:"YAML file overriding threshold rules (see docs/rules.md)." type:"existingfile" placeholder:"FILE"`
 	Plan     string `help:"Link plan (YAML) the ports are judged against; enables plan vs measured and cd-mismatch." type:"existingfile" placeholder:"PLAN.yaml"`
+	Strict   bool   `help:"Stop reading an input at its first rejected row and judge nothing (exit 2), instead of judging the rows that were used."`
 	storeFlags
 }
 
@@ -98,7 +99,7 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	}
 	defProf, err := rules.ProfileByID(profiles, defID)
 	if err != nil {
-		return nil, fmt.Errorf("--profile: %w", err)
+		return nil, usageErrorf("--profile: %w", err)
 	}
 	cfg := diagnose.Config{Version: version, Rules: rs, Default: diagnose.Setup{Profile: defProf, Plan: plan, ProfileSource: defSource},
 		// Nothing the commands print uses a correlation no cause asked for.
@@ -114,9 +115,23 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	if err := jf.checkSource(paths); err != nil {
 		return nil, err
 	}
-	ds, readErr := readInputs(paths, &jf.storeFlags, pr)
+	ds, readErr := readInputs(paths, &jf.storeFlags, jf.Strict, pr)
 	if ds == nil {
 		return nil, readErr
+	}
+	if jf.Strict && readErr != nil {
+		// Say exactly how far each stopped input was read, and why it stopped.
+		var errs []error
+		for _, in := range ds.Inputs {
+			if in.Error != "" {
+				errs = append(errs, fmt.Errorf("--strict: nothing judged: %s: %d rows read, %d used, %d rejected: %s",
+					in.File, in.RowsRead, in.RowsUsed, in.RowsRejected, in.Error))
+			}
+		}
+		if errs == nil {
+			errs = append(errs, readErr)
+		}
+		return nil, errors.Join(errs...)
 	}
 	if countSamples(ds) == 0 {
 		for i, r := range ds.Rejected {
@@ -253,11 +268,11 @@ func rowCounts(ds *parse.Dataset) (read, rejected int) {
 }
 
 // readInputs reads the inputs with a progress bar on a terminal, or the store the flags name.
-func readInputs(paths []string, sf *storeFlags, pr *printer) (*parse.Dataset, error) {
+func readInputs(paths []string, sf *storeFlags, strict bool, pr *printer) (*parse.Dataset, error) {
 	if sf.active() {
-		return readStore(sf, false, pr)
+		return readStore(sf, strict, pr)
 	}
-	return readWithProgress(paths, parse.Options{}, pr)
+	return readWithProgress(paths, parse.Options{Strict: strict}, pr)
 }
 
 // readWithProgress reads the inputs with opt, drawing a progress bar on stderr when it is a

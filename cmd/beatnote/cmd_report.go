@@ -154,7 +154,7 @@ func (c *ReportCmd) validate() error {
 		}
 	}
 	if c.active() && c.SignKey != "" {
-		return errors.New("a signed report needs its inputs as files that verify can check: write the store's data with 'beatnote scan --prometheus URL … --export FILE.csv' and report that file")
+		return usageErrorf("a signed report needs its inputs as files that verify can check: write the store's data with 'beatnote scan --prometheus URL … --export FILE.csv' and report that file")
 	}
 	if c.Format != "pdf" && c.Paper != "a4" {
 		return usageErrorf("--paper applies to PDF reports only")

@@ -38,11 +38,11 @@ func (s *storeFlags) active() bool { return s.Prometheus != "" }
 func (s *storeFlags) checkSource(paths []string) error {
 	switch {
 	case s.active() && len(paths) > 0:
-		return errors.New("give log files or --prometheus URL, not both")
+		return usageErrorf("give log files or --prometheus URL, not both")
 	case !s.active() && len(paths) == 0:
-		return errors.New("no input: give log files or folders (or - for standard input), or --prometheus URL")
+		return usageErrorf("no input: give log files or folders (or - for standard input), or --prometheus URL")
 	case !s.active() && (s.Since != 0 || s.Start != "" || s.End != "" || s.PrometheusMap != "" || s.TokenFile != ""):
-		return errors.New("--since, --start, --end, --prometheus-map and --prometheus-token-file go with --prometheus URL")
+		return usageErrorf("--since, --start, --end, --prometheus-map and --prometheus-token-file go with --prometheus URL")
 	}
 	return nil
 }
@@ -51,12 +51,12 @@ func (s *storeFlags) checkSource(paths []string) error {
 func (s *storeFlags) query(now time.Time) (promapi.Query, error) {
 	q := promapi.Query{URL: s.Prometheus, Step: s.Step, End: now.UTC().Truncate(time.Second)}
 	if s.Since != 0 && s.Start != "" {
-		return q, errors.New("give --since or --start, not both")
+		return q, usageErrorf("give --since or --start, not both")
 	}
 	if s.End != "" {
 		t, err := time.Parse(time.RFC3339, s.End)
 		if err != nil {
-			return q, fmt.Errorf("--end %q: give an RFC 3339 time, e.g. 2026-03-14T10:00:00Z", s.End)
+			return q, usageErrorf("--end %q: give an RFC 3339 time, e.g. 2026-03-14T10:00:00Z", s.End)
 		}
 		q.End = t
 	}
@@ -64,11 +64,11 @@ func (s *storeFlags) query(now time.Time) (promapi.Query, error) {
 	case s.Start != "":
 		t, err := time.Parse(time.RFC3339, s.Start)
 		if err != nil {
-			return q, fmt.Errorf("--start %q: give an RFC 3339 time, e.g. 2026-03-14T00:00:00Z", s.Start)
+			return q, usageErrorf("--start %q: give an RFC 3339 time, e.g. 2026-03-14T00:00:00Z", s.Start)
 		}
 		q.Start = t
 	case s.Since < 0:
-		return q, fmt.Errorf("--since %v: give a positive duration", s.Since)
+		return q, usageErrorf("--since %v: give a positive duration", s.Since)
 	case s.Since > 0:
 		q.Start = q.End.Add(-s.Since)
 	default:
