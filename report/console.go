@@ -12,10 +12,14 @@ import (
 
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/report/escape"
 )
 
 // This file holds the console writers of the check and triage commands: text for a terminal,
 // the JSON of the design contract, CSV and Markdown. Every number printed carries its unit.
+// Every string that may have come from an input (port and file names, plan and profile fields,
+// rejected values quoted back, and the sentences that quote them) is escaped for its sink with
+// package escape: Visible for text, CSVCell for CSV text cells, Markdown for Markdown.
 
 // FormatValue prints a value in its unit with a precision that suits the unit, e.g.
 // "−8.42 dBm", "2400 ps/nm", "3.10e-03" (a ratio has no unit).
@@ -103,8 +107,10 @@ func wrap(text string, width int) []string {
 	return lines
 }
 
+// writeWrapped writes text, escaped for a terminal, wrapped to width after the prefix first
+// (then rest).
 func writeWrapped(w io.Writer, first, rest string, text string, width int) {
-	for i, l := range wrap(text, width) {
+	for i, l := range wrap(escape.Visible(text), width) {
 		if i == 0 {
 			fmt.Fprintf(w, "%s%s\n", first, l)
 		} else {
@@ -135,8 +141,8 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 	if p.Circuit != "" {
 		title = "Circuit " + p.Circuit + ", port " + p.Port
 	}
-	fmt.Fprintf(w, "%s\n", title)
-	fmt.Fprintf(w, "Profile %s · %d samples · %s to %s\n", ProfileText(p), p.Samples, p.From, p.To)
+	fmt.Fprintf(w, "%s\n", escape.Visible(title))
+	fmt.Fprintf(w, "Profile %s · %d samples · %s to %s\n", escape.Visible(ProfileText(p)), p.Samples, p.From, p.To)
 	fmt.Fprintf(w, "VERDICT: %s\n", verdictWord(p.Verdict))
 	writeWrapped(w, "  ", "  ", VerdictSentence(p), 96)
 	if p.TestPeriod != nil {
@@ -151,7 +157,7 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		fmt.Fprintln(tw, "  criterion\tstatistic\tmeasured\tlimit\tmargin\tverdict\t")
 		for _, c := range p.Criteria {
-			fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t\n", c.Name, c.Statistic, FormatValue(c.Measured, c.Unit),
+			fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t\n", escape.Visible(c.Name), escape.Visible(c.Statistic), FormatValue(c.Measured, c.Unit),
 				FormatValue(c.Limit, c.Unit), CriterionMargin(c), verdictWord(c.Verdict))
 		}
 		tw.Flush()
@@ -162,8 +168,8 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 		fmt.Fprintln(tw, "  quantity\texpected\tmeasured\tdifference\tnote\t")
 		for _, c := range p.PlanVsMeasured {
 			diff := c.Measured - c.Expected
-			fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t\n", QuantityLabel(c.Quantity), FormatValue(c.Expected, c.Unit), FormatValue(c.Measured, c.Unit),
-				FormatMargin(diff, c.Unit), c.Note)
+			fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t\n", escape.Visible(QuantityLabel(c.Quantity)), FormatValue(c.Expected, c.Unit), FormatValue(c.Measured, c.Unit),
+				FormatMargin(diff, c.Unit), escape.Visible(c.Note))
 		}
 		tw.Flush()
 	}
@@ -172,7 +178,7 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 		writeWrapped(w, "  ", "  ", noCauseText(p), 96)
 	}
 	for i, c := range p.Causes {
-		fmt.Fprintf(w, "  %d. %s  (confidence %.2f)\n", i+1, c.ID, c.Confidence)
+		fmt.Fprintf(w, "  %d. %s  (confidence %.2f)\n", i+1, escape.Visible(c.ID), c.Confidence)
 		for _, e := range c.Evidence {
 			writeWrapped(w, "     - ", "       ", e, 92)
 		}
@@ -225,7 +231,7 @@ func writeInputsText(w io.Writer, res *diagnose.Result) {
 		if len(sum) > 16 {
 			sum = sum[:16] + "…"
 		}
-		fmt.Fprintf(tw, "  %s\t%d\t%d\t%d\t%s\t\n", in.File, in.RowsRead, in.RowsUsed, in.RowsRejected, sum)
+		fmt.Fprintf(tw, "  %s\t%d\t%d\t%d\t%s\t\n", escape.Visible(in.File), in.RowsRead, in.RowsUsed, in.RowsRejected, escape.Visible(sum))
 	}
 	tw.Flush()
 	if len(res.Rejected) > 0 {
@@ -239,7 +245,7 @@ func writeInputsText(w io.Writer, res *diagnose.Result) {
 			if i == show {
 				break
 			}
-			fmt.Fprintf(w, "  %s\n", consoleRejection(r))
+			fmt.Fprintf(w, "  %s\n", escape.Visible(consoleRejection(r)))
 		}
 	}
 }
@@ -403,16 +409,16 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 	for _, r := range TriageRows(shown) {
 		cause, conf := "—", ""
 		if r.Cause != "" {
-			cause, conf = r.Cause, fmt.Sprintf("%.2f", r.Confidence)
+			cause, conf = escape.Visible(r.Cause), fmt.Sprintf("%.2f", r.Confidence)
 		}
-		also := strings.Join(r.Others, ", ")
+		also := escape.Visible(strings.Join(r.Others, ", "))
 		qm, samples := optValue(r.QMarginDB, "dB", true), strconv.Itoa(r.Samples)
 		if r.Dark > 0 {
 			// The Q figures come from the samples with signal: say so, and show the dark time.
 			qm += " (lit)"
 			samples += fmt.Sprintf(", %d dark", r.Dark)
 		}
-		fmt.Fprintf(tw, "  %d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t\n", r.Rank, r.Port, verdictWord(r.Verdict), r.Impact, cause, conf, also,
+		fmt.Fprintf(tw, "  %d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t\n", r.Rank, escape.Visible(r.Port), verdictWord(r.Verdict), r.Impact, cause, conf, also,
 			qm, optValue(r.RxPowerDBm, "dBm", false), samples)
 	}
 	tw.Flush()
@@ -424,7 +430,7 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 		tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		fmt.Fprintln(tw, "  cause\ttop cause of\tlisted on\t")
 		for _, c := range counts {
-			fmt.Fprintf(tw, "  %s\t%s\t%s\t\n", c.ID, Plural(c.Top, "port", "ports"), Plural(c.Ports, "port", "ports"))
+			fmt.Fprintf(tw, "  %s\t%s\t%s\t\n", escape.Visible(c.ID), Plural(c.Top, "port", "ports"), Plural(c.Ports, "port", "ports"))
 		}
 		tw.Flush()
 	}
@@ -451,16 +457,16 @@ func WriteTriageCSV(w io.Writer, shown []diagnose.PortResult) error {
 		if r.Cause != "" {
 			conf = strconv.FormatFloat(r.Confidence, 'f', 3, 64)
 		}
-		if err := cw.Write([]string{strconv.Itoa(r.Rank), r.Port, r.Circuit, r.Profile, r.ProfileSource, string(r.Verdict), r.Impact, r.Cause, conf,
-			strings.Join(r.Others, "|"), f(r.QMarginDB), f(r.RxPowerDBm), strconv.Itoa(r.Samples), r.Summary}); err != nil {
+		// Text cells through CSVCell; the numbers are this program's own and stay numbers.
+		if err := cw.Write([]string{strconv.Itoa(r.Rank), escape.CSVCell(r.Port), escape.CSVCell(r.Circuit), escape.CSVCell(r.Profile),
+			r.ProfileSource, string(r.Verdict), r.Impact, escape.CSVCell(r.Cause), conf, escape.CSVCell(strings.Join(r.Others, "|")),
+			f(r.QMarginDB), f(r.RxPowerDBm), strconv.Itoa(r.Samples), escape.CSVCell(r.Summary)}); err != nil {
 			return err
 		}
 	}
 	cw.Flush()
 	return cw.Error()
 }
-
-func mdEscape(s string) string { return strings.NewReplacer("|", `\|`, "\n", " ").Replace(s) }
 
 // WriteTriageMarkdown writes the ranked table and the count per cause as Markdown, for tickets.
 func WriteTriageMarkdown(w io.Writer, shown, all []diagnose.PortResult) error {
@@ -477,15 +483,15 @@ func WriteTriageMarkdown(w io.Writer, shown, all []diagnose.PortResult) error {
 		if r.Dark > 0 {
 			qm += fmt.Sprintf(" (lit; %d samples dark)", r.Dark)
 		}
-		fmt.Fprintf(w, "| %d | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", r.Rank, mdEscape(r.Port), verdictWord(r.Verdict), r.Impact, r.Cause, conf,
-			strings.Join(r.Others, ", "), qm, optValue(r.RxPowerDBm, "dBm", false), mdEscape(r.Summary))
+		fmt.Fprintf(w, "| %d | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", r.Rank, escape.Markdown(r.Port), verdictWord(r.Verdict), r.Impact,
+			escape.Markdown(r.Cause), conf, escape.Markdown(strings.Join(r.Others, ", ")), qm, optValue(r.RxPowerDBm, "dBm", false), escape.Markdown(r.Summary))
 	}
 	fmt.Fprintln(w, "\n### Ports per cause")
 	fmt.Fprintln(w)
 	fmt.Fprintln(w, "| cause | top cause of | listed on |")
 	fmt.Fprintln(w, "|---|---:|---:|")
 	for _, c := range CountCauses(all) {
-		fmt.Fprintf(w, "| %s | %d | %d |\n", c.ID, c.Top, c.Ports)
+		fmt.Fprintf(w, "| %s | %d | %d |\n", escape.Markdown(c.ID), c.Top, c.Ports)
 	}
 	return nil
 }

@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"text/tabwriter"
 
+	"github.com/beatnote/beatnote/report/escape"
 	"github.com/beatnote/beatnote/rules"
 )
 
@@ -24,7 +25,7 @@ func WriteProfilesText(w io.Writer, profiles []rules.Profile) error {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "profile\tmodulation\tGBd\tFEC threshold BER\treq. OSNR dB\tCD ps/nm\tDGD ps\tPDL dB\tSOP krad/s\tLO ±MHz\tRx dBm\t")
 	for _, p := range profiles {
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s…%s\t\n", p.ID, p.Modulation,
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s…%s\t\n", escape.Visible(p.ID), escape.Visible(p.Modulation),
 			figNum(p.BaudGBd), strconv.FormatFloat(p.FECThresholdBER, 'g', 3, 64), figNum(p.RequiredOSNRdB),
 			figNum(p.CDTolerancePsNm), figNum(p.DGDTolerancePs), figNum(p.PDLTolerancedB), figNum(p.SOPTrackingKradS),
 			figNum(p.LOOffsetRangeMHz), figNum(p.RxPowerMinDBm), figNum(p.RxPowerMaxDBm))
@@ -33,16 +34,16 @@ func WriteProfilesText(w io.Writer, profiles []rules.Profile) error {
 		return err
 	}
 	for _, p := range profiles {
-		fmt.Fprintf(w, "\n%s — %s\n", p.ID, p.Name)
+		fmt.Fprintf(w, "\n%s — %s\n", escape.Visible(p.ID), escape.Visible(p.Name))
 		if p.Description != "" {
-			fmt.Fprintf(w, "  %s\n", p.Description)
+			fmt.Fprintf(w, "  %s\n", escape.Visible(p.Description))
 		}
 		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		for _, f := range profileFigureRows(p) {
 			if f.value == "" {
 				continue
 			}
-			fmt.Fprintf(tw, "  %s\t%s\t%s\n", f.label, f.value, p.Sources[f.key])
+			fmt.Fprintf(tw, "  %s\t%s\t%s\n", f.label, escape.Visible(f.value), escape.Visible(p.Sources[f.key]))
 		}
 		if err := tw.Flush(); err != nil {
 			return err

@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/report/escape"
 )
 
 // This file holds the writers of the scan command: what was read, per file and per port, and
@@ -166,7 +167,7 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 		} else if in.RowsRejected > 0 {
 			status = "some rows rejected"
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", in.File, in.Format, group(in.RowsRead), group(in.RowsUsed), group(in.RowsRejected), status)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", escape.Visible(in.File), in.Format, group(in.RowsRead), group(in.RowsUsed), group(in.RowsRejected), status)
 	}
 	if err := tw.Flush(); err != nil {
 		return err
@@ -191,7 +192,7 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 			case int(parse.NumQuantities):
 				q = fmt.Sprintf("all %d (every canonical column)", len(p.Quantities))
 			}
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", p.Port, group(p.Samples), p.From, p.To, every, q)
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", escape.Visible(p.Port), group(p.Samples), p.From, p.To, every, q)
 		}
 		if err := tw.Flush(); err != nil {
 			return err
@@ -209,7 +210,7 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 			if r.Column > 0 {
 				loc += fmt.Sprintf(" column %d", r.Column)
 			}
-			fmt.Fprintf(w, "  %s: %s\n", loc, r.Reason)
+			fmt.Fprintf(w, "  %s: %s\n", escape.Visible(loc), escape.Visible(r.Reason))
 		}
 	}
 	var notes []string
@@ -221,14 +222,14 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 	if len(notes) > 0 {
 		fmt.Fprintln(w, "\nNotes:")
 		for _, n := range notes {
-			fmt.Fprintln(w, "  "+n)
+			fmt.Fprintln(w, "  "+escape.Visible(n))
 		}
 	}
 	errs := inputErrors(ds)
 	if len(errs) > 0 {
 		fmt.Fprintln(w, "\nInputs not read completely (rows before the problem were used):")
 		for _, e := range errs {
-			fmt.Fprintln(w, "  "+e)
+			fmt.Fprintln(w, "  "+escape.Visible(e))
 		}
 	}
 	if len(ds.Skipped) > 0 {
@@ -238,7 +239,7 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 				fmt.Fprintf(w, "  … %d more\n", len(ds.Skipped)-10)
 				break
 			}
-			fmt.Fprintln(w, "  "+s)
+			fmt.Fprintln(w, "  "+escape.Visible(s))
 		}
 	}
 	return nil
