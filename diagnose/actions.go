@@ -40,9 +40,9 @@ var actions = map[string][]string{
 		"Correlate the burst times with the ports sharing the same cable: a shared cause shows on all of them.",
 	},
 	CausePDLHigh: {
-		"Inspect and clean connectors and check for angled or partly mated connectors in the path; measure the insertion loss of passive components (mux, splitters, isolators).",
-		"Replace a suspect patch cord or passive component and re-check the PDL estimate.",
-		"Compare PDL on the other channels of the same line: a line-wide rise points to a shared component.",
+		"Look for the components that make PDL: WSS and ROADM ports, couplers and splitters, isolators, and amplifiers whose gain depends on polarization; compare the PDL with the plan's count of these elements.",
+		"Compare PDL on the other channels of the same line: a line-wide rise points to a shared component (an amplifier or a ROADM degree), a single-channel rise to its add/drop path.",
+		"Measure the suspect component's PDL (e.g. with a polarization scrambler and a power meter) and replace it if it is out of its specification; connector dirt causes loss, not PDL.",
 	},
 	CauseLOOffset: {
 		"Check the transmitter and receiver laser frequency settings against the plan's channel and the ITU-T G.694.1 grid.",
@@ -53,6 +53,26 @@ var actions = map[string][]string{
 		"Lower the per-channel launch power toward the plan's optimum (e.g. in 1 dB steps) and watch the eSNR and BER: they improve if nonlinearity is the cause.",
 		"Check the amplifier output and gain settings and the channel count against the plan: fewer channels than planned raise the power per channel.",
 		"Confirm the fibre type of each span; small-core fibre raises the nonlinear interference.",
+	},
+	CauseTxPower: {
+		"Read the far-end module's transmit power and laser alarms: a transmitter that stepped down or runs outside its range is a module fault (laser bias, ageing) or a changed set-point.",
+		"Compare the transmit power set-point with the plan and the provisioning history at the time of the step.",
+		"If the set-point is right and the output is not, plan a module swap; re-check the received power after it.",
+	},
+	CauseFrequencyMismatch: {
+		"Compare the provisioned channel frequency of both modules with the plan and the ITU-T G.694.1 grid; correct the provisioning.",
+		"Check the ROADM or mux channel the port is patched to: the light must enter the filter port of its own frequency.",
+		"If the frequency is provisioned right but reported off, check the module's laser alarms and plan a swap.",
+	},
+	CauseFiltering: {
+		"Check that both lasers sit on the planned channel centre (provisioned frequency, carrier offset) and that the ROADM passbands along the path are set to the channel's width.",
+		"Count the filters (ROADM degrees, WSS, muxes) the channel passes and compare with the plan: many narrow filters in cascade narrow the passband.",
+		"Measure the received spectrum with an optical spectrum analyser: a clipped or asymmetric channel shape confirms filtering.",
+	},
+	CauseTransceiver: {
+		"Loop the module back (or test it back to back with an attenuator) and compare its eSNR with the profile's: a module below its own ceiling is faulty or aged.",
+		"Read the module's own alarms and temperatures, and check its firmware against the vendor's notes.",
+		"Swap the module for a spare of the same class and re-run the check.",
 	},
 	CauseSignalLoss: {
 		"Confirm with a power meter whether light arrives at the receiver; if it does not, trace back toward the transmitter span by span.",

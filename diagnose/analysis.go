@@ -47,6 +47,11 @@ type PortAnalysis struct {
 	RxPowerTrend *Trend
 	// DGDFit is the Maxwellian fit of the DGD samples.
 	DGDFit *MaxwellFit
+	// Posterior is the marginal posterior of every cause id (all of them, listed or not).
+	Posterior map[string]float64
+	// LOSteps are change points in the carrier (LO) offset of at least lo_step_fraction of the
+	// capture range: retunes or relocks, not drift.
+	LOSteps []ChangePoint
 	// Correlations are Spearman rank correlations of pre-FEC BER with other quantities.
 	Correlations []Correlation
 }

@@ -3,28 +3,33 @@ package diagnose
 import (
 	"fmt"
 	"math"
-	"sort"
 	"strings"
 
 	"github.com/beatnote/beatnote/diagnose/series"
 	"github.com/beatnote/beatnote/parse"
 )
 
-// Scoring. Each cause starts from prior log-odds and each evidence item adds a log-likelihood
-// ratio (natural log of how much more likely the observation is with the cause than without);
-// confidence = 1/(1 + e^(−(prior + Σ LLR))). This is the naive-Bayes "weight of evidence" of
-// I. J. Good, Probability and the Weighing of Evidence (1950); the strength levels follow the
-// scale of R. E. Kass and A. E. Raftery, "Bayes factors", J. Amer. Statist. Assoc. 90(430), 1995
-// (ln B of 1, 3, 5: positive, strong, very strong). The LLR assigned to each observation is our
-// engineering judgement (common practice), documented per test in docs/diagnosis.md.
+// Evidence weights. Each column test adds a log-likelihood ratio: the natural log of how much
+// more likely the observation is with the cause than on a healthy port (I. J. Good, Probability
+// and the Weighing of Evidence, 1950). The levels follow the scale of R. E. Kass and
+// A. E. Raftery, "Bayes factors", J. Amer. Statist. Assoc. 90(430), 1995 (ln B of 1, 3, 5:
+// positive, strong, very strong); the level given to each observation is engineering judgement
+// (common practice), documented per test in docs/diagnosis.md. The posterior stage
+// (posterior.go) turns them into probabilities.
 const (
-	priorLogOdds    = -3.0 // ≈ 4.7 % before any evidence
-	confidenceFloor = 0.55 // causes below this are not listed
-
 	llrWeak     = 1.0
 	llrModerate = 2.0
 	llrStrong   = 3.5
 	llrDecisive = 5.0
+	// Named in-between levels.
+	llrFirm        = 3.0  // between moderate and strong
+	llrSupporting  = 1.5  // between weak and moderate
+	llrCDMismatch  = 2.5  // CD off the plan by the tolerance
+	llrCDMismatch2 = 4.0  // CD off the plan by twice the tolerance
+	llrAgainst     = -3.0 // a measured fact that by itself explains the symptom
+	llrAgainstSome = -2.0
+	llrAgainstBit  = -1.5
+	llrAgainstTiny = -0.5
 )
 
 type item struct {
@@ -41,8 +46,9 @@ func (s *score) add(llr float64, format string, a ...any) {
 	s.items = append(s.items, item{llr, fmt.Sprintf(format, a...)})
 }
 
-func (s *score) total() float64 {
-	t := priorLogOdds
+// sum is Σ LLR of the cause's column tests.
+func (s *score) sum() float64 {
+	t := 0.0
 	for _, it := range s.items {
 		t += it.llr
 	}
@@ -58,26 +64,10 @@ func (s *score) supported() bool {
 	return false
 }
 
-func logistic(x float64) float64 { return 1 / (1 + math.Exp(-x)) }
-
-// impairments is what the other evidence tests saw, so that the noise-type causes (osnr-low,
-// nonlinear) can tell when a measured impairment already explains a low Q.
-type impairments struct {
-	powerLow, powerHigh, cdOver, dgdHigh, pdlHigh, sopBursts, loNear bool
-	names                                                            []string
-}
-
-func (im *impairments) note(flag *bool, on bool, name string) {
-	if on {
-		*flag = true
-		im.names = append(im.names, name)
-	}
-}
-
-// causes runs every evidence test and lists the causes above the floor, highest first.
+// causes runs every column test, weighs the hypotheses (posterior.go) and lists the causes.
 func (pc *portCtx) causes() {
-	im := pc.impairments()
-	scores := []*score{
+	scores := map[string]*score{}
+	for _, s := range []*score{
 		pc.signalLoss(),
 		pc.rxPowerLow(),
 		pc.rxOverload(),
@@ -87,141 +77,54 @@ func (pc *portCtx) causes() {
 		pc.sopTransient(),
 		pc.pdlHigh(),
 		pc.loOffset(),
-		pc.osnrLow(im),
-		pc.nonlinear(im),
+		pc.osnrLow(),
+		pc.nonlinear(),
+		pc.txPower(),
+		pc.frequencyMismatch(),
+		pc.filtering(),
+		pc.transceiver(),
+	} {
+		if s != nil {
+			scores[s.id] = s
+		}
 	}
-	forced := pc.ownedBreaches(scores, im)
-	for _, s := range scores {
-		if s == nil || !s.supported() {
-			continue
-		}
-		conf := logistic(s.total())
-		if conf < confidenceFloor && !forced[s.id] {
-			continue
-		}
-		c := Cause{ID: s.id, Confidence: math.Round(conf*1000) / 1000, Actions: actions[s.id]}
-		items := append([]item(nil), s.items...)
-		sort.SliceStable(items, func(i, j int) bool { return items[i].llr > items[j].llr })
-		for _, it := range items {
-			if it.llr < 0 {
-				c.Evidence = append(c.Evidence, "Against: "+it.text)
-			} else {
-				c.Evidence = append(c.Evidence, it.text)
-			}
-		}
-		pc.res.Causes = append(pc.res.Causes, c)
-	}
-	sort.SliceStable(pc.res.Causes, func(i, j int) bool { return pc.res.Causes[i].Confidence > pc.res.Causes[j].Confidence })
+	forced := pc.ownedBreaches(scores)
+	pc.exonerate(scores)
+	o := pc.observe()
+	post, healthy, unexplained := pc.posterior(o, scores)
+	pc.an.Posterior = post
+	pc.res.Posterior = &Posterior{Healthy: round3(healthy), Unexplained: round3(unexplained)}
+	pc.list(o, scores, post, forced)
+	pc.res.NextTest = pc.nextTest()
 }
+
+func round3(x float64) float64 { return math.Round(x*1000) / 1000 }
 
 // ownedBreaches makes a marginal or failing criterion evidence for the cause that owns its
 // physics (mean DGD and DGD → pmd, SOP rate → sop-transient, PDL → pdl-high, and so on): when
-// that cause's own tests stay below the listing level, the breach is added as the evidence that
-// lifts it to that level (at least weak evidence) and the cause is listed whatever its confidence, so a
-// port is never marginal or failing "for no reason". When only the noise-family criteria (Q,
-// uncorrected blocks, post-FEC BER) break and nothing else is named, the Q shortfall with a good
-// OSNR, normal power and every impairment in range is the nonlinear signature. It returns the
-// ids listed by this rule.
-func (pc *portCtx) ownedBreaches(scores []*score, im impairments) map[string]bool {
+// that cause's own tests found nothing, the breach is added as weak evidence, and the cause is
+// listed whatever its posterior, so a port is never marginal or failing "for no reason". It
+// returns the ids listed by this rule.
+func (pc *portCtx) ownedBreaches(scores map[string]*score) map[string]bool {
 	forced := map[string]bool{}
-	byID := map[string]*score{}
-	for _, s := range scores {
-		if s != nil {
-			byID[s.id] = s
-		}
-	}
-	listed := func(id string) bool {
-		s := byID[id]
-		return s != nil && s.supported() && logistic(s.total()) >= confidenceFloor
-	}
-	noise := false
 	for i, c := range pc.res.Criteria {
 		if c.Verdict != Marginal && c.Verdict != Fail {
 			continue
 		}
 		owner := pc.critOwner[i]
-		if owner == "" {
-			noise = noise || c.Metric == "q_db" || c.Metric == "uncorrected_blocks" || c.Metric == "post_fec_ber"
+		if owner == "" || forced[owner] {
 			continue
 		}
-		if forced[owner] || listed(owner) {
-			continue
-		}
-		s := byID[owner]
+		s := scores[owner]
 		if s == nil {
 			continue // the cause cannot be judged here (e.g. no plan)
 		}
-		// Top the cause up to the listing level, no further: its other tests may already
-		// describe the same quantity, and counting the breach twice would overrate it.
-		need := math.Log(confidenceFloor/(1-confidenceFloor)) - s.total() + 1e-3
-		s.add(math.Max(llrWeak, need), "%s", criterionText(c))
+		if !s.supported() {
+			s.add(llrWeak, "%s", criterionText(c))
+		}
 		forced[owner] = true
 	}
-	if !noise {
-		return forced
-	}
-	for _, s := range scores {
-		if s != nil && (forced[s.id] || (s.supported() && logistic(s.total()) >= confidenceFloor)) {
-			return forced // something is named already
-		}
-	}
-	if pc.litNoiseBreach() {
-		if s := byID[CauseNonlinear]; s != nil && pc.noiseNotAmplifier(s, im) {
-			forced[CauseNonlinear] = true
-		}
-	}
 	return forced
-}
-
-// litNoiseBreach: the Q criterion is marginal or failing on lit samples, or lit samples carry
-// uncorrected blocks (so a lone loss of lock does not count as a noise problem).
-func (pc *portCtx) litNoiseBreach() bool {
-	if pc.qdb != nil && pc.prof.FECThresholdBER > 0 {
-		if q := pc.summaryOf(pc.lit(pc.qdb), parse.QdB); q.N > 0 && pick(q, pc.r.QStatistic)-pc.qLimitDB < pc.r.QMarginalMarginDB {
-			return true
-		}
-	}
-	if ub := pc.s.Values[parse.UncorrectedBlocks]; ub != nil {
-		for i, v := range ub {
-			if v > 0 && !pc.dark[i] {
-				return true
-			}
-		}
-	}
-	return false
-}
-
-// noiseNotAmplifier adds the nonlinear evidence when the Q is short although the OSNR (reported,
-// or the plan's ASE OSNR) is well above the requirement, the received power is normal and no
-// measured impairment is out of line: the eSNR is below what the OSNR implies. It reports
-// whether it did.
-func (pc *portCtx) noiseNotAmplifier(s *score, im impairments) bool {
-	r := pc.r
-	ref, refName := math.NaN(), ""
-	if pc.has(parse.OSNRdB) {
-		ref, refName = pick(pc.sum[parse.OSNRdB], r.OSNRStatistic), "reported OSNR ("+string(r.OSNRStatistic)+")"
-	} else if pc.exp != nil && finite(pc.exp.ASEOSNRdB) {
-		ref, refName = pc.exp.ASEOSNRdB, "plan's ASE OSNR"
-	}
-	if !finite(ref) || !(pc.reqOSNRdB > 0) || ref < pc.reqOSNRdB+r.OSNRMarginalMarginDB {
-		return false
-	}
-	if !pc.has(parse.RxPowerDBm) || im.powerLow || im.powerHigh || len(im.names) > 0 {
-		return false
-	}
-	lp := pc.litPowerSummary()
-	p := pc.prof
-	if p.RxPowerMaxDBm > p.RxPowerMinDBm && (lp.Min < p.RxPowerMinDBm+r.RxPowerMarginalBandDB || lp.Max > p.RxPowerMaxDBm-r.RxPowerMarginalBandDB) {
-		return false
-	}
-	q := pc.summaryOf(pc.lit(pc.qdb), parse.QdB)
-	figures := pc.impairmentFigures()
-	if figures == "" {
-		figures = "none of CD, DGD, PDL, SOP rate or LO offset is in the log"
-	}
-	s.add(llrStrong, "The Q margin is only %+.2f dB (%s) although the %s of %.1f dB is %.1f dB above the %.1f dB the module needs, the received power is normal (median %.1f dBm) and no measured impairment is out of line (%s): the eSNR is below what the OSNR implies, the signature of nonlinear interference in the fibre. A transceiver fault (laser, modulator or receiver) leaves the same signature; a loopback or back-to-back test of the module tells them apart.",
-		pick(q, r.QStatistic)-pc.qLimitDB, r.QStatistic, refName, ref, ref-pc.reqOSNRdB, pc.reqOSNRdB, lp.P50, figures)
-	return true
 }
 
 func (pc *portCtx) has(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
@@ -260,30 +163,6 @@ func (pc *portCtx) litPowerSummary() series.Summary {
 		pc.cache.litPower = &s
 	}
 	return *pc.cache.litPower
-}
-
-func (pc *portCtx) impairments() impairments {
-	var im impairments
-	p, r := pc.prof, pc.r
-	if pc.has(parse.RxPowerDBm) && p.RxPowerMaxDBm > p.RxPowerMinDBm {
-		s := pc.litPowerSummary()
-		im.note(&im.powerLow, s.N > 0 && s.P50 < p.RxPowerMinDBm, "received power below the sensitivity limit")
-		im.note(&im.powerHigh, s.N > 0 && s.P50 > p.RxPowerMaxDBm, "received power above the overload limit")
-	}
-	if pc.has(parse.CDpsPerNm) && p.CDTolerancePsNm > 0 {
-		im.note(&im.cdOver, pc.absSum[parse.CDpsPerNm].P50 > p.CDTolerancePsNm, "|CD| beyond the compensation range")
-	}
-	if pc.has(parse.DGDps) && p.DGDTolerancePs > 0 {
-		im.note(&im.dgdHigh, pc.sum[parse.DGDps].P99 > r.DGDMarginalFraction*p.DGDTolerancePs, "high DGD")
-	}
-	if pc.has(parse.PDLdB) && p.PDLTolerancedB > 0 {
-		im.note(&im.pdlHigh, pc.sum[parse.PDLdB].P99 > r.PDLMarginalFraction*p.PDLTolerancedB, "high PDL")
-	}
-	im.note(&im.sopBursts, len(pc.an.Coincidences) > 0, "BER bursts at SOP transients")
-	if pc.has(parse.LOOffsetMHz) && p.LOOffsetRangeMHz > 0 {
-		im.note(&im.loNear, pc.absSum[parse.LOOffsetMHz].P50 > r.LOOffsetMarginalFraction*p.LOOffsetRangeMHz, "LO offset near the capture limit")
-	}
-	return im
 }
 
 // impairmentFigures lists the port's CD, DGD, PDL, SOP rate and LO offset against their limits,
@@ -738,6 +617,10 @@ func (pc *portCtx) loOffset() *score {
 	if n, i := pc.lockLossOver(parse.LOOffsetMHz, rng, true); n > 0 {
 		s.add(llrStrong, "%s, while the carrier offset was %+.0f MHz, beyond the module's ±%.0f MHz capture range.", pc.lockLossText(i, n), pc.s.Values[parse.LOOffsetMHz][i], rng)
 	}
+	for _, st := range pc.an.LOSteps {
+		s.add(llrModerate, "The carrier offset stepped by %+.0f MHz at %s (%+.0f → %+.0f MHz), %s of the capture range at once: a retune or relock of a laser, not a drift.",
+			st.Step, clock(st.TimeMs), st.Before, st.After, pct(math.Abs(st.Step)/rng))
+	}
 	if t := pc.an.LOTrend; t != nil && pc.trendSignificant(t) {
 		switch {
 		case t.HoursToLimit > 0 && t.HoursToLimit <= r.LODriftHorizonH:
@@ -752,76 +635,6 @@ func (pc *portCtx) loOffset() *score {
 		if drift := math.Abs(t.Slope) * float64(t.EndMs-t.StartMs) / 3.6e6; drift >= 0.25*rng {
 			s.add(llrModerate, "Over the log the offset moved by about %.0f MHz (%s of the capture range).", drift, pct(drift/rng))
 		}
-	}
-	return s
-}
-
-// osnrLow: too little OSNR — reported OSNR low, or the BER-implied OSNR far below the plan,
-// with received power normal and no other measured impairment explaining the low Q.
-func (pc *portCtx) osnrLow(im impairments) *score {
-	s := &score{id: CauseOSNRLow}
-	r := pc.r
-	qm := pc.qMarginP50()
-	hasOSNR := pc.has(parse.OSNRdB) && pc.reqOSNRdB > 0
-	osnr := math.NaN()
-	if hasOSNR {
-		osnr = pick(pc.sum[parse.OSNRdB], r.OSNRStatistic)
-		switch {
-		case osnr < pc.reqOSNRdB:
-			s.add(llrDecisive, "Reported OSNR %.1f dB (%s) is %.1f dB below the %.1f dB the module needs at the FEC threshold.", osnr, r.OSNRStatistic, pc.reqOSNRdB-osnr, pc.reqOSNRdB)
-		case osnr < pc.reqOSNRdB+r.OSNRMarginalMarginDB:
-			s.add(llrStrong, "Reported OSNR %.1f dB (%s) leaves only %.1f dB over the %.1f dB the module needs.", osnr, r.OSNRStatistic, osnr-pc.reqOSNRdB, pc.reqOSNRdB)
-		}
-	}
-	if pc.exp != nil && finite(pc.exp.ASEOSNRdB) {
-		if hasOSNR {
-			med := pc.sum[parse.OSNRdB].P50
-			if gap := pc.exp.ASEOSNRdB - med; gap > r.OSNRGapVsPlanDB {
-				s.add(llrStrong, "Median reported OSNR %.1f dB is %.1f dB below the %.1f dB the plan's amplifier chain should give.", med, gap, pc.exp.ASEOSNRdB)
-			}
-		} else if impl := pc.impliedOSNRp50(); finite(impl) {
-			ref := pc.exp.GOSNRdB
-			if !finite(ref) {
-				ref = pc.exp.ASEOSNRdB
-			}
-			if gap := ref - impl; gap > r.OSNRGapVsPlanDB {
-				s.add(llrStrong, "The BER implies an OSNR of about %.1f dB, %.1f dB below the %.1f dB the plan predicts.", impl, gap, ref)
-			}
-		}
-	}
-	powerNormal := pc.has(parse.RxPowerDBm) && !im.powerLow && !im.powerHigh
-	if finite(qm) && qm < r.QMarginalMarginDB {
-		if powerNormal {
-			lp := pc.litPowerSummary()
-			s.add(llrModerate, "The Q margin is only %.1f dB (median) with received power normal (median %.1f dBm).", qm, lp.P50)
-		} else if !pc.has(parse.RxPowerDBm) {
-			s.add(llrWeak, "The Q margin is only %.1f dB (median); the log has no received power to rule a power problem in or out.", qm)
-		}
-		if len(im.names) == 0 {
-			if seen := pc.impairmentFigures(); seen != "" {
-				s.add(1.5, "None of the measured impairments is out of line (%s), so added noise is the likely reason.", seen)
-			}
-		}
-		if qm < 0 && (powerNormal || !pc.has(parse.RxPowerDBm)) {
-			s.add(llrModerate, "The median Q is %.1f dB below the FEC-threshold Q of %.2f dB: the port runs beyond the FEC for much of the log, not in bursts.", -qm, pc.qLimitDB)
-		} else if qm < 0 {
-			s.add(llrWeak, "The median Q is %.1f dB below the FEC-threshold Q of %.2f dB.", -qm, pc.qLimitDB)
-		}
-	}
-	if !s.supported() {
-		return s
-	}
-	if hasOSNR && osnr >= pc.reqOSNRdB+r.OSNRMarginalMarginDB && finite(qm) && qm < r.QMarginalMarginDB {
-		s.add(-3, "Reported OSNR %.1f dB is comfortably above the %.1f dB required, so amplifier noise does not explain the low Q.", osnr, pc.reqOSNRdB)
-	}
-	if len(im.names) > 0 && finite(qm) && qm < r.QMarginalMarginDB {
-		s.add(-math.Min(3, 1.5*float64(len(im.names))), "Other measured impairments can explain the low Q: %s.", strings.Join(im.names, ", "))
-	}
-	if rr := pc.routeRatio(); finite(rr) && rr > 1 {
-		s.add(-3, "The measured CD says the light takes a route about %.0f %% longer than planned, which by itself costs OSNR: the patching is the first suspect.", 100*(rr-1))
-	}
-	if pc.plan != nil && pc.launchDBm() > r.NonlinearLaunchPowerDBm {
-		s.add(-1.5, "The plan launches %+.1f dBm per channel, high enough for fibre nonlinearity to be the noise source.", pc.launchDBm())
 	}
 	return s
 }
@@ -860,102 +673,4 @@ func (pc *portCtx) launchDBm() float64 {
 		return pc.plan.LaunchPowerDBm
 	}
 	return pc.plan.TxPowerDBm
-}
-
-// nonlinear: OSNR good but eSNR well below what that OSNR implies; high launch power in the plan.
-func (pc *portCtx) nonlinear(im impairments) *score {
-	s := &score{id: CauseNonlinear}
-	r := pc.r
-	esnr := pc.esnrP50()
-	ref, refName := math.NaN(), ""
-	if pc.has(parse.OSNRdB) {
-		ref, refName = pc.sum[parse.OSNRdB].P50, "reported OSNR"
-	} else if pc.exp != nil && finite(pc.exp.ASEOSNRdB) {
-		ref, refName = pc.exp.ASEOSNRdB, "plan's ASE OSNR"
-	}
-	if !finite(ref) || !finite(esnr) || !(pc.prof.BaudGBd > 0) {
-		pc.notJudged("%s: needs the eSNR (or BER) and an OSNR, reported or from a link plan", CauseNonlinear)
-		if pc.plan == nil {
-			return nil
-		}
-	}
-	gapOK, hotter := false, false
-	if finite(ref) && finite(esnr) && pc.prof.BaudGBd > 0 {
-		want := pc.expectedESNRdB(ref)
-		gap := want - esnr
-		osnrGood := ref >= pc.reqOSNRdB+r.OSNRMarginalMarginDB || !(pc.reqOSNRdB > 0)
-		src := "measured"
-		if pc.esnrDerived {
-			src = "implied by the BER"
-		}
-		if gap >= r.NonlinearSNRGapDB && osnrGood {
-			gapOK = true
-			s.add(llrStrong, "The %s of %.1f dB should give an eSNR of about %.1f dB with this module (%s); the eSNR %s is %.1f dB, %.1f dB lower: noise that is not amplifier noise (fibre nonlinearity; a transceiver fault leaves the same signature, a loopback test of the module tells them apart).",
-				refName, ref, want, pc.trxAssumption, src, esnr, gap)
-			if gap >= 2*r.NonlinearSNRGapDB {
-				s.add(llrWeak, "The shortfall of %.1f dB is more than twice the %.1f dB threshold.", gap, r.NonlinearSNRGapDB)
-			}
-		} else if qm := pc.qMarginP50(); gap >= r.NonlinearSNRGapDB/2 && osnrGood && finite(qm) && qm < r.QMarginalMarginDB {
-			s.add(llrModerate, "The %s of %.1f dB should give an eSNR of about %.1f dB with this module; the eSNR %s is %.1f dB, %.1f dB lower, and the Q margin is only %.1f dB.",
-				refName, ref, want, src, esnr, gap, qm)
-		}
-	}
-	// With a plan and a reported OSNR: ASE OSNR rises dB for dB with launch power, so OSNR well
-	// above the plan's says the channel is launched hotter than designed; compared with the
-	// GN-model optimum launch power of the plan that is the classic nonlinear set-up.
-	if pc.exp != nil && pc.has(parse.OSNRdB) && finite(pc.exp.ASEOSNRdB) {
-		excess := pc.sum[parse.OSNRdB].P50 - pc.exp.ASEOSNRdB
-		if excess >= r.OSNRGapVsPlanDB {
-			implied := pc.launchDBm() + excess
-			opt := pc.exp.OptimumLaunchPowerDBm
-			switch {
-			case finite(opt) && implied > opt+2:
-				gapOK, hotter = true, true
-				s.add(llrStrong, "Reported OSNR %.1f dB is %.1f dB above the %.1f dB the plan's amplifier chain gives at its %+.1f dBm launch: the channel runs at about %+.1f dBm per span, %.1f dB above the GN-model optimum of %+.1f dBm.",
-					pc.sum[parse.OSNRdB].P50, excess, pc.exp.ASEOSNRdB, pc.launchDBm(), implied, implied-opt, opt)
-			case implied > r.NonlinearLaunchPowerDBm:
-				gapOK, hotter = true, true
-				s.add(llrStrong, "Reported OSNR %.1f dB is %.1f dB above the plan's %.1f dB: the channel runs at about %+.1f dBm per span, above the %+.1f dBm where fibre nonlinearity sets in.",
-					pc.sum[parse.OSNRdB].P50, excess, pc.exp.ASEOSNRdB, implied, r.NonlinearLaunchPowerDBm)
-			}
-			if gapOK && finite(esnr) && finite(pc.exp.TotalSNRdB) {
-				if d := esnr - pc.expectedESNRdB(pc.exp.ASEOSNRdB); d < 0.5 {
-					s.add(llrWeak, "Yet the eSNR (%.1f dB) is no better than the plan's OSNR would give (%.1f dB): the extra power buys no signal quality.", esnr, pc.expectedESNRdB(pc.exp.ASEOSNRdB))
-				}
-			}
-		}
-	}
-	if qm := pc.qMarginP50(); !gapOK && finite(qm) && qm < r.QMarginalMarginDB && pc.has(parse.OSNRdB) &&
-		pc.sum[parse.OSNRdB].P50 >= pc.reqOSNRdB+r.OSNRMarginalMarginDB && len(im.names) == 0 && pc.has(parse.RxPowerDBm) {
-		s.add(llrModerate, "The Q margin is %.1f dB although the reported OSNR (%.1f dB) is well above the %.1f dB required and no measured impairment is out of line: the noise is not amplifier noise (fibre nonlinearity, or a transceiver fault, which leaves the same signature).",
-			qm, pc.sum[parse.OSNRdB].P50, pc.reqOSNRdB)
-	}
-	if pc.plan != nil {
-		l := pc.launchDBm()
-		opt := math.NaN()
-		if pc.exp != nil {
-			opt = pc.exp.OptimumLaunchPowerDBm
-		}
-		switch {
-		case l > r.NonlinearLaunchPowerDBm:
-			s.add(3.0, "The plan launches %+.1f dBm per channel, above the %+.1f dBm where fibre nonlinearity sets in.", l, r.NonlinearLaunchPowerDBm)
-		case finite(opt) && l > opt+2:
-			s.add(llrModerate, "The plan launches %+.1f dBm per channel, %.1f dB above the model's optimum of %+.1f dBm.", l, l-opt, opt)
-		case finite(opt) && l <= opt && gapOK && !hotter:
-			s.add(-1.5, "The plan launches %+.1f dBm per channel, at or below the model's optimum of %+.1f dBm.", l, opt)
-		}
-		if !gapOK {
-			// Launch power alone does not make a cause: it needs a performance shortfall.
-			if qm := pc.qMarginP50(); !(finite(qm) && qm < r.QMarginalMarginDB) {
-				return nil
-			}
-		}
-	}
-	if s.supported() && len(im.names) > 0 {
-		s.add(-math.Min(3, 2*float64(len(im.names))), "Other measured impairments can explain the eSNR shortfall: %s.", strings.Join(im.names, ", "))
-	}
-	if rr := pc.routeRatio(); s.supported() && finite(rr) && rr < 1 {
-		s.add(-3, "The measured CD says the route is about %.0f %% shorter than planned, which by itself raises the OSNR above the plan's.", 100*(1-rr))
-	}
-	return s
 }

@@ -138,6 +138,7 @@ func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 	pc.criteria()
 	pc.planVsMeasured()
 	pc.causes()
+	pc.res.Budget = pc.budget()
 	pc.verdict()
 	addCautions(pc.res)
 	return *pc.res

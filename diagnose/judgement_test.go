@@ -3,6 +3,7 @@ package diagnose
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"strings"
 	"testing"
 
@@ -72,8 +73,10 @@ func TestMarginalCriterionNamesItsCause(t *testing.T) {
 }
 
 // Q short of the FEC threshold with the OSNR far above the requirement, normal power and every
-// impairment in range: the noise is not amplifier noise, so nonlinear is named (with the
-// transceiver-fault caveat) rather than nothing. A 6 dB SNR penalty on the 19 dB-ceiling style
+// impairment in range: the noise is not amplifier noise. Without a link plan nonlinear
+// interference, a transceiver fault and filtering leave the same signature, so the port gets
+// the noise-family differential with nonlinear in it, and the evidence says they cannot be told
+// apart here. A 6 dB SNR penalty on the 19 dB-ceiling style
 // log takes the Q within 1 dB of the threshold while the OSNR stays at 32 dB (26 dB required).
 func TestQShortWithGoodOSNRNamesNonlinear(t *testing.T) {
 	p, r := testSetup(t, "400g-dp-16qam-cfec")
@@ -87,11 +90,14 @@ func TestQShortWithGoodOSNRNamesNonlinear(t *testing.T) {
 			t.Errorf("seed %d: verdict %s with no cause", seed, res.Verdict)
 			continue
 		}
-		if got := topCause(res); got != CauseNonlinear {
-			t.Errorf("seed %d: top cause %q, want nonlinear", seed, got)
+		if got := topCause(res); got != CauseNonlinear && got != CauseTransceiver && got != CauseFiltering {
+			t.Errorf("seed %d: top cause %q, want one of nonlinear, transceiver, filtering", seed, got)
 		}
-		if ev := strings.Join(res.Causes[0].Evidence, " "); !strings.Contains(ev, "transceiver fault") {
-			t.Errorf("seed %d: evidence does not mention the transceiver-fault alternative: %q", seed, ev)
+		if !slices.Contains(causeIDs(res), CauseNonlinear) {
+			t.Errorf("seed %d: nonlinear not in the differential %v", seed, causeIDs(res))
+		}
+		if ev := strings.Join(res.Causes[0].Evidence, " "); !strings.Contains(ev, "transceiver") || !strings.Contains(ev, "nonlinearity") {
+			t.Errorf("seed %d: evidence does not name the alternatives: %q", seed, ev)
 		}
 	}
 }

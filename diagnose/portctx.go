@@ -70,6 +70,8 @@ type portCtx struct {
 		qMargin, esnr       float64
 		qMarginSet, esnrSet bool
 		dark                *darkKinds
+		fwd                 *forward
+		tx                  *txChangeInfo
 	}
 
 	// Model figures of the profile.
@@ -373,7 +375,24 @@ func (pc *portCtx) analyseSeries() {
 	}
 
 	if s.Has(parse.LOOffsetMHz) && pc.prof.LOOffsetRangeMHz > 0 {
-		an.LOTrend = pc.trend(s.Values[parse.LOOffsetMHz], "lo_offset_mhz", "MHz", pc.prof.LOOffsetRangeMHz)
+		// A step (retune, relock) is told from a drift: change points of at least
+		// lo_step_fraction of the capture range are steps, and the trend is fitted after the
+		// last one, so a step is never read as a drift.
+		lo := s.Values[parse.LOOffsetMHz]
+		if countFinite(lo) >= minN {
+			for _, st := range series.ChangePoints(lo, series.ChangePointOptions{MinStep: r.LOStepFraction * pc.prof.LOOffsetRangeMHz}) {
+				an.LOSteps = append(an.LOSteps, ChangePoint{
+					TimeMs: s.TimesMs[st.Index], Index: st.Index, Quantity: "lo_offset_mhz",
+					Before: st.Before, After: st.After, Step: st.Size(), Unit: "MHz",
+				})
+			}
+		}
+		if k := len(an.LOSteps); k > 0 {
+			after := nanSlice(pc.n)
+			copy(after[an.LOSteps[k-1].Index:], lo[an.LOSteps[k-1].Index:])
+			lo = after
+		}
+		an.LOTrend = pc.trend(lo, "lo_offset_mhz", "MHz", pc.prof.LOOffsetRangeMHz)
 	}
 	if s.Has(parse.DGDps) {
 		v := pc.scratch[:0] // FitMaxwell copies what it keeps

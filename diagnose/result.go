@@ -48,6 +48,15 @@ const (
 	CauseLOOffset     = "lo-offset"
 	CauseNonlinear    = "nonlinear"
 	CauseSignalLoss   = "signal-loss"
+	// CauseTxPower: the transmitter's output out of range or stepped, the received power
+	// following it.
+	CauseTxPower = "tx-power"
+	// CauseFrequencyMismatch: the channel frequency differs from the plan or sits off the grid.
+	CauseFrequencyMismatch = "frequency-mismatch"
+	// CauseFiltering: passband narrowing or an off-centre laser.
+	CauseFiltering = "filtering"
+	// CauseTransceiver: an eSNR shortfall the line cannot explain (module floor, ageing, DSP).
+	CauseTransceiver = "transceiver"
 )
 
 // Where a port's profile came from (PortResult.ProfileSource, Setup.ProfileSource).
@@ -57,6 +66,21 @@ const (
 	ProfileFromFlag   = "flag"    // --profile, or the profile of the --plan given
 	ProfileAssumed    = "default" // nothing said: the built-in default, an assumption
 )
+
+// AllCauses lists every cause id of the design contract, in its order.
+var AllCauses = []string{
+	CauseOSNRLow, CauseRxPowerLow, CauseRxOverload, CauseCDMismatch, CauseCDOverLimit, CausePMD,
+	CauseSOPTransient, CausePDLHigh, CauseLOOffset, CauseNonlinear, CauseSignalLoss,
+	CauseTxPower, CauseFrequencyMismatch, CauseFiltering, CauseTransceiver,
+}
+
+// Posterior holds the probabilities of the two hypotheses that are not causes: a healthy port,
+// and trouble none of the causes describes. With the causes' confidences (each the marginal
+// posterior of the cause, alone or in a pair) they come from one normalised posterior.
+type Posterior struct {
+	Healthy     float64 `json:"healthy"`
+	Unexplained float64 `json:"unexplained"`
+}
 
 // Result is the machine-readable outcome of check and triage (the JSON of the design contract).
 type Result struct {
@@ -82,6 +106,15 @@ type PortResult struct {
 	Criteria []Criterion `json:"criteria,omitempty"`
 	// PlanVsMeasured compares the link plan's expectations with the measurements.
 	PlanVsMeasured []PlanComparison `json:"plan_vs_measured,omitempty"`
+	// Posterior gives the probabilities of healthy and unexplained beside the causes'.
+	Posterior *Posterior `json:"posterior,omitempty"`
+	// Budget is the SNR-deficit decomposition, nil when the port has no eSNR (or BER).
+	Budget *Budget `json:"budget,omitempty"`
+	// NextTest is the measurement that best separates the top candidates ("" when none).
+	NextTest string `json:"next_test,omitempty"`
+	// Risks are notes about what is inside the limits but close to them (e.g. received power
+	// near the sensitivity limit with the Q margin fine): not causes, not criteria.
+	Risks []string `json:"risks,omitempty"`
 	// NotJudged says what could not be judged and why (no plan, quantity missing, …).
 	NotJudged []string `json:"not_judged,omitempty"`
 	// TestPeriod says how the log covers the acceptance test period (check and report).

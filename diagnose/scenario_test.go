@@ -170,8 +170,9 @@ func TestMixedCausesAreBothListed(t *testing.T) {
 }
 
 // Nonlinear interference without a plan can only be told from the eSNR shortfall against the
-// reported OSNR; mild cases stay below the evidence floor. This records the rate rather than
-// hiding it, and fails if it drops below half.
+// reported OSNR, which a transceiver fault and filtering leave too: without the plan's GN model
+// the three are one differential. This records how often nonlinear is in its top three, and
+// fails if that drops below half or if the top cause is outside the noise family.
 func TestNonlinearWithoutPlanDetectionRate(t *testing.T) {
 	r := mustRules(t)
 	found := 0
@@ -181,14 +182,19 @@ func TestNonlinearWithoutPlanDetectionRate(t *testing.T) {
 			t.Fatal(err)
 		}
 		p := judge(t, c, r, false)
-		if len(p.Causes) > 0 && p.Causes[0].ID == diagnose.CauseNonlinear {
+		got := ids(p)
+		if len(got) > 3 {
+			got = got[:3]
+		}
+		if slices.Contains(got, diagnose.CauseNonlinear) {
 			found++
-		} else if len(p.Causes) > 0 {
-			t.Errorf("seed %d: wrong top cause %s", seed, causeList(p))
+		}
+		if len(got) > 0 && !slices.Contains([]string{diagnose.CauseNonlinear, diagnose.CauseTransceiver, diagnose.CauseFiltering}, got[0]) {
+			t.Errorf("seed %d: top cause outside the noise family: %s", seed, causeList(p))
 		}
 	}
-	t.Logf("nonlinear found without a plan in %d of %d seeds", found, seeds)
+	t.Logf("nonlinear in the top three without a plan in %d of %d seeds", found, seeds)
 	if found < seeds/2 {
-		t.Errorf("nonlinear found without a plan in only %d of %d seeds", found, seeds)
+		t.Errorf("nonlinear in the top three without a plan in only %d of %d seeds", found, seeds)
 	}
 }

@@ -192,6 +192,22 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 			}
 		}
 	}
+	if p.NextTest != "" {
+		fmt.Fprintln(w, "\nNext test")
+		writeWrapped(w, "  ", "  ", p.NextTest, 96)
+	}
+	if len(p.Risks) > 0 {
+		fmt.Fprintln(w, "\nRisks (inside the limits, close to them)")
+		for _, r := range p.Risks {
+			writeWrapped(w, "  - ", "    ", r, 96)
+		}
+	}
+	if lines := BudgetLines(p.Budget); len(lines) > 0 {
+		fmt.Fprintln(w, "\nSNR budget (what each mechanism costs the eSNR)")
+		for _, l := range lines {
+			writeWrapped(w, "  - ", "    ", l, 96)
+		}
+	}
 	if len(p.NotJudged) > 0 {
 		fmt.Fprintln(w, "\nNot judged")
 		for _, n := range p.NotJudged {

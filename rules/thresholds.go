@@ -94,9 +94,17 @@ type Rules struct {
 	// NonlinearSNRGapDB: eSNR this far below the SNR implied by the measured OSNR (after the
 	// module's implementation penalty) is nonlinear evidence.
 	NonlinearSNRGapDB float64 `yaml:"nonlinear_snr_gap_db" json:"nonlinear_snr_gap_db"`
-	// NonlinearLaunchPowerDBm: per-channel launch power above which fibre nonlinearity is a
-	// plausible cause.
-	NonlinearLaunchPowerDBm float64 `yaml:"nonlinear_launch_power_dbm" json:"nonlinear_launch_power_dbm"`
+	// NonlinearLaunchPSDdBmPerGHz: per-channel launch power spectral density (dBm per GHz of
+	// symbol rate: launch dBm − 10·log10(Rs/GHz)) above which fibre nonlinearity is a plausible
+	// cause when the plan's GN model gives no optimum. Nonlinear interference grows with the
+	// power density, not the channel power, so a wide channel tolerates more dBm.
+	NonlinearLaunchPSDdBmPerGHz float64 `yaml:"nonlinear_launch_psd_dbm_per_ghz" json:"nonlinear_launch_psd_dbm_per_ghz"`
+	// LOStepFraction: a change point in the carrier (LO) offset of at least this fraction of the
+	// capture range is a step (a laser retune or a relock), not a drift.
+	LOStepFraction float64 `yaml:"lo_step_fraction" json:"lo_step_fraction"`
+	// FrequencyAccuracyGHz: a channel centre further than this from the nearest 6.25 GHz grid
+	// frequency is off the grid.
+	FrequencyAccuracyGHz float64 `yaml:"frequency_accuracy_ghz" json:"frequency_accuracy_ghz"`
 	// CorrelationMinSpearman: rank correlation of BER with another quantity (DGD, power) at least
 	// this strong counts as evidence.
 	CorrelationMinSpearman float64 `yaml:"correlation_min_spearman" json:"correlation_min_spearman"`
@@ -105,9 +113,64 @@ type Rules struct {
 
 	// Acceptance holds the test period, coverage and error-performance figures (acceptance.go).
 	Acceptance AcceptanceRules `yaml:"acceptance" json:"acceptance"`
+	// PosteriorTemperature divides every log-likelihood before the posterior is normalised
+	// (temperature scaling, C. Guo et al., "On calibration of modern neural networks", ICML
+	// 2017): fitted on the labelled calibration corpus so that stated probabilities match
+	// observed frequencies.
+	PosteriorTemperature float64 `yaml:"posterior_temperature" json:"posterior_temperature"`
+	// Priors are the prior probabilities of each hypothesis about a port before its data is
+	// read; the posterior is normalised over them, so they need not add up to 1.
+	Priors Priors `yaml:"priors" json:"priors"`
 
 	// Sources names where each value comes from, keyed by its YAML name.
 	Sources map[string]string `yaml:"sources" json:"sources"`
+}
+
+// Priors are the prior probabilities of the hypotheses the diagnosis weighs: a healthy port,
+// one of the causes of the design contract (yaml name = cause id with "_" for "-"), and an
+// unexplained remainder (trouble none of the causes describes).
+type Priors struct {
+	Healthy           float64 `yaml:"healthy" json:"healthy"`
+	Unexplained       float64 `yaml:"unexplained" json:"unexplained"`
+	OSNRLow           float64 `yaml:"osnr_low" json:"osnr_low"`
+	RxPowerLow        float64 `yaml:"rx_power_low" json:"rx_power_low"`
+	RxOverload        float64 `yaml:"rx_overload" json:"rx_overload"`
+	CDMismatch        float64 `yaml:"cd_mismatch" json:"cd_mismatch"`
+	CDOverLimit       float64 `yaml:"cd_over_limit" json:"cd_over_limit"`
+	PMD               float64 `yaml:"pmd" json:"pmd"`
+	SOPTransient      float64 `yaml:"sop_transient" json:"sop_transient"`
+	PDLHigh           float64 `yaml:"pdl_high" json:"pdl_high"`
+	LOOffset          float64 `yaml:"lo_offset" json:"lo_offset"`
+	Nonlinear         float64 `yaml:"nonlinear" json:"nonlinear"`
+	SignalLoss        float64 `yaml:"signal_loss" json:"signal_loss"`
+	TxPower           float64 `yaml:"tx_power" json:"tx_power"`
+	FrequencyMismatch float64 `yaml:"frequency_mismatch" json:"frequency_mismatch"`
+	Filtering         float64 `yaml:"filtering" json:"filtering"`
+	Transceiver       float64 `yaml:"transceiver" json:"transceiver"`
+}
+
+// checks: every prior is a probability above zero (a zero prior could never be named).
+func (p Priors) checks() []rangeCheck {
+	var out []rangeCheck
+	v, t := reflect.ValueOf(p), reflect.TypeOf(p)
+	for i := 0; i < t.NumField(); i++ {
+		name, _, _ := strings.Cut(t.Field(i).Tag.Get("yaml"), ",")
+		out = append(out, rangeCheck{"priors." + name, v.Field(i).Float(), 1e-6, 1, ""})
+	}
+	return out
+}
+
+// Of is the prior of the hypothesis id ("healthy", "unexplained" or a cause id such as
+// "osnr-low"); ok is false for an id Priors does not know.
+func (p Priors) Of(id string) (prior float64, ok bool) {
+	key := strings.ReplaceAll(id, "-", "_")
+	v, t := reflect.ValueOf(p), reflect.TypeOf(p)
+	for i := 0; i < t.NumField(); i++ {
+		if name, _, _ := strings.Cut(t.Field(i).Tag.Get("yaml"), ","); name == key {
+			return v.Field(i).Float(), true
+		}
+	}
+	return 0, false
 }
 
 // ruleValues lists every value of Rules by dotted YAML name, for the source checks.
@@ -170,11 +233,15 @@ func (r Rules) Validate() error {
 		{"signal_loss_floor_dbm", r.SignalLossFloorDBm, -80, 0, "dBm"},
 		{"osnr_gap_vs_plan_db", r.OSNRGapVsPlanDB, 0.1, 30, "dB"},
 		{"nonlinear_snr_gap_db", r.NonlinearSNRGapDB, 0.1, 30, "dB"},
-		{"nonlinear_launch_power_dbm", r.NonlinearLaunchPowerDBm, -20, 30, "dBm"},
+		{"nonlinear_launch_psd_dbm_per_ghz", r.NonlinearLaunchPSDdBmPerGHz, -40, 10, "dBm/GHz"},
+		{"lo_step_fraction", r.LOStepFraction, 0.001, 1, ""},
+		{"frequency_accuracy_ghz", r.FrequencyAccuracyGHz, 0.01, 6.25, "GHz"},
+		{"posterior_temperature", r.PosteriorTemperature, 0.05, 20, ""},
 		{"correlation_min_spearman", r.CorrelationMinSpearman, 0.05, 1, ""},
 		{"min_samples_for_trend", float64(r.MinSamplesForTrend), 3, 1e7, "samples"},
 	}
 	checks = append(checks, r.Acceptance.checks()...)
+	checks = append(checks, r.Priors.checks()...)
 	for _, c := range checks {
 		if !(c.v >= c.lo && c.v <= c.hi) {
 			return fieldErr(c.key, ErrRange, "%g %s is outside %g…%g %s", c.v, c.unit, c.lo, c.hi, c.unit)

@@ -171,6 +171,22 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 			}
 		}
 		p("\n")
+		if port.NextTest != "" {
+			p("Next test: %s\n\n", mdText(port.NextTest))
+		}
+		for _, r := range port.Risks {
+			p("- risk: %s\n", mdText(r))
+		}
+		if len(port.Risks) > 0 {
+			p("\n")
+		}
+		if lines := report.BudgetLines(port.Budget); len(lines) > 0 {
+			p("### SNR budget\n\n")
+			for _, l := range lines {
+				p("- %s\n", mdText(l))
+			}
+			p("\n")
+		}
 		if len(port.NotJudged) > 0 {
 			p("Not judged:\n\n")
 			for _, n := range port.NotJudged {
