@@ -2,7 +2,6 @@ package rules
 
 import (
 	"fmt"
-	"os"
 	"slices"
 	"strings"
 )
@@ -146,9 +145,9 @@ func (p *Plan) CheckProfile(profiles []Profile) error {
 // profiles, or against the built-in profiles when none are given. A bad plan fails with a
 // *FileError giving the line and field.
 func LoadPlan(path string, profiles ...Profile) (Plan, error) {
-	data, err := os.ReadFile(path)
+	data, err := readConfig(path)
 	if err != nil {
-		return Plan{}, &FileError{File: path, Err: err}
+		return Plan{}, err
 	}
 	var p Plan
 	_, ix, err := decodeStrict(path, data, &p)

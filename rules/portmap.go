@@ -194,9 +194,9 @@ func (m *PortMap) Index(port string) (int, bool) {
 // against the map file's folder and must name readable files (the plans themselves are read by
 // LoadPlan when needed).
 func LoadPortMap(path string, profiles ...Profile) (PortMap, error) {
-	data, err := os.ReadFile(path)
+	data, err := readConfig(path)
 	if err != nil {
-		return PortMap{}, &FileError{File: path, Err: err}
+		return PortMap{}, err
 	}
 	m := PortMap{File: path}
 	_, ix, err := decodeStrict(path, data, &m)

@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"maps"
 	"math"
-	"os"
 	"regexp"
 	"slices"
 	"strings"
@@ -209,9 +208,9 @@ func LoadProfiles(path string) ([]Profile, error) {
 	if err != nil {
 		return nil, err
 	}
-	data, err := os.ReadFile(path)
+	data, err := readConfig(path)
 	if err != nil {
-		return nil, &FileError{File: path, Err: err}
+		return nil, err
 	}
 	return decodeProfiles(path, data, base)
 }

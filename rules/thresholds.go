@@ -3,7 +3,6 @@ package rules
 import (
 	_ "embed"
 	"fmt"
-	"os"
 	"reflect"
 	"strings"
 )
@@ -297,9 +296,9 @@ func LoadRules(path string) (Rules, error) {
 	if err != nil {
 		return Rules{}, err
 	}
-	data, err := os.ReadFile(path)
+	data, err := readConfig(path)
 	if err != nil {
-		return Rules{}, &FileError{File: path, Err: err}
+		return Rules{}, err
 	}
 	// Decode into a fresh value first to know which keys the file sets, then onto the defaults.
 	var probe Rules
