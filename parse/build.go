@@ -69,6 +69,12 @@ func (c *colBuf) pushNaN(n int) {
 	}
 }
 
+// setLast overwrites the last value pushed.
+func (c *colBuf) setLast(v float64) {
+	last := c.segs[len(c.segs)-1]
+	last[len(last)-1] = v
+}
+
 // flatten returns the values as one slice and empties c.
 func (c *colBuf) flatten() []float64 {
 	if len(c.segs) == 1 {
@@ -96,6 +102,7 @@ type portBuf struct {
 	unsorted bool // some time is smaller than its predecessor
 	ties     bool // some time equals its predecessor
 	runs     []fileRun
+	merged   int // rows that repeated the port's last time and replaced that row as they arrived
 }
 
 // fileRun says that rows from start on came from input file (index into Dataset.Inputs).
@@ -129,9 +136,31 @@ func (p *portBuf) ensure(q Quantity) {
 	p.mask |= 1 << q
 }
 
+// replaceLast overwrites the port's last row with a row of the same time that came later (the
+// later row wins, docs/formats.md): duplicates are merged as they arrive, so an input that
+// repeats rows does not grow memory. vals[j*stride] belongs to qs[j]; quantities the port has
+// that the row lacks become NaN, as the whole row is replaced.
+func (p *portBuf) replaceLast(qs []Quantity, vals []float64, stride int, qmask uint32) {
+	for q := Quantity(0); q < NumQuantities; q++ {
+		if p.mask&(1<<q) != 0 && qmask&(1<<q) == 0 {
+			p.vals[q].setLast(math.NaN())
+		}
+	}
+	for j, q := range qs {
+		p.ensure(q)
+		p.vals[q].setLast(vals[j*stride])
+	}
+	p.merged++
+}
+
 // addDense appends one row whose values vals[j] belong to qs[j]; every quantity the port has
 // that is not in qs gets NaN. The per-file CSV path always passes the file's full column set.
+// A row with the port's last time replaces that row instead.
 func (p *portBuf) addDense(t int64, qs []Quantity, vals []float64, qmask uint32) {
+	if len(p.times) > 0 && t == p.last {
+		p.replaceLast(qs, vals, 1, qmask)
+		return
+	}
 	p.noteTime(t)
 	if p.mask&^qmask != 0 || qmask&^p.mask != 0 {
 		for _, q := range qs {
@@ -153,6 +182,15 @@ func (p *portBuf) addDense(t int64, qs []Quantity, vals []float64, qmask uint32)
 // vals[j*len(times)+i] (column after column). Quantities the port has that qs lacks get NaN.
 func (p *portBuf) addBlock(times []int64, qs []Quantity, vals []float64, qmask uint32) {
 	n := len(times)
+	prev, have := p.last, len(p.times) > 0
+	for i, t := range times {
+		if have && t == prev {
+			// A row repeats the time before it: merge row by row from here on.
+			p.addBlockRows(times, i, qs, vals, qmask)
+			return
+		}
+		prev, have = t, true
+	}
 	for _, t := range times {
 		p.noteTime(t)
 		p.times = append(p.times, t)
@@ -175,6 +213,27 @@ func (p *portBuf) addBlock(times []int64, qs []Quantity, vals []float64, qmask u
 				p.vals[q].pushNaN(n)
 			}
 		}
+	}
+}
+
+// addBlockRows is addBlock's careful path, for a run whose row i repeats the time before it:
+// rows before i are appended as a block, the rest one by one with addDense, which merges each
+// repeat into the row before.
+func (p *portBuf) addBlockRows(times []int64, i int, qs []Quantity, vals []float64, qmask uint32) {
+	n := len(times)
+	if i > 0 {
+		head := make([]float64, i*len(qs))
+		for j := range qs {
+			copy(head[j*i:(j+1)*i], vals[j*n:j*n+i])
+		}
+		p.addBlock(times[:i], qs, head, qmask)
+	}
+	row := make([]float64, len(qs))
+	for ; i < n; i++ {
+		for j := range qs {
+			row[j] = vals[j*n+i]
+		}
+		p.addDense(times[i], qs, row, qmask)
 	}
 }
 
@@ -207,9 +266,12 @@ type datasetBuilder struct {
 	ports map[string]*portBuf
 }
 
-// absorb moves the ports of file number fileIdx into the dataset.
-func (db *datasetBuilder) absorb(fb *fileBuilder, fileIdx int) {
+// absorb moves the ports of file number fileIdx into the dataset and returns how many of the
+// file's rows were merged into an earlier row of the file as they arrived.
+func (db *datasetBuilder) absorb(fb *fileBuilder, fileIdx int) (merged int) {
 	for _, p := range fb.order {
+		merged += p.merged
+		p.merged = 0
 		g := db.ports[p.name]
 		if g == nil {
 			p.runs = []fileRun{{0, fileIdx}}
@@ -253,6 +315,7 @@ func (db *datasetBuilder) absorb(fb *fileBuilder, fileIdx int) {
 			}
 		}
 	}
+	return merged
 }
 
 // finish sorts every port by time (stably), keeps the last row of each run of equal times,

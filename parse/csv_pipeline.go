@@ -2,7 +2,6 @@ package parse
 
 import (
 	"bytes"
-	"fmt"
 	"io"
 	"slices"
 	"sync"
@@ -180,6 +179,10 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 					if bytes.IndexByte(b, '\n') >= 0 {
 						break
 					}
+					if len(b) >= maxLineBytes {
+						readErr, eof = lineTooLong(line+bytes.Count(b, []byte{'\n'})), true
+						break
+					}
 					nb := make([]byte, len(b), 2*cap(b)) // a line longer than the block
 					copy(nb, b)
 					b = nb
@@ -273,7 +276,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		}
 	}
 	if readErr != nil {
-		res.fail(&ParseError{File: file, Line: line, Err: fmt.Errorf("%w: %v", ErrTruncated, readErr)}, nil)
+		res.fail(&ParseError{File: file, Line: line, Err: truncated(readErr)}, nil)
 	}
 }
 
@@ -329,7 +332,7 @@ func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line 
 	job.hint = exactHint(job, k, opt.arena)
 	applyCSV(res.fb, res.lay, job, 0, 1)
 	if readErr != nil {
-		res.fail(&ParseError{File: res.stats.File, Line: line, Err: fmt.Errorf("%w: %v", ErrTruncated, readErr)}, nil)
+		res.fail(&ParseError{File: res.stats.File, Line: line, Err: truncated(readErr)}, nil)
 	}
 }
 
@@ -337,6 +340,14 @@ func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line 
 // order. In strict mode a job's parse stopped at its first rejected row, which stops the file:
 // the counts then cover every row up to and including it.
 func (res *fileResult) accountCSV(job *csvJob, strict bool) {
+	if !res.budget.takeRows(job.rowsRead) {
+		// The run's row limit stops the input like a strict rejection: the block that would
+		// pass it is neither counted nor merged (no port group left to apply).
+		job.names = job.names[:0]
+		res.strictErr = res.budget.rowLimitError(res.stats.File, job.firstLine)
+		res.stats.Error = res.strictErr.Error()
+		return
+	}
 	res.stats.RowsRead += job.rowsRead
 	if strict && len(job.rejects) > 0 {
 		res.stopStrict(job.rejects[0])

@@ -2,6 +2,7 @@ package parse
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -9,6 +10,25 @@ import (
 	"strings"
 	"unicode/utf8"
 )
+
+// maxLineBytes bounds a CSV line (the header and every row): a real telemetry row is well
+// under 1 KiB, and a longer line means the input is not CSV; the bound keeps such an input
+// from filling memory while its line end is looked for.
+const maxLineBytes = 1 << 20
+
+// lineTooLong is the read error of a line longer than maxLineBytes that starts at or after line.
+func lineTooLong(line int) error {
+	return fmt.Errorf("%w: a line after line %d is longer than %d MiB, which no telemetry row is", ErrTooLarge, line, maxLineBytes>>20)
+}
+
+// truncated is the error of an input whose stream broke off with readErr: a reading limit
+// (ErrTooLarge) as it is, anything else as ErrTruncated.
+func truncated(readErr error) error {
+	if errors.Is(readErr, ErrTooLarge) {
+		return readErr
+	}
+	return fmt.Errorf("%w: %v", ErrTruncated, readErr)
+}
 
 // csvLayout is what the header row says about every following row.
 type csvLayout struct {
@@ -21,6 +41,7 @@ type csvLayout struct {
 	qFields      []int      // field index of each quantity column
 	qs           []Quantity // quantity of each quantity column
 	qmask        uint32
+	times        *timeReader // how the time column is read (nil: built-in formats, UTC)
 }
 
 // sniffDelimiter picks the most frequent of tab, semicolon and comma outside quotes; ties go to
@@ -99,10 +120,10 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 		missing = append(missing, "port")
 	}
 	if len(lay.qs) == 0 {
-		missing = append(missing, "any measured quantity")
+		missing = append(missing, "measured-quantity")
 	}
 	if len(missing) > 0 {
-		return nil, nil, &ParseError{File: file, Line: lineNo, Err: fmt.Errorf("%w: header has no %s column", ErrMissingColumn, strings.Join(missing, ", no "))}
+		return nil, nil, &ParseError{File: file, Line: lineNo, Err: fmt.Errorf("%w: header has no %s column (docs/formats.md lists the column names)", ErrMissingColumn, strings.Join(missing, ", no "))}
 	}
 	return lay, notes, nil
 }
@@ -291,8 +312,8 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 		t = cp.lastTimeMs
 	} else {
 		var ok bool
-		if t, ok = parseTime(tf); !ok {
-			return cp.fieldErr(lineNo, lay.timeCol, fmt.Errorf("%w: %s", ErrBadTime, quoteShort(tf)))
+		if t, ok = lay.times.parse(tf); !ok {
+			return cp.fieldErr(lineNo, lay.timeCol, lay.times.badTime(tf))
 		}
 		cp.lastTime = append(cp.lastTime[:0], tf...)
 		cp.lastTimeMs = t
@@ -311,12 +332,15 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 			job.vals = append(job.vals, math.NaN())
 			continue
 		}
-		if lay.decimalComma {
-			if c := bytes.IndexByte(f, ','); c >= 0 {
-				cp.num = append(cp.num[:0], f...)
-				cp.num[c] = '.'
-				f = cp.num
+		if c := bytes.IndexByte(f, ','); c >= 0 && (lay.decimalComma || lay.delim == ',') {
+			// With ";" the comma is the decimal mark; in comma CSV only a quoted field holds
+			// one, and it is a decimal mark unless it could be a thousands separator.
+			if lay.delim == ',' && thousandsLike(f, c) {
+				return cp.fieldErr(lineNo, fi, fmt.Errorf("%w: %s is ambiguous: a decimal comma or a thousands separator (write it without the comma, or with a decimal point)", ErrNotNumber, quoteShort(f)))
 			}
+			cp.num = append(cp.num[:0], f...)
+			cp.num[c] = '.'
+			f = cp.num
 		}
 		v, ok := parseFloat(f)
 		if !ok {
@@ -345,6 +369,21 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 	return nil
 }
 
+// thousandsLike reports whether the number f, with its first comma at c, could be read with
+// that comma as a thousands separator: one comma, no point, one to three digits before it (not
+// a lone 0) and exactly three after, e.g. "1,702" (1.702 or 1702?). "0,001", "-8,15" and
+// "1702,5" are decimal commas.
+func thousandsLike(f []byte, c int) bool {
+	intPart, frac := f[:c], f[c+1:]
+	if len(intPart) > 0 && (intPart[0] == '-' || intPart[0] == '+') {
+		intPart = intPart[1:]
+	}
+	if len(frac) != 3 || len(intPart) < 1 || len(intPart) > 3 || intPart[0] == '0' {
+		return false
+	}
+	return bytes.IndexByte(frac, ',') < 0 && bytes.IndexByte(f, '.') < 0
+}
+
 func (cp *csvParser) fieldErr(lineNo, fi int, err error) *ParseError {
 	return &ParseError{File: cp.file, Line: lineNo, Column: fi + 1, Field: cp.lay.names[fi], Err: err}
 }
@@ -357,57 +396,94 @@ func quoteShort(b []byte) string {
 	return fmt.Sprintf("%q", b)
 }
 
+// maxPreambleLines bounds the non-blank lines looked at for the header: exports from
+// spreadsheets and management systems put a title, the device name or the export time above
+// it, rarely more than a few lines.
+const maxPreambleLines = 50
+
 // readCSVHeader reads the stream up to and including its header row into *hb (a buffer from
 // getBytes, which the caller puts back once done with the returned carry) and parses the
-// header into res.lay, adding its notes. On failure it records the error in res and returns false.
+// header into res.lay, adding its notes. Lines above the header that name no column (a title,
+// a preamble) are skipped and named in a note; they are not rows. The scan is linear and a
+// header line is bounded by maxLineBytes. On failure it records the error in res — the first
+// candidate line's, when no header is found — and returns false.
 func readCSVHeader(res *fileResult, r io.Reader, hb *[]byte) (st csvStart, ok bool) {
 	file := res.stats.File
 	buf := *hb
-	line := 1
+	line := 1    // line number of buf[0]
+	scanned := 0 // bytes at the start of buf known to hold no line end
 	var readErr error
 	eof := false
-	var header []byte
-	for header == nil {
-		if nl := bytes.IndexByte(buf, '\n'); nl >= 0 || eof {
-			var ln []byte
-			if nl >= 0 {
-				ln = buf[:nl]
-			} else {
-				ln = buf
+	var firstErr error
+	var preamble []int // line numbers of the lines skipped above the header
+	var title []byte   // the first of them, for the note
+	for {
+		nl := bytes.IndexByte(buf[scanned:], '\n')
+		if nl < 0 && !eof {
+			if len(buf) > maxLineBytes {
+				res.fail(&ParseError{File: file, Line: line, Err: fmt.Errorf("%w: no line end in the first %d MiB: not a CSV header", ErrTooLarge, maxLineBytes>>20)}, readErr)
+				return st, false
 			}
-			rest := len(ln) + 1
-			if nl < 0 {
-				rest = len(ln)
+			scanned = len(buf)
+			if len(buf) == cap(buf) {
+				buf = slices.Grow(buf, cap(buf))
+				*hb = buf
 			}
-			trimmed := bytes.TrimRight(ln, "\r")
-			if isBlank(trimmed) {
-				if nl < 0 { // nothing but blank lines
-					res.fail(&ParseError{File: file, Line: line, Err: ErrNoHeader}, readErr)
-					return st, false
+			buf = readMore(r, buf, &eof, &readErr)
+			continue
+		}
+		ln, rest := buf, len(buf)
+		if nl >= 0 {
+			ln, rest = buf[:scanned+nl], scanned+nl+1
+		}
+		scanned = 0
+		lineNo := line
+		trimmed := bytes.TrimRight(ln, "\r")
+		buf = buf[rest:]
+		line++
+		if isBlank(trimmed) {
+			if nl < 0 { // the end of the input, and no header
+				if firstErr == nil {
+					firstErr = &ParseError{File: file, Line: lineNo, Err: ErrNoHeader}
 				}
-				buf = buf[rest:]
-				line++
-				continue
+				res.fail(firstErr, readErr)
+				return st, false
 			}
-			header = append([]byte(nil), trimmed...)
-			buf = buf[rest:]
-			line++
-			break
+			continue
 		}
-		if len(buf) == cap(buf) {
-			buf = slices.Grow(buf, cap(buf))
-			*hb = buf
+		lay, notes, err := parseHeader(file, lineNo, trimmed)
+		if err == nil {
+			if len(preamble) > 0 {
+				res.stats.Notes = append(res.stats.Notes, preambleNote(preamble, title, lineNo))
+			}
+			res.stats.Notes = append(res.stats.Notes, notes...)
+			lay.times = res.times
+			res.lay = lay
+			return csvStart{carry: buf, line: line, eof: eof, readErr: readErr}, true
 		}
-		buf = readMore(r, buf, &eof, &readErr)
+		if firstErr == nil {
+			firstErr = err
+		}
+		// A line that names no column at all may be a title above the header; a line with a
+		// duplicate column, the last line, or too many lines without a header end the search.
+		if !errors.Is(err, ErrMissingColumn) || nl < 0 || len(preamble) == maxPreambleLines {
+			res.fail(firstErr, readErr)
+			return st, false
+		}
+		if title == nil {
+			title = append([]byte{}, trimmed...)
+		}
+		preamble = append(preamble, lineNo)
 	}
-	lay, notes, err := parseHeader(file, line-1, header)
-	if err != nil {
-		res.fail(err, readErr)
-		return st, false
+}
+
+// preambleNote names the lines skipped above the header at line header.
+func preambleNote(lines []int, first []byte, header int) string {
+	what := fmt.Sprintf("line %d", lines[0])
+	if len(lines) > 1 {
+		what = fmt.Sprintf("%d lines (%d–%d)", len(lines), lines[0], lines[len(lines)-1])
 	}
-	res.stats.Notes = append(res.stats.Notes, notes...)
-	res.lay = lay
-	return csvStart{carry: buf, line: line, eof: eof, readErr: readErr}, true
+	return fmt.Sprintf("%s above the header (line %d) skipped as a title or preamble, not rows; the first reads %s", what, header, quoteShort(first))
 }
 
 // csvStart is where a CSV stream stands once its header row is read.

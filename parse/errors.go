@@ -21,6 +21,8 @@ var (
 	ErrTruncated       = errors.New("input truncated")
 	ErrJSON            = errors.New("invalid JSON")
 	ErrNoData          = errors.New("no optical-channel or OTN data")
+	ErrNotText         = errors.New("not a text file")
+	ErrTooLarge        = errors.New("input over the reading limit")
 )
 
 // ParseError says where an input went wrong, like encoding/csv's ParseError. Line is 1-based;

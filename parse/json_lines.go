@@ -249,9 +249,9 @@ func (jr *jsonReader) canonical(obj map[string]any, lineNo int) {
 			if missing {
 				continue
 			}
-			ms, ok := parseTime(b)
+			ms, ok := jr.opt.times.parse(b)
 			if !ok {
-				jr.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: fmt.Errorf("%w: %s", ErrBadTime, quoteShort(b))})
+				jr.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: jr.opt.times.badTime(b)})
 				return
 			}
 			t, haveTime = ms, true

@@ -228,8 +228,8 @@ func (jr *jsonReader) openConfig(obj map[string]any, lineNo int) {
 	}
 	if b, missing := scalarBytes(tv); missing {
 		timeErr = &ParseError{File: file, Line: lineNo, Field: "timestamp", Err: ErrMissingValue}
-	} else if ms, ok := parseTime(b); !ok {
-		timeErr = &ParseError{File: file, Line: lineNo, Field: tname, Err: fmt.Errorf("%w: %s", ErrBadTime, quoteShort(b))}
+	} else if ms, ok := jr.opt.times.parse(b); !ok {
+		timeErr = &ParseError{File: file, Line: lineNo, Field: tname, Err: jr.opt.times.badTime(b)}
 	} else {
 		t = ms
 	}

@@ -111,9 +111,16 @@ type Dataset struct {
 	Series   []*Series
 	Inputs   []InputStats
 	Rejected []Rejection // in input order; at most MaxRejectionsKept are kept, the counts stay complete
-	// Skipped lists files found while walking folders that were not read because their name
-	// does not look like telemetry (see docs/formats.md).
-	Skipped []string
+	// Skipped lists files found while walking folders that are not telemetry: hidden, a name
+	// that does not look like telemetry, or content that is not (empty, not text, no header
+	// naming time, port and a quantity). See docs/formats.md.
+	Skipped []Skip
+}
+
+// Skip is a file found in a folder that was not taken as telemetry, and why.
+type Skip struct {
+	File   string `json:"file"`
+	Reason string `json:"reason"`
 }
 
 // MaxRejectionsKept bounds the rejections a Dataset keeps in memory; the counts in Inputs stay

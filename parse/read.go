@@ -10,12 +10,14 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"math"
 	"os"
 	"path/filepath"
 	"runtime"
 	"slices"
 	"strings"
 	"sync"
+	"sync/atomic"
 )
 
 // Options control reading. The zero value reads leniently with instant OpenConfig statistics.
@@ -33,8 +35,92 @@ type Options struct {
 	Progress func(done, total int64)
 	// Workers bounds the goroutines parsing one CSV input; 0 means GOMAXPROCS.
 	Workers int
+	// MaxRows bounds the data records read over all inputs (0: DefaultMaxRows), and so the
+	// memory a run takes: reading stops with an ErrTooLarge error at the block that would pass
+	// it. Unpacked input bytes are bounded too, at MaxRows × 1 KiB, so that a small gzip of
+	// blank lines or of one endless line ends as well.
+	MaxRows int
+	// TimeFormat reads every time with this layout: a Go layout ("02.01.2006 15:04") or a
+	// strftime-like format ("%d.%m.%Y %H:%M"); "" reads the built-in formats.
+	TimeFormat string
+	// DayFirst reads DD.MM.YYYY, DD/MM/YYYY and DD-MM-YYYY dates besides the built-in formats.
+	DayFirst bool
+	// TimeZone is the zone of times written without one (IANA name such as "Europe/Berlin",
+	// or "+01:00"); "" is UTC. Times that carry a zone keep it.
+	TimeZone string
 
-	arena *slabArena // set by ReadPaths: where small files' columns are cut from
+	arena  *slabArena  // set by ReadPaths: where small files' columns are cut from
+	times  *timeReader // from TimeFormat, DayFirst and TimeZone (nil: the built-in formats in UTC)
+	budget *readBudget // rows and bytes left for the run
+}
+
+// DefaultMaxRows is the row limit when Options.MaxRows is 0: ten million rows, about 2 GB of
+// memory at the current store (docs/formats.md, "Limits").
+const DefaultMaxRows = 10_000_000
+
+// bytesPerRow is the unpacked input allowed per row of MaxRows: a canonical row with every
+// column is about 250 bytes, so 1 KiB leaves room for wide exports with many unknown columns.
+const bytesPerRow = 1024
+
+// prepare checks the options a caller set and fills in the derived ones.
+func (o *Options) prepare() error {
+	if _, err := o.statistic(); err != nil {
+		return err
+	}
+	if o.MaxRows < 0 {
+		return fmt.Errorf("parse: the row limit must be positive, not %d", o.MaxRows)
+	}
+	tr, err := newTimeReader(o.TimeFormat, o.DayFirst, o.TimeZone)
+	if err != nil {
+		return err
+	}
+	o.times = tr
+	rows := int64(o.MaxRows)
+	if rows == 0 {
+		rows = DefaultMaxRows
+	}
+	o.budget = &readBudget{maxRows: rows}
+	o.budget.rows.Store(rows)
+	o.budget.bytes.Store(rows * bytesPerRow)
+	return nil
+}
+
+// readBudget is what is left of the run's row and byte limits, shared by concurrent readers.
+type readBudget struct {
+	maxRows int64
+	rows    atomic.Int64
+	bytes   atomic.Int64
+}
+
+// takeRows takes n rows from the budget; false when fewer are left (the budget is then spent).
+func (b *readBudget) takeRows(n int) bool {
+	if b == nil {
+		return true
+	}
+	if b.rows.Add(-int64(n)) < 0 {
+		b.rows.Store(-1 << 62)
+		return false
+	}
+	return true
+}
+
+// rowLimitError says that the run's row limit stopped an input at line.
+func (b *readBudget) rowLimitError(file string, line int) error {
+	return &ParseError{File: file, Line: line, Err: fmt.Errorf("%w: more than %d rows in all inputs (the --max-rows limit, which bounds memory); this input was read up to line %d", ErrTooLarge, b.maxRows, line-1)}
+}
+
+// budgetReader stops a stream with ErrTooLarge once the run's unpacked-byte budget is spent.
+type budgetReader struct {
+	r io.Reader
+	b *readBudget
+}
+
+func (br budgetReader) Read(p []byte) (int, error) {
+	n, err := br.r.Read(p)
+	if left := br.b.bytes.Add(-int64(n)); left < 0 {
+		return n, fmt.Errorf("%w: more than %d MiB of unpacked input in all (1 KiB per row of the --max-rows limit)", ErrTooLarge, br.b.maxRows*bytesPerRow>>20)
+	}
+	return n, err
 }
 
 func (o Options) workers() int {
@@ -62,8 +148,10 @@ type fileResult struct {
 	fb        *fileBuilder
 	lay       *csvLayout
 	rejects   []Rejection
-	strictErr error // first bad row in strict mode
-	fileErr   error // input not read completely
+	times     *timeReader // how times are read (nil: built-in formats, UTC)
+	budget    *readBudget // the run's row and byte limits (nil: none)
+	strictErr error       // first bad row in strict mode, or the row limit reached
+	fileErr   error       // input not read completely
 }
 
 func (res *fileResult) addRejection(r Rejection) {
@@ -108,20 +196,33 @@ func isTelemetryName(name string) bool {
 	return false
 }
 
+// Reasons a file found in a folder is skipped by name.
+const (
+	skipHidden = "hidden"
+	skipName   = "not a telemetry file name"
+)
+
 // expandPaths turns files, folders and "-" into the list of inputs, in order: folders are
 // walked recursively in lexical order, skipping hidden entries and non-telemetry names.
-func expandPaths(paths []string) (files []string, skipped []string, err error) {
+// walked[i] tells that files[i] was found in a folder rather than named. "-" may be given once:
+// standard input cannot be read twice.
+func expandPaths(paths []string) (files []string, walked []bool, skipped []Skip, err error) {
+	stdin := false
 	for _, p := range paths {
 		if p == "-" {
-			files = append(files, p)
+			if stdin {
+				return nil, nil, nil, errors.New("parse: \"-\" (standard input) is given twice; it can be read only once")
+			}
+			stdin = true
+			files, walked = append(files, p), append(walked, false)
 			continue
 		}
 		fi, err := os.Stat(p)
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
 		if !fi.IsDir() {
-			files = append(files, p)
+			files, walked = append(files, p), append(walked, false)
 			continue
 		}
 		err = filepath.WalkDir(p, func(path string, d fs.DirEntry, err error) error {
@@ -132,24 +233,48 @@ func expandPaths(paths []string) (files []string, skipped []string, err error) {
 				if d.IsDir() {
 					return filepath.SkipDir
 				}
-				skipped = append(skipped, path)
+				skipped = append(skipped, Skip{path, skipHidden})
 				return nil
 			}
 			if d.IsDir() {
 				return nil
 			}
 			if d.Type().IsRegular() && isTelemetryName(d.Name()) {
-				files = append(files, path)
+				files, walked = append(files, path), append(walked, true)
 			} else {
-				skipped = append(skipped, path)
+				skipped = append(skipped, Skip{path, skipName})
 			}
 			return nil
 		})
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
 	}
-	return files, skipped, nil
+	return files, walked, skipped, nil
+}
+
+// notTelemetry reports why a file found in a folder is not telemetry at all — nothing read
+// from it and its content not a log (empty, not text, no header or document of ours) — so that
+// it is skipped with a note instead of failing the run. A damaged log (truncated, or a row
+// limit) is not skipped: it stays an input error.
+func notTelemetry(res *fileResult) (string, bool) {
+	if res.stats.RowsRead > 0 || res.fileErr == nil {
+		return "", false
+	}
+	for _, e := range []error{ErrEmpty, ErrNotText, ErrNoHeader, ErrMissingColumn, ErrDuplicateColumn, ErrJSON} {
+		if !errors.Is(res.fileErr, e) {
+			continue
+		}
+		var pe *ParseError
+		if errors.As(res.fileErr, &pe) && pe.Line > 0 {
+			return fmt.Sprintf("line %d: %v", pe.Line, pe.Err), true
+		}
+		if pe != nil {
+			return pe.Err.Error(), true
+		}
+		return res.fileErr.Error(), true
+	}
+	return "", false
 }
 
 // progressMeter serialises progress reports from concurrent readers.
@@ -193,10 +318,10 @@ func (c countingReader) Read(p []byte) (int, error) {
 // with Options.Strict, at the first rejected row. A path that does not exist is an error before
 // anything is read.
 func ReadPaths(paths []string, opt Options) (*Dataset, error) {
-	if _, err := opt.statistic(); err != nil {
+	if err := opt.prepare(); err != nil {
 		return nil, err
 	}
-	files, skipped, err := expandPaths(paths)
+	files, walked, skipped, err := expandPaths(paths)
 	if err != nil {
 		return nil, err
 	}
@@ -228,7 +353,15 @@ func ReadPaths(paths []string, opt Options) (*Dataset, error) {
 	}
 	wg.Wait()
 	meter.add(0)
-	ds, err := assemble(results, opt.workers())
+	kept := results[:0]
+	for i, res := range results {
+		if why, skip := notTelemetry(res); skip && walked[i] {
+			skipped = append(skipped, Skip{files[i], why})
+			continue
+		}
+		kept = append(kept, res)
+	}
+	ds, err := assemble(kept, opt.workers())
 	ds.Skipped = skipped
 	return ds, err
 }
@@ -252,7 +385,7 @@ func readNamed(name string, opt Options, meter *progressMeter) *fileResult {
 // recognised by its magic bytes, the format by content (see docs/formats.md). The error rules
 // are those of ReadPaths.
 func ReadFile(name string, r io.Reader, opt Options) (*Dataset, error) {
-	if _, err := opt.statistic(); err != nil {
+	if err := opt.prepare(); err != nil {
 		return nil, err
 	}
 	return assemble([]*fileResult{readInput(name, r, opt, sizeOf(r))}, opt.workers())
@@ -270,7 +403,7 @@ func assemble(results []*fileResult, workers int) (*Dataset, error) {
 				ds.Rejected = append(ds.Rejected, r)
 			}
 		}
-		db.absorb(res.fb, i)
+		ds.Inputs[len(ds.Inputs)-1].Duplicates += db.absorb(res.fb, i)
 		if res.strictErr != nil {
 			errs = append(errs, res.strictErr)
 		}
@@ -286,14 +419,28 @@ var gzipMagic = []byte{0x1f, 0x8b}
 
 // readInput hashes the raw bytes, unpacks gzip, drops a BOM and dispatches on content.
 func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult {
-	res := &fileResult{stats: InputStats{File: name}, fb: newFileBuilder(), sizeHint: size}
+	res := &fileResult{stats: InputStats{File: name}, fb: newFileBuilder(), sizeHint: size,
+		times: opt.times, budget: opt.budget}
 	h := sha256.New()
 	br := readerPool.Get().(*bufio.Reader)
-	br.Reset(io.TeeReader(raw, h))
+	var limited io.Reader = raw
+	if opt.budget != nil {
+		limited = budgetReader{raw, opt.budget}
+	}
+	br.Reset(io.TeeReader(limited, h))
 	defer func() {
-		// Hash what is left so the digest covers the whole input even after an early stop.
-		_, _ = io.Copy(io.Discard, br)
-		res.stats.SHA256 = hex.EncodeToString(h.Sum(nil))
+		// Hash what is left so the digest covers the whole input even after an early stop:
+		// the rest of a regular file, at most maxDrain bytes of a stream (a device such as
+		// /dev/zero never ends). What br buffered is hashed already.
+		limit := int64(maxDrain)
+		if size > 0 {
+			limit = math.MaxInt64 - 1
+		}
+		if n, _ := io.Copy(h, io.LimitReader(raw, limit+1)); n > limit {
+			res.stats.Notes = append(res.stats.Notes, fmt.Sprintf("no SHA-256: the stream went on for more than %d MiB after reading stopped", maxDrain>>20))
+		} else {
+			res.stats.SHA256 = hex.EncodeToString(h.Sum(nil))
+		}
 		br.Reset(nil)
 		readerPool.Put(br)
 	}()
@@ -306,7 +453,11 @@ func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult 
 			res.fail(&ParseError{File: name, Err: fmt.Errorf("%w: gzip header: %v", ErrTruncated, err)}, nil)
 			return res
 		}
-		r = bufio.NewReaderSize(zr, 64*1024)
+		var unpacked io.Reader = zr
+		if opt.budget != nil {
+			unpacked = budgetReader{zr, opt.budget}
+		}
+		r = bufio.NewReaderSize(unpacked, 64*1024)
 		gz = true
 		res.sizeHint = 0 // the unpacked size is not known
 	}
@@ -314,11 +465,16 @@ func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult 
 	if bom, _ := cr.Peek(3); bytes.Equal(bom, []byte{0xef, 0xbb, 0xbf}) {
 		_, _ = cr.Discard(3)
 	}
-	first := firstNonSpace(cr)
 	suffix := ""
 	if gz {
 		suffix = "+gzip"
 	}
+	if why := notText(cr); why != "" {
+		res.stats.Format = "binary" + suffix
+		res.fail(&ParseError{File: name, Err: fmt.Errorf("%w: %s", ErrNotText, why)}, nil)
+		return res
+	}
+	first := firstNonSpace(cr)
 	switch first {
 	case 0:
 		res.stats.Format = "empty" + suffix
@@ -336,6 +492,34 @@ func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult 
 		readCSV(res, cr, opt)
 	}
 	return res
+}
+
+// maxDrain bounds what is read of a stream of unknown size, only to hash it, after reading
+// stopped early.
+const maxDrain = 64 << 20
+
+// notText looks at the first 512 bytes of an input and says why it is not text ("" when it
+// is): a NUL byte or many control characters mean binary data (an image, an archive, a
+// spreadsheet workbook, /dev/zero); a UTF-16 byte-order mark means text in an encoding we do
+// not read.
+func notText(br *bufio.Reader) string {
+	b, _ := br.Peek(512)
+	if len(b) >= 2 && (b[0] == 0xff && b[1] == 0xfe || b[0] == 0xfe && b[1] == 0xff) {
+		return "UTF-16 text; save the export as UTF-8 (or plain CSV)"
+	}
+	controls := 0
+	for i, c := range b {
+		switch {
+		case c == 0:
+			return fmt.Sprintf("binary data (a NUL byte at offset %d)", i)
+		case c < 0x20 && c != '\t' && c != '\n' && c != '\r' && c != '\f' || c == 0x7f:
+			controls++
+		}
+	}
+	if controls*10 > len(b) {
+		return fmt.Sprintf("binary data (%d control characters in the first %d bytes)", controls, len(b))
+	}
+	return ""
 }
 
 // readerPool recycles the 64 KiB input readers: a folder of thousands of small files would

@@ -98,7 +98,7 @@ func WriteScanJSON(w io.Writer, version string, ds *parse.Dataset, ports []ScanP
 		Inputs   []parse.InputStats `json:"inputs"`
 		Ports    []ScanPort         `json:"ports"`
 		Rejected []parse.Rejection  `json:"rejected"`
-		Skipped  []string           `json:"skipped"`
+		Skipped  []parse.Skip       `json:"skipped"`
 		Errors   []string           `json:"errors"`
 	}{"beatnote", version, ds.Inputs, ports, rej, ds.Skipped, errs}
 	if doc.Inputs == nil {
@@ -108,7 +108,7 @@ func WriteScanJSON(w io.Writer, version string, ds *parse.Dataset, ports []ScanP
 		doc.Rejected = []parse.Rejection{}
 	}
 	if doc.Skipped == nil {
-		doc.Skipped = []string{}
+		doc.Skipped = []parse.Skip{}
 	}
 	if doc.Errors == nil {
 		doc.Errors = []string{}
@@ -233,13 +233,13 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 		}
 	}
 	if len(ds.Skipped) > 0 {
-		fmt.Fprintf(w, "\nSkipped %s in folders (hidden, or not a telemetry file name):\n", Plural(len(ds.Skipped), "file", "files"))
+		fmt.Fprintf(w, "\nSkipped %s in folders (not telemetry):\n", Plural(len(ds.Skipped), "file", "files"))
 		for i, s := range ds.Skipped {
 			if i == 10 {
 				fmt.Fprintf(w, "  … %d more\n", len(ds.Skipped)-10)
 				break
 			}
-			fmt.Fprintln(w, "  "+escape.Visible(s))
+			fmt.Fprintln(w, "  "+escape.Visible(s.File+": "+s.Reason))
 		}
 	}
 	return nil
