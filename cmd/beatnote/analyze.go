@@ -25,6 +25,20 @@ type judgeFlags struct {
 	Plan     string `help:"Link plan (YAML) the ports are judged against; enables plan vs measured and cd-mismatch." type:"existingfile" placeholder:"PLAN.yaml"`
 	Strict   bool   `help:"Stop reading an input at its first rejected row and judge nothing (exit 2), instead of judging the rows that were used."`
 	storeFlags
+	readFlags
+}
+
+// readFlags are the reading options of every command that reads telemetry.
+type readFlags struct {
+	TimeFormat string `name:"time-format" help:"Read every time with this layout: strftime-like (%d.%m.%Y %H:%M) or a Go layout (02.01.2006 15:04); see docs/formats.md." placeholder:"LAYOUT"`
+	DayFirst   bool   `name:"day-first" help:"Also read day-first dates: DD.MM.YYYY, DD/MM/YYYY, DD-MM-YYYY."`
+	Timezone   string `help:"Zone of times written without one: an IANA name (Europe/Berlin) or an offset (+01:00). Default UTC." placeholder:"ZONE"`
+	MaxRows    int    `name:"max-rows" help:"Stop with an error past this many rows in all inputs; bounds memory (docs/formats.md, Limits)." default:"10000000" placeholder:"N"`
+}
+
+// options are the parse options the flags ask for.
+func (f readFlags) options() parse.Options {
+	return parse.Options{TimeFormat: f.TimeFormat, DayFirst: f.DayFirst, TimeZone: f.Timezone, MaxRows: f.MaxRows}
 }
 
 // soakFlag is the test-period option of the commands that accept a circuit (check, report).
@@ -115,7 +129,7 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	if err := jf.checkSource(paths); err != nil {
 		return nil, err
 	}
-	ds, readErr := readInputs(paths, &jf.storeFlags, jf.Strict, pr)
+	ds, readErr := readInputs(paths, jf, pr)
 	if ds == nil {
 		return nil, readErr
 	}
@@ -144,6 +158,9 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 			return nil, readErr
 		}
 		return nil, errors.New("nothing usable was read: no row was accepted (try 'beatnote scan' to see why)")
+	}
+	if n := len(ds.Skipped); n > 0 {
+		pr.Notef("%d files in folders skipped as not telemetry, e.g. %s (%s); 'beatnote scan' lists them", n, ds.Skipped[0].File, ds.Skipped[0].Reason)
 	}
 	read, rejected := rowCounts(ds)
 	if rejected > 0 {
@@ -268,11 +285,13 @@ func rowCounts(ds *parse.Dataset) (read, rejected int) {
 }
 
 // readInputs reads the inputs with a progress bar on a terminal, or the store the flags name.
-func readInputs(paths []string, sf *storeFlags, strict bool, pr *printer) (*parse.Dataset, error) {
-	if sf.active() {
-		return readStore(sf, strict, pr)
+func readInputs(paths []string, jf judgeFlags, pr *printer) (*parse.Dataset, error) {
+	if jf.active() {
+		return readStore(&jf.storeFlags, jf.Strict, pr)
 	}
-	return readWithProgress(paths, parse.Options{Strict: strict}, pr)
+	opt := jf.options()
+	opt.Strict = jf.Strict
+	return readWithProgress(paths, opt, pr)
 }
 
 // readWithProgress reads the inputs with opt, drawing a progress bar on stderr when it is a

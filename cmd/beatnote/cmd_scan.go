@@ -16,6 +16,14 @@ type ScanCmd struct {
 	Strict    bool     `help:"Stop at the first rejected row (exit 2) instead of reporting it."`
 	Statistic string   `help:"Which OpenConfig statistic to read: instant, avg, min or max." enum:"instant,avg,min,max" default:"instant"`
 	storeFlags
+	readFlags
+}
+
+// readOptions are the parse options of the flags.
+func (c *ScanCmd) readOptions() parse.Options {
+	opt := c.options()
+	opt.Strict, opt.Statistic = c.Strict, c.Statistic
+	return opt
 }
 
 // Help is the long help of the command.
@@ -37,7 +45,7 @@ func (c *ScanCmd) Run(g *Globals, pr *printer) error {
 	if c.active() {
 		ds, readErr = readStore(&c.storeFlags, c.Strict, pr)
 	} else {
-		ds, readErr = readWithProgress(c.Paths, parse.Options{Strict: c.Strict, Statistic: c.Statistic}, pr)
+		ds, readErr = readWithProgress(c.Paths, c.readOptions(), pr)
 	}
 	if ds == nil {
 		return &exitError{code: 2, err: readErr}
