@@ -134,12 +134,17 @@ func TestLongLines(t *testing.T) {
 }
 
 // endless is a stream that never ends (like /dev/zero or a FIFO fed forever).
-type endless struct{ line []byte }
+type endless struct {
+	line []byte
+	off  int
+}
 
-func (e endless) Read(p []byte) (int, error) {
+func (e *endless) Read(p []byte) (int, error) {
 	n := 0
 	for n < len(p) {
-		n += copy(p[n:], e.line)
+		c := copy(p[n:], e.line[e.off:])
+		n += c
+		e.off = (e.off + c) % len(e.line)
 	}
 	return n, nil
 }
@@ -148,7 +153,7 @@ func (e endless) Read(p []byte) (int, error) {
 // hash covers at most 64 MiB more), text ones at the row limit.
 func TestEndlessStreams(t *testing.T) {
 	t.Run("zeros", func(t *testing.T) {
-		ds, err := ReadFile("zeros", endless{[]byte{0}}, Options{})
+		ds, err := ReadFile("zeros", &endless{line: []byte{0}}, Options{})
 		if !errors.Is(err, ErrNotText) {
 			t.Fatalf("err = %v, want ErrNotText", err)
 		}
@@ -157,7 +162,7 @@ func TestEndlessStreams(t *testing.T) {
 		}
 	})
 	t.Run("text rows", func(t *testing.T) {
-		r := io.MultiReader(strings.NewReader(bombHeader), endless{[]byte("2026-03-14T08:30:00Z,p,1e-3,-8\n")})
+		r := io.MultiReader(strings.NewReader(bombHeader), &endless{line: []byte("2026-03-14T08:30:00Z,p,1e-3,-8\n")})
 		ds, err := ReadFile("rows", r, Options{MaxRows: 50000})
 		if !errors.Is(err, ErrTooLarge) {
 			t.Fatalf("err = %v, want ErrTooLarge", err)
@@ -347,5 +352,16 @@ func TestJSONTimeOptions(t *testing.T) {
 	ds, _ = ReadFile("a.jsonl", strings.NewReader(in), Options{})
 	if len(ds.Rejected) != 1 || !strings.Contains(ds.Rejected[0].Reason, "--day-first") {
 		t.Errorf("rejections %+v", ds.Rejected)
+	}
+}
+
+// A JSON input, read whole, is bounded: past maxJSONBytes it stops with ErrTooLarge.
+func TestJSONBounded(t *testing.T) {
+	defer func(n int64) { maxJSONBytes = n }(maxJSONBytes)
+	maxJSONBytes = 1 << 20
+	r := io.MultiReader(strings.NewReader("[\n"), &endless{line: []byte(`{"time": 0, "port": "p", "osnr_db": 20},` + "\n")})
+	_, err := ReadFile("big.json", r, Options{})
+	if !errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), "JSON input above") {
+		t.Fatalf("err = %v, want ErrTooLarge for a JSON input", err)
 	}
 }

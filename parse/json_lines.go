@@ -17,6 +17,10 @@ import (
 // OpenConfig-shaped telemetry document; see docs/formats.md.
 func readJSON(res *fileResult, r io.Reader, opt Options) {
 	data, readErr := io.ReadAll(r)
+	if errors.Is(readErr, ErrTooLarge) { // nothing is read of an input over the limit
+		res.fail(&ParseError{File: res.stats.File, Err: readErr}, nil)
+		return
+	}
 	jr := &jsonReader{res: res, opt: opt, unknown: map[string]bool{}}
 	jr.stat, _ = opt.statistic()
 	start := skipSpace(data, 0)
@@ -39,7 +43,7 @@ func readJSON(res *fileResult, r io.Reader, opt Options) {
 	}
 	res.stats.Notes = append(res.stats.Notes, jr.notes...)
 	if readErr != nil {
-		res.fail(&ParseError{File: res.stats.File, Line: jr.line, Err: fmt.Errorf("%w: %v", ErrTruncated, readErr)}, nil)
+		res.fail(&ParseError{File: res.stats.File, Line: jr.line, Err: truncated(readErr)}, nil)
 	}
 }
 
