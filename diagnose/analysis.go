@@ -33,6 +33,9 @@ type PortAnalysis struct {
 	BurstThresholdBER float64
 	// BlockBursts are runs of intervals with uncorrected FEC blocks.
 	BlockBursts []Interval
+	// DarkRuns are runs of samples without signal (power at the loss-of-signal floor, or no
+	// lock), in time order.
+	DarkRuns []Interval
 	// SOPSpikes are runs of SOP rate above the spike threshold (SOPSpikeThresholdKradS).
 	SOPSpikes              []Interval
 	SOPSpikeThresholdKradS float64

@@ -21,6 +21,9 @@ type Setup struct {
 	Plan    *rules.Plan
 	// ProfileSource says what chose Profile (ProfileFromMap, …); copied to the result.
 	ProfileSource string
+	// Line, Peer and Module are the port's topology from the port map; copied to the result.
+	Line, Peer string
+	Module     *ModuleID
 }
 
 // Config says how to judge a Dataset.
@@ -96,7 +99,7 @@ func Analyze(ds *parse.Dataset, cfg Config) (*Result, error) {
 			for i := range next {
 				st := setups[i]
 				res.Ports[i] = analyzePort(ds.Series[i], st.Profile, st.Plan, expects[st.Plan], cfg.Rules, cfg.CorrelationsOnDemand)
-				res.Ports[i].ProfileSource = st.ProfileSource
+				res.Ports[i].ProfileSource, res.Ports[i].Line, res.Ports[i].Peer, res.Ports[i].Module = st.ProfileSource, st.Line, st.Peer, st.Module
 				if cfg.Acceptance != nil {
 					judgeAcceptance(&res.Ports[i], ds.Series[i], st, cfg.Rules, *cfg.Acceptance)
 				}

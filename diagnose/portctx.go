@@ -327,6 +327,18 @@ func (pc *portCtx) analyseSeries() {
 		an.RxPowerTrend = tr
 	}
 
+	if pc.darkCount > 0 {
+		d := make([]float64, pc.n)
+		for i, x := range pc.dark {
+			if x {
+				d[i] = 1
+			}
+		}
+		for _, run := range series.Runs(s.TimesMs, d, 0.5, 0) {
+			an.DarkRuns = append(an.DarkRuns, toInterval(run))
+		}
+	}
+
 	// BER bursts.
 	if pc.ber != nil {
 		med := pc.summaryOf(pc.lit(pc.ber), parse.PreFECBER).P50

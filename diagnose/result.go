@@ -89,6 +89,10 @@ type Result struct {
 	Inputs   []parse.InputStats `json:"inputs"`
 	Ports    []PortResult       `json:"ports"`
 	Rejected []parse.Rejection  `json:"rejected"`
+
+	// Lines holds what the channels sharing a fibre line show together (diagnose/line), when
+	// a port map names the lines; before Ports in every report.
+	Lines []LineResult `json:"lines,omitempty"`
 }
 
 // PortResult is the judgement of one port.
@@ -127,6 +131,13 @@ type PortResult struct {
 	// ProfileSource says what chose the profile: ProfileFromMap, ProfileFromColumn,
 	// ProfileFromFlag or ProfileAssumed ("" when the caller did not say).
 	ProfileSource string `json:"profile_source,omitempty"`
+	// Topology from the port map: the fibre line the port receives on, the port of the
+	// circuit's other direction, the module's identity, and the line findings that explain
+	// (part of) what the port shows.
+	Line         string    `json:"line,omitempty"`
+	Peer         string    `json:"peer,omitempty"`
+	Module       *ModuleID `json:"module,omitempty"`
+	LineFindings []LineRef `json:"line_findings,omitempty"`
 }
 
 // Cause is one likely physical cause with the evidence for it.

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -123,6 +124,7 @@ func writeWrapped(w io.Writer, first, rest string, text string, width int) {
 // measured, likely causes with evidence and actions, and what could not be judged; then the
 // inputs and the first rejected rows.
 func WriteCheckText(w io.Writer, res *diagnose.Result) error {
+	writeLinesText(w, res.Lines)
 	for i, p := range res.Ports {
 		if i > 0 {
 			fmt.Fprintln(w)
@@ -297,6 +299,8 @@ type TriageRow struct {
 	Dark          int    // samples without signal (their Q and power are left out of the figures)
 	Summary       string // first evidence sentence of the top cause
 	Impact        string // the service-impact rung and its figure (ImpactText)
+	// LineFindings are the ids of the line findings the port points at.
+	LineFindings []string
 }
 
 // ImpactText says in a few words why a port ranks where it does (diagnose.SortByImpact).
@@ -335,6 +339,11 @@ func TriageRows(ports []diagnose.PortResult) []TriageRow {
 				r.Others = append(r.Others, c.ID)
 			}
 		}
+		for _, lf := range p.LineFindings {
+			if !slices.Contains(r.LineFindings, lf.ID) {
+				r.LineFindings = append(r.LineFindings, lf.ID)
+			}
+		}
 		if m, ok := p.Metrics["q_db"]; ok {
 			r.QMarginDB = m.Margin
 		}
@@ -359,15 +368,23 @@ type CauseCount struct {
 	Ports int    `json:"ports"`
 }
 
-// CountCauses counts each cause over ports, most frequent on top first.
+// CountCauses counts each cause over ports, most frequent on top first. A cause that a line
+// finding explains on the port is counted under the line finding's id: one line event, not N
+// port causes.
 func CountCauses(ports []diagnose.PortResult) []CauseCount {
 	m := map[string]*CauseCount{}
 	for _, p := range ports {
 		for i, c := range p.Causes {
-			cc := m[c.ID]
+			id := c.ID
+			for _, lf := range p.LineFindings {
+				if lf.Explains == c.ID {
+					id = lf.ID
+				}
+			}
+			cc := m[id]
 			if cc == nil {
-				cc = &CauseCount{ID: c.ID}
-				m[c.ID] = cc
+				cc = &CauseCount{ID: id}
+				m[id] = cc
 			}
 			cc.Ports++
 			if i == 0 {
@@ -420,9 +437,16 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintln(w)
+	writeLinesText(w, res.Lines)
+	rows := TriageRows(shown)
+	withLines := slices.ContainsFunc(rows, func(r TriageRow) bool { return len(r.LineFindings) > 0 })
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "  #\tport\tverdict\timpact\ttop cause\tconfidence\talso\tQ margin\trx power\tsamples\t")
-	for _, r := range TriageRows(shown) {
+	lineHead := ""
+	if withLines {
+		lineHead = "line finding\t"
+	}
+	fmt.Fprintln(tw, "  #\tport\tverdict\timpact\ttop cause\tconfidence\talso\t"+lineHead+"Q margin\trx power\tsamples\t")
+	for _, r := range rows {
 		cause, conf := "—", ""
 		if r.Cause != "" {
 			cause, conf = escape.Visible(r.Cause), fmt.Sprintf("%.2f", r.Confidence)
@@ -433,6 +457,9 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 			// The Q figures come from the samples with signal: say so, and show the dark time.
 			qm += " (lit)"
 			samples += fmt.Sprintf(", %d dark", r.Dark)
+		}
+		if withLines {
+			also += "\t" + escape.Visible(strings.Join(r.LineFindings, ", "))
 		}
 		fmt.Fprintf(tw, "  %d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t\n", r.Rank, escape.Visible(r.Port), verdictWord(r.Verdict), r.Impact, cause, conf, also,
 			qm, optValue(r.RxPowerDBm, "dBm", false), samples)
@@ -485,11 +512,12 @@ func WriteTriageCSV(w io.Writer, shown []diagnose.PortResult) error {
 }
 
 // WriteTriageMarkdown writes the ranked table and the count per cause as Markdown, for tickets.
-func WriteTriageMarkdown(w io.Writer, shown, all []diagnose.PortResult) error {
+func WriteTriageMarkdown(w io.Writer, lines []diagnose.LineResult, shown, all []diagnose.PortResult) error {
 	v := TriageSummary(all)
 	fmt.Fprintf(w, "## Triage: %d ports — %d fail, %d marginal, %d pass, %d no data\n\n", len(all), v[diagnose.Fail], v[diagnose.Marginal], v[diagnose.Pass], v[diagnose.NoData])
-	fmt.Fprintln(w, "| # | port | verdict | impact | top cause | confidence | also | Q margin | rx power (p50) | evidence |")
-	fmt.Fprintln(w, "|---:|---|---|---|---|---:|---|---:|---:|---|")
+	writeLinesMarkdown(w, lines)
+	fmt.Fprintln(w, "| # | port | verdict | impact | top cause | confidence | also | line finding | Q margin | rx power (p50) | evidence |")
+	fmt.Fprintln(w, "|---:|---|---|---|---|---:|---|---|---:|---:|---|")
 	for _, r := range TriageRows(shown) {
 		conf := ""
 		if r.Cause != "" {
@@ -499,8 +527,8 @@ func WriteTriageMarkdown(w io.Writer, shown, all []diagnose.PortResult) error {
 		if r.Dark > 0 {
 			qm += fmt.Sprintf(" (lit; %d samples dark)", r.Dark)
 		}
-		fmt.Fprintf(w, "| %d | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", r.Rank, escape.Markdown(r.Port), verdictWord(r.Verdict), r.Impact,
-			escape.Markdown(r.Cause), conf, escape.Markdown(strings.Join(r.Others, ", ")), qm, optValue(r.RxPowerDBm, "dBm", false), escape.Markdown(r.Summary))
+		fmt.Fprintf(w, "| %d | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", r.Rank, escape.Markdown(r.Port), verdictWord(r.Verdict), r.Impact,
+			escape.Markdown(r.Cause), conf, escape.Markdown(strings.Join(r.Others, ", ")), escape.Markdown(strings.Join(r.LineFindings, ", ")), qm, optValue(r.RxPowerDBm, "dBm", false), escape.Markdown(r.Summary))
 	}
 	fmt.Fprintln(w, "\n### Ports per cause")
 	fmt.Fprintln(w)

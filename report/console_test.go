@@ -67,7 +67,7 @@ func TestConsoleTriageCSVAndMarkdown(t *testing.T) {
 		t.Errorf("CSV rows = %q", rows)
 	}
 	b.Reset()
-	WriteTriageMarkdown(&b, consolePorts()[:1], consolePorts())
+	WriteTriageMarkdown(&b, nil, consolePorts()[:1], consolePorts())
 	md := b.String()
 	if !strings.Contains(md, `a\|1`) || !strings.Contains(md, "3 ports — 1 fail, 1 marginal, 1 pass") {
 		t.Errorf("markdown:\n%s", md)

@@ -121,6 +121,14 @@ type Rules struct {
 	// read; the posterior is normalised over them, so they need not add up to 1.
 	Priors Priors `yaml:"priors" json:"priors"`
 
+	// Lines (channels sharing a fibre line).
+
+	// OSNRStepDB: a change point in a channel's OSNR at least this large is a step.
+	OSNRStepDB float64 `yaml:"osnr_step_db" json:"osnr_step_db"`
+	// LineFindingMinConfidence: channels changing together are a line finding when the
+	// probability that they did so by chance is below 1 − this.
+	LineFindingMinConfidence float64 `yaml:"line_finding_min_confidence" json:"line_finding_min_confidence"`
+
 	// Sources names where each value comes from, keyed by its YAML name.
 	Sources map[string]string `yaml:"sources" json:"sources"`
 }
@@ -238,6 +246,8 @@ func (r Rules) Validate() error {
 		{"posterior_temperature", r.PosteriorTemperature, 0.05, 20, ""},
 		{"correlation_min_spearman", r.CorrelationMinSpearman, 0.05, 1, ""},
 		{"min_samples_for_trend", float64(r.MinSamplesForTrend), 3, 1e7, "samples"},
+		{"osnr_step_db", r.OSNRStepDB, 0.1, 30, "dB"},
+		{"line_finding_min_confidence", r.LineFindingMinConfidence, 0.5, 0.999999, ""},
 	}
 	checks = append(checks, r.Acceptance.checks()...)
 	checks = append(checks, r.Priors.checks()...)

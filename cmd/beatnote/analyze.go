@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"github.com/beatnote/beatnote/diagnose"
+	"github.com/beatnote/beatnote/diagnose/line"
 	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/rules"
 	"github.com/schollz/progressbar/v3"
@@ -199,6 +200,7 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	if err != nil {
 		return nil, err
 	}
+	line.Reason(res, rs)
 	return &analysis{DS: ds, Result: res, ReadErr: readErr}, nil
 }
 
@@ -264,6 +266,10 @@ func portMapLookup(pm *rules.PortMap, profiles []rules.Profile, flagProfile stri
 				return nil, fmt.Errorf("port map %s line %d: %w", pm.File, e.Line, err)
 			}
 			st.Profile, st.ProfileSource = p, src
+		}
+		st.Line, st.Peer = e.FibreLine, e.Peer
+		if e.PartNumber != "" || e.Serial != "" || e.Firmware != "" {
+			st.Module = &diagnose.ModuleID{PartNumber: e.PartNumber, Serial: e.Serial, Firmware: e.Firmware}
 		}
 		setups[i] = st
 	}

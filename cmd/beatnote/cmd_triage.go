@@ -111,7 +111,7 @@ func (c *TriageCmd) Run(g *Globals, pr *printer) error {
 	case "csv":
 		err = report.WriteTriageCSV(pr.Out(), shown)
 	case "markdown":
-		err = report.WriteTriageMarkdown(pr.Out(), shown, all)
+		err = report.WriteTriageMarkdown(pr.Out(), res.Lines, shown, all)
 	default:
 		err = report.WriteTriageText(pr.Out(), res, shown, all)
 	}

@@ -8,6 +8,7 @@ import (
 	"slices"
 	"strings"
 	"testing"
+	"time"
 )
 
 // The demo logs in samples/ were generated for a stated verdict and causes (samples/manifest.yaml).
@@ -164,5 +165,104 @@ func TestTriageImpactOrderOnDemoSamples(t *testing.T) {
 	byPort := run("--sort", "port")
 	if !slices.IsSortedFunc(byPort, func(a, b port) int { return strings.Compare(a.Port, b.Port) }) {
 		t.Errorf("--sort port: not in port order")
+	}
+}
+
+// Every event the generator put on a demo network line comes out of triage as exactly one line
+// finding of the expected id, on every channel of the line, starting within two minutes of the
+// event; a line without events has none (samples/network/manifest.yaml).
+func TestTriageLineFindingsOnDemoNetwork(t *testing.T) {
+	root := filepath.Join("..", "..", "samples", "network")
+	raw, err := os.ReadFile(filepath.Join(root, "manifest.yaml"))
+	if err != nil {
+		t.Skipf("no demo network: %v", err)
+	}
+	var man struct {
+		Lines []struct {
+			Line   string   `yaml:"line"`
+			Ports  []string `yaml:"ports"`
+			Events []struct {
+				From    time.Time `yaml:"from"`
+				Finding string    `yaml:"finding"`
+			} `yaml:"events"`
+		} `yaml:"lines"`
+	}
+	if err := yaml.Unmarshal(raw, &man); err != nil {
+		t.Fatal(err)
+	}
+	code, out, errw := runCLI(t, "triage", root, "--map", filepath.Join(root, "portmap.yaml"), "--format", "json")
+	if code != 1 {
+		t.Fatalf("exit %d, want 1 (%s)", code, errw)
+	}
+	type lineJSON struct {
+		Line     string   `json:"line"`
+		Ports    []string `json:"ports"`
+		Findings []struct {
+			ID            string    `json:"id"`
+			Confidence    float64   `json:"confidence"`
+			From          time.Time `json:"from"`
+			PortsAffected []string  `json:"ports_affected"`
+			Evidence      []string  `json:"evidence"`
+		} `json:"findings"`
+	}
+	var res struct {
+		Lines []lineJSON `json:"lines"`
+		Ports []struct {
+			Port         string `json:"port"`
+			LineFindings []struct {
+				Line, ID string
+			} `json:"line_findings"`
+		} `json:"ports"`
+	}
+	if err := json.Unmarshal([]byte(out), &res); err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Lines) != len(man.Lines) {
+		t.Fatalf("%d lines, the manifest has %d", len(res.Lines), len(man.Lines))
+	}
+	events := 0
+	for _, want := range man.Lines {
+		i := slices.IndexFunc(res.Lines, func(l lineJSON) bool {
+			return l.Line == want.Line
+		})
+		if i < 0 {
+			t.Errorf("line %s missing", want.Line)
+			continue
+		}
+		got := res.Lines[i]
+		if len(got.Findings) != len(want.Events) {
+			t.Errorf("%s: %d findings, want %d (one per event)", want.Line, len(got.Findings), len(want.Events))
+		}
+		for _, ev := range want.Events {
+			events++
+			n := 0
+			for _, f := range got.Findings {
+				if f.ID != ev.Finding {
+					continue
+				}
+				n++
+				if d := f.From.Sub(ev.From); d < -2*time.Minute || d > 2*time.Minute {
+					t.Errorf("%s %s: from %v, the event at %v", want.Line, f.ID, f.From, ev.From)
+				}
+				if !slices.Equal(f.PortsAffected, want.Ports) {
+					t.Errorf("%s %s: ports %v, want all of %v", want.Line, f.ID, f.PortsAffected, want.Ports)
+				}
+				if !(f.Confidence >= 0.95 && f.Confidence <= 1) || len(f.Evidence) == 0 {
+					t.Errorf("%s %s: confidence %g, evidence %v", want.Line, f.ID, f.Confidence, f.Evidence)
+				}
+			}
+			if n != 1 {
+				t.Errorf("%s: event %s at %v gave %d findings of that id, want exactly 1", want.Line, ev.Finding, ev.From, n)
+			}
+		}
+	}
+	if events < 4 {
+		t.Errorf("the demo network has %d line events, want at least 4", events)
+	}
+	// Ports point at their line's findings.
+	for _, p := range res.Ports {
+		if strings.HasPrefix(p.Port, "TLV-LX2/") && (len(p.LineFindings) != 1 || p.LineFindings[0].ID != "line-outage") {
+			t.Errorf("%s points at %v, want the line-outage", p.Port, p.LineFindings)
+		}
 	}
 }

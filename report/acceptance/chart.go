@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"image/color"
 	"math"
-	"slices"
 	"time"
 
 	"gonum.org/v1/plot"
@@ -15,6 +14,7 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
 
+	"github.com/beatnote/beatnote/diagnose/series"
 	"github.com/beatnote/beatnote/parse"
 )
 
@@ -149,7 +149,7 @@ func newTimePlot(title, yLabel string, spanMs int64) *plot.Plot {
 // addSeries draws a telemetry trace, broken wherever the samples stop for more than three
 // typical intervals, so that a gap in the log is not drawn as data.
 func addSeries(p *plot.Plot, ts []int64, vs []float64, label string) error {
-	gap := 3 * medianStepMs(ts)
+	gap := 3 * max(series.MedianStepMs(ts), 1)
 	start := 0
 	for i := 1; i <= len(ts); i++ {
 		if i < len(ts) && ts[i]-ts[i-1] <= gap {
@@ -173,19 +173,6 @@ func addSeries(p *plot.Plot, ts []int64, vs []float64, label string) error {
 		start = i
 	}
 	return nil
-}
-
-// medianStepMs is the median spacing of ascending times (1 for fewer than two).
-func medianStepMs(ts []int64) int64 {
-	if len(ts) < 2 {
-		return 1
-	}
-	d := make([]int64, len(ts)-1)
-	for i := range d {
-		d[i] = ts[i+1] - ts[i]
-	}
-	slices.Sort(d)
-	return max(d[len(d)/2], 1)
 }
 
 // timeTicker puts ticks on round UTC times: a step from one minute to a week chosen to give
