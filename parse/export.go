@@ -36,23 +36,60 @@ func WriteCanonicalCSV(w io.Writer, ds *Dataset) error {
 	var line []byte
 	for _, s := range ds.Series {
 		port := csvQuote(s.Port)
-		for i, t := range s.TimesMs {
-			line = append(line[:0], formatTime(t)...)
-			line = append(line, ',')
-			line = append(line, port...)
-			for _, q := range qs {
-				line = append(line, ',')
-				if col := s.Values[q]; col != nil && !math.IsNaN(col[i]) {
-					line = strconv.AppendFloat(line, col[i], 'g', -1, 64)
-				}
-			}
-			line = append(line, '\n')
+		for i := range s.TimesMs {
+			line = appendCanonicalRow(line[:0], s, i, port, qs)
 			if _, err := bw.Write(line); err != nil {
 				return err
 			}
 		}
 	}
 	return bw.Flush()
+}
+
+// appendCanonicalRow appends row i of s (port already quoted) with the columns qs and a line end.
+func appendCanonicalRow(line []byte, s *Series, i int, port string, qs []Quantity) []byte {
+	line = append(line, formatTime(s.TimesMs[i])...)
+	line = append(line, ',')
+	line = append(line, port...)
+	for _, q := range qs {
+		line = append(line, ',')
+		if col := s.Values[q]; col != nil && !math.IsNaN(col[i]) {
+			line = strconv.AppendFloat(line, col[i], 'g', -1, 64)
+		}
+	}
+	return append(line, '\n')
+}
+
+// CSVRecorder writes canonical CSV as samples arrive: the header names every quantity, and
+// each call writes its rows to the underlying writer at once (no buffering), so a session cut
+// short leaves a file that ends with a whole row and reads back like any export.
+type CSVRecorder struct {
+	w    io.Writer
+	qs   []Quantity
+	line []byte
+}
+
+// NewCSVRecorder writes the header to w.
+func NewCSVRecorder(w io.Writer) (*CSVRecorder, error) {
+	r := &CSVRecorder{w: w}
+	header := []string{"time", "port"}
+	for q := Quantity(0); q < NumQuantities; q++ {
+		r.qs = append(r.qs, q)
+		header = append(header, q.Column())
+	}
+	_, err := io.WriteString(w, strings.Join(header, ",")+"\n")
+	return r, err
+}
+
+// WriteSeries writes every row of s in one write.
+func (r *CSVRecorder) WriteSeries(s *Series) error {
+	r.line = r.line[:0]
+	port := csvQuote(s.Port)
+	for i := range s.TimesMs {
+		r.line = appendCanonicalRow(r.line, s, i, port, r.qs)
+	}
+	_, err := r.w.Write(r.line)
+	return err
 }
 
 // csvQuote quotes a field when it holds a comma, a quote, surrounding spaces or a value that

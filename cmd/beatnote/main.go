@@ -29,6 +29,7 @@ type CLI struct {
 	Check    CheckCmd    `cmd:"" help:"Judge one circuit at turn-up or acceptance."`
 	Triage   TriageCmd   `cmd:"" help:"Rank many ports worst first, each with its likely cause."`
 	Report   ReportCmd   `cmd:"" help:"Write an acceptance report (PDF, Markdown or JSON), optionally signed."`
+	Watch    WatchCmd    `cmd:"" help:"Follow a module live over gNMI at turn-up: judge and record as samples arrive."`
 	Verify   VerifyCmd   `cmd:"" help:"Check a signed report against its signature and inputs."`
 	Keygen   KeygenCmd   `cmd:"" help:"Create an Ed25519 key pair for signing reports."`
 	Calc     CalcCmd     `cmd:"" help:"Field calculator for the link physics."`
