@@ -16,6 +16,7 @@ import (
 	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/parse/gnmisub"
 	"github.com/beatnote/beatnote/report"
+	"github.com/beatnote/beatnote/report/escape"
 	"golang.org/x/term"
 )
 
@@ -230,7 +231,7 @@ func (ws *watchSession) draw() {
 	}
 	fmt.Fprintf(&b, "Watching %s over gNMI (%s), every %v — %d samples, %d rows", ws.c.Target, ws.transport, ws.c.Interval, ws.samples, ws.rows)
 	if ws.rejected > 0 {
-		fmt.Fprintf(&b, ", %d rejected (last: %s)", ws.rejected, termSafe(ws.lastRej))
+		fmt.Fprintf(&b, ", %d rejected (last: %s)", ws.rejected, escape.Visible(ws.lastRej))
 	}
 	b.WriteString("\n")
 	if ws.result != nil {
@@ -241,14 +242,14 @@ func (ws *watchSession) draw() {
 				continue
 			}
 			observed, required := secs(tp.ObservedS), secs(tp.RequiredS)
-			fmt.Fprintf(&b, "Soak %s: %s of %s watched, %.1f %% of sample slots used", termSafe(p.Port), clock(observed), clock(required), 100*tp.Fraction)
+			fmt.Fprintf(&b, "Soak %s: %s of %s watched, %.1f %% of sample slots used", escape.Visible(p.Port), clock(observed), clock(required), 100*tp.Fraction)
 			switch {
 			case tp.Complete:
 				b.WriteString(" — test period complete")
 			case observed < required:
 				fmt.Fprintf(&b, " — %s to go", clock(required-observed))
 			default:
-				fmt.Fprintf(&b, " — %s", termSafe(tp.Shortfall))
+				fmt.Fprintf(&b, " — %s", escape.Visible(tp.Shortfall))
 			}
 			b.WriteString("\n")
 		}
@@ -274,14 +275,4 @@ func secs(s float64) time.Duration { return time.Duration(s * float64(time.Secon
 func clock(d time.Duration) string {
 	d = d.Round(time.Second)
 	return fmt.Sprintf("%d:%02d:%02d", int(d.Hours()), int(d.Minutes())%60, int(d.Seconds())%60)
-}
-
-// termSafe replaces control characters in text from the module.
-func termSafe(s string) string {
-	return strings.Map(func(r rune) rune {
-		if r < 0x20 || r == 0x7f || (r >= 0x80 && r < 0xa0) {
-			return '?'
-		}
-		return r
-	}, s)
 }
