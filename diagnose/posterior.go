@@ -55,7 +55,7 @@ type noiseState int
 const (
 	noiseUnknown  noiseState = iota - 1
 	noiseClean               // median Q margin at least the marginal band, no bursts
-	noiseMarginal            // median Q margin inside the marginal band
+	noiseMarginal            // median (or the judged statistic of the) Q margin inside the marginal band
 	noiseFailing             // median Q below the FEC-threshold Q
 	noiseBursts              // median fine, but BER or uncorrected-block bursts
 )
@@ -229,6 +229,8 @@ func (pc *portCtx) observe() observables {
 			o.noise = noiseMarginal
 		case len(pc.an.BERBursts) > 0 || pc.litBlockBursts() > 0:
 			o.noise = noiseBursts
+		case pick(pc.summaryOf(pc.lit(pc.qdb), parse.QdB), r.QStatistic)-pc.qLimitDB < r.QMarginalMarginDB:
+			o.noise = noiseMarginal // the judged statistic (min by default) is inside the band
 		default:
 			o.noise = noiseClean
 		}

@@ -114,8 +114,8 @@ type Rules struct {
 	Acceptance AcceptanceRules `yaml:"acceptance" json:"acceptance"`
 	// PosteriorTemperature divides every log-likelihood before the posterior is normalised
 	// (temperature scaling, C. Guo et al., "On calibration of modern neural networks", ICML
-	// 2017): fitted on the labelled calibration corpus so that stated probabilities match
-	// observed frequencies.
+	// 2017): fitted on the labelled calibration corpus (lowest Brier score) so that stated
+	// probabilities match observed frequencies.
 	PosteriorTemperature float64 `yaml:"posterior_temperature" json:"posterior_temperature"`
 	// Priors are the prior probabilities of each hypothesis about a port before its data is
 	// read; the posterior is normalised over them, so they need not add up to 1.
