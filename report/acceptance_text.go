@@ -135,3 +135,70 @@ func QuantityLabel(key string) string {
 	}
 	return strings.ReplaceAll(key, "_", " ")
 }
+
+// The source classes of a limit, from the firmest to the loosest claim.
+const (
+	SourceContract  = "contract value"
+	SourceStandard  = "standard"
+	SourceAgreement = "implementation agreement"
+	SourcePlan      = "link plan"
+	SourceDerived   = "derived"
+	SourcePractice  = "common practice"
+	SourceMemory    = "from memory"
+)
+
+// SourceClass sorts a limit's source text into a short class for people: a value from the
+// user's rules file is a contract value; a source recalled and not confirmed, or confirmed only
+// in a secondary text, is "from memory" whatever it cites; then link plan, common practice,
+// implementation agreement (OIF, MSA), standard (ITU-T, IEC, IEEE), derived.
+func SourceClass(src string) string {
+	s := strings.ToLower(src)
+	has := func(words ...string) bool {
+		for _, w := range words {
+			if strings.Contains(s, w) {
+				return true
+			}
+		}
+		return false
+	}
+	switch {
+	case has("user rules file"):
+		return SourceContract
+	case has("from memory", "secondary source"):
+		return SourceMemory
+	case strings.HasPrefix(s, "plan "):
+		return SourcePlan
+	case has("common practice"):
+		return SourcePractice
+	case has("oif", "implementation agreement", "msa"):
+		return SourceAgreement
+	case has("itu-t", "iec ", "ieee", "iso "):
+		return SourceStandard
+	case has("derived"):
+		return SourceDerived
+	}
+	return "stated"
+}
+
+// Footnotes numbers distinct source texts in the order first met, for a table that shows only
+// each limit's class with a note number.
+type Footnotes struct {
+	texts []string
+	index map[string]int
+}
+
+// Note returns the number (from 1) of text, adding it when new.
+func (f *Footnotes) Note(text string) int {
+	if f.index == nil {
+		f.index = map[string]int{}
+	}
+	if n, ok := f.index[text]; ok {
+		return n
+	}
+	f.texts = append(f.texts, text)
+	f.index[text] = len(f.texts)
+	return len(f.texts)
+}
+
+// Texts are the noted texts; note n is Texts()[n-1].
+func (f *Footnotes) Texts() []string { return f.texts }

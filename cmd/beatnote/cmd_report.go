@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/beatnote/beatnote/diagnose"
@@ -245,10 +246,16 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 	for _, st := range a.DS.Inputs {
 		in.files = append(in.files, st.File)
 	}
-	for _, extra := range []string{c.Plan, c.Profiles, c.Rules} {
-		if extra != "" {
-			in.files = append(in.files, extra)
+	for _, f := range []struct{ role, path string }{{"link plan", c.Plan}, {"profiles", c.Profiles}, {"rules", c.Rules}} {
+		if f.path == "" {
+			continue
 		}
+		in.files = append(in.files, f.path)
+		sum, err := sign.FileSHA256(f.path)
+		if err != nil {
+			return nil, &exitError{code: 2, err: err}
+		}
+		in.Settings = append(in.Settings, acceptance.SettingsFile{Role: f.role, File: asTyped(f.path), SHA256: sum})
 	}
 	return in, nil
 }
@@ -275,6 +282,19 @@ func writeFileAtomic(path string, data []byte) error {
 		return err
 	}
 	return os.Rename(f.Name(), path)
+}
+
+// asTyped gives a path the command line made absolute back relative to the working folder, as
+// the user most likely typed it (unchanged when it lies outside that folder).
+func asTyped(path string) string {
+	wd, err := os.Getwd()
+	if err != nil {
+		return path
+	}
+	if rel, err := filepath.Rel(wd, path); err == nil && !strings.HasPrefix(rel, "..") {
+		return rel
+	}
+	return path
 }
 
 // sameFile reports whether two paths name the same existing file.

@@ -71,6 +71,15 @@ type RejectionSummary struct {
 	First []parse.Rejection `json:"first"` // at most MaxRejectionsShown
 }
 
+// SettingsFile is a file the judgement was made with besides the telemetry — the link plan, the
+// port map, a profiles or rules file — with its SHA-256, so the report names exactly what it
+// was judged against.
+type SettingsFile struct {
+	Role   string `json:"role"` // "link plan", "port map", "profiles", "rules"
+	File   string `json:"file"`
+	SHA256 string `json:"sha256"`
+}
+
 // Signing says who signs the report with which key. The fingerprint is printed in the report;
 // the signature itself is detached (see Sign).
 type Signing struct {
@@ -96,6 +105,7 @@ type Report struct {
 	Plan        *PlanSummary          `json:"plan,omitempty"`
 	Ports       []diagnose.PortResult `json:"ports"` // the engine's judgements; empty actions filled from DefaultActions
 	Inputs      []parse.InputStats    `json:"inputs"`
+	Settings    []SettingsFile        `json:"settings_files,omitempty"`
 	Rejected    RejectionSummary      `json:"rejected"`
 	Safety      SafetySection         `json:"safety"`
 	SignOff     SignOff               `json:"sign_off"`
@@ -121,6 +131,8 @@ type Input struct {
 	Fields  SignOff
 	Time    time.Time // report time; the zero time is refused (determinism is the caller's choice)
 	Signing *Signing  // nil when the report is not signed
+	// Settings are the plan, map, profiles and rules files used, with their SHA-256.
+	Settings []SettingsFile
 	// Marks holds chart annotations per port (change points, bursts, trend, DGD fit). Ports
 	// not listed take theirs from PortResult.Analysis when the engine filled it in.
 	Marks map[string]ChartMarks
@@ -144,6 +156,7 @@ func New(in Input) (*Report, error) {
 		Version:     in.Result.Version,
 		GeneratedAt: in.Time.UTC().Format(time.RFC3339),
 		Inputs:      append([]parse.InputStats(nil), in.Result.Inputs...),
+		Settings:    in.Settings,
 		SignOff:     in.Fields,
 		Signing:     in.Signing,
 		series:      map[string]*parse.Series{},

@@ -139,10 +139,19 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 			p("%s\n\n", mdText(f))
 		}
 		if len(port.Criteria) > 0 {
-			p("### Criteria\n\n| criterion | statistic | measured | limit | margin | verdict |\n| --- | --- | ---: | ---: | ---: | --- |\n")
+			p("### Criteria\n\n| criterion | statistic | measured | limit | margin | verdict | limit source |\n| --- | --- | ---: | ---: | ---: | --- | --- |\n")
+			var notes report.Footnotes
 			for _, c := range port.Criteria {
-				p("| %s | %s | %s | %s | %s | %s |\n", mdCell(c.Name), mdCell(c.Statistic), report.FormatValue(c.Measured, c.Unit),
-					report.FormatValue(c.Limit, c.Unit), report.CriterionMargin(c), VerdictWords(c.Verdict))
+				src := ""
+				if c.Source != "" {
+					src = fmt.Sprintf("%s [%d]", report.SourceClass(c.Source), notes.Note(c.Source))
+				}
+				p("| %s | %s | %s | %s | %s | %s | %s |\n", mdCell(c.Name), mdCell(c.Statistic), report.FormatValue(c.Measured, c.Unit),
+					report.FormatValue(c.Limit, c.Unit), report.CriterionMargin(c), strings.ToLower(VerdictWords(c.Verdict)), src)
+			}
+			p("\n")
+			for i, t := range notes.Texts() {
+				p("[%d] %s  \n", i+1, mdText(t))
 			}
 			p("\n")
 		}
@@ -208,6 +217,13 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 		p("| %s | `%s` | %d | %d | %d |\n", mdCell(in.File), in.SHA256, in.RowsRead, in.RowsUsed, in.RowsRejected)
 	}
 	p("\n")
+	if len(a.Settings) > 0 {
+		p("| judged with | file | SHA-256 |\n| --- | --- | --- |\n")
+		for _, f := range a.Settings {
+			p("| %s | %s | `%s` |\n", f.Role, mdCell(f.File), f.SHA256)
+		}
+		p("\n")
+	}
 	if a.Rejected.Total > 0 {
 		p("%d row(s) rejected; the first %d:\n\n", a.Rejected.Total, len(a.Rejected.First))
 		for _, r := range a.Rejected.First {

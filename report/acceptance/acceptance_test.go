@@ -335,3 +335,47 @@ func lowBytes(s string) string {
 	}
 	return b.String()
 }
+
+// pageTexts extracts the plain text of each page.
+func pageTexts(t *testing.T, data []byte) []string {
+	t.Helper()
+	r, err := pdf.NewReader(bytes.NewReader(data), int64(len(data)))
+	if err != nil {
+		t.Fatalf("read back PDF: %v", err)
+	}
+	var out []string
+	for i := 1; i <= r.NumPage(); i++ {
+		var b strings.Builder
+		if p := r.Page(i); !p.V.IsNull() {
+			rows, err := p.GetTextByRow()
+			if err != nil {
+				t.Fatalf("page %d: %v", i, err)
+			}
+			for _, row := range rows {
+				for _, w := range row.Content {
+					b.WriteString(w.S)
+				}
+				b.WriteByte('\n')
+			}
+		}
+		out = append(out, b.String())
+	}
+	return out
+}
+
+// The signature lines never stand alone on a page: whatever the length of the notes before them,
+// the page that holds them also holds the sign-off heading and its fields.
+func TestSignatureBlockStaysWithItsFields(t *testing.T) {
+	for words := 0; words <= 600; words += 40 {
+		a := fixtureAcceptance(t, SignOff{Technician: "Field Tech One", Notes: strings.Repeat("note ", words)}, nil)
+		var buf bytes.Buffer
+		if err := a.WritePDF(&buf, PDFOptions{}); err != nil {
+			t.Fatal(err)
+		}
+		for i, p := range pageTexts(t, buf.Bytes()) {
+			if strings.Contains(p, "Handed over by") && !(strings.Contains(p, "Sign-off") && strings.Contains(p, "Field Tech One")) {
+				t.Errorf("%d words of notes: the signature lines on page %d stand apart from the sign-off fields", words, i+1)
+			}
+		}
+	}
+}

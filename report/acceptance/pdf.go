@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"fmt"
 	"io"
+	"math"
 	"sort"
 	"strings"
 	"time"
@@ -267,50 +268,62 @@ func (pw *pdfWriter) causeList(label, mark string, items, notes []string) {
 	}
 }
 
-// verdictColours gives a light fill and a strong colour per verdict; the word and the drawn mark
-// carry the meaning, colour only helps.
-func verdictColours(v diagnose.Verdict) (fill, strong [3]int) {
-	switch v {
-	case diagnose.Pass:
-		return [3]int{0xdf, 0xf2, 0xe1}, [3]int{0x1e, 0x7b, 0x34}
-	case diagnose.Marginal:
-		return [3]int{0xfd, 0xf0, 0xd5}, [3]int{0xa0, 0x5a, 0x00}
-	case diagnose.Fail:
-		return [3]int{0xfb, 0xe0, 0xe0}, [3]int{0xb0, 0x1c, 0x1c}
+// footnotes writes numbered notes in small type under a table.
+func (pw *pdfWriter) footnotes(texts []string) {
+	pdf := pw.pdf
+	for i, t := range texts {
+		pdf.SetFont("sans", "", pdfSmallSize)
+		line := fmt.Sprintf("[%d] %s", i+1, t)
+		pw.ensure(3.2 * float64(len(pdf.SplitText(pw.text(line), pw.contentW))))
+		pdf.MultiCell(pw.contentW, 3.2, pw.text(line), "", "L", false)
 	}
-	return [3]int{0xea, 0xea, 0xea}, [3]int{0x55, 0x55, 0x55}
+	pdf.Ln(2)
 }
 
-// verdictMark draws a shape for a verdict in a square of side s at (x, y): a tick for pass,
-// an exclamation mark in a triangle for marginal, a cross for fail, a dash in a circle for no
-// data.
-func (pw *pdfWriter) verdictMark(v diagnose.Verdict, x, y, s float64) {
+// marginBarW is the width of a margin bar, mm: marginBarBeyond of it for a margin beyond the
+// limit, the rest for the headroom inside it.
+const (
+	marginBarW      = 16.0
+	marginBarBeyond = 5.0
+)
+
+// marginBar draws a criterion's margin at (x, y), height h: a track with a tick at the limit, a
+// grey bar to the right of the tick for headroom inside the limit, a black bar to its left for
+// a margin beyond it. f is marginFraction's value; NaN draws the track only.
+func (pw *pdfWriter) marginBar(x, y, h, f float64) {
 	pdf := pw.pdf
-	_, c := verdictColours(v)
-	pdf.SetDrawColor(c[0], c[1], c[2])
-	pdf.SetFillColor(c[0], c[1], c[2])
-	pdf.SetLineWidth(s * 0.12)
+	tick := x + marginBarBeyond
+	pdf.SetDrawColor(0xb0, 0xb0, 0xb0)
+	pdf.SetLineWidth(0.15)
+	pdf.Rect(x, y, marginBarW, h, "D")
+	switch {
+	case f > 0:
+		pdf.SetFillColor(0x8a, 0x8a, 0x8a)
+		pdf.Rect(tick, y, f*(marginBarW-marginBarBeyond), h, "F")
+	case f < 0:
+		pdf.SetFillColor(0, 0, 0)
+		w := -f * marginBarBeyond
+		pdf.Rect(tick-w, y, w, h, "F")
+	}
+	pdf.SetDrawColor(0, 0, 0)
+	pdf.SetLineWidth(0.35)
+	pdf.Line(tick, y-0.6, tick, y+h+0.6)
+	pdf.SetLineWidth(0.2)
+}
+
+// warningTriangle draws the exclamation mark in a triangle of the laser-safety section in a
+// square of side s at (x, y).
+func (pw *pdfWriter) warningTriangle(x, y, s float64) {
+	pdf := pw.pdf
+	pdf.SetDrawColor(0x33, 0x33, 0x33)
+	pdf.SetFillColor(0x33, 0x33, 0x33)
 	pdf.SetLineCapStyle("round")
 	pdf.SetLineJoinStyle("round")
-	switch v {
-	case diagnose.Pass:
-		pdf.Line(x+0.15*s, y+0.55*s, x+0.4*s, y+0.8*s)
-		pdf.Line(x+0.4*s, y+0.8*s, x+0.88*s, y+0.2*s)
-	case diagnose.Fail:
-		pdf.Line(x+0.2*s, y+0.2*s, x+0.8*s, y+0.8*s)
-		pdf.Line(x+0.8*s, y+0.2*s, x+0.2*s, y+0.8*s)
-	case diagnose.Marginal:
-		pdf.SetLineWidth(s * 0.07)
-		pdf.Polygon([]fpdf.PointType{{X: x + 0.5*s, Y: y + 0.08*s}, {X: x + 0.95*s, Y: y + 0.9*s}, {X: x + 0.05*s, Y: y + 0.9*s}}, "D")
-		pdf.SetLineWidth(s * 0.1)
-		pdf.Line(x+0.5*s, y+0.35*s, x+0.5*s, y+0.62*s)
-		pdf.Circle(x+0.5*s, y+0.76*s, s*0.045, "F")
-	default:
-		pdf.SetLineWidth(s * 0.07)
-		pdf.Circle(x+0.5*s, y+0.5*s, 0.42*s, "D")
-		pdf.SetLineWidth(s * 0.1)
-		pdf.Line(x+0.3*s, y+0.5*s, x+0.7*s, y+0.5*s)
-	}
+	pdf.SetLineWidth(s * 0.07)
+	pdf.Polygon([]fpdf.PointType{{X: x + 0.5*s, Y: y + 0.08*s}, {X: x + 0.95*s, Y: y + 0.9*s}, {X: x + 0.05*s, Y: y + 0.9*s}}, "D")
+	pdf.SetLineWidth(s * 0.1)
+	pdf.Line(x+0.5*s, y+0.35*s, x+0.5*s, y+0.62*s)
+	pdf.Circle(x+0.5*s, y+0.76*s, s*0.045, "F")
 	pdf.SetLineWidth(0.2)
 	pdf.SetDrawColor(0, 0, 0)
 }
@@ -323,8 +336,9 @@ type column struct {
 	mono  bool
 	// subdued draws every paragraph after the first smaller and in grey (sources, notes).
 	subdued bool
-	// verdict draws the cell (a verdict word) bold in the verdict's colour.
-	verdict bool
+	// bars, when set, holds one margin fraction per row (marginFraction; NaN for none): the
+	// cell draws a margin bar before its text.
+	bars []float64
 }
 
 // cellLine is one wrapped line of a table cell.
@@ -367,7 +381,7 @@ func (pw *pdfWriter) table(cols []column, rows [][]string, size float64) {
 			var lines []cellLine
 			for k, para := range strings.Split(txt, "\n") {
 				sub := c.subdued && k > 0 && !bold
-				setFont(c, bold || c.verdict, sub)
+				setFont(c, bold, sub)
 				sl := pdf.SplitText(para, widths[i])
 				if len(sl) == 0 {
 					sl = []string{""}
@@ -381,7 +395,7 @@ func (pw *pdfWriter) table(cols []column, rows [][]string, size float64) {
 		}
 		return out, n
 	}
-	draw := func(cells [][]cellLine, from, to int, bold, fill bool) {
+	draw := func(cells [][]cellLine, from, to int, bold, fill bool, row int) {
 		x0, y0 := pdfMargin, pdf.GetY()
 		h := float64(to-from)*lineH + 2*padY
 		x := x0
@@ -393,18 +407,21 @@ func (pw *pdfWriter) table(cols []column, rows [][]string, size float64) {
 			pdf.SetDrawColor(190, 190, 190)
 			pdf.SetLineWidth(0.2)
 			pdf.Rect(x, y0, widths[i], h, "D")
+			textX, textW := x, widths[i]
+			if c.bars != nil && !bold && row < len(c.bars) {
+				if from == 0 {
+					pw.marginBar(x+1.2, y0+padY+0.25*lineH, lineH*0.55, c.bars[row])
+				}
+				textX, textW = x+marginBarW+2.4, widths[i]-marginBarW-2.4
+			}
 			for j := from; j < to && j < len(cells[i]); j++ {
 				line := cells[i][j]
-				setFont(c, bold || c.verdict, line.sub)
-				switch {
-				case c.verdict && !bold:
-					_, col := verdictColours(verdictFromWords(line.text))
-					pdf.SetTextColor(col[0], col[1], col[2])
-				case line.sub:
+				setFont(c, bold, line.sub)
+				if line.sub {
 					pdf.SetTextColor(95, 95, 95)
 				}
-				pdf.SetXY(x, y0+padY+float64(j-from)*lineH)
-				pdf.CellFormat(widths[i], lineH, line.text, "", 0, c.align, false, 0, "")
+				pdf.SetXY(textX, y0+padY+float64(j-from)*lineH)
+				pdf.CellFormat(textW, lineH, line.text, "", 0, c.align, false, 0, "")
 				pdf.SetTextColor(0, 0, 0)
 			}
 			x += widths[i]
@@ -422,32 +439,22 @@ func (pw *pdfWriter) table(cols []column, rows [][]string, size float64) {
 	// Lines a fresh page holds below the running header and the table header.
 	pageLines := int((limit - pdfMargin - 9 - headH - 2*padY) / lineH)
 	pw.ensure(headH + 2*lineH + 3)
-	draw(head, 0, headN, true, true)
-	for _, r := range rows {
+	draw(head, 0, headN, true, true, -1)
+	for ri, r := range rows {
 		cells, n := layout(r, false)
 		for from := 0; from < n; {
 			avail := int((limit - pdf.GetY() - 2*padY) / lineH)
 			if avail < 1 || (from == 0 && n <= pageLines && avail < n) {
 				pdf.AddPage()
-				draw(head, 0, headN, true, true)
+				draw(head, 0, headN, true, true, -1)
 				continue
 			}
 			to := min(n, from+avail)
-			draw(cells, from, to, false, false)
+			draw(cells, from, to, false, false, ri)
 			from = to
 		}
 	}
 	pdf.Ln(2)
-}
-
-// verdictFromWords maps VerdictWords back to the verdict (NoData for anything else).
-func verdictFromWords(s string) diagnose.Verdict {
-	for _, v := range []diagnose.Verdict{diagnose.Pass, diagnose.Marginal, diagnose.Fail} {
-		if VerdictWords(v) == s {
-			return v
-		}
-	}
-	return diagnose.NoData
 }
 
 func (pw *pdfWriter) body() error {
@@ -461,31 +468,25 @@ func (pw *pdfWriter) body() error {
 	pdf.MultiCell(pw.contentW, 5, pw.text(a.Circuit), "", "L", false)
 	pdf.Ln(3)
 
-	// Verdict box: mark, word and meaning.
-	fill, strong := verdictColours(a.Verdict)
+	// The verdict: the word, then the sentence naming what decided it and the tally. No colour
+	// and no icon: a rule at the left sets it apart.
 	y := pdf.GetY()
-	pdf.SetFont("sans", "", pdfBodySize)
-	meaning := verdictMeaning(a.Verdict)
-	boxH := 22.0
-	pdf.SetFillColor(fill[0], fill[1], fill[2])
-	pdf.SetDrawColor(strong[0], strong[1], strong[2])
-	pdf.SetLineWidth(0.6)
-	pdf.Rect(pdfMargin, y, pw.contentW, boxH, "FD")
-	pdf.SetLineWidth(0.2)
-	pw.verdictMark(a.Verdict, pdfMargin+4, y+3, 14)
-	pdf.SetXY(pdfMargin+22, y+3)
-	pdf.SetTextColor(strong[0], strong[1], strong[2])
-	pdf.SetFont("sans", "B", 20)
-	pdf.CellFormat(pw.contentW-26, 8, "Verdict: "+VerdictWords(a.Verdict), "", 2, "L", false, 0, "")
-	pdf.SetTextColor(0, 0, 0)
-	pdf.SetFont("sans", "", pdfBodySize)
-	pdf.SetX(pdfMargin + 22)
-	pdf.MultiCell(pw.contentW-26, pdfLineH, meaning, "", "L", false)
+	pdf.SetFont("sans", "B", 15)
+	pdf.SetX(pdfMargin + 4)
+	pdf.CellFormat(pw.contentW-4, 7, "Verdict: "+VerdictWords(a.Verdict), "", 2, "L", false, 0, "")
+	pdf.SetFont("sans", "", pdfBodySize+0.5)
+	pdf.SetX(pdfMargin + 4)
+	pdf.MultiCell(pw.contentW-4, pdfLineH+0.3, pw.text(headline(a)), "", "L", false)
 	if tally := criteriaTally(a); tally != "" {
-		pdf.SetX(pdfMargin + 22)
-		pdf.MultiCell(pw.contentW-26, pdfLineH, tally, "", "L", false)
+		pdf.SetX(pdfMargin + 4)
+		pdf.SetFont("sans", "", pdfBodySize)
+		pdf.MultiCell(pw.contentW-4, pdfLineH, tally, "", "L", false)
 	}
-	pdf.SetY(y + boxH + 3)
+	pdf.SetDrawColor(0x33, 0x33, 0x33)
+	pdf.SetLineWidth(0.8)
+	pdf.Line(pdfMargin+0.4, y, pdfMargin+0.4, pdf.GetY())
+	pdf.SetLineWidth(0.2)
+	pdf.Ln(4)
 
 	// Summary.
 	profile := "not stated"
@@ -541,17 +542,9 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 	pdf := pw.pdf
 	pw.ensure(40)
 	pdf.Ln(3)
-	y := pdf.GetY()
-	pw.verdictMark(port.Verdict, pdfMargin, y, 7)
-	pdf.SetXY(pdfMargin+9, y)
 	pdf.SetFont("sans", "B", 13)
-	_, strong := verdictColours(port.Verdict)
 	pdf.SetTextColor(0x1f, 0x4e, 0x79)
-	pdf.MultiCell(pw.contentW-9, 6, pw.text("Port "+port.Port), "", "L", false)
-	pdf.SetX(pdfMargin + 9)
-	pdf.SetTextColor(strong[0], strong[1], strong[2])
-	pdf.SetFont("sans", "B", 10)
-	pdf.CellFormat(pw.contentW-9, 5, "Port verdict: "+VerdictWords(port.Verdict), "", 1, "L", false, 0, "")
+	pdf.MultiCell(pw.contentW, 6, pw.text("Port "+port.Port+" — "+VerdictWords(port.Verdict)), "", "L", false)
 	pdf.SetTextColor(0, 0, 0)
 	pw.para(fmt.Sprintf("Profile %s; %s from %s to %s.", orBlank(report.ProfileText(&port), "not stated"), report.Plural(port.Samples, "sample", "samples"), port.From, port.To), "", pdfBodySize)
 	for _, f := range portFacts(&port) {
@@ -562,18 +555,22 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 	if len(port.Criteria) > 0 {
 		pw.heading("Criteria", 11)
 		rows := make([][]string, len(port.Criteria))
+		bars := make([]float64, len(port.Criteria))
+		var notes report.Footnotes
 		for i, c := range port.Criteria {
 			name := c.Name
 			if c.Source != "" {
-				name += "\nlimit: " + c.Source
+				name += fmt.Sprintf("\nlimit: %s [%d]", report.SourceClass(c.Source), notes.Note(c.Source))
 			}
-			rows[i] = []string{name, c.Statistic, report.FormatValue(c.Measured, c.Unit), report.FormatValue(c.Limit, c.Unit), report.CriterionMargin(c), VerdictWords(c.Verdict)}
+			rows[i] = []string{name, c.Statistic, report.FormatValue(c.Measured, c.Unit), report.FormatValue(c.Limit, c.Unit), report.CriterionMargin(c), strings.ToLower(VerdictWords(c.Verdict))}
+			bars[i] = marginFraction(c)
 		}
 		pw.table([]column{
-			{title: "criterion", width: 0.37, align: "L", subdued: true}, {title: "statistic", width: 0.1, align: "L"},
-			{title: "measured", width: 0.14, align: "R"}, {title: "limit", width: 0.14, align: "R"},
-			{title: "margin", width: 0.13, align: "R"}, {title: "verdict", width: 0.12, align: "L", verdict: true},
+			{title: "criterion", width: 0.35, align: "L", subdued: true}, {title: "statistic", width: 0.08, align: "L"},
+			{title: "measured", width: 0.13, align: "R"}, {title: "limit", width: 0.13, align: "R"},
+			{title: "margin", width: 0.12, align: "R"}, {title: "margin to the limit", width: 0.19, align: "L", bars: bars},
 		}, rows, pdfBodySize-0.5)
+		pw.footnotes(notes.Texts())
 	}
 	if len(port.PlanVsMeasured) > 0 {
 		pw.heading("Plan vs measured", 11)
@@ -652,6 +649,13 @@ func (pw *pdfWriter) inputsSection() {
 		{title: "file and SHA-256", width: 0.64, align: "L", mono: true}, {title: "rows read", width: 0.12, align: "R"},
 		{title: "used", width: 0.12, align: "R"}, {title: "rejected", width: 0.12, align: "R"},
 	}, rows, pdfSmallSize+0.5)
+	if len(a.Settings) > 0 {
+		rows := make([][]string, len(a.Settings))
+		for i, f := range a.Settings {
+			rows[i] = []string{f.Role, f.File + "\nSHA-256 " + f.SHA256}
+		}
+		pw.table([]column{{title: "judged with", width: 0.2, align: "L"}, {title: "file and SHA-256", width: 0.8, align: "L", mono: true}}, rows, pdfSmallSize+0.5)
+	}
 	if a.Rejected.Total == 0 {
 		pw.para("Every row read was used; none was rejected.", "", pdfBodySize)
 		return
@@ -674,11 +678,10 @@ func (pw *pdfWriter) safetySection() {
 	pw.heading("Laser safety", 12)
 	y := pdf.GetY()
 	// A warning triangle beside the heading text block.
-	pdf.SetDrawColor(0xa0, 0x5a, 0x00)
-	pdf.SetFillColor(0xfd, 0xf0, 0xd5)
+	pdf.SetDrawColor(0x33, 0x33, 0x33)
 	pdf.SetLineWidth(0.5)
-	pdf.Rect(pdfMargin, y, pw.contentW, h-4, "FD")
-	pw.verdictMark(diagnose.Marginal, pdfMargin+2, y+2, 7)
+	pdf.Rect(pdfMargin, y, pw.contentW, h-4, "D")
+	pw.warningTriangle(pdfMargin+2, y+2, 7)
 	pdf.SetXY(pdfMargin+11, y+2)
 	pdf.SetFont("sans", "B", pdfBodySize+1)
 	pdf.CellFormat(pw.contentW-13, 5, "Hazard level: "+pw.text(a.Safety.HazardLevel)+" — invisible infrared radiation", "", 2, "L", false, 0, "")
@@ -703,7 +706,17 @@ func (pw *pdfWriter) signOffSection() {
 		{"Site, end Z", so.EndZ},
 		{"Notes", so.Notes},
 	}
-	pw.ensure(70)
+	// The heading, the fields and the signature lines stay together on one page (when they fit
+	// on one): signature lines alone on a last page sign nothing visible.
+	pdf.SetFont("sans", "", pdfBodySize)
+	need := 12.0 + 10.0 + 38.0 // heading, the table header and spacing, the signature lines
+	for _, r := range rows {
+		need += float64(max(1, len(pdf.SplitText(pw.text(r[1]), 0.78*pw.contentW-2))))*pdfBodySize*0.47 + 2*pdfCellPad*0.6
+	}
+	if len(pw.missing) > 0 {
+		need += 12
+	}
+	pw.ensure(need)
 	pw.heading("Sign-off", 12)
 	pw.table([]column{{title: "field", width: 0.22, align: "L"}, {title: "entry", width: 0.78, align: "L"}}, rows, pdfBodySize)
 	if len(pw.missing) > 0 {
@@ -720,7 +733,7 @@ func (pw *pdfWriter) signOffSection() {
 			"; these are printed as <U+XXXX> codes. The Markdown and JSON forms of this report hold the original text.", "I", pdfSmallSize+0.5)
 		pdf.Ln(1)
 	}
-	pw.ensure(34)
+	pw.ensure(38)
 	pdf.Ln(8)
 	half := (pw.contentW - 10) / 2
 	y := pdf.GetY()
@@ -759,5 +772,27 @@ func criteriaTally(a *Report) string {
 	if n == 0 {
 		return ""
 	}
-	return fmt.Sprintf("%d criteria judged on %d port(s): %d pass, %d marginal, %d fail.", n, len(a.Ports), pass, marg, fail)
+	return fmt.Sprintf("%s judged on %s: %d pass, %d marginal, %d fail.", report.Plural(n, "criterion", "criteria"), report.Plural(len(a.Ports), "port", "ports"), pass, marg, fail)
+}
+
+// marginFraction scales a criterion's margin for its bar: +1 is a full bar of headroom (the
+// margin equals the limit), −1 a full bar beyond the limit, clipped. The scale is the limit
+// itself, except for levels in dBm (10 dB: a power level has no natural full scale), the
+// post-FEC BER (3 decades) and a limit of zero (1: a count that must stay at zero). NaN when
+// the margin is not a number.
+func marginFraction(c diagnose.Criterion) float64 {
+	unit := c.Unit
+	if c.MarginUnit != "" {
+		unit = c.MarginUnit
+	}
+	scale := math.Abs(c.Limit)
+	switch {
+	case unit == "dBm":
+		scale = 10
+	case unit == "decades":
+		scale = 3
+	case !(scale > 0):
+		scale = 1
+	}
+	return math.Max(-1, math.Min(1, c.Margin/scale))
 }
