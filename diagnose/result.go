@@ -93,6 +93,9 @@ type Result struct {
 	// Lines holds what the channels sharing a fibre line show together (diagnose/line), when
 	// a port map names the lines; before Ports in every report.
 	Lines []LineResult `json:"lines,omitempty"`
+	// Directions holds the circuits judged in both directions (check with both ends' logs, or
+	// with peers in the port map).
+	Directions []DirectionPair `json:"directions,omitempty"`
 }
 
 // PortResult is the judgement of one port.

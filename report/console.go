@@ -125,6 +125,7 @@ func writeWrapped(w io.Writer, first, rest string, text string, width int) {
 // inputs and the first rejected rows.
 func WriteCheckText(w io.Writer, res *diagnose.Result) error {
 	writeLinesText(w, res.Lines)
+	writeDirectionsText(w, res.Directions)
 	for i, p := range res.Ports {
 		if i > 0 {
 			fmt.Fprintln(w)

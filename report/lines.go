@@ -68,3 +68,32 @@ func writeLinesMarkdown(w io.Writer, lines []diagnose.LineResult) {
 	}
 	fmt.Fprintln(w)
 }
+
+// writeDirectionsText writes the circuits judged in both directions: each direction's verdict
+// and causes, and where the pair points.
+func writeDirectionsText(w io.Writer, pairs []diagnose.DirectionPair) {
+	if len(pairs) == 0 {
+		return
+	}
+	fmt.Fprintln(w, "Both directions")
+	for _, p := range pairs {
+		title := "circuit " + escape.Visible(p.Circuit)
+		if p.Circuit == "" {
+			title = "circuit (unnamed)"
+		}
+		fmt.Fprintf(w, "  %s\n", title)
+		for _, d := range p.Directions {
+			what := strings.Join(append(append([]string{}, d.LineFindings...), d.Causes...), ", ")
+			if what == "" {
+				what = "no cause"
+			}
+			via := ""
+			if d.Line != "" {
+				via = " via line " + escape.Visible(d.Line)
+			}
+			fmt.Fprintf(w, "    %s → %s%s: %s, %s\n", escape.Visible(d.From), escape.Visible(d.ReceivedAt), via, verdictWord(d.Verdict), escape.Visible(what))
+		}
+		writeWrapped(w, "    ", "    ", escape.Visible(p.Finding), 96)
+	}
+	fmt.Fprintln(w)
+}

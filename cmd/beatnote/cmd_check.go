@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"slices"
 
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/report"
@@ -12,7 +13,8 @@ type CheckCmd struct {
 	Logs []string `arg:"" optional:"" name:"log" help:"Telemetry exports of the circuit: files, folders or - for standard input (or --prometheus URL)."`
 	judgeFlags
 	soakFlag
-	Port   string `help:"Judge only this port of the logs." placeholder:"PORT"`
+	Port   string `help:"Judge only this port of the logs (and its peer, with a port map)." placeholder:"PORT"`
+	Map    string `help:"Port map (YAML): plans, profiles, lines and each port's far-end peer; a port and its peer are judged as the two directions of one circuit (see docs/rules.md)." type:"existingfile" placeholder:"PORTMAP.yaml"`
 	Format string `help:"Output format: text or json." enum:"text,json" default:"text"`
 }
 
@@ -22,6 +24,11 @@ func (c *CheckCmd) Help() string {
 (measured value, limit, margin, verdict and where the limit comes from), the plan's expected
 values next to the measured ones (with --plan), the likely causes with their evidence and what
 to do on site, and what could not be judged and why. docs/diagnosis.md explains the method.
+
+Both directions: given both ends' logs (two logs of one port each), or a port map naming each
+port's peer, check judges the circuit both ways — each port receives what the other sends — and
+says where a fault seen in one direction only lies: on that direction's path. With a map that
+names lines, the line findings come first.
 
 Exit status: 0 every port passes; 1 some port is marginal, failing or could not be judged;
 2 the run could not complete.`
@@ -33,15 +40,22 @@ func (c *CheckCmd) Run(g *Globals, pr *printer) error {
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}
-	a, err := analyze(c.Logs, c.judgeFlags, "", false, acc, pr)
+	a, err := analyze(c.Logs, c.judgeFlags, c.Map, false, acc, pr)
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}
 	res := a.Result
+	pairs := directionPairs(a)
 	if c.Port != "" {
 		var keep []diagnose.PortResult
+		peer := ""
 		for _, p := range res.Ports {
 			if p.Port == c.Port {
+				peer = p.Peer
+			}
+		}
+		for _, p := range res.Ports {
+			if p.Port == c.Port || (peer != "" && p.Port == peer) {
 				keep = append(keep, p)
 			}
 		}
@@ -49,7 +63,15 @@ func (c *CheckCmd) Run(g *Globals, pr *printer) error {
 			return &exitError{code: 2, err: fmt.Errorf("--port %q: the logs have no such port (%d ports read; 'beatnote scan' lists them)", c.Port, len(res.Ports))}
 		}
 		res.Ports = keep
+		var lines []diagnose.LineResult // only the lines of the ports shown
+		for _, l := range res.Lines {
+			if slices.ContainsFunc(keep, func(p diagnose.PortResult) bool { return p.Line == l.Line }) {
+				lines = append(lines, l)
+			}
+		}
+		res.Lines = lines
 	}
+	diagnose.PairDirections(res, pairs)
 	if c.Format == "json" {
 		err = report.WriteResultJSON(pr.Out(), res)
 	} else {
@@ -59,4 +81,23 @@ func (c *CheckCmd) Run(g *Globals, pr *printer) error {
 		return &exitError{code: 2, err: err}
 	}
 	return exitFor(a, res.Ports)
+}
+
+// directionPairs pairs the ports that are the two directions of one circuit: each port with the
+// peer the port map gives it (once per pair), or, without peers, the two ports of two logs of
+// one port each (both ends' logs).
+func directionPairs(a *analysis) [][2]string {
+	ports := a.Result.Ports
+	var pairs [][2]string
+	seen := map[string]bool{}
+	for _, p := range ports {
+		if p.Peer != "" && !seen[p.Port] && !seen[p.Peer] {
+			pairs = append(pairs, [2]string{p.Port, p.Peer})
+			seen[p.Port], seen[p.Peer] = true, true
+		}
+	}
+	if len(pairs) == 0 && len(ports) == 2 && len(a.DS.Inputs) == 2 {
+		pairs = append(pairs, [2]string{ports[0].Port, ports[1].Port})
+	}
+	return pairs
 }

@@ -267,3 +267,30 @@ func TestCheckRejectedRowsCannotPass(t *testing.T) {
 		t.Errorf("report: exit %d (%s)\n%s", code, errw, md)
 	}
 }
+
+// Both ends' logs, one port each, without a map: check pairs them as the two directions.
+func TestCheckBothEndsLogs(t *testing.T) {
+	dir := t.TempDir()
+	a, _ := writeCase(t, dir, "end-a", synth.Spec{Seed: 9, Samples: 200, Causes: []string{"pdl-high"}, Severity: 1})
+	z, _ := writeCase(t, dir, "end-z", synth.Spec{Seed: 10, Samples: 200})
+	code, out, errw := runCLI(t, "check", a, z, "--profile", "400g-dp-16qam-cfec", "--soak", "3h", "--format", "json")
+	if code != 1 {
+		t.Fatalf("exit %d (%s)", code, errw)
+	}
+	var res struct {
+		Directions []struct {
+			OneWay string `json:"one_way"`
+		} `json:"directions"`
+	}
+	if err := json.Unmarshal([]byte(out), &res); err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Directions) != 1 || res.Directions[0].OneWay != "end-a" {
+		t.Errorf("directions %+v, want one pair pointing at end-a", res.Directions)
+	}
+	// One log: nothing to pair.
+	_, out, _ = runCLI(t, "check", a, "--profile", "400g-dp-16qam-cfec", "--soak", "3h", "--format", "json")
+	if strings.Contains(out, `"directions"`) {
+		t.Errorf("one log gave directions")
+	}
+}

@@ -266,3 +266,47 @@ func TestTriageLineFindingsOnDemoNetwork(t *testing.T) {
 		}
 	}
 }
+
+// Both directions on the demo network: the circuit whose Ferrowick → Oskelby line lost OSNR
+// is clean the other way, so check points at the Ferrowick → Oskelby path.
+func TestCheckBothDirectionsOnDemoNetwork(t *testing.T) {
+	root := filepath.Join("..", "..", "samples", "network")
+	if _, err := os.Stat(filepath.Join(root, "portmap.yaml")); err != nil {
+		t.Skipf("no demo network: %v", err)
+	}
+	code, out, errw := runCLI(t, "check", filepath.Join(root, "logs", "line-ferrowick-oskelby.csv"), filepath.Join(root, "logs", "line-oskelby-ferrowick.csv"),
+		"--map", filepath.Join(root, "portmap.yaml"), "--port", "OSK-LX1/1", "--soak", "6h", "--format", "json")
+	if code != 1 {
+		t.Fatalf("exit %d, want 1 (%s)", code, errw)
+	}
+	var res struct {
+		Ports []struct {
+			Port string `json:"port"`
+		} `json:"ports"`
+		Directions []struct {
+			Circuit    string `json:"circuit"`
+			OneWay     string `json:"one_way"`
+			Finding    string `json:"finding"`
+			Directions []struct {
+				ReceivedAt string `json:"received_at"`
+				Verdict    string `json:"verdict"`
+			} `json:"directions"`
+		} `json:"directions"`
+	}
+	if err := json.Unmarshal([]byte(out), &res); err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Ports) != 2 || len(res.Directions) != 1 {
+		t.Fatalf("%d ports, %d pairs; want the port and its peer, one pair", len(res.Ports), len(res.Directions))
+	}
+	d := res.Directions[0]
+	if d.Circuit != "QRO-FRW-OSK-521" || d.OneWay != "OSK-LX1/1" || !strings.Contains(d.Finding, "QRO-LN-FRW-OSK") ||
+		d.Directions[1].ReceivedAt != "FRW-LX1/1" || d.Directions[1].Verdict != "pass" {
+		t.Errorf("pair %+v", d)
+	}
+	code, out, _ = runCLI(t, "check", filepath.Join(root, "logs", "line-ferrowick-oskelby.csv"), filepath.Join(root, "logs", "line-oskelby-ferrowick.csv"),
+		"--map", filepath.Join(root, "portmap.yaml"), "--port", "OSK-LX1/1", "--soak", "6h")
+	if code != 1 || !strings.Contains(out, "Both directions") || !strings.Contains(out, "Seen in one direction only") {
+		t.Errorf("text: exit %d\n%s", code, out)
+	}
+}

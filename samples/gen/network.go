@@ -56,8 +56,8 @@ var netLines = []netLine{
 	{id: "QRO-LN-FRW-OSK", from: "Ferrowick", to: "Oskelby", rxPrefix: "OSK-LX1", peerPrefix: "FRW-LX1", profile: "400g-dp-16qam-ofec",
 		part: "QM-400-OF-2", seed: 501, file: "line-ferrowick-oskelby.csv", circuitStart: 521,
 		events: []lineEventSpec{{
-			event:   synth.LineEvent{Kind: synth.LineSpanLoss, From: at(2, 12), Span: 1, LossDB: 7},
-			finding: "line-osnr-drop", what: "span 1 loses 7 dB more (a crushed duct) before the first line amplifier from 02:12: OSNR falls on every channel, the amplifiers hold the power"}}},
+			event:   synth.LineEvent{Kind: synth.LineSpanLoss, From: at(2, 12), Span: 1, LossDB: 10},
+			finding: "line-osnr-drop", what: "span 1 loses 10 dB more (a crushed duct) before the first line amplifier from 02:12: OSNR falls on every channel, the amplifiers hold the power"}}},
 	{id: "QRO-LN-OSK-FRW", from: "Oskelby", to: "Ferrowick", rxPrefix: "FRW-LX1", peerPrefix: "OSK-LX1", profile: "400g-dp-16qam-ofec",
 		part: "QM-400-OF-2", seed: 502, file: "line-oskelby-ferrowick.csv", circuitStart: 521, samePlanAs: "QRO-LN-FRW-OSK"},
 	{id: "QRO-LN-GLM-TLV", from: "Glimmerby", to: "Tollaven", rxPrefix: "TLV-LX2", profile: "200g-dp-16qam",
