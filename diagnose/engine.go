@@ -139,6 +139,7 @@ func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 	pc := newPortCtx(s, prof, plan, exp, r, lazyCorr)
 	pc.metrics()
 	pc.criteria()
+	pc.noteBinCriteria()
 	pc.planVsMeasured()
 	pc.causes()
 	pc.res.Budget = pc.budget()

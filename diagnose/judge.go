@@ -113,6 +113,7 @@ func (pc *portCtx) metrics() {
 	}
 	if pc.berDerived {
 		s := pc.summarize(pc.ber)
+		pc.widenDerived(&s, false)
 		pc.metric("pre_fec_ber", "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, r.QStatistic))
 	}
 	if pc.qDerived {
@@ -130,6 +131,9 @@ func (pc *portCtx) metrics() {
 func (pc *portCtx) qSummary() series.Summary {
 	if pc.cache.q == nil {
 		s := pc.summaryOf(pc.qdb, parse.QdB)
+		if pc.qDerived {
+			pc.widenDerived(&s, true)
+		}
 		pc.cache.q = &s
 	}
 	return *pc.cache.q

@@ -50,6 +50,7 @@ type portCtx struct {
 	litPower       []float64 // rx power on lit samples, NaN elsewhere
 	sum            map[parse.Quantity]series.Summary
 	absSum         map[parse.Quantity]series.Summary // of |x|, for CD and LO offset
+	binJudged      uint32                            // bit q: criteria on q judge bin extremes (applyBins)
 
 	scratch []float64 // working copy for summaries
 
@@ -243,6 +244,7 @@ func (pc *portCtx) deriveSeries() {
 			pc.absSum[q] = pc.summarize(a)
 		}
 	}
+	pc.applyBins()
 	hasBER, hasQ, hasESNR := s.Has(parse.PreFECBER), s.Has(parse.QdB), s.Has(parse.ESNRdB)
 	switch {
 	case hasBER:

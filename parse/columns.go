@@ -14,6 +14,7 @@ const (
 	colTime
 	colPort
 	colQuantity
+	colBinLength // the length of a performance-monitoring bin (see bins.go)
 )
 
 // unitConv converts a value from the unit written in a column name to the stored unit.
@@ -53,7 +54,8 @@ func buildHeaderTable() map[string]column {
 		}
 		t[name] = c
 	}
-	for _, n := range []string{"time", "timestamp", "time_utc", "datetime", "date_time"} {
+	// A performance-monitoring export stamps each bin with its start.
+	for _, n := range []string{"time", "timestamp", "time_utc", "datetime", "date_time", "start_time", "interval_start", "bin_start", "period_start"} {
 		add(n, column{kind: colTime})
 	}
 	for _, n := range []string{"port", "port_name", "port_id", "interface", "channel"} {

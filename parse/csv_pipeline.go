@@ -92,6 +92,10 @@ type csvJob struct {
 	spread   []int32   // rows between each port's first and last row in the block
 	gTimes   []int64   // times, port group after port group, arrival order inside a group
 	gVals    []float64 // per group: len(qs) columns of the group's length, one after the other
+
+	// Bin companions of the accepted rows, row after row (see binRows); empty without bins.
+	binLow, binHigh []float64
+	binLen          []int64
 }
 
 // group reorders the accepted rows by port, stably, with each port's values column by column:
@@ -354,6 +358,9 @@ func (res *fileResult) accountCSV(job *csvJob, strict bool) {
 	}
 	res.stats.RowsRejected += job.nReject
 	res.stats.RowsUsed += len(job.times)
+	if res.bins != nil {
+		res.bins.addJob(job)
+	}
 	for _, pe := range job.rejects {
 		res.addRejection(pe.rejection())
 	}

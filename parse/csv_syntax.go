@@ -42,6 +42,7 @@ type csvLayout struct {
 	qs           []Quantity // quantity of each quantity column
 	qmask        uint32
 	times        *timeReader // how the time column is read (nil: built-in formats, UTC)
+	bins         *binLayout  // bin companions (min/max columns, bin length); nil when none
 }
 
 // sniffDelimiter picks the most frequent of tab, semicolon and comma outside quotes; ties go to
@@ -85,17 +86,23 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 		return nil, nil, &ParseError{File: file, Line: lineNo, Err: err}
 	}
 	var notes []string
-	seen := map[column]int{}
+	type cellKey struct {
+		kind colKind
+		q    Quantity
+		st   binStat
+	}
+	seen := map[cellKey]int{}
+	bl := &binLayout{lengthCol: -1}
 	for i, f := range fields {
 		name := string(f)
 		lay.names = append(lay.names, name)
-		c := lookupColumn(name)
+		c, st, unitS := lookupHeaderCell(name)
 		lay.cols = append(lay.cols, c)
 		if c.kind == colUnknown {
 			notes = append(notes, fmt.Sprintf("unknown column %d %q ignored", i+1, name))
 			continue
 		}
-		key := column{kind: c.kind, q: c.q}
+		key := cellKey{c.kind, c.q, st}
 		if j, dup := seen[key]; dup {
 			return nil, nil, &ParseError{File: file, Line: lineNo, Column: i + 1, Field: name,
 				Err: fmt.Errorf("%w: columns %d %q and %d %q are the same quantity", ErrDuplicateColumn, j+1, lay.names[j], i+1, name)}
@@ -106,11 +113,24 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 			lay.timeCol = i
 		case colPort:
 			lay.portCol = i
+		case colBinLength:
+			bl.lengthCol, bl.lengthUnitS = i, unitS
 		case colQuantity:
-			lay.qFields = append(lay.qFields, i)
-			lay.qs = append(lay.qs, c.q)
-			lay.qmask |= 1 << c.q
+			switch st {
+			case statLow:
+				bl.lowFields, bl.lowQs = append(bl.lowFields, i), append(bl.lowQs, c.q)
+			case statHigh:
+				bl.highFields, bl.highQs = append(bl.highFields, i), append(bl.highQs, c.q)
+			default:
+				lay.qFields = append(lay.qFields, i)
+				lay.qs = append(lay.qs, c.q)
+				lay.qmask |= 1 << c.q
+			}
 		}
+	}
+	if bl.any() {
+		notes = append(notes, bl.valueFallbacks(lay)...)
+		lay.bins = bl
 	}
 	var missing []string
 	if lay.timeCol < 0 {
@@ -239,6 +259,7 @@ func (cp *csvParser) parse(job *csvJob) {
 	}
 	clear(cp.portIdx)
 	defer job.group(len(cp.lay.qs))
+	job.binLow, job.binHigh, job.binLen = job.binLow[:0], job.binHigh[:0], job.binLen[:0]
 	data := job.data
 	line := job.firstLine
 	for len(data) > 0 {
@@ -327,36 +348,16 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 		return cp.fieldErr(lineNo, lay.portCol, fmt.Errorf("%w: port name %s", ErrEncoding, quoteShort(pf)))
 	}
 	for j, fi := range lay.qFields {
-		f := fields[fi]
-		if isMissing(f) {
-			job.vals = append(job.vals, math.NaN())
-			continue
-		}
-		if c := bytes.IndexByte(f, ','); c >= 0 && (lay.decimalComma || lay.delim == ',') {
-			// With ";" the comma is the decimal mark; in comma CSV only a quoted field holds
-			// one, and it is a decimal mark unless it could be a thousands separator.
-			if lay.delim == ',' && thousandsLike(f, c) {
-				return cp.fieldErr(lineNo, fi, fmt.Errorf("%w: %s is ambiguous: a decimal comma or a thousands separator (write it without the comma, or with a decimal point)", ErrNotNumber, quoteShort(f)))
-			}
-			cp.num = append(cp.num[:0], f...)
-			cp.num[c] = '.'
-			f = cp.num
-		}
-		v, ok := parseFloat(f)
-		if !ok {
-			return cp.fieldErr(lineNo, fi, fmt.Errorf("%w: %s", ErrNotNumber, quoteShort(fields[fi])))
-		}
-		col := lay.cols[fi]
-		v, ok = col.convert(v)
-		if !ok {
-			return cp.fieldErr(lineNo, fi, col.convFailure(v))
-		}
-		if q := lay.qs[j]; !(v >= plainLo[q] && v <= plainHi[q]) { // else surely in range
-			if err := checkRange(q, v); err != nil {
-				return cp.fieldErr(lineNo, fi, err)
-			}
+		v, pe := cp.value(fields, lineNo, fi, lay.qs[j])
+		if pe != nil {
+			return pe
 		}
 		job.vals = append(job.vals, v)
+	}
+	if lay.bins != nil {
+		if pe := cp.binCompanions(job, fields, lineNo); pe != nil {
+			return pe
+		}
 	}
 	if !known {
 		pi = int32(len(job.names))
@@ -382,6 +383,74 @@ func thousandsLike(f []byte, c int) bool {
 		return false
 	}
 	return bytes.IndexByte(frac, ',') < 0 && bytes.IndexByte(f, '.') < 0
+}
+
+// value reads field fi, a quantity q column, in the stored unit: NaN when missing, else a
+// number converted and range-checked, or the reason the row is rejected.
+func (cp *csvParser) value(fields [][]byte, lineNo, fi int, q Quantity) (float64, *ParseError) {
+	lay := cp.lay
+	f := fields[fi]
+	if isMissing(f) {
+		return math.NaN(), nil
+	}
+	if c := bytes.IndexByte(f, ','); c >= 0 && (lay.decimalComma || lay.delim == ',') {
+		// With ";" the comma is the decimal mark; in comma CSV only a quoted field holds
+		// one, and it is a decimal mark unless it could be a thousands separator.
+		if lay.delim == ',' && thousandsLike(f, c) {
+			return 0, cp.fieldErr(lineNo, fi, fmt.Errorf("%w: %s is ambiguous: a decimal comma or a thousands separator (write it without the comma, or with a decimal point)", ErrNotNumber, quoteShort(f)))
+		}
+		cp.num = append(cp.num[:0], f...)
+		cp.num[c] = '.'
+		f = cp.num
+	}
+	v, ok := parseFloat(f)
+	if !ok {
+		return 0, cp.fieldErr(lineNo, fi, fmt.Errorf("%w: %s", ErrNotNumber, quoteShort(fields[fi])))
+	}
+	col := lay.cols[fi]
+	v, ok = col.convert(v)
+	if !ok {
+		return 0, cp.fieldErr(lineNo, fi, col.convFailure(v))
+	}
+	if !(v >= plainLo[q] && v <= plainHi[q]) { // else surely in range
+		if err := checkRange(q, v); err != nil {
+			return 0, cp.fieldErr(lineNo, fi, err)
+		}
+	}
+	return v, nil
+}
+
+// binCompanions reads a row's bin minimum, maximum and length columns into job; on a bad
+// field nothing of the row is kept there and the row is rejected.
+func (cp *csvParser) binCompanions(job *csvJob, fields [][]byte, lineNo int) *ParseError {
+	b := cp.lay.bins
+	nLow, nHigh := len(job.binLow), len(job.binHigh)
+	for j, fi := range b.lowFields {
+		v, pe := cp.value(fields, lineNo, fi, b.lowQs[j])
+		if pe != nil {
+			job.binLow = job.binLow[:nLow]
+			return pe
+		}
+		job.binLow = append(job.binLow, v)
+	}
+	for j, fi := range b.highFields {
+		v, pe := cp.value(fields, lineNo, fi, b.highQs[j])
+		if pe != nil {
+			job.binLow, job.binHigh = job.binLow[:nLow], job.binHigh[:nHigh]
+			return pe
+		}
+		job.binHigh = append(job.binHigh, v)
+	}
+	length := int64(0)
+	if fi := b.lengthCol; fi >= 0 && !isMissing(fields[fi]) {
+		var ok bool
+		if length, ok = parseBinLength(fields[fi], b.lengthUnitS); !ok {
+			job.binLow, job.binHigh = job.binLow[:nLow], job.binHigh[:nHigh]
+			return cp.fieldErr(lineNo, fi, fmt.Errorf("%w: bin length %s (want e.g. 15min, 24h, 900 or 00:15:00, at most 7 days)", ErrNotNumber, quoteShort(fields[fi])))
+		}
+	}
+	job.binLen = append(job.binLen, length)
+	return nil
 }
 
 func (cp *csvParser) fieldErr(lineNo, fi int, err error) *ParseError {
@@ -459,6 +528,9 @@ func readCSVHeader(res *fileResult, r io.Reader, hb *[]byte) (st csvStart, ok bo
 			res.stats.Notes = append(res.stats.Notes, notes...)
 			lay.times = res.times
 			res.lay = lay
+			if lay.bins != nil {
+				res.bins = &binRows{lay: lay.bins}
+			}
 			return csvStart{carry: buf, line: line, eof: eof, readErr: readErr}, true
 		}
 		if firstErr == nil {

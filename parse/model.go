@@ -79,6 +79,20 @@ type Series struct {
 	Port    string
 	TimesMs []int64
 	Values  [NumQuantities][]float64
+	// Bins is set when some samples are performance-monitoring bins (see Bins); nil otherwise.
+	Bins *Bins
+}
+
+// Bins are the worst-case companions of samples that summarise a bin (a 15-minute or 24-hour
+// performance-monitoring interval): Series.Values holds each bin's average, Low and High its
+// minimum and maximum. Every slice has the length of the series' TimesMs.
+type Bins struct {
+	// LengthMs is each bin's length, from the input's bin-length column or else the port's
+	// median sample spacing; 0 for samples that are not bins.
+	LengthMs []int64
+	// Low[q] and High[q] are nil when no input gave the minimum (maximum) of q; otherwise NaN
+	// where a sample has none.
+	Low, High [NumQuantities][]float64
 }
 
 // Len is the number of sample times.

@@ -150,6 +150,7 @@ type fileResult struct {
 	rejects   []Rejection
 	times     *timeReader // how times are read (nil: built-in formats, UTC)
 	budget    *readBudget // the run's row and byte limits (nil: none)
+	bins      *binRows    // bin companions of the accepted rows (nil: no bin columns)
 	strictErr error       // first bad row in strict mode, or the row limit reached
 	fileErr   error       // input not read completely
 }
@@ -396,7 +397,9 @@ func assemble(results []*fileResult, workers int) (*Dataset, error) {
 	ds := &Dataset{}
 	db := &datasetBuilder{ports: map[string]*portBuf{}}
 	var errs []error
+	bins := make([]*binRows, len(results))
 	for i, res := range results {
+		bins[i] = res.bins
 		ds.Inputs = append(ds.Inputs, res.stats)
 		for _, r := range res.rejects {
 			if len(ds.Rejected) < MaxRejectionsKept {
@@ -412,6 +415,7 @@ func assemble(results []*fileResult, workers int) (*Dataset, error) {
 		}
 	}
 	ds.Series = db.finish(ds.Inputs, workers)
+	attachBins(ds.Series, bins)
 	return ds, errors.Join(errs...)
 }
 
