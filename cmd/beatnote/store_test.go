@@ -412,3 +412,30 @@ func TestPrometheusBatchesAndChunksMatchFiles(t *testing.T) {
 		}
 	}
 }
+
+// A report read from the store lists each series' query, range and SHA-256 among its inputs;
+// signing one is refused (verify can check files, not queries) with the way out.
+func TestReportFromPrometheus(t *testing.T) {
+	u := prometheusURL(t)
+	dir := t.TempDir()
+	md := filepath.Join(dir, "r.md")
+	args := []string{"report", "--prometheus", u, "--start", demoRangeStart, "--end", "2026-03-14T01:00:00Z", "--step", "60s",
+		"--profile", "100g-dp-qpsk", "--format", "markdown", "--out", md}
+	code, _, errw := runCLI(t, args...)
+	if code == 2 {
+		t.Fatalf("report: exit 2: %s", errw)
+	}
+	b, err := os.ReadFile(md)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(b), `last_over_time(components_component_optical_channel_state_input_power_instant{component_name=\"`) &&
+		!strings.Contains(string(b), `last_over_time(components_component_optical_channel_state_input_power_instant{component_name="`) {
+		t.Fatalf("the report's inputs do not name the query:\n%s", b)
+	}
+	code, _, errw = runCLI(t, append(args[:len(args)-2], "--out", filepath.Join(dir, "r.pdf"), "--format", "pdf",
+		"--sign-key", filepath.Join(dir, "k.key"), "--signer", "A. Technician")...)
+	if code != 2 || !strings.Contains(errw, "--export FILE.csv") {
+		t.Fatalf("signed report from a store: exit %d, %s", code, errw)
+	}
+}

@@ -2,6 +2,8 @@ package gnmisub
 
 import (
 	"bytes"
+	"encoding/json"
+	"math"
 	"testing"
 
 	"github.com/beatnote/beatnote/parse"
@@ -53,4 +55,38 @@ func TestDocumentReadsAsOpenConfig(t *testing.T) {
 	if s.Port != "och-1/1/1" || s.TimesMs[0] != 1773446400002 {
 		t.Errorf("port %q at %d", s.Port, s.TimesMs[0])
 	}
+}
+
+// FuzzDocument feeds hostile notifications (any path, keys holding any text, any JSON_IETF
+// blob, any number) through the document builder and the OpenConfig reader: nothing panics,
+// the document is valid JSON, and every record is used or rejected.
+func FuzzDocument(f *testing.F) {
+	f.Add("components/component[name=och-1/1/1]/optical-channel/state", "input-power/instant", []byte(`{"x": 1}`), -8.15, "och-1/1/1")
+	f.Add("terminal-device/logical-channels/channel[index=1]", "otn/state", []byte(`{"pre-fec-ber": {"instant": "0.7"}}`), 1e308, "")
+	f.Add("/", "", []byte(`[`), math.NaN(), "\x1b[2J")
+	f.Fuzz(func(t *testing.T, prefix, leaf string, blob []byte, v float64, s string) {
+		d := &docBuilder{root: map[string]any{}}
+		err := d.add(&gpb.Notification{Timestamp: 1773446400e9, Prefix: StringPath(prefix), Update: []*gpb.Update{
+			{Path: StringPath(leaf), Val: dbl(v)},
+			{Path: StringPath(leaf + "/a"), Val: &gpb.TypedValue{Value: &gpb.TypedValue_JsonIetfVal{JsonIetfVal: blob}}},
+			{Path: StringPath(leaf + "[name=" + s + "]/b"), Val: &gpb.TypedValue{Value: &gpb.TypedValue_StringVal{StringVal: s}}},
+			{Path: StringPath(leaf), Val: &gpb.TypedValue{Value: &gpb.TypedValue_DecimalVal{DecimalVal: &gpb.Decimal64{Digits: int64(len(s)) - 5, Precision: uint32(len(blob) % 20)}}}},
+		}})
+		if err != nil {
+			return
+		}
+		doc, err := d.document()
+		if err != nil {
+			t.Fatalf("document: %v", err)
+		}
+		if !json.Valid(doc) {
+			t.Fatalf("not JSON: %s", doc)
+		}
+		ds, _ := parse.ReadFile("doc", bytes.NewReader(doc), parse.Options{})
+		for _, in := range ds.Inputs {
+			if in.RowsRead != in.RowsUsed+in.RowsRejected {
+				t.Fatalf("accounting %+v", in)
+			}
+		}
+	})
 }
