@@ -71,7 +71,7 @@ func corpus(t testing.TB, half int64) []labelled {
 	var out []labelled
 	var specs [][]string
 	specs = append(specs, nil, nil) // healthy, twice the weight of one cause
-	for _, c := range synth.AllCauses {
+	for _, c := range append(slices.Clone(synth.AllCauses), synth.MoreCauses...) {
 		specs = append(specs, []string{c})
 	}
 	specs = append(specs, calibrationPairs...)
@@ -82,8 +82,8 @@ func corpus(t testing.TB, half int64) []labelled {
 			}
 			for k, sev := range []float64{0, 0.25, 0.5, 0.75, 1} {
 				for _, lg := range loggings {
-					if len(causes) == 1 && causes[0] == diagnose.CauseCDMismatch && !lg.withPlan {
-						continue // needs a plan: the design contract judges it only with one
+					if len(causes) == 1 && (causes[0] == diagnose.CauseCDMismatch || causes[0] == diagnose.CauseFrequencyMismatch) && !lg.withPlan {
+						continue // needs a plan to compare with
 					}
 					seed := 1 + int64(si)*101 + int64(k)*7 + half*100003
 					c, err := synth.Make(synth.Spec{Seed: seed, Severity: sev, Causes: causes, ProfileID: profile, Samples: lg.samples, Interval: lg.interval})
@@ -203,9 +203,9 @@ func score(t testing.TB, ports []labelled, r rules.Rules) calScores {
 // The documented figures (docs/diagnosis.md, Calibration): the test fails when the corpus
 // does worse.
 const (
-	documentedTop1 = 0.85
-	documentedTop3 = 0.87
-	documentedECE  = 0.06
+	documentedTop1 = 0.80
+	documentedTop3 = 0.83
+	documentedECE  = 0.05
 )
 
 func TestCalibration(t *testing.T) {

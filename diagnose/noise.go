@@ -316,9 +316,14 @@ func (pc *portCtx) transceiver() *score {
 		s.add(w, "The eSNR %s (%.1f dB) is %.1f dB below what the %s of %.1f dB gives through the transceiver ceiling (%.1f dB): the line's amplifier noise does not explain it; the module's own noise, nonlinearity or filtering may.",
 			pc.esnrSource(), f.measuredDB, f.shortfallNoNLIdB, f.aseFrom, f.aseOSNRdB, f.modelNoNLIdB)
 	case !explains:
-		s.add(w, "The eSNR %s (%.1f dB) is %.1f dB below the %.1f dB the line model gives (ASE from the %s, NLI SNR %.1f dB from the plan's GN model, penalties %.1f dB): the line cannot explain it.",
+		s.add(w, "The eSNR %s (%.1f dB) is %.1f dB below the %.1f dB the line model gives (ASE from the %s, NLI SNR %.1f dB from the plan's GN model, penalties %.1f dB): the line's noise cannot explain it.",
 			pc.esnrSource(), f.measuredDB, f.shortfallDB, f.modelDB, f.aseFrom, f.nliSNRdB, f.pdlDB+f.dgdDB)
-		s.add(llrFirm, "The NLI the plan predicts at %+.1f dBm per channel is too weak to be the cause, so the module itself is the first suspect.", f.launchDBm)
+		if off, _ := pc.offCentreGHz(); !finite(off) {
+			s.add(llrFirm, "The NLI the plan predicts at %+.1f dBm per channel is too weak to be the cause, so the module itself is the first suspect.", f.launchDBm)
+		}
+	}
+	if off, what := pc.offCentreGHz(); finite(off) {
+		s.add(llrAgainstSome, "The channel sits %+.2f GHz from %s: filtering of the off-centre channel can explain the shortfall.", off, what)
 	}
 	return s
 }
@@ -332,16 +337,33 @@ func (pc *portCtx) filtering() *score {
 		s.add(w-llrSupporting, "The eSNR %s (%.1f dB) is %.1f dB below what the %s gives through the transceiver ceiling: passband narrowing is one of the causes that do this.",
 			pc.esnrSource(), f.measuredDB, f.shortfallNoNLIdB, f.aseFrom)
 	}
-	acc := pc.r.FrequencyAccuracyGHz
-	if off := pc.frequencyOffPlanGHz(); finite(off) && math.Abs(off) > acc && math.Abs(off) <= gridStepGHz && pc.noisy() {
-		s.add(llrStrong, "The channel sits %+.2f GHz from the plan's centre frequency, beyond the %.1f GHz laser accuracy but inside one grid step: the signal is off the centre of the filters' passband.", off, acc)
+	if off, what := pc.offCentreGHz(); finite(off) {
+		w := llrWeak
+		if pc.noisy() {
+			w = llrStrong
+		}
+		s.add(w, "The channel sits %+.2f GHz from %s, beyond the %.1f GHz laser accuracy but inside one grid step: the signal is off the centre of the filters' passband.", off, what, pc.r.FrequencyAccuracyGHz)
 	}
-	if pc.has(parse.LOOffsetMHz) && pc.noisy() {
+	if acc := pc.r.FrequencyAccuracyGHz; pc.has(parse.LOOffsetMHz) && pc.noisy() {
 		if m := pc.absSum[parse.LOOffsetMHz].P50; m > 1000*acc {
 			s.add(llrModerate, "The carrier offset is %.0f MHz (median |offset|), beyond the %.1f GHz laser accuracy: one of the lasers sits off its channel centre, where the filters cut the signal's edge.", m, acc)
 		}
 	}
 	return s
+}
+
+// offCentreGHz is how far the channel sits from the centre it should have — the plan's
+// frequency, else the nearest 6.25 GHz grid frequency — when that is beyond the laser accuracy
+// (frequency_accuracy_ghz) but inside one grid step; NaN otherwise.
+func (pc *portCtx) offCentreGHz() (float64, string) {
+	off, what := pc.frequencyOffPlanGHz(), "the plan's centre frequency"
+	if !finite(off) && pc.has(parse.FrequencyTHz) {
+		off, what = optics.ChannelOffsetGHz(pc.sum[parse.FrequencyTHz].P50, gridStepGHz), "the nearest 6.25 GHz grid frequency"
+	}
+	if a := math.Abs(off); !(a > pc.r.FrequencyAccuracyGHz && a <= gridStepGHz) {
+		return math.NaN(), ""
+	}
+	return off, what
 }
 
 // noisy: the median Q margin is inside the marginal band or below.

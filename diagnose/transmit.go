@@ -123,7 +123,14 @@ func (pc *portCtx) frequencyMismatch() *score {
 		s.add(llrDecisive, "The channel is tuned to %.5f THz, %+.2f GHz from the plan's %.5f THz (%.0f steps of the 6.25 GHz grid): another channel than planned.", f, off, pc.exp.FrequencyTHz, math.Abs(off)/gridStepGHz)
 	}
 	if d := optics.ChannelOffsetGHz(f, gridStepGHz); finite(d) && math.Abs(d) > pc.r.FrequencyAccuracyGHz {
-		s.add(llrStrong, "The channel centre %.5f THz is %+.2f GHz from the nearest frequency of the ITU-T G.694.1 6.25 GHz grid, beyond the %.1f GHz laser accuracy: off the grid.", f, d, pc.r.FrequencyAccuracyGHz)
+		// Off the grid by a fraction of a step with the signal degraded is filtering's
+		// signature (the passband cuts the off-centre channel); without a loss it is a
+		// provisioning fact of its own.
+		w := llrStrong
+		if pc.noisy() {
+			w = llrWeak
+		}
+		s.add(w, "The channel centre %.5f THz is %+.2f GHz from the nearest frequency of the ITU-T G.694.1 6.25 GHz grid, beyond the %.1f GHz laser accuracy: off the grid.", f, d, pc.r.FrequencyAccuracyGHz)
 	}
 	return s
 }

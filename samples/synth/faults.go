@@ -31,6 +31,14 @@ type faults struct {
 	stepAt, stepDB float64
 	// lossFrom ≥ 0: light is gone from lossFrom to lossTo.
 	lossFrom, lossTo float64
+	// txStepAt ≥ 0: from this fraction on the transmitter's output is txStepDB lower (Make
+	// evaluates the link as it stands then).
+	txStepAt, txStepDB float64
+	// trxLossDB lowers the transceiver's back-to-back SNR ceiling; filterPenaltyDB is an SNR
+	// penalty from passband narrowing.
+	trxLossDB, filterPenaltyDB float64
+	// freqOffsetGHz moves the reported (and actual) channel frequency away from the plan's.
+	freqOffsetGHz float64
 }
 
 // requiredOSNRdB is the profile's required OSNR, or the one its implementation penalty implies.
@@ -55,7 +63,7 @@ func (f *faults) apply(m *linkModel, c *Case, prof rules.Profile) error {
 	f.sopBaseKradS = 0.1 * math.Pow(10, rng.Float64())
 	f.loStartMHz = 600 * (rng.Float64() - 0.5)
 	f.loEndMHz = f.loStartMHz + 40*(rng.Float64()-0.5)
-	f.stepAt, f.lossFrom = -1, -1
+	f.stepAt, f.lossFrom, f.txStepAt = -1, -1, -1
 	rosnr := requiredOSNRdB(prof)
 	note := func(format string, a ...any) { c.Notes = append(c.Notes, fmt.Sprintf(format, a...)) }
 
@@ -208,6 +216,42 @@ func (f *faults) apply(m *linkModel, c *Case, prof rules.Profile) error {
 			a := m.evaluate(prof)
 			note("launch power %.1f dBm per channel instead of %.1f (optimum %.1f): OSNR %.1f → %.1f dB but NLI SNR %.1f dB",
 				a.LaunchPowerDBm, design.LaunchPowerDBm, design.OptimumLaunchDBm, design.OSNRdB, a.OSNRdB, a.NLISNRdB)
+
+		case diagnose.CauseTxPower:
+			// The transmit laser's output steps down by 3 dB (mild) … 8 dB (severe) at 30–70 % of
+			// the log (a laser bias fault, a changed set-point). The booster holds its output, so
+			// the received power holds and the booster's input — and the OSNR with it — falls;
+			// without a booster the received power follows the transmitter.
+			f.txStepAt, f.txStepDB = 0.3+0.4*rng.Float64(), 3+5*s
+			note("transmit power steps down by %.1f dB at %.0f %% of the log (%.1f → %.1f dBm)", f.txStepDB, 100*f.txStepAt, design.TxPowerDBm, design.TxPowerDBm-f.txStepDB)
+
+		case diagnose.CauseTransceiver:
+			// The module's own noise rises (ageing, a degraded DSP or modulator): its back-to-back
+			// SNR ceiling falls by 1.5 dB (mild) … 4.5 dB (severe); the line is untouched.
+			f.trxLossDB = 1.5 + 3*s
+			note("transceiver back-to-back SNR %.1f → %.1f dB", design.B2BSNRdB, design.B2BSNRdB-f.trxLossDB)
+
+		case diagnose.CauseFiltering:
+			// Both ends provisioned 2.5 (mild) … 5 GHz (severe) off the channel centre (inside one
+			// 6.25 GHz grid step, beyond the laser accuracy): the filters of the path cut the
+			// signal's edge, an SNR penalty of 1 + 3·s dB (a modelling choice of ours). The local
+			// oscillator sits on the same frequency, so the carrier offset stays normal.
+			sign := 1.0
+			if rng.IntN(2) == 0 {
+				sign = -1
+			}
+			f.freqOffsetGHz, f.filterPenaltyDB = sign*(2.5+2.5*s), 1+3*s
+			note("channel provisioned %+.1f GHz off its centre: filtering penalty %.1f dB", f.freqOffsetGHz, f.filterPenaltyDB)
+
+		case diagnose.CauseFrequencyMismatch:
+			// The module is provisioned 1 (mild) … 4 (severe) 50 GHz channels away from the plan;
+			// the path passes it (no filter model), so only the frequency differs.
+			k := 1 + math.Round(3*s)
+			if rng.IntN(2) == 0 {
+				k = -k
+			}
+			f.freqOffsetGHz = 50 * k
+			note("channel provisioned %+.0f GHz from the plan's %.5f THz", f.freqOffsetGHz, design.FrequencyTHz)
 
 		case diagnose.CauseSignalLoss:
 			// The light goes (a fibre cut or a pulled patch cord) for 10 % (mild) … 50 % (severe)

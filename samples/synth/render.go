@@ -209,7 +209,7 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 			rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64()}
 
 		ase := optics.SNRdBFromOSNRdB(osnr, prof.BaudGBd, prof.PolarizationCount())
-		snr := optics.CombineSNRdB(ase, cur.NLISNRdB, a.B2BSNRdB, rxNoise(rx))
+		snr := optics.CombineSNRdB(ase, cur.NLISNRdB, a.B2BSNRdB-f.trxLossDB, rxNoise(rx)) - f.filterPenaltyDB
 		snr -= pen.pdl(pdl) + pen.dgd(dgd) + pen.cd(a.CDPsNm) + pen.overload(rx) + pen.lo(lo)
 		snr += snrJitterDB * noise[0]
 		ber := berOf(mod, snr)
@@ -235,8 +235,11 @@ func render(rng *rand.Rand, spec Spec, prof rules.Profile, mod optics.Modulation
 		for q := range v {
 			v[q] = math.NaN()
 		}
-		v[parse.TxPowerDBm] = round(a.TxPowerDBm+0.02*noise[1], 2)
+		v[parse.TxPowerDBm] = round(cur.TxPowerDBm+0.02*noise[1], 2)
 		v[parse.FrequencyTHz] = a.FrequencyTHz
+		if f.freqOffsetGHz != 0 {
+			v[parse.FrequencyTHz] = round(a.FrequencyTHz+f.freqOffsetGHz/1000, 5)
+		}
 		switch {
 		case dark:
 			v[parse.RxPowerDBm] = round(lossFloorDBm+0.05*noise[2], 2)

@@ -123,6 +123,11 @@ var AllCauses = []string{
 	diagnose.CauseNonlinear, diagnose.CauseSignalLoss,
 }
 
+// MoreCauses lists the causes synth injects beyond AllCauses (kept apart so that generators
+// drawing from AllCauses keep their output): tx-power, transceiver, filtering,
+// frequency-mismatch.
+var MoreCauses = []string{diagnose.CauseTxPower, diagnose.CauseTransceiver, diagnose.CauseFiltering, diagnose.CauseFrequencyMismatch}
+
 // ErrSpec marks a Spec that cannot be made.
 var ErrSpec = errors.New("synth: bad spec")
 
@@ -174,6 +179,14 @@ func Make(spec Spec) (Case, error) {
 	if err != nil {
 		return Case{}, err
 	}
+	if f.txStepAt >= 0 {
+		// The link as it stands after the transmitter stepped down (tx-power).
+		mm := m
+		mm.txDBm -= f.txStepDB
+		after := mm.evaluate(prof)
+		after.PDLdB = f.pdlDB
+		lw = append(lw, lineWindow{from: int(f.txStepAt * float64(spec.Samples-1)), to: spec.Samples - 1, link: &after})
+	}
 	c.Series, c.Verdict = render(noiseRNG, spec, prof, mod, c.Actual, &f, lw)
 	if len(c.Causes) == 0 && len(spec.LineEvents) == 0 && c.Verdict == diagnose.Marginal {
 		c.Verdict = diagnose.Pass // no trouble injected and no limit crossed (a given plan may cross one)
@@ -184,7 +197,7 @@ func Make(spec Spec) (Case, error) {
 func withDefaults(s Spec) (Spec, error) {
 	s.Causes = slices.Clone(s.Causes)
 	for _, c := range s.Causes {
-		if !slices.Contains(AllCauses, c) {
+		if !slices.Contains(AllCauses, c) && !slices.Contains(MoreCauses, c) {
 			return s, fmt.Errorf("%w: unknown cause %q (known: %v)", ErrSpec, c, AllCauses)
 		}
 	}
