@@ -487,7 +487,7 @@ func (pc *portCtx) pmd() *score {
 		return s
 	}
 	if f != nil && f.N >= 30 && finite(f.KSPValue) {
-		if f.KSPValue >= 0.01 {
+		if f.KSPValue >= 0.05 { // the fit is claimed only where the test does not reject it at 5 % (common practice)
 			s.add(llrWeak, "The DGD spread fits a Maxwellian of that mean (Kolmogorov–Smirnov D = %.3f, %s over %d samples), as fibre PMD does.", f.KS, pval(f.KSPValue), f.N)
 		} else if f.KSPValue < 0.001 {
 			s.add(-0.5, "The DGD spread is not Maxwellian-shaped (Kolmogorov–Smirnov D = %.3f, %s), which fibre PMD alone would give.", f.KS, pval(f.KSPValue))

@@ -121,7 +121,7 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 	p("\n")
 
 	if a.Plan != nil {
-		p("## Link plan\n\n%s: %d span(s), %.1f km, %d amplifier(s)", mdText(a.Plan.Circuit), a.Plan.Spans, a.Plan.LengthKm, a.Plan.Amplifiers)
+		p("## Link plan\n\n%s: %s, %.1f km, %s", mdText(a.Plan.Circuit), report.Plural(a.Plan.Spans, "span", "spans"), a.Plan.LengthKm, report.Plural(a.Plan.Amplifiers, "amplifier", "amplifiers"))
 		if a.Plan.FrequencyTHz > 0 {
 			p(", channel %.5f THz", a.Plan.FrequencyTHz)
 		}
@@ -225,7 +225,7 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 		p("\n")
 	}
 	if a.Rejected.Total > 0 {
-		p("%d row(s) rejected; the first %d:\n\n", a.Rejected.Total, len(a.Rejected.First))
+		p("%s rejected; the first %d:\n\n", report.Plural(a.Rejected.Total, "row", "rows"), len(a.Rejected.First))
 		for _, r := range a.Rejected.First {
 			p("- %s\n", mdText(rejectionLine(r.File, r.Line, r.Field, r.Reason)))
 		}

@@ -16,6 +16,7 @@ import (
 
 	"github.com/beatnote/beatnote/diagnose/series"
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/report"
 )
 
 // TimeSpan is an interval of Unix milliseconds, From ≤ To.
@@ -35,6 +36,8 @@ type LinearTrend struct {
 type DensityCurve struct {
 	PDF   func(x float64) float64 // density in 1/unit of x
 	Label string                  // legend text, e.g. "Maxwellian fit, mean 3.1 ps"
+	// Note is the caption sentence about the curve (whether the fit holds).
+	Note string
 }
 
 // ChartMarks are the engine's findings a port's charts annotate. Every member is optional.
@@ -131,8 +134,20 @@ func newPlot(title string) *plot.Plot {
 	return p
 }
 
-// legendRoom raises hi so the legend in the top right corner sits above the data.
-func legendRoom(lo, hi float64) float64 { return hi + 0.3*(hi-lo) }
+// legendRoom raises hi so a legend of n entries in the top right corner sits above the data:
+// each entry takes about 9 % of the plot's height (8-point text on a 62 mm chart).
+func legendRoom(lo, hi float64, n int) float64 {
+	f := 0.09*float64(n) + 0.03
+	return hi + f/(1-f)*(hi-lo)
+}
+
+// count is 1 for true, for tallying legend entries.
+func count(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
+}
 
 func newTimePlot(title, yLabel string, spanMs int64) *plot.Plot {
 	p := newPlot(title)
@@ -256,8 +271,15 @@ func addLine(p *plot.Plot, xy plotter.XYs, c color.Color, width vg.Length, dashe
 	return nil
 }
 
-func addHLine(p *plot.Plot, x0, x1, y float64, c color.Color, label string) error {
-	return addLine(p, plotter.XYs{{X: x0, Y: y}, {X: x1, Y: y}}, c, vg.Points(1.2), []vg.Length{vg.Points(5), vg.Points(3)}, label)
+// Dash patterns of limit lines: each limit on one chart gets its own, so two limits never look
+// alike even in grey print.
+var (
+	dashLong    = []vg.Length{vg.Points(6), vg.Points(3)}
+	dashDashDot = []vg.Length{vg.Points(6), vg.Points(2.5), vg.Points(1.5), vg.Points(2.5)}
+)
+
+func addHLine(p *plot.Plot, x0, x1, y float64, c color.Color, dashes []vg.Length, label string) error {
+	return addLine(p, plotter.XYs{{X: x0, Y: y}, {X: x1, Y: y}}, c, vg.Points(1.2), dashes, label)
 }
 
 // addTopMarks puts a downward triangle at the top of the plot at each time.
@@ -343,9 +365,9 @@ func (a *Report) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 		if m.QLimitDB != nil {
 			extra = append(extra, *m.QLimitDB)
 		}
-		lo, hi := rangeOf(vs, extra...)
-		hi = legendRoom(lo, hi)
-		if err := addSpans(p, m.BERBursts, lo, hi, float64(span)/1000/250, "BER burst"); err != nil {
+		lo, top := rangeOf(vs, extra...)
+		hi := legendRoom(lo, top, 1+count(m.QLimitDB != nil)+count(len(m.BERBursts) > 0))
+		if err := addSpans(p, m.BERBursts, lo, top, float64(span)/1000/250, "BER burst"); err != nil {
 			return nil, err
 		}
 		if err := addSeries(p, ts, vs, "Q"); err != nil {
@@ -353,7 +375,7 @@ func (a *Report) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 		}
 		caption := "Q-factor as reported by the module."
 		if m.QLimitDB != nil {
-			if err := addHLine(p, float64(ts[0])/1000, float64(ts[len(ts)-1])/1000, *m.QLimitDB, colLimit, fmt.Sprintf("FEC limit %.2f dB", *m.QLimitDB)); err != nil {
+			if err := addHLine(p, float64(ts[0])/1000, float64(ts[len(ts)-1])/1000, *m.QLimitDB, colLimit, dashLong, fmt.Sprintf("FEC limit %.2f dB", *m.QLimitDB)); err != nil {
 				return nil, err
 			}
 			caption = fmt.Sprintf("Q-factor as reported; dashed line: the FEC limit expressed as Q (%.2f dB).", *m.QLimitDB)
@@ -388,8 +410,9 @@ func (a *Report) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 		limit = a.profile.FECThresholdBER
 		lo, hi = math.Min(lo, limit), math.Max(hi, limit)
 	}
-	lo, hi = lo/2, hi*30
-	if err := addSpans(p, m.BERBursts, lo, hi, float64(span)/1000/250, "BER burst"); err != nil {
+	lo, top := lo/2, hi*2
+	hi = hi * 30 // the legend sits above top
+	if err := addSpans(p, m.BERBursts, lo, top, float64(span)/1000/250, "BER burst"); err != nil {
 		return nil, err
 	}
 	if err := addSeries(p, pts, pvs, "pre-FEC BER"); err != nil {
@@ -397,7 +420,7 @@ func (a *Report) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 	}
 	caption := "Pre-FEC BER as reported by the module (log scale)."
 	if limit > 0 {
-		if err := addHLine(p, float64(pts[0])/1000, float64(pts[len(pts)-1])/1000, limit, colLimit, fmt.Sprintf("FEC threshold %.3g", limit)); err != nil {
+		if err := addHLine(p, float64(pts[0])/1000, float64(pts[len(pts)-1])/1000, limit, colLimit, dashLong, fmt.Sprintf("FEC threshold %.3g", limit)); err != nil {
 			return nil, err
 		}
 		caption = fmt.Sprintf("Pre-FEC BER as reported (log scale); dashed line: the FEC threshold %.3g of profile %s.", limit, a.profile.ID)
@@ -417,18 +440,19 @@ func (a *Report) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error) {
 	p := newTimePlot("Received power over time", "Rx power (dBm)", ts[len(ts)-1]-ts[0])
 	vlo, vhi := minMax(vs)
 	caption := "Total received optical power."
-	// A limit line is drawn when the power comes within 6 dB of it; further away it would only
-	// flatten the trace, and the caption gives the figure instead.
+	// The axis takes in a limit when the power comes within 6 dB of it; further away it would
+	// only flatten the trace. Every limit the axis then shows is drawn, each in its own dash.
 	type limit struct {
-		v    float64
-		name string
-		near bool
+		v      float64
+		name   string
+		near   bool
+		dashes []vg.Length
 	}
 	var limits []limit
 	if pf := a.profile; pf != nil && pf.RxPowerMinDBm < pf.RxPowerMaxDBm {
 		limits = []limit{
-			{pf.RxPowerMinDBm, "sensitivity", vlo-pf.RxPowerMinDBm < 6},
-			{pf.RxPowerMaxDBm, "overload", pf.RxPowerMaxDBm-vhi < 6},
+			{pf.RxPowerMinDBm, "sensitivity", vlo-pf.RxPowerMinDBm < 6, dashLong},
+			{pf.RxPowerMaxDBm, "overload", pf.RxPowerMaxDBm-vhi < 6, dashDashDot},
 		}
 	}
 	extra := []float64{}
@@ -437,29 +461,40 @@ func (a *Report) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error) {
 			extra = append(extra, l.v)
 		}
 	}
-	lo, hi := rangeOf(vs, extra...)
-	hi = legendRoom(lo, hi)
+	lo, top := rangeOf(vs, extra...)
+	drawn := 0
+	for _, l := range limits {
+		drawn += count(l.v >= lo && l.v <= top)
+	}
+	hi := legendRoom(lo, top, 1+drawn+count(len(m.RxPowerChanges) > 0))
 	if err := addSeries(p, ts, vs, "Rx power"); err != nil {
 		return nil, err
 	}
 	x0, x1 := float64(ts[0])/1000, float64(ts[len(ts)-1])/1000
 	for _, l := range limits {
-		if l.near {
-			if err := addHLine(p, x0, x1, l.v, colLimit, fmt.Sprintf("%s %.1f dBm", l.name, l.v)); err != nil {
+		if l.v >= lo && l.v <= top {
+			if err := addHLine(p, x0, x1, l.v, colLimit, l.dashes, fmt.Sprintf("%s limit %.1f dBm", l.name, l.v)); err != nil {
 				return nil, err
 			}
-			caption += fmt.Sprintf(" Dashed line: the module's %s limit %.1f dBm.", l.name, l.v)
+			caption += fmt.Sprintf(" The module's %s limit, %.1f dBm, is drawn as a line.", l.name, l.v)
 		} else {
-			caption += fmt.Sprintf(" The %s limit, %.1f dBm, lies outside the chart.", l.name, l.v)
+			side := "below"
+			if l.v > top {
+				side = "above"
+			}
+			caption += fmt.Sprintf(" The %s limit, %.1f dBm, lies %s the chart's range.", l.name, l.v, side)
 		}
 	}
-	if err := addVMarks(p, m.RxPowerChanges, lo, hi, "change point"); err != nil {
+	if err := addVMarks(p, m.RxPowerChanges, lo, top, "change point"); err != nil {
 		return nil, err
 	}
-	if n := len(m.RxPowerChanges); n > 0 {
-		caption += fmt.Sprintf(" Orange vertical lines: %d change point(s) found by the analysis.", n)
-	} else {
-		caption += " The analysis found no change point."
+	switch n := len(m.RxPowerChanges); {
+	case n > 0:
+		caption += fmt.Sprintf(" Orange vertical lines: %s found by the analysis.", report.Plural(n, "change point", "change points"))
+	case vhi-vlo >= 10:
+		caption += fmt.Sprintf(" The fall to %.1f dBm is loss of signal (see the evidence); the analysis looks for steps only while the signal is present and marked none.", vlo)
+	default:
+		caption += " The analysis marked no step while the signal was present."
 	}
 	p.Y.Min, p.Y.Max = lo, hi
 	return a.renderChart(p, "Received power over time", caption)
@@ -497,7 +532,7 @@ func (a *Report) chartDGD(s *parse.Series, m ChartMarks) (*Chart, error) {
 		if err := addLine(p, xy, colFit, vg.Points(1.5), nil, m.DGDFit.Label); err != nil {
 			return nil, err
 		}
-		caption += " Green curve: " + m.DGDFit.Label + "."
+		caption += " Green curve: " + m.DGDFit.Label + ". " + m.DGDFit.Note
 	}
 	if a.profile != nil && a.profile.DGDTolerancePs > 0 {
 		caption += fmt.Sprintf(" The module tolerates up to %.0f ps instantaneous DGD.", a.profile.DGDTolerancePs)
@@ -514,7 +549,7 @@ func (a *Report) chartDGD(s *parse.Series, m ChartMarks) (*Chart, error) {
 			}
 		}
 	}
-	p.X.Min, p.Y.Min, p.Y.Max = 0, 0, legendRoom(0, top*1.05)
+	p.X.Min, p.Y.Min, p.Y.Max = 0, 0, legendRoom(0, top*1.05, 1+count(m.DGDFit != nil && m.DGDFit.PDF != nil))
 	return a.renderChart(p, "DGD distribution", caption)
 }
 
@@ -539,8 +574,9 @@ func (a *Report) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 	}
 	lo, hi := rangeOf(vs, extra...)
 	lo = math.Min(lo, 0)
-	hi = legendRoom(lo, hi)
-	if err := addSpans(p, m.BERBursts, lo, hi, float64(span)/1000/250, "BER burst"); err != nil {
+	top := hi
+	hi = legendRoom(lo, hi, 1+len(extra)+count(len(m.BERBursts) > 0)+count(len(m.SOPSpikes) > 0))
+	if err := addSpans(p, m.BERBursts, lo, top, float64(span)/1000/250, "BER burst"); err != nil {
 		return nil, err
 	}
 	if err := addSeries(p, ts, vs, "SOP rate"); err != nil {
@@ -548,7 +584,7 @@ func (a *Report) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 	}
 	caption := "Rate of change of the state of polarization."
 	if len(extra) > 0 {
-		if err := addHLine(p, float64(ts[0])/1000, float64(ts[len(ts)-1])/1000, extra[0], colLimit, fmt.Sprintf("tracking limit %.0f krad/s", extra[0])); err != nil {
+		if err := addHLine(p, float64(ts[0])/1000, float64(ts[len(ts)-1])/1000, extra[0], colLimit, dashLong, fmt.Sprintf("tracking limit %.0f krad/s", extra[0])); err != nil {
 			return nil, err
 		}
 		caption += fmt.Sprintf(" Dashed line: the module's SOP tracking limit %.0f krad/s.", extra[0])
@@ -556,16 +592,16 @@ func (a *Report) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 	if farBelow {
 		caption += fmt.Sprintf(" The module tracks up to %.0f krad/s, far above this trace.", a.profile.SOPTrackingKradS)
 	}
-	if err := addTopMarks(p, m.SOPSpikes, lo+(hi-lo)*0.8, "SOP spike start"); err != nil {
+	if err := addTopMarks(p, m.SOPSpikes, top, "SOP spike start"); err != nil {
 		return nil, err
 	}
 	if n := len(m.BERBursts); n > 0 {
-		caption += fmt.Sprintf(" Shaded: %d pre-FEC BER burst(s) found by the analysis.", n)
+		caption += fmt.Sprintf(" Shaded: %s found by the analysis.", report.Plural(n, "pre-FEC BER burst", "pre-FEC BER bursts"))
 	} else {
 		caption += " The analysis found no BER burst."
 	}
 	if n := len(m.SOPSpikes); n > 0 {
-		caption += fmt.Sprintf(" Triangles: the start of %d SOP-rate spike(s).", n)
+		caption += fmt.Sprintf(" Triangles: the start of %s.", report.Plural(n, "SOP-rate spike", "SOP-rate spikes"))
 	}
 	p.Y.Min, p.Y.Max = lo, hi
 	return a.renderChart(p, "SOP rate of change over time", caption)
@@ -578,7 +614,7 @@ func (a *Report) chartLO(s *parse.Series, m ChartMarks) (*Chart, error) {
 	}
 	p := newTimePlot("Carrier (LO) frequency offset over time", "LO offset (MHz)", ts[len(ts)-1]-ts[0])
 	lo, hi := rangeOf(vs)
-	hi = legendRoom(lo, hi)
+	hi = legendRoom(lo, hi, 1)
 	if err := addSeries(p, ts, vs, "LO offset"); err != nil {
 		return nil, err
 	}
@@ -587,7 +623,7 @@ func (a *Report) chartLO(s *parse.Series, m ChartMarks) (*Chart, error) {
 		at := func(t int64) float64 { return tr.Intercept + tr.SlopePerHour*float64(t-tr.OriginMs)/3.6e6 }
 		y0, y1 := at(ts[0]), at(ts[len(ts)-1])
 		lo, hi = rangeOf(vs, y0, y1)
-		hi = legendRoom(lo, hi)
+		hi = legendRoom(lo, hi, 2)
 		label := tr.Label
 		if label == "" {
 			label = fmt.Sprintf("trend %+.3g MHz/h", tr.SlopePerHour)
@@ -605,12 +641,16 @@ func (a *Report) chartLO(s *parse.Series, m ChartMarks) (*Chart, error) {
 		x0, x1 := float64(ts[0])/1000, float64(ts[len(ts)-1])/1000
 		for _, lim := range []float64{rng, -rng} {
 			if (lim > 0 && vhi > lim/2) || (lim < 0 && vlo < lim/2) {
-				if err := addHLine(p, x0, x1, lim, colLimit, fmt.Sprintf("capture limit %+.0f MHz", lim)); err != nil {
+				dashes := dashLong
+				if lim < 0 {
+					dashes = dashDashDot
+				}
+				if err := addHLine(p, x0, x1, lim, colLimit, dashes, fmt.Sprintf("capture limit %+.0f MHz", lim)); err != nil {
 					return nil, err
 				}
 				lo, hi = math.Min(lo, lim), math.Max(hi, lim)
-				hi = math.Max(hi, legendRoom(lo, math.Max(vhi, lim)))
-				caption += fmt.Sprintf(" Dashed line: the capture limit %+.0f MHz.", lim)
+				hi = math.Max(hi, legendRoom(lo, math.Max(vhi, lim), 4))
+				caption += fmt.Sprintf(" The capture limit %+.0f MHz is drawn as a line.", lim)
 			}
 		}
 	}

@@ -8,6 +8,10 @@ import (
 	"github.com/beatnote/beatnote/diagnose/optics"
 )
 
+// ksRejectP is the significance level at which the Kolmogorov–Smirnov test rejects the
+// Maxwellian shape of the DGD samples: the conventional 5 % (common practice).
+const ksRejectP = 0.05
+
 // MarksFromAnalysis turns the engine's per-port findings into chart annotations. It computes
 // nothing new: the Maxwellian curve is optics.MaxwellPDF at the engine's fitted mean.
 func MarksFromAnalysis(an *diagnose.PortAnalysis) ChartMarks {
@@ -34,7 +38,12 @@ func MarksFromAnalysis(an *diagnose.PortAnalysis) ChartMarks {
 		mean := f.MeanPs
 		m.DGDFit = &DensityCurve{
 			PDF:   func(x float64) float64 { return optics.MaxwellPDF(x, mean) },
-			Label: fmt.Sprintf("Maxwellian, mean %.2f ps (KS p = %.2g)", mean, f.KSPValue),
+			Label: fmt.Sprintf("Maxwellian fit, mean %.2f ps (KS p = %.2g)", mean, f.KSPValue),
+			Note:  fmt.Sprintf("The Kolmogorov–Smirnov test does not reject the Maxwellian shape at the 5 %% level (p = %.2g).", f.KSPValue),
+		}
+		if !(f.KSPValue >= ksRejectP) {
+			m.DGDFit.Label = fmt.Sprintf("Maxwellian of the same mean, %.2f ps: not a fit", mean)
+			m.DGDFit.Note = fmt.Sprintf("The Kolmogorov–Smirnov test rejects the Maxwellian shape at the 5 %% level (p = %.2g): the curve is drawn for comparison only, and the DGD spread of this log is not Maxwellian.", f.KSPValue)
 		}
 	}
 	if an.FECLimitQdB > 0 && !math.IsInf(an.FECLimitQdB, 0) {

@@ -516,7 +516,7 @@ func (pw *pdfWriter) body() error {
 
 	if a.Plan != nil {
 		pw.heading("Link plan", 12)
-		s := fmt.Sprintf("%s: %d span(s), %.1f km of fibre, %d amplifier(s)", a.Plan.Circuit, a.Plan.Spans, a.Plan.LengthKm, a.Plan.Amplifiers)
+		s := fmt.Sprintf("%s: %s, %.1f km of fibre, %s", a.Plan.Circuit, report.Plural(a.Plan.Spans, "span", "spans"), a.Plan.LengthKm, report.Plural(a.Plan.Amplifiers, "amplifier", "amplifiers"))
 		if a.Plan.FrequencyTHz > 0 {
 			s += fmt.Sprintf(", channel at %.5f THz", a.Plan.FrequencyTHz)
 		}
@@ -660,7 +660,7 @@ func (pw *pdfWriter) inputsSection() {
 		pw.para("Every row read was used; none was rejected.", "", pdfBodySize)
 		return
 	}
-	pw.para(fmt.Sprintf("%d row(s) were rejected and not used. The first %d, with their reasons:", a.Rejected.Total, len(a.Rejected.First)), "", pdfBodySize)
+	pw.para(fmt.Sprintf("%s rejected and not used. The first %d, with their reasons:", report.Plural(a.Rejected.Total, "row was", "rows were"), len(a.Rejected.First)), "", pdfBodySize)
 	for _, r := range a.Rejected.First {
 		pw.bullet(2, "•", rejectionLine(r.File, r.Line, r.Field, r.Reason))
 	}
