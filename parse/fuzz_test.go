@@ -31,6 +31,18 @@ func fuzzRead(t *testing.T, name string, data []byte) {
 				t.Fatalf("port %q: %v has %d values for %d times", s.Port, Quantity(q), len(col), len(s.TimesMs))
 			}
 		}
+		if b := s.Bins; b != nil {
+			for q := range NumQuantities {
+				for _, col := range [][]float64{b.Low[q], b.High[q]} {
+					if col != nil && len(col) != len(s.TimesMs) {
+						t.Fatalf("port %q: %v bin companion has %d values for %d times", s.Port, q, len(col), len(s.TimesMs))
+					}
+				}
+			}
+			if len(b.LengthMs) != len(s.TimesMs) {
+				t.Fatalf("port %q: %d bin lengths for %d times", s.Port, len(b.LengthMs), len(s.TimesMs))
+			}
+		}
 	}
 	var out1, out2 bytes.Buffer
 	if err := WriteCanonicalCSV(&out1, ds); err != nil {
@@ -64,6 +76,7 @@ func FuzzCSV(f *testing.F) {
 	addCorpus(f, "*.csv")
 	addCorpus(f, "*.tsv")
 	addCorpus(f, "*.gz")
+	addCorpus(f, "messy/*.csv")
 	f.Add([]byte("time,port,q\n1,\"a\"\"b\",3\n"))
 	f.Fuzz(func(t *testing.T, data []byte) { fuzzRead(t, "fuzz.csv", data) })
 }
