@@ -16,9 +16,9 @@ import (
 // from filling memory while its line end is looked for.
 const maxLineBytes = 1 << 20
 
-// lineTooLong is the read error of a line longer than maxLineBytes that starts at or after line.
+// lineTooLong is the read error of line number line, longer than maxLineBytes.
 func lineTooLong(line int) error {
-	return fmt.Errorf("%w: a line after line %d is longer than %d MiB, which no telemetry row is", ErrTooLarge, line, maxLineBytes>>20)
+	return fmt.Errorf("%w: line %d is longer than %d MiB, which no telemetry row is", ErrTooLarge, line, maxLineBytes>>20)
 }
 
 // truncated is the error of an input whose stream broke off with readErr: a reading limit
