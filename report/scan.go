@@ -32,6 +32,9 @@ type ScanPort struct {
 	To         string   `json:"to"`
 	IntervalS  *float64 `json:"interval_s"` // median spacing of samples; null with fewer than 2
 	Quantities []string `json:"quantities"`
+	// BinExtremes lists the bin minima and maxima of a performance-monitoring export
+	// ("q_db_min", "dgd_ps_max"), which the criteria judge; empty for plain samples.
+	BinExtremes []string `json:"bin_extremes,omitempty"`
 }
 
 // SummarizePorts lists every port of ds with its time span, sample interval and quantities.
@@ -55,6 +58,14 @@ func SummarizePorts(ds *parse.Dataset) []ScanPort {
 		for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
 			if s.Has(q) {
 				sp.Quantities = append(sp.Quantities, q.Column())
+			}
+			if b := s.Bins; b != nil {
+				if b.Low[q] != nil {
+					sp.BinExtremes = append(sp.BinExtremes, q.Column()+"_min")
+				}
+				if b.High[q] != nil {
+					sp.BinExtremes = append(sp.BinExtremes, q.Column()+"_max")
+				}
 			}
 		}
 		out = append(out, sp)
@@ -191,6 +202,9 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 				q = "(no values)"
 			case int(parse.NumQuantities):
 				q = fmt.Sprintf("all %d (every canonical column)", len(p.Quantities))
+			}
+			if len(p.BinExtremes) > 0 {
+				q += "; bins with " + strings.Join(p.BinExtremes, " ")
 			}
 			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", escape.Visible(p.Port), group(p.Samples), p.From, p.To, every, q)
 		}

@@ -68,3 +68,22 @@ func TestReadingOptionsOnEveryReadingCommand(t *testing.T) {
 		t.Errorf("scan - -: exit %d\n%s", code, errw)
 	}
 }
+
+// A performance-monitoring export end to end: scan lists the bin extremes it read, check judges
+// the worst bin (the 12.5 ps DGD maximum, not a percentile of the averages).
+func TestPMExportEndToEnd(t *testing.T) {
+	pm := filepath.Join("..", "..", "parse", "testdata", "messy", "pm_15min.csv")
+	code, out, errw := runCLI(t, "scan", "--format", "json", pm)
+	if code != 0 || !strings.Contains(out, `"dgd_ps_max"`) || !strings.Contains(out, `"q_db_min"`) {
+		t.Errorf("scan: exit %d\n%s\n%s", code, out, errw)
+	}
+	code, out, errw = runCLI(t, "check", "--format", "json", "--profile", "400g-dp-16qam-cfec", pm)
+	if code == 2 {
+		t.Fatalf("check: exit 2\n%s", errw)
+	}
+	for _, want := range []string{`"metric": "dgd_ps"`, `"statistic": "max"`, `"measured": 12.5`, "performance-monitoring bins"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("check JSON lacks %q", want)
+		}
+	}
+}
