@@ -46,6 +46,43 @@ func BenchmarkReadCSV(b *testing.B) {
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/benchRows, "ns/row")
 }
 
+var benchJSONData = sync.OnceValue(func() []byte { return benchJSONL(benchData()) })
+
+// benchJSONL writes the rows of a canonical CSV as JSON Lines: every field a member, numbers
+// as JSON numbers.
+func benchJSONL(csvData []byte) []byte {
+	lines := bytes.Split(bytes.TrimSpace(csvData), []byte("\n"))
+	header := bytes.Split(lines[0], []byte(","))
+	var b bytes.Buffer
+	for _, ln := range lines[1:] {
+		for i, f := range bytes.Split(ln, []byte(",")) {
+			b.WriteString(map[bool]string{true: "{", false: ","}[i == 0])
+			fmt.Fprintf(&b, "%q:", header[i])
+			if i < 2 {
+				fmt.Fprintf(&b, "%q", f)
+			} else {
+				b.Write(f)
+			}
+		}
+		b.WriteString("}\n")
+	}
+	return b.Bytes()
+}
+
+// BenchmarkReadJSONLines reads the rows of BenchmarkReadCSV as JSON Lines through the full path.
+func BenchmarkReadJSONLines(b *testing.B) {
+	data := benchJSONData()
+	b.SetBytes(int64(len(data)))
+	b.ReportAllocs()
+	for b.Loop() {
+		ds, err := ReadFile("bench.jsonl", bytes.NewReader(data), Options{})
+		if err != nil || ds.Inputs[0].RowsUsed != benchRows {
+			b.Fatalf("%v %+v", err, ds.Inputs)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/benchRows, "ns/row")
+}
+
 // BenchmarkReadCSVOneWorker is the same on one parsing goroutine.
 func BenchmarkReadCSVOneWorker(b *testing.B) {
 	data := benchData()

@@ -15,22 +15,25 @@ import "sync"
 type capacityHint struct {
 	rows  []int // expected rows of each group (port) of the block; 0: not hinted
 	off   []int // first row of each group in the slabs
+	voff  []int // first value of each group in vals
 	times []int64
-	vals  []float64 // group g, column j: vals[off[g]*k + j*rows[g] : … + rows[g]]
+	vals  []float64 // group g, column j: vals[voff[g] + j*rows[g] : … + rows[g]]
 }
 
-func newCapacityHint(job *csvJob, ratio float64, k int) *capacityHint {
-	h := &capacityHint{rows: make([]int, len(job.names)), off: make([]int, len(job.names))}
-	start, total := int32(0), 0
+// newCapacityHint hints the groups of job; cols(g) is the number of columns of group g.
+func newCapacityHint(job *csvJob, ratio float64, cols func(g int) int) *capacityHint {
+	h := &capacityHint{rows: make([]int, len(job.names)), off: make([]int, len(job.names)), voff: make([]int, len(job.names))}
+	start, total, nvals := int32(0), 0, 0
 	blockRows := len(job.times)
 	for g := range job.names {
 		end := job.groupEnd[g]
-		h.off[g] = total
+		h.off[g], h.voff[g] = total, nvals
 		if 2*int(job.spread[g]) >= blockRows {
 			// +1 row and 5 %: the first block sees each port a few dozen times, so its
 			// count is easily off by one; capacity never written costs address space.
 			h.rows[g] = int(float64(end-start+1)*ratio*1.05) + 16
 			total += h.rows[g]
+			nvals += h.rows[g] * cols(g)
 		}
 		start = end
 	}
@@ -38,7 +41,7 @@ func newCapacityHint(job *csvJob, ratio float64, k int) *capacityHint {
 		return nil
 	}
 	h.times = make([]int64, total)
-	h.vals = make([]float64, total*k)
+	h.vals = make([]float64, nvals)
 	adviseHuge(h.times)
 	adviseHuge(h.vals)
 	return h
@@ -51,11 +54,11 @@ func exactHint(job *csvJob, k int, arena *slabArena) *capacityHint {
 	if len(job.names) == 0 {
 		return nil
 	}
-	h := &capacityHint{rows: make([]int, len(job.names)), off: make([]int, len(job.names))}
+	h := &capacityHint{rows: make([]int, len(job.names)), off: make([]int, len(job.names)), voff: make([]int, len(job.names))}
 	start, total := int32(0), 0
 	for g := range job.names {
 		end := job.groupEnd[g]
-		h.off[g], h.rows[g] = total, int(end-start)
+		h.off[g], h.voff[g], h.rows[g] = total, total*k, int(end-start)
 		total += h.rows[g]
 		start = end
 	}
@@ -115,9 +118,8 @@ func (h *capacityHint) apply(p *portBuf, g int, qs []Quantity) {
 	}
 	p.hint = n
 	p.times = h.times[o : o : o+n]
-	k := len(qs)
 	for j, q := range qs {
-		a := o*k + j*n
+		a := h.voff[g] + j*n
 		p.vals[q] = &colBuf{hint: n, segs: [][]float64{h.vals[a : a : a+n]}}
 		p.mask |= 1 << q
 	}

@@ -56,7 +56,8 @@ func (r *recycler) job(bp *[]byte, firstLine int) *csvJob {
 	}
 	*j = csvJob{buf: bp, firstLine: firstLine, done: make(chan struct{}),
 		names: j.names[:0], rowPort: j.rowPort[:0], times: j.times[:0], vals: j.vals[:0],
-		groupEnd: j.groupEnd[:0], spread: j.spread[:0], gTimes: j.gTimes[:0], gVals: j.gVals[:0]}
+		groupEnd: j.groupEnd[:0], spread: j.spread[:0], gTimes: j.gTimes[:0], gVals: j.gVals[:0],
+		rowMask: j.rowMask[:0], gMask: j.gMask[:0], gOff: j.gOff[:0]}
 	return j
 }
 
@@ -74,6 +75,10 @@ type csvJob struct {
 	data      []byte
 	firstLine int
 	cutTail   bool          // the last line has no line end because the stream broke off
+	last      bool          // the last block of the input
+	broken    bool          // the stream broke off (read error or a limit) after this block
+	closed    bool          // the input's syntax ends in this block (JSON: the array closed)
+	seq       int           // the block's number in the input, from 0
 	dataLen   int           // len(data), kept after data is released
 	hint      *capacityHint // set on the first block with rows when the input size is known
 	pending   atomic.Int32  // merge shards still to take this job
@@ -96,6 +101,16 @@ type csvJob struct {
 	// Bin companions of the accepted rows, row after row (see binRows); empty without bins.
 	binLow, binHigh []float64
 	binLen          []int64
+
+	// JSON blocks: the rows carry different quantities (see groupSparse).
+	rowMask    []uint32    // quantities present in each accepted row
+	gMask      []uint32    // quantities of each port's group
+	gOff       []int32     // start of each group in gVals
+	unknown    []string    // unknown member names met
+	notes      []string    // notes, each once
+	sawOC      bool        // an OpenConfig document was met
+	stopErr    *ParseError // the input stops here (syntax error, or a strict rejection)
+	stopStrict bool        // stopErr is a strict rejection
 }
 
 // group reorders the accepted rows by port, stably, with each port's values column by column:
@@ -162,12 +177,62 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		return
 	}
 
+	runBlocks(res, r, opt, blockFormat{
+		cut:       cutLines,
+		maxRecord: maxLineBytes,
+		tooLong:   lineTooLong,
+		parser: func() func(*csvJob) {
+			cp := &csvParser{file: file, lay: lay, strict: opt.Strict}
+			return cp.parse
+		},
+		reserve: func(job *csvJob, rows int) {
+			job.rowPort = slices.Grow(job.rowPort, rows)
+			job.times = slices.Grow(job.times, rows)
+			job.vals = slices.Grow(job.vals, rows*len(lay.qs))
+		},
+		account: func(job *csvJob) bool {
+			res.accountCSV(job, opt.Strict)
+			return res.strictErr == nil // a strict stop still takes the rows before the bad one
+		},
+		apply: func(fb *fileBuilder, job *csvJob, shard, shards int) { applyCSV(fb, lay, job, shard, shards) },
+	}, carry, line, eof, readErr)
+}
+
+// blockFormat is what runBlocks needs to know of one input format.
+type blockFormat struct {
+	// cut returns the length of the longest prefix of b made of whole records (0: none);
+	// final says that the input ends there (what follows is not read).
+	cut func(b []byte) (n int, final bool)
+	// maxRecord bounds one record: a longer one stops the input with the error tooLong(line),
+	// line being the line the record starts at or after.
+	maxRecord int
+	tooLong   func(line int) error
+	// parser returns the parse function of one worker goroutine.
+	parser func() func(*csvJob)
+	// reserve makes room in a new job for rows rows (an upper bound from its line count).
+	reserve func(job *csvJob, rows int)
+	// account takes a parsed job's counts, in input order; false stops the input after this
+	// job. A job whose rows must not be taken is left with no port groups (job.names empty).
+	account func(job *csvJob) bool
+	// apply appends the rows of the ports of shard (of shards) to fb.
+	apply func(fb *fileBuilder, job *csvJob, shard, shards int)
+}
+
+// cutLines cuts at the last line end.
+func cutLines(b []byte) (int, bool) { return bytes.LastIndexByte(b, '\n') + 1, false }
+
+// runBlocks reads the rest of a stream (carry, then r, the first byte of carry being on line
+// line) in blocks of whole records: one goroutine cuts the stream, workers parse the blocks in
+// parallel, and the blocks are accounted and merged in input order, so line numbers and "last
+// row wins" stay exact.
+func runBlocks(res *fileResult, r io.Reader, opt Options, f blockFormat, carry []byte, line int, eof bool, readErr error) {
 	workers := opt.workers()
 	rec := newRecycler(4*workers+4, res.sizeHint)
 	var stop atomic.Bool
 	order := make(chan *csvJob, workers)
 	jobs := make(chan *csvJob, workers)
-	go func() { // producer: cut the stream into jobs of whole lines
+	go func() { // producer: cut the stream into jobs of whole records
+		seq := 0
 		defer close(order)
 		defer close(jobs)
 		for !stop.Load() {
@@ -178,40 +243,45 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 			}
 			b = append(b, carry...)
 			carry = nil
+			n, final := 0, false
 			for !eof {
 				if len(b) == cap(b) {
-					if bytes.IndexByte(b, '\n') >= 0 {
+					if n, final = f.cut(b); n > 0 || final {
 						break
 					}
-					if len(b) >= maxLineBytes {
-						readErr, eof = lineTooLong(line+bytes.Count(b, []byte{'\n'})), true
+					if len(b) >= f.maxRecord {
+						readErr, eof = f.tooLong(line), true
 						break
 					}
-					nb := make([]byte, len(b), 2*cap(b)) // a line longer than the block
+					nb := make([]byte, len(b), 2*cap(b)) // a record longer than the block
 					copy(nb, b)
 					b = nb
 				}
 				b = readMore(r, b, &eof, &readErr)
 			}
 			job := rec.job(bp, line)
+			job.seq = seq
+			seq++
 			if eof {
-				job.data = b
+				if n, final = f.cut(b); !final {
+					n = len(b)
+				}
+				job.last, job.broken = true, readErr != nil
 				job.cutTail = readErr != nil && len(b) > 0 && b[len(b)-1] != '\n'
-			} else {
-				nl := bytes.LastIndexByte(b, '\n')
-				job.data = b[:nl+1]
-				carry = append([]byte(nil), b[nl+1:]...)
+			}
+			job.data = b[:n]
+			if final {
+				job.last, job.closed, job.broken, job.cutTail = true, true, false, false
+			} else if !eof {
+				carry = append([]byte(nil), b[n:]...)
 			}
 			lines := bytes.Count(job.data, []byte{'\n'})
 			line += lines
 			// Room for every row of the block, so that parsing never grows (and copies) them.
-			rows := lines + 1
-			job.rowPort = slices.Grow(job.rowPort, rows)
-			job.times = slices.Grow(job.times, rows)
-			job.vals = slices.Grow(job.vals, rows*len(lay.qs))
+			f.reserve(job, lines+1)
 			order <- job
 			jobs <- job
-			if eof {
+			if job.last {
 				return
 			}
 		}
@@ -221,10 +291,10 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			cp := &csvParser{file: file, lay: lay, strict: opt.Strict}
+			parse := f.parser()
 			for job := range jobs {
 				if !stop.Load() {
-					cp.parse(job)
+					parse(job)
 				}
 				rec.putBuf(job.buf)
 				job.dataLen = len(job.data)
@@ -247,7 +317,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		go func() {
 			defer swg.Done()
 			for job := range chans[i] {
-				applyCSV(builders[i], lay, job, i, shards)
+				f.apply(builders[i], job, i, shards)
 				if job.pending.Add(-1) == 0 {
 					rec.putJob(job)
 				}
@@ -259,9 +329,8 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		if stop.Load() {
 			continue
 		}
-		res.accountCSV(job, opt.Strict)
-		if res.strictErr != nil {
-			stop.Store(true) // this block's rows before the bad one are still taken
+		if !f.account(job) {
+			stop.Store(true)
 		}
 		job.pending.Store(int32(shards))
 		for _, ch := range chans {
@@ -280,7 +349,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		}
 	}
 	if readErr != nil {
-		res.fail(&ParseError{File: file, Line: line, Err: truncated(readErr)}, nil)
+		res.fail(&ParseError{File: res.stats.File, Line: line, Err: truncated(readErr)}, nil)
 	}
 }
 
@@ -364,12 +433,20 @@ func (res *fileResult) accountCSV(job *csvJob, strict bool) {
 	for _, pe := range job.rejects {
 		res.addRejection(pe.rejection())
 	}
-	if !res.hinted && len(job.times) > 0 {
-		res.hinted = true
-		if res.sizeHint > 0 && job.dataLen > 0 {
-			if ratio := float64(res.sizeHint) / float64(job.dataLen); ratio >= 1.5 {
-				job.hint = newCapacityHint(job, ratio, len(res.lay.qs))
-			}
+	k := len(res.lay.qs)
+	res.hintFirst(job, func(int) int { return k })
+}
+
+// hintFirst gives the input's first block with rows a capacityHint when the input's size is
+// known; cols(g) is the number of columns of the block's group g.
+func (res *fileResult) hintFirst(job *csvJob, cols func(g int) int) {
+	if res.hinted || len(job.times) == 0 {
+		return
+	}
+	res.hinted = true
+	if res.sizeHint > 0 && job.dataLen > 0 {
+		if ratio := float64(res.sizeHint) / float64(job.dataLen); ratio >= 1.5 {
+			job.hint = newCapacityHint(job, ratio, cols)
 		}
 	}
 }

@@ -355,13 +355,19 @@ func TestJSONTimeOptions(t *testing.T) {
 	}
 }
 
-// A JSON input, read whole, is bounded: past maxJSONBytes it stops with ErrTooLarge.
-func TestJSONBounded(t *testing.T) {
-	defer func(n int64) { maxJSONBytes = n }(maxJSONBytes)
-	maxJSONBytes = 1 << 20
-	r := io.MultiReader(strings.NewReader("[\n"), &endless{line: []byte(`{"time": 0, "port": "p", "osnr_db": 20},` + "\n")})
-	_, err := ReadFile("big.json", r, Options{})
-	if !errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), "JSON input above") {
-		t.Fatalf("err = %v, want ErrTooLarge for a JSON input", err)
+// A JSON input is streamed, but one document is held whole while it is parsed: a document
+// that never ends stops the input with ErrTooLarge at maxJSONDocument, the documents before it
+// read.
+func TestJSONDocumentBounded(t *testing.T) {
+	defer func(n int) { maxJSONDocument = n }(maxJSONDocument)
+	maxJSONDocument = 1 << 20
+	r := io.MultiReader(strings.NewReader("[{\"time\": 0, \"port\": \"p\", \"osnr_db\": 20},\n{\"values\": [\n"),
+		&endless{line: []byte("1,\n")})
+	ds, err := ReadFile("big.json", r, Options{})
+	if !errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), "JSON document after line 1 ") {
+		t.Fatalf("err = %v, want ErrTooLarge for the endless document", err)
+	}
+	if in := ds.Inputs[0]; in.RowsUsed != 1 {
+		t.Errorf("accounting %+v, want the first document used", in)
 	}
 }

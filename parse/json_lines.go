@@ -2,11 +2,11 @@ package parse
 
 import (
 	"bytes"
-	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"math"
+	"math/bits"
+	"slices"
 	"sort"
 	"strings"
 	"unicode/utf8"
@@ -15,22 +15,70 @@ import (
 // readJSON reads JSON Lines, a JSON document, a stream of documents or an array of documents.
 // Each document is either a canonical record (same field names as the CSV) or an
 // OpenConfig-shaped telemetry document; see docs/formats.md.
+//
+// The input is streamed like a CSV: cut into blocks of whole lines (JSON Lines) or whole
+// documents, parsed in parallel with jdoc (a flat node list, no maps), and accounted and merged
+// in input order. Only the blocks in flight are in memory.
 func readJSON(res *fileResult, r io.Reader, opt Options) {
-	data, readErr := io.ReadAll(r)
-	if errors.Is(readErr, ErrTooLarge) { // nothing is read of an input over the limit
-		res.fail(&ParseError{File: res.stats.File, Err: readErr}, nil)
-		return
+	stat, _ := opt.statistic()
+	hb := getBytes(bufferSize(res.sizeHint))
+	defer func() { bytesPool.Put(hb) }()
+	buf := *hb
+	var readErr error
+	eof := false
+	// Read until the first line after leading white space is complete: it decides the mode.
+	for {
+		start := skipSpace(buf, 0)
+		if eof || bytes.IndexByte(buf[start:], '\n') >= 0 {
+			break
+		}
+		if len(buf) == cap(buf) {
+			if len(buf) >= maxJSONDocument {
+				res.fail(&ParseError{File: res.stats.File, Line: 1, Err: documentTooLong(1)}, readErr)
+				return
+			}
+			buf = slices.Grow(buf, cap(buf))
+			*hb = buf
+		}
+		buf = readMore(r, buf, &eof, &readErr)
 	}
-	jr := &jsonReader{res: res, opt: opt, unknown: map[string]bool{}}
-	jr.stat, _ = opt.statistic()
-	start := skipSpace(data, 0)
+	jr := &jsonFile{res: res, opt: opt, stat: stat, unknown: map[string]bool{}}
+	start := skipSpace(buf, 0)
+	f := blockFormat{
+		parser: func() func(*csvJob) {
+			p := &jsonParser{file: res.stats.File, stat: stat, strict: opt.Strict, mode: jr.mode, times: opt.times}
+			return p.parse
+		},
+		reserve: func(job *csvJob, rows int) {
+			if jr.mode == jsonModeLines {
+				job.rowPort = slices.Grow(job.rowPort, rows)
+				job.times = slices.Grow(job.times, rows)
+				job.rowMask = slices.Grow(job.rowMask, rows)
+				job.vals = slices.Grow(job.vals, rows*int(NumQuantities))
+			}
+		},
+		maxRecord: maxJSONDocument,
+		tooLong:   documentTooLong,
+		account:   jr.account,
+		apply:     applySparse,
+	}
+	line := 1
+	var d jdoc
 	switch {
-	case start < len(data) && data[start] == '{' && json.Valid(bytes.TrimSpace(firstLine(data[start:]))):
+	case start < len(buf) && buf[start] == '{' && d.validLine(bytes.TrimSpace(firstLine(buf[start:]))):
 		res.stats.Format = strings.Replace(res.stats.Format, "json", "jsonl", 1)
-		jr.readLines(data)
+		jr.mode = jsonModeLines
+		f.cut = cutLines
+	case start < len(buf) && buf[start] == '[':
+		jr.mode = jsonModeArray
+		line += bytes.Count(buf[:start], []byte{'\n'})
+		buf = buf[start+1:]
+		f.cut = cutDocuments(true)
 	default:
-		jr.readDocuments(data, start)
+		jr.mode = jsonModeStream
+		f.cut = cutDocuments(false)
 	}
+	runBlocks(res, r, opt, f, buf, line, eof, readErr)
 	if len(jr.unknown) > 0 {
 		names := make([]string, 0, len(jr.unknown))
 		for n := range jr.unknown {
@@ -42,9 +90,6 @@ func readJSON(res *fileResult, r io.Reader, opt Options) {
 		}
 	}
 	res.stats.Notes = append(res.stats.Notes, jr.notes...)
-	if readErr != nil {
-		res.fail(&ParseError{File: res.stats.File, Line: jr.line, Err: truncated(readErr)}, nil)
-	}
 }
 
 func firstLine(b []byte) []byte {
@@ -61,20 +106,187 @@ func skipSpace(b []byte, i int) int {
 	return i
 }
 
-type jsonReader struct {
+// validLine reports whether line is exactly one JSON value (with white space around).
+func (d *jdoc) validLine(line []byte) bool {
+	end, err := d.parseValue(line, 0)
+	return err == nil && skipSpace(line, end) == len(line)
+}
+
+// jsonMode is how a JSON input is laid out.
+type jsonMode uint8
+
+const (
+	jsonModeLines  jsonMode = iota // one document per line
+	jsonModeStream                 // documents one after the other, any layout
+	jsonModeArray                  // one array of documents (its '[' already consumed)
+)
+
+// cutDocuments returns the cut function of a stream (or array) of documents: it cuts after the
+// last document that is an object or array closed in b. Strings are skipped; a bracket that
+// closes nothing is left for the parser to report. In an array, the array's closing bracket
+// ends the input (what follows it is not read, as a JSON decoder would not).
+func cutDocuments(array bool) func(b []byte) (int, bool) {
+	return func(b []byte) (int, bool) {
+		depth, last := 0, 0
+		for i := 0; i < len(b); i++ {
+			switch b[i] {
+			case '"':
+				for i++; i < len(b) && b[i] != '"'; i++ {
+					if b[i] == '\\' {
+						i++
+					}
+				}
+			case '{', '[':
+				depth++
+			case '}', ']':
+				if depth == 0 {
+					if array && b[i] == ']' {
+						return i, true
+					}
+					continue
+				}
+				if depth--; depth == 0 {
+					last = i + 1
+				}
+			}
+		}
+		return last, false
+	}
+}
+
+// jsonFile is the per-input state of readJSON, updated in input order by account.
+type jsonFile struct {
 	res     *fileResult
 	opt     Options
 	stat    string
+	mode    jsonMode
 	unknown map[string]bool
 	notes   []string
-	line    int // last line reached, for messages
+}
+
+// documentTooLong is the read error of a JSON document (or line) longer than maxJSONDocument
+// that starts at or after line.
+func documentTooLong(line int) error {
+	return fmt.Errorf("%w: a JSON document after line %d is longer than %d MiB", ErrTooLarge, line, maxJSONDocument>>20)
+}
+
+// account adds a parsed block to the input's accounting; false stops the input after it. A
+// block stopped by a syntax error or a strict rejection still gives the rows before it.
+func (jr *jsonFile) account(job *csvJob) bool {
+	res := jr.res
+	if !res.budget.takeRows(job.rowsRead) {
+		// The run's row limit stops the input as for CSV: this block is neither counted nor
+		// merged.
+		job.names = job.names[:0]
+		res.strictErr = res.budget.rowLimitError(res.stats.File, job.firstLine)
+		res.stats.Error = res.strictErr.Error()
+		return false
+	}
+	res.stats.RowsRead += job.rowsRead
+	res.stats.RowsRejected += job.nReject
+	res.stats.RowsUsed += len(job.times)
+	for _, pe := range job.rejects {
+		res.addRejection(pe.rejection())
+	}
+	for _, u := range job.unknown {
+		jr.unknown[u] = true
+	}
+	for _, n := range job.notes {
+		if !slices.Contains(jr.notes, n) {
+			jr.notes = append(jr.notes, n)
+		}
+	}
+	res.hintFirst(job, func(g int) int { return bits.OnesCount32(job.gMask[g]) })
+	if job.sawOC && !strings.Contains(res.stats.Format, "openconfig") {
+		res.stats.Format = strings.Replace(strings.Replace(res.stats.Format, "jsonl", "json", 1), "json", "openconfig-json", 1)
+	}
+	if job.stopErr != nil {
+		if job.stopStrict {
+			res.stopStrict(job.stopErr)
+		} else {
+			res.fail(job.stopErr, nil)
+		}
+	}
+	return job.stopErr == nil
+}
+
+// jsonParser parses blocks of JSON input; one per worker goroutine.
+type jsonParser struct {
+	file    string
+	stat    string
+	strict  bool
+	mode    jsonMode
+	times   *timeReader
+	doc     jdoc
+	portIdx map[string]int32
+	cols    map[string]column // member name → column, for names without escapes
+	slots   []keySlot         // the previous record's member names, by position
+	members []canonMember
+	unknown []string
+	seenU   map[string]bool
+	ocIdx   map[string]int // port → index of its record in the current OpenConfig document
+	job     *csvJob
 	stopped bool
 }
 
-// readLines treats every non-blank line as one document.
-func (jr *jsonReader) readLines(data []byte) {
-	lineNo := 0
-	for len(data) > 0 && !jr.stopped {
+// keySlot remembers the member name met at one position of the previous record and its
+// column: JSON Lines exporters write the members of every record in the same order.
+type keySlot struct {
+	key []byte
+	col column
+}
+
+// column is the column of member n, the slot-th of its record.
+func (jp *jsonParser) column(d *jdoc, n *jnode, slot int) column {
+	if n.keyEsc {
+		return lookupColumn(d.keys[n.keyIndex])
+	}
+	k := d.data[n.k0:n.k1]
+	if slot < len(jp.slots) && bytes.Equal(jp.slots[slot].key, k) {
+		return jp.slots[slot].col
+	}
+	col, hit := jp.cols[bytesString(k)]
+	if !hit {
+		col = lookupColumn(string(k))
+		if len(jp.cols) < 1024 {
+			jp.cols[string(k)] = col
+		}
+	}
+	if slot < 64 {
+		for len(jp.slots) <= slot {
+			jp.slots = append(jp.slots, keySlot{})
+		}
+		jp.slots[slot] = keySlot{append(jp.slots[slot].key[:0], k...), col}
+	}
+	return col
+}
+
+// canonMember is one member of a canonical record.
+type canonMember struct {
+	key  string
+	node int
+}
+
+func (jp *jsonParser) parse(job *csvJob) {
+	if jp.portIdx == nil {
+		jp.portIdx, jp.cols, jp.seenU = map[string]int32{}, map[string]column{}, map[string]bool{}
+	}
+	clear(jp.portIdx)
+	clear(jp.seenU)
+	jp.job, jp.stopped = job, false
+	defer func() { job.groupSparse(); jp.job = nil }()
+	if jp.mode == jsonModeLines {
+		jp.parseLines(job)
+		return
+	}
+	jp.parseDocuments(job)
+}
+
+// parseLines treats every non-blank line as one document.
+func (jp *jsonParser) parseLines(job *csvJob) {
+	data := job.data
+	lineNo := job.firstLine - 1
+	for len(data) > 0 && !jp.stopped {
 		lineNo++
 		ln := data
 		if i := bytes.IndexByte(data, '\n'); i >= 0 {
@@ -82,72 +294,82 @@ func (jr *jsonReader) readLines(data []byte) {
 		} else {
 			data = nil
 		}
-		jr.line = lineNo
 		ln = bytes.TrimSpace(ln)
-		if len(ln) == 0 {
+		if len(ln) == 0 || bytes.Equal(ln, []byte{0xef, 0xbb, 0xbf}) {
 			continue
 		}
-		if bytes.Equal(ln, []byte{0xef, 0xbb, 0xbf}) {
-			continue
-		}
-		dec := json.NewDecoder(bytes.NewReader(ln))
-		dec.UseNumber()
-		var v any
-		err := dec.Decode(&v)
-		if err == nil && dec.More() {
-			err = errors.New("more than one value on the line")
+		end, err := jp.doc.parseValue(ln, 0)
+		if err == nil {
+			// As json.Decoder.More: a closing bracket after the value ends the line quietly.
+			if i := skipSpace(ln, end); i < len(ln) && ln[i] != ']' && ln[i] != '}' {
+				err = fmt.Errorf("more than one value on the line")
+			}
 		}
 		if err != nil {
-			jr.res.stats.RowsRead++
-			jr.reject(&ParseError{File: jr.res.stats.File, Line: lineNo, Err: fmt.Errorf("%w: %v", ErrJSON, err)})
+			job.rowsRead++
+			jp.reject(&ParseError{File: jp.file, Line: lineNo, Err: fmt.Errorf("%w: %v", ErrJSON, err)})
 			continue
 		}
-		jr.document(v, lineNo)
+		jp.document(lineNo)
 	}
 }
 
-// readDocuments reads a stream of JSON values (or one array of them); a syntax error stops the
-// file because the decoder cannot find the next value after it.
-func (jr *jsonReader) readDocuments(data []byte, start int) {
-	lc := lineCounter{data: data, line: 1}
-	dec := json.NewDecoder(bytes.NewReader(data))
-	dec.UseNumber()
-	inArray := false
-	if start < len(data) && data[start] == '[' {
-		if _, err := dec.Token(); err != nil {
-			jr.fileErr(lc.at(start), err)
-			return
-		}
-		inArray = true
-	}
-	for !jr.stopped {
-		if inArray && !dec.More() {
-			if _, err := dec.Token(); err != nil {
-				jr.fileErr(lc.at(int(dec.InputOffset())), err)
+// parseDocuments reads the documents of a block of a stream or an array; a syntax error stops
+// the input because the next document cannot be found after it.
+func (jp *jsonParser) parseDocuments(job *csvJob) {
+	data := job.data
+	lc := lineCounter{data: data, line: job.firstLine}
+	i := 0
+	first := job.seq == 0
+	for !jp.stopped {
+		i = skipSpace(data, i)
+		if jp.mode == jsonModeArray && i < len(data) && !first {
+			if data[i] != ',' {
+				jp.stop(lc.at(i), fmt.Errorf("invalid character %q after array element", data[i]))
+				return
 			}
-			break
+			if i = skipSpace(data, i+1); i >= len(data) {
+				jp.stop(lc.at(i), fmt.Errorf("unexpected end of JSON input"))
+				return
+			}
 		}
-		off := int(dec.InputOffset())
-		for off < len(data) && (data[off] == ',' || data[off] == ' ' || data[off] == '\t' || data[off] == '\r' || data[off] == '\n') {
-			off++
+		if jp.mode == jsonModeStream && i < len(data) && data[i] == ',' {
+			// Commas between documents are an error, but trailing ones at the very end are
+			// not read (as json.Decoder used in a loop that stops at the end would not).
+			j := i
+			for j < len(data) && (data[j] == ',' || skipSpace(data, j) > j) {
+				j = max(j+1, skipSpace(data, j))
+			}
+			if j < len(data) || !job.last {
+				jp.stop(lc.at(i), fmt.Errorf("invalid character ',' looking for beginning of value"))
+				return
+			}
+			i = j
 		}
-		if !inArray && off >= len(data) {
-			break
-		}
-		lineNo := lc.at(off)
-		jr.line = lineNo
-		var v any
-		if err := dec.Decode(&v); err != nil {
-			jr.fileErr(lineNo, err)
+		if i >= len(data) {
+			if jp.mode == jsonModeArray && job.last && !job.closed {
+				jp.stop(lc.at(i), fmt.Errorf("unexpected end of JSON input"))
+			}
 			return
 		}
-		jr.document(v, lineNo)
+		first = false
+		lineNo := lc.at(i)
+		end, err := jp.doc.parseValue(data, i)
+		if err != nil {
+			if !job.broken {
+				jp.stop(lineNo, err)
+			} // else the document was cut off with the stream, whose error says so
+			return
+		}
+		jp.document(lineNo)
+		i = end
 	}
 }
 
-func (jr *jsonReader) fileErr(line int, err error) {
-	jr.res.fail(&ParseError{File: jr.res.stats.File, Line: line, Err: fmt.Errorf("%w: %v", ErrJSON, err)}, nil)
-	jr.stopped = true
+// stop ends the input at a syntax error.
+func (jp *jsonParser) stop(line int, err error) {
+	jp.job.stopErr = &ParseError{File: jp.file, Line: line, Err: fmt.Errorf("%w: %v", ErrJSON, err)}
+	jp.stopped = true
 }
 
 // lineCounter maps byte offsets (non-decreasing) to 1-based line numbers.
@@ -168,26 +390,14 @@ func (lc *lineCounter) at(off int) int {
 	return lc.line
 }
 
-func (jr *jsonReader) reject(pe *ParseError) {
-	jr.res.stats.RowsRejected++
-	jr.res.addRejection(pe.rejection())
-	if jr.opt.Strict {
-		jr.res.stopStrict(pe)
-		jr.stopped = true
+// reject records a rejected row; in strict mode it also stops the input there.
+func (jp *jsonParser) reject(pe *ParseError) {
+	job := jp.job
+	job.reject(pe)
+	if jp.strict {
+		job.stopErr, job.stopStrict = pe, true
+		jp.stopped = true
 	}
-}
-
-func (jr *jsonReader) use(port string, t int64, rec *record) {
-	jr.res.stats.RowsUsed++
-	qs := make([]Quantity, 0, NumQuantities)
-	vals := make([]float64, 0, NumQuantities)
-	for q := Quantity(0); q < NumQuantities; q++ {
-		if rec.mask&(1<<q) != 0 {
-			qs = append(qs, q)
-			vals = append(vals, rec.vals[q])
-		}
-	}
-	jr.res.fb.port([]byte(port)).addDense(t, qs, vals, rec.mask)
 }
 
 // record is one port's values at one time; mask marks the quantities it carries a column for.
@@ -201,131 +411,305 @@ func (rec *record) set(q Quantity, v float64) {
 	rec.mask |= 1 << q
 }
 
-// document dispatches one decoded JSON value.
-func (jr *jsonReader) document(v any, lineNo int) {
-	obj, ok := v.(map[string]any)
-	if !ok {
-		jr.res.stats.RowsRead++
-		jr.reject(&ParseError{File: jr.res.stats.File, Line: lineNo, Err: fmt.Errorf("%w: a record must be a JSON object", ErrJSON)})
-		return
+// use adds an accepted row to the block.
+func (jp *jsonParser) use(port []byte, t int64, rec *record) {
+	job := jp.job
+	pi, known := jp.portIdx[bytesString(port)]
+	if !known {
+		pi = int32(len(job.names))
+		name := string(port)
+		job.names = append(job.names, name)
+		jp.portIdx[name] = pi
 	}
-	if member(obj, "terminal-device") != nil || member(obj, "components") != nil {
-		if !strings.Contains(jr.res.stats.Format, "openconfig") {
-			jr.res.stats.Format = strings.Replace(strings.Replace(jr.res.stats.Format, "jsonl", "json", 1), "json", "openconfig-json", 1)
+	job.rowPort = append(job.rowPort, pi)
+	job.times = append(job.times, t)
+	job.rowMask = append(job.rowMask, rec.mask)
+	for q, v := range rec.vals {
+		if rec.mask&(1<<q) == 0 {
+			v = math.NaN()
 		}
-		jr.openConfig(obj, lineNo)
-		return
+		job.vals = append(job.vals, v)
 	}
-	jr.canonical(obj, lineNo)
 }
 
-// canonical reads a flat record with CSV field names.
-func (jr *jsonReader) canonical(obj map[string]any, lineNo int) {
-	jr.res.stats.RowsRead++
-	file := jr.res.stats.File
-	keys := make([]string, 0, len(obj))
-	for k := range obj {
-		keys = append(keys, k)
+// document dispatches the parsed document in jp.doc.
+func (jp *jsonParser) document(lineNo int) {
+	d := &jp.doc
+	if d.nodes[0].kind != jObject {
+		jp.job.rowsRead++
+		jp.reject(&ParseError{File: jp.file, Line: lineNo, Err: fmt.Errorf("%w: a record must be a JSON object", ErrJSON)})
+		return
 	}
-	sort.Strings(keys)
+	if d.isOpenConfig() {
+		jp.job.sawOC = true
+		jp.openConfig(lineNo)
+		return
+	}
+	jp.canonical(lineNo)
+}
+
+// isOpenConfig reports whether the object d holds has a terminal-device or components member
+// (with or without a module prefix) that is not null: d.member for both, in one pass.
+func (d *jdoc) isOpenConfig() bool {
+	for c := 1; c < int(d.nodes[0].end); c = int(d.nodes[c].end) {
+		n := &d.nodes[c]
+		k := d.key(n)
+		if (bytes.HasSuffix(k, []byte("terminal-device")) || bytes.HasSuffix(k, []byte("components"))) && n.kind != jNull {
+			if d.member(0, "terminal-device") >= 0 || d.member(0, "components") >= 0 {
+				return true
+			}
+		}
+	}
+	return false
+}
+
+// canonical reads a flat record with CSV field names. The members are taken in document order;
+// a record with a duplicate or a bad field is read again in the order of its sorted member
+// names (as decoded into a map, the last of equal names winning), which decides the one
+// reason it is rejected for.
+func (jp *jsonParser) canonical(lineNo int) {
+	jp.job.rowsRead++
+	d := &jp.doc
 	var rec record
 	var t int64
-	var port string
+	var port []byte
+	var seen uint32 // bit q for quantity q, bits 30 and 31 for time and port
+	haveTime, havePort := false, false
+	jp.unknown = jp.unknown[:0]
+	ok := true
+	slot := 0
+	for c := 1; c < int(d.nodes[0].end) && ok; c = int(d.nodes[c].end) {
+		n := &d.nodes[c]
+		col := jp.column(d, n, slot)
+		slot++
+		var bit uint32
+		switch col.kind {
+		case colUnknown:
+			jp.unknown = append(jp.unknown, string(d.key(n)))
+			continue
+		case colTime:
+			bit = 1 << 30
+		case colPort:
+			bit = 1 << 31
+		default:
+			bit = 1 << col.q
+		}
+		if seen&bit != 0 {
+			ok = false
+			break
+		}
+		seen |= bit
+		switch col.kind {
+		case colTime:
+			b, missing := d.scalar(c)
+			if missing {
+				continue
+			}
+			t, ok = jp.times.parse(b)
+			haveTime = true
+		case colPort:
+			b, missing := d.scalar(c)
+			if missing {
+				continue
+			}
+			port, ok = b, utf8.Valid(b)
+			havePort = true
+		case colQuantity:
+			v, err := d.quantity(c, col)
+			rec.set(col.q, v)
+			ok = err == nil
+		}
+	}
+	if !ok {
+		jp.canonicalSorted(lineNo)
+		return
+	}
+	for _, u := range jp.unknown {
+		jp.noteUnknown(u)
+	}
+	jp.finishCanonical(lineNo, haveTime, havePort, port, t, &rec)
+}
+
+func (jp *jsonParser) noteUnknown(name string) {
+	if !jp.seenU[name] {
+		jp.seenU[name] = true
+		jp.job.unknown = append(jp.job.unknown, name)
+	}
+}
+
+func (jp *jsonParser) finishCanonical(lineNo int, haveTime, havePort bool, port []byte, t int64, rec *record) {
+	switch {
+	case !haveTime:
+		jp.reject(&ParseError{File: jp.file, Line: lineNo, Field: "time", Err: ErrMissingValue})
+	case !havePort:
+		jp.reject(&ParseError{File: jp.file, Line: lineNo, Field: "port", Err: ErrMissingValue})
+	case rec.mask == 0:
+		jp.reject(&ParseError{File: jp.file, Line: lineNo, Err: fmt.Errorf("%w: the record has no measured quantity", ErrMissingColumn)})
+	default:
+		jp.use(port, t, rec)
+	}
+}
+
+// canonicalSorted is canonical in sorted member order, for a record with a duplicate or bad
+// field: it finds the reason the record is rejected for.
+func (jp *jsonParser) canonicalSorted(lineNo int) {
+	d := &jp.doc
+	file := jp.file
+	jp.members = jp.members[:0]
+	for c := 1; c < int(d.nodes[0].end); c = int(d.nodes[c].end) {
+		jp.members = append(jp.members, canonMember{string(d.key(&d.nodes[c])), c})
+	}
+	// Stable sort then keep the last of equal names: what decoding into a map keeps.
+	slices.SortStableFunc(jp.members, func(a, b canonMember) int { return strings.Compare(a.key, b.key) })
+	ms := jp.members[:0]
+	for i, m := range jp.members {
+		if i+1 < len(jp.members) && jp.members[i+1].key == m.key {
+			continue
+		}
+		ms = append(ms, m)
+	}
+	var rec record
+	var t int64
+	var port []byte
 	haveTime, havePort := false, false
 	seen := map[column]string{}
-	for _, k := range keys {
+	for _, m := range ms {
+		k := m.key
 		c := lookupColumn(k)
 		if c.kind == colUnknown {
-			jr.unknown[k] = true
+			jp.noteUnknown(k)
 			continue
 		}
 		key := column{kind: c.kind, q: c.q}
 		if prev, dup := seen[key]; dup {
-			jr.reject(&ParseError{File: file, Line: lineNo, Field: k,
+			jp.reject(&ParseError{File: file, Line: lineNo, Field: k,
 				Err: fmt.Errorf("%w: fields %q and %q are the same quantity", ErrDuplicateColumn, prev, k)})
 			return
 		}
 		seen[key] = k
-		val := obj[k]
 		switch c.kind {
 		case colTime:
-			b, missing := scalarBytes(val)
+			b, missing := d.scalar(m.node)
 			if missing {
 				continue
 			}
-			ms, ok := jr.opt.times.parse(b)
+			ms, ok := jp.times.parse(b)
 			if !ok {
-				jr.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: jr.opt.times.badTime(b)})
+				jp.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: jp.times.badTime(b)})
 				return
 			}
 			t, haveTime = ms, true
 		case colPort:
-			b, missing := scalarBytes(val)
+			b, missing := d.scalar(m.node)
 			if missing {
 				continue
 			}
 			if !utf8.Valid(b) {
-				jr.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: fmt.Errorf("%w: port name %s", ErrEncoding, quoteShort(b))})
+				jp.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: fmt.Errorf("%w: port name %s", ErrEncoding, quoteShort(b))})
 				return
 			}
-			port, havePort = string(b), true
+			port, havePort = b, true
 		case colQuantity:
-			v, err := jsonValue(val, c)
+			v, err := d.quantity(m.node, c)
 			if err != nil {
-				jr.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: err})
+				jp.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: err})
 				return
 			}
 			rec.set(c.q, v)
 		}
 	}
-	if !haveTime {
-		jr.reject(&ParseError{File: file, Line: lineNo, Field: "time", Err: ErrMissingValue})
-		return
-	}
-	if !havePort {
-		jr.reject(&ParseError{File: file, Line: lineNo, Field: "port", Err: ErrMissingValue})
-		return
-	}
-	if rec.mask == 0 {
-		jr.reject(&ParseError{File: file, Line: lineNo, Err: fmt.Errorf("%w: the record has no measured quantity", ErrMissingColumn)})
-		return
-	}
-	jr.use(port, t, &rec)
+	jp.finishCanonical(lineNo, haveTime, havePort, port, t, &rec)
 }
 
-// scalarBytes gives the text of a JSON string or number; missing is true for null and the
-// missing-value spellings.
-func scalarBytes(v any) (b []byte, missing bool) {
-	switch x := v.(type) {
-	case nil:
-		return nil, true
-	case json.Number:
-		return []byte(x.String()), false
-	case string:
-		b := bytes.TrimSpace([]byte(x))
-		return b, isMissing(b)
-	case bool:
-		return []byte(fmt.Sprint(x)), false
-	}
-	return []byte("(object or array)"), false
-}
-
-// jsonValue converts a JSON value of column c to the stored unit and checks it; NaN means missing.
-func jsonValue(val any, c column) (float64, error) {
-	b, missing := scalarBytes(val)
+// quantity converts JSON value node v of column c to the stored unit and checks it; NaN means
+// missing.
+func (d *jdoc) quantity(v int, c column) (float64, error) {
+	b, missing := d.scalar(v)
 	if missing {
 		return math.NaN(), nil
 	}
-	v, ok := parseFloat(b)
+	x, ok := parseFloat(b)
 	if !ok {
 		return 0, fmt.Errorf("%w: %s", ErrNotNumber, quoteShort(b))
 	}
-	out, ok := c.convert(v)
+	out, ok := c.convert(x)
 	if !ok {
-		return 0, c.convFailure(v)
+		return 0, c.convFailure(x)
 	}
 	if err := checkRange(c.q, out); err != nil {
 		return 0, err
 	}
 	return out, nil
+}
+
+// groupSparse is group for blocks whose rows carry different quantities (JSON): vals holds
+// NumQuantities values per row, rowMask says which are present, and each port's group gets a
+// column for every quantity one of its rows has (NaN in the rows without it).
+func (job *csvJob) groupSparse() {
+	np := len(job.names)
+	job.groupEnd = slices.Grow(job.groupEnd[:0], np)[:np]
+	job.gMask = slices.Grow(job.gMask[:0], np)[:np]
+	job.gOff = slices.Grow(job.gOff[:0], np)[:np]
+	job.spread = slices.Grow(job.spread[:0], np)[:np]
+	counts := make([]int32, np)
+	first := make([]int32, np)
+	clear(job.gMask)
+	for r, pi := range job.rowPort {
+		if counts[pi] == 0 {
+			first[pi] = int32(r)
+		}
+		counts[pi]++
+		job.spread[pi] = int32(r) - first[pi]
+		job.gMask[pi] |= job.rowMask[r]
+	}
+	total, rows := 0, int32(0)
+	starts := make([]int32, np)
+	for g := range counts {
+		starts[g] = rows
+		rows += counts[g]
+		job.groupEnd[g] = rows
+		job.gOff[g] = int32(total)
+		total += int(counts[g]) * bits.OnesCount32(job.gMask[g])
+	}
+	job.gTimes = slices.Grow(job.gTimes[:0], len(job.times))[:len(job.times)]
+	job.gVals = slices.Grow(job.gVals[:0], total)[:total]
+	cur := make([]int32, np)
+	k := int(NumQuantities)
+	for r, pi := range job.rowPort {
+		at := cur[pi]
+		cur[pi]++
+		job.gTimes[starts[pi]+at] = job.times[r]
+		row := job.vals[r*k : (r+1)*k]
+		base, cnt := int(job.gOff[pi]), int(counts[pi])
+		j := 0
+		for m := job.gMask[pi]; m != 0; m &= m - 1 {
+			q := bits.TrailingZeros32(m)
+			job.gVals[base+j*cnt+int(at)] = row[q]
+			j++
+		}
+	}
+}
+
+// applySparse appends the rows of the ports of shard (of shards) from a block grouped by
+// groupSparse.
+func applySparse(fb *fileBuilder, job *csvJob, shard, shards int) {
+	start := int32(0)
+	var qbuf [NumQuantities]Quantity
+	for g, name := range job.names {
+		end := job.groupEnd[g]
+		if shards == 1 || shardOf(name, shards) == shard {
+			qs := qbuf[:0]
+			for m := job.gMask[g]; m != 0; m &= m - 1 {
+				qs = append(qs, Quantity(bits.TrailingZeros32(m)))
+			}
+			n := int(end - start)
+			off := int(job.gOff[g])
+			p := fb.port([]byte(name))
+			if job.hint != nil && len(p.times) == 0 && p.mask == 0 {
+				job.hint.apply(p, g, qs)
+			}
+			p.addBlock(job.gTimes[start:end], qs, job.gVals[off:off+n*len(qs)], job.gMask[g])
+		}
+		start = end
+	}
 }

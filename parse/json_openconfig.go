@@ -2,66 +2,57 @@ package parse
 
 import (
 	"fmt"
-	"sort"
+	"slices"
+	"strconv"
 	"strings"
 	"unicode/utf8"
 )
 
-// member finds obj[name], also when the member name carries a module prefix ("module:name").
-func member(obj map[string]any, name string) any {
-	if obj == nil {
-		return nil
-	}
-	if v, ok := obj[name]; ok {
-		return v
-	}
-	for k, v := range obj {
-		if i := strings.LastIndexByte(k, ':'); i >= 0 && k[i+1:] == name {
-			return v
-		}
-	}
-	return nil
-}
-
-func memberObj(obj map[string]any, name string) map[string]any {
-	m, _ := member(obj, name).(map[string]any)
-	return m
-}
-
 // listEntry is one entry of a YANG list, with its key.
 type listEntry struct {
 	key string
-	obj map[string]any
+	obj int // node of the entry's object
 }
 
 // listEntries reads a YANG list given as a JSON array of entries (RFC 7951) or as an object
-// keyed by the list key. keyLeaf is "index" or "name".
-func listEntries(v any, keyLeaf string) []listEntry {
-	keyOf := func(obj map[string]any, fallback string) string {
-		for _, src := range []map[string]any{obj, memberObj(obj, "state"), memberObj(obj, "config")} {
-			if b, missing := scalarBytes(member(src, keyLeaf)); src != nil && !missing && member(src, keyLeaf) != nil {
-				return string(b)
+// keyed by the list key (v: its node, -1 when absent). keyLeaf is "index" or "name".
+func (d *jdoc) listEntries(v int, keyLeaf string) []listEntry {
+	if v < 0 {
+		return nil
+	}
+	keyOf := func(obj int, fallback string) string {
+		for _, src := range [3]int{obj, d.memberObj(obj, "state"), d.memberObj(obj, "config")} {
+			if m := d.member(src, keyLeaf); m >= 0 {
+				if b, missing := d.scalar(m); !missing {
+					return string(b)
+				}
 			}
 		}
 		return fallback
 	}
 	var out []listEntry
-	switch x := v.(type) {
-	case []any:
-		for i, e := range x {
-			if obj, ok := e.(map[string]any); ok {
-				out = append(out, listEntry{keyOf(obj, fmt.Sprint(i)), obj})
+	switch d.nodes[v].kind {
+	case jArray:
+		i := 0
+		for c := v + 1; c < int(d.nodes[v].end); c = int(d.nodes[c].end) {
+			if d.nodes[c].kind == jObject {
+				out = append(out, listEntry{keyOf(c, strconv.Itoa(i)), c})
 			}
+			i++
 		}
-	case map[string]any:
-		keys := make([]string, 0, len(x))
-		for k := range x {
-			keys = append(keys, k)
+	case jObject:
+		// Sorted by member name, the last of equal names counting, as decoded into a map.
+		var ms []listEntry
+		for c := v + 1; c < int(d.nodes[v].end); c = int(d.nodes[c].end) {
+			ms = append(ms, listEntry{string(d.key(&d.nodes[c])), c})
 		}
-		sort.Strings(keys)
-		for _, k := range keys {
-			if obj, ok := x[k].(map[string]any); ok {
-				out = append(out, listEntry{keyOf(obj, k), obj})
+		slices.SortStableFunc(ms, func(a, b listEntry) int { return strings.Compare(a.key, b.key) })
+		for i, m := range ms {
+			if i+1 < len(ms) && ms[i+1].key == m.key {
+				continue
+			}
+			if d.nodes[m.obj].kind == jObject {
+				out = append(out, listEntry{keyOf(m.obj, m.key), m.obj})
 			}
 		}
 	}
@@ -95,53 +86,75 @@ var ocFECLeaves = []ocLeaf{
 }
 
 // statValue picks the chosen statistic out of an instant/avg/min/max container (falling back
-// to instant), or takes a plain value as is. present is false when there is no value.
-func statValue(v any, stat string) (val any, present bool) {
-	if m, ok := v.(map[string]any); ok {
-		if x, ok := m[stat]; ok && x != nil {
-			return x, true
-		}
-		if x, ok := m["instant"]; ok && x != nil {
-			return x, true
-		}
-		return nil, false
+// to instant), or takes a plain value as is; v is the leaf's node (-1: absent). It returns the
+// value's node, -1 when there is no value.
+func (d *jdoc) statValue(v int, stat string) int {
+	if v < 0 {
+		return -1
 	}
-	if v == nil {
-		return nil, false
+	if d.nodes[v].kind == jObject {
+		if x := d.field(v, stat); x >= 0 {
+			return x
+		}
+		return d.field(v, "instant")
 	}
-	return v, true
+	return v
+}
+
+// field is the member of object obj named exactly name (the last of several), -1 when absent
+// or null.
+func (d *jdoc) field(obj int, name string) int {
+	f := -1
+	for c := obj + 1; c < int(d.nodes[obj].end); c = int(d.nodes[c].end) {
+		if d.keyIs(&d.nodes[c], name) {
+			f = c
+		}
+	}
+	if f >= 0 && d.nodes[f].kind == jNull {
+		return -1
+	}
+	return f
 }
 
 // ocRecord is one port's values from one document, with the first bad leaf if any.
 type ocRecord struct {
-	rec   record
-	bad   *ParseError
-	order int
+	port string
+	rec  record
+	bad  *ParseError
 }
 
-// openConfig reads one OpenConfig-shaped document: one record per optical channel (port).
-func (jr *jsonReader) openConfig(obj map[string]any, lineNo int) {
-	file := jr.res.stats.File
-	recs := map[string]*ocRecord{}
+// openConfig reads the OpenConfig-shaped document in jp.doc: one record per optical channel
+// (port), in order of first mention.
+func (jp *jsonParser) openConfig(lineNo int) {
+	d := &jp.doc
+	file := jp.file
+	var recs []*ocRecord
+	if jp.ocIdx == nil {
+		jp.ocIdx = map[string]int{}
+	}
+	clear(jp.ocIdx)
 	get := func(port string) *ocRecord {
-		r := recs[port]
-		if r == nil {
-			r = &ocRecord{order: len(recs)}
-			recs[port] = r
+		if i, ok := jp.ocIdx[port]; ok {
+			return recs[i]
 		}
+		r := &ocRecord{port: port}
+		jp.ocIdx[port] = len(recs)
+		recs = append(recs, r)
 		return r
 	}
-	readLeaves := func(r *ocRecord, state map[string]any, leaves []ocLeaf, path string, overwrite bool) {
+	readLeaves := func(r *ocRecord, state int, leaves []ocLeaf, path string, overwrite bool) {
+		if state < 0 {
+			return
+		}
 		for _, l := range leaves {
-			raw := member(state, l.name)
-			val, present := statValue(raw, jr.stat)
-			if !present {
+			val := d.statValue(d.member(state, l.name), jp.stat)
+			if val < 0 {
 				continue
 			}
 			if !overwrite && r.rec.mask&(1<<l.col.q) != 0 {
 				continue
 			}
-			v, err := jsonValue(val, l.col)
+			v, err := d.quantity(val, l.col)
 			if err != nil {
 				if r.bad == nil {
 					r.bad = &ParseError{File: file, Line: lineNo, Field: path + "/" + l.name, Err: err}
@@ -152,39 +165,45 @@ func (jr *jsonReader) openConfig(obj map[string]any, lineNo int) {
 		}
 	}
 	lcToPort := map[string]string{}
-	if comps := memberObj(obj, "components"); comps != nil {
-		for _, e := range listEntries(member(comps, "component"), "name") {
-			och := memberObj(e.obj, "optical-channel")
-			if och == nil {
+	if comps := d.memberObj(0, "components"); comps >= 0 {
+		for _, e := range d.listEntries(d.member(comps, "component"), "name") {
+			och := d.memberObj(e.obj, "optical-channel")
+			if och < 0 {
 				continue
 			}
-			state := memberObj(och, "state")
+			state := d.memberObj(och, "state")
 			r := get(e.key)
 			path := "components/component[" + e.key + "]/optical-channel/state"
 			readLeaves(r, state, ocOpticalLeaves, path, true)
 			readLeaves(r, state, ocFECLeaves, path, true)
 			readLeaves(r, e.obj, ocFECLeaves[4:], "components/component["+e.key+"]", false)
-			if b, missing := scalarBytes(member(state, "logical-channel-assignment")); state != nil && member(state, "logical-channel-assignment") != nil && !missing {
-				lcToPort[string(b)] = e.key
+			if a := d.member(state, "logical-channel-assignment"); a >= 0 {
+				if b, missing := d.scalar(a); !missing {
+					lcToPort[string(b)] = e.key
+				}
 			}
 		}
 	}
-	if td := memberObj(obj, "terminal-device"); td != nil {
-		for _, e := range listEntries(member(memberObj(td, "logical-channels"), "channel"), "index") {
-			state := memberObj(memberObj(e.obj, "otn"), "state")
-			if state == nil {
+	if td := d.memberObj(0, "terminal-device"); td >= 0 {
+		for _, e := range d.listEntries(d.member(d.memberObj(td, "logical-channels"), "channel"), "index") {
+			state := d.memberObj(d.memberObj(e.obj, "otn"), "state")
+			if state < 0 {
 				continue
 			}
 			port := ""
-			for _, a := range listEntries(member(memberObj(e.obj, "logical-channel-assignments"), "assignment"), "index") {
-				for _, src := range []map[string]any{memberObj(a.obj, "state"), memberObj(a.obj, "config")} {
-					if src == nil || port != "" {
+			for _, a := range d.listEntries(d.member(d.memberObj(e.obj, "logical-channel-assignments"), "assignment"), "index") {
+				for _, src := range [2]int{d.memberObj(a.obj, "state"), d.memberObj(a.obj, "config")} {
+					if src < 0 || port != "" {
 						continue
 					}
-					at, _ := member(src, "assignment-type").(string)
-					if b, missing := scalarBytes(member(src, "optical-channel")); member(src, "optical-channel") != nil && !missing &&
-						(at == "" || strings.HasSuffix(at, "OPTICAL_CHANNEL")) {
-						port = string(b)
+					at := ""
+					if n := d.member(src, "assignment-type"); n >= 0 && d.nodes[n].kind == jString {
+						at = string(d.text(&d.nodes[n]))
+					}
+					if och := d.member(src, "optical-channel"); och >= 0 && (at == "" || strings.HasSuffix(at, "OPTICAL_CHANNEL")) {
+						if b, missing := d.scalar(och); !missing {
+							port = string(b)
+						}
 					}
 				}
 			}
@@ -194,7 +213,7 @@ func (jr *jsonReader) openConfig(obj map[string]any, lineNo int) {
 			if port == "" {
 				hasData := false
 				for _, l := range ocFECLeaves {
-					if member(state, l.name) != nil {
+					if d.member(state, l.name) >= 0 {
 						hasData = true
 					}
 				}
@@ -202,67 +221,58 @@ func (jr *jsonReader) openConfig(obj map[string]any, lineNo int) {
 					continue
 				}
 				port = "logical-channel-" + e.key
-				jr.noteOnce(fmt.Sprintf("logical channel %s has OTN data but no optical-channel assignment; read as port %q", e.key, port))
+				jp.noteOnce(fmt.Sprintf("logical channel %s has OTN data but no optical-channel assignment; read as port %q", e.key, port))
 			}
-			r := get(port)
-			readLeaves(r, state, ocFECLeaves, "terminal-device/logical-channels/channel["+e.key+"]/otn/state", false)
+			readLeaves(get(port), state, ocFECLeaves, "terminal-device/logical-channels/channel["+e.key+"]/otn/state", false)
 		}
 	}
+	job := jp.job
 	if len(recs) == 0 {
-		jr.res.stats.RowsRead++
-		jr.reject(&ParseError{File: file, Line: lineNo, Err: ErrNoData})
+		job.rowsRead++
+		jp.reject(&ParseError{File: file, Line: lineNo, Err: ErrNoData})
 		return
 	}
-	ports := make([]string, 0, len(recs))
-	for p := range recs {
-		ports = append(ports, p)
-	}
-	sort.Slice(ports, func(i, j int) bool { return recs[ports[i]].order < recs[ports[j]].order })
-
 	var t int64
 	var timeErr *ParseError
-	tv := member(obj, "timestamp")
-	tname := "timestamp"
-	if tv == nil {
-		tv, tname = member(obj, "time"), "time"
+	tv, tname := d.member(0, "timestamp"), "timestamp"
+	if tv < 0 {
+		tv, tname = d.member(0, "time"), "time"
 	}
-	if b, missing := scalarBytes(tv); missing {
+	if b, missing := d.scalar(tv); missing {
 		timeErr = &ParseError{File: file, Line: lineNo, Field: "timestamp", Err: ErrMissingValue}
-	} else if ms, ok := jr.opt.times.parse(b); !ok {
-		timeErr = &ParseError{File: file, Line: lineNo, Field: tname, Err: jr.opt.times.badTime(b)}
+	} else if ms, ok := jp.times.parse(b); !ok {
+		timeErr = &ParseError{File: file, Line: lineNo, Field: tname, Err: jp.times.badTime(b)}
 	} else {
 		t = ms
 	}
-	for _, p := range ports {
-		if jr.stopped {
+	for _, r := range recs {
+		if jp.stopped {
 			return
 		}
-		r := recs[p]
-		jr.res.stats.RowsRead++
+		p := r.port
+		job.rowsRead++
 		switch {
 		case timeErr != nil:
 			pe := *timeErr
-			jr.reject(&pe)
+			jp.reject(&pe)
 		case r.bad != nil:
-			jr.reject(r.bad)
+			jp.reject(r.bad)
 		case r.rec.mask == 0:
-			jr.reject(&ParseError{File: file, Line: lineNo, Field: p, Err: ErrNoData})
+			jp.reject(&ParseError{File: file, Line: lineNo, Field: p, Err: ErrNoData})
 		case p == "":
 			// A component or assignment with an empty name names no port.
-			jr.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: empty port name", ErrMissingValue)})
+			jp.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: empty port name", ErrMissingValue)})
 		case !utf8.ValidString(p):
-			jr.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: port name %q", ErrEncoding, p)})
+			jp.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: port name %q", ErrEncoding, p)})
 		default:
-			jr.use(p, t, &r.rec)
+			jp.use([]byte(p), t, &r.rec)
 		}
 	}
 }
 
-func (jr *jsonReader) noteOnce(s string) {
-	for _, n := range jr.notes {
-		if n == s {
-			return
-		}
+// noteOnce adds a note to the block unless it has it already.
+func (jp *jsonParser) noteOnce(s string) {
+	if !slices.Contains(jp.job.notes, s) {
+		jp.job.notes = append(jp.job.notes, s)
 	}
-	jr.notes = append(jr.notes, s)
 }

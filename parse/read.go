@@ -490,34 +490,12 @@ func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult 
 		}
 	case '{', '[':
 		res.stats.Format = "json" + suffix
-		readJSON(res, &cappedReader{r: cr, left: maxJSONBytes}, opt)
+		readJSON(res, cr, opt)
 	default:
 		res.stats.Format = "csv" + suffix
 		readCSV(res, cr, opt)
 	}
 	return res
-}
-
-// maxJSONBytes bounds a JSON input, which is read whole into memory and decoded into maps
-// (a variable so that tests can lower it).
-var maxJSONBytes int64 = 1 << 30
-
-// cappedReader ends a stream with ErrTooLarge after left bytes.
-type cappedReader struct {
-	r    io.Reader
-	left int64
-}
-
-func (c *cappedReader) Read(p []byte) (int, error) {
-	if c.left <= 0 {
-		return 0, fmt.Errorf("%w: a JSON input above %d MiB (JSON is read whole; export large data as CSV)", ErrTooLarge, maxJSONBytes>>20)
-	}
-	if int64(len(p)) > c.left {
-		p = p[:c.left]
-	}
-	n, err := c.r.Read(p)
-	c.left -= int64(n)
-	return n, err
 }
 
 // maxDrain bounds what is read of a stream of unknown size, only to hash it, after reading

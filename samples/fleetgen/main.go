@@ -5,6 +5,8 @@
 //
 //	go run ./samples/fleetgen                       # out/fleet.csv
 //	go run ./samples/fleetgen -files-dir out/fleet-files
+//	go run ./samples/fleetgen -out out/fleet.jsonl          # the same rows as JSON Lines
+//	go run ./samples/fleetgen -out out/fleet.json           # as OpenConfig-shaped JSON Lines
 //
 // Its output is never committed (out/ is scratch). The list of troubled ports and their causes is
 // written beside each output as <out>.truth.json and <files-dir>.truth.json, and a port map
@@ -42,7 +44,7 @@ type truth struct {
 }
 
 func main() {
-	out := flag.String("out", "out/fleet.csv", "the fleet CSV to write")
+	out := flag.String("out", "out/fleet.csv", "the fleet file to write: CSV, or JSON Lines when it ends in .jsonl, or OpenConfig-shaped JSON when it ends in .json")
 	ports := flag.Int("ports", 700, "ports in the fleet CSV")
 	samples := flag.Int("samples", 1440, "one-minute samples per port in the fleet CSV")
 	trouble := flag.Float64("trouble", 0.04, "fraction of ports in trouble")
@@ -185,7 +187,19 @@ func writeFleet(path string, ports, samples int, trouble float64, seed int64) er
 	if err != nil {
 		return err
 	}
-	if err := synth.WriteCSV(f, series, synth.CSVStyle{}); err != nil {
+	switch filepath.Ext(path) {
+	case ".jsonl":
+		err = synth.WriteJSONLines(f, series)
+	case ".json":
+		ports := make([]synth.OpenConfigPort, len(series))
+		for k, s := range series {
+			ports[k] = synth.OpenConfigPort{Series: s, ChannelIndex: k + 1}
+		}
+		err = synth.WriteOpenConfig(f, ports)
+	default:
+		err = synth.WriteCSV(f, series, synth.CSVStyle{})
+	}
+	if err != nil {
 		f.Close()
 		return err
 	}
