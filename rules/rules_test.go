@@ -561,3 +561,46 @@ func TestDocExamplesLoad(t *testing.T) {
 		}
 	}
 }
+
+// FuzzPortMap: arbitrary bytes never panic the port map's decoder and validation; errors are
+// *FileErrors; a map that validates finds every exact entry by its own port and has printable,
+// bounded names and peers that are exact ports other than their own.
+func FuzzPortMap(f *testing.F) {
+	for _, p := range []string{"testdata/portmap.yaml", "testdata/bad/portmap-peer-mismatch.yaml", "testdata/bad/portmap-serial-control.yaml", "../samples/network/portmap.yaml"} {
+		if b, err := os.ReadFile(p); err == nil {
+			f.Add(b)
+		}
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		var m PortMap
+		_, ix, err := decodeStrict("fuzz.yaml", data, &m)
+		if err != nil {
+			var fe *FileError
+			if !errors.As(err, &fe) {
+				t.Fatalf("error %v is not a *FileError", err)
+			}
+			return
+		}
+		if verr := m.Validate(); verr != nil {
+			var fe *FileError
+			if !errors.As(ix.toFileError("fuzz.yaml", verr), &fe) {
+				t.Fatalf("validate error %v did not become a *FileError", verr)
+			}
+			return
+		}
+		for _, e := range m.Entries {
+			if checkName("x", e.FibreLine) != nil || checkName("x", e.Serial) != nil || checkName("x", e.Peer) != nil {
+				t.Fatalf("entry %+v validated with a bad name", e)
+			}
+			if e.Peer != "" && (e.Peer == e.Port || strings.ContainsAny(e.Peer, globMeta)) {
+				t.Fatalf("entry %+v validated with a bad peer", e)
+			}
+			if strings.ContainsAny(e.Port, globMeta) {
+				continue
+			}
+			if got, ok := m.Lookup(e.Port); !ok || got.Port != e.Port {
+				t.Fatalf("Lookup(%q) = %+v, %v", e.Port, got, ok)
+			}
+		}
+	})
+}
