@@ -25,6 +25,7 @@ type ReportCmd struct {
 	Out    string `required:"" help:"Report file to write." placeholder:"FILE.pdf" type:"path"`
 	Format string `help:"Report format: pdf, markdown or json." enum:"pdf,markdown,json" default:"pdf"`
 	Paper  string `help:"Paper size of the PDF: a4 or letter." enum:"a4,letter" default:"a4"`
+	Map    string `help:"Port map (YAML): plans, profiles, lines and each port's far-end peer; a port and its peer are reported as the two directions of the circuit (see docs/rules.md)." type:"existingfile" placeholder:"PORTMAP.yaml"`
 
 	Technician     string `help:"Technician who carried out the acceptance." placeholder:"NAME"`
 	Organisation   string `help:"Organisation handing the link over." placeholder:"NAME"`
@@ -180,7 +181,7 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 	if err != nil {
 		return nil, &exitError{code: 2, err: err}
 	}
-	a, err := analyze(c.Logs, c.judgeFlags, "", false, acc, pr)
+	a, err := analyze(c.Logs, c.judgeFlags, c.Map, false, acc, pr)
 	if err != nil {
 		return nil, &exitError{code: 2, err: err}
 	}
@@ -227,6 +228,11 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 		for _, p := range in.Plan.Ports {
 			want[p] = true
 		}
+		for _, p := range a.Result.Ports {
+			if want[p.Port] && p.Peer != "" {
+				want[p.Peer] = true // the other direction of the circuit
+			}
+		}
 		res.Ports = nil
 		for _, p := range a.Result.Ports {
 			if want[p.Port] {
@@ -240,13 +246,14 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 			pr.Notef("note: %d port(s) not listed in the plan are left out of the report", n)
 		}
 	}
+	diagnose.PairDirections(&res, directionPairs(a))
 	if len(res.Ports) > maxReportPorts {
 		return nil, &exitError{code: 2, err: fmt.Errorf("the inputs hold %d ports; an acceptance report covers one circuit (at most %d ports): list its ports in the plan (ports:) or use triage for a fleet", len(res.Ports), maxReportPorts)}
 	}
 	for _, st := range a.DS.Inputs {
 		in.files = append(in.files, st.File)
 	}
-	for _, f := range []struct{ role, path string }{{"link plan", c.Plan}, {"profiles", c.Profiles}, {"rules", c.Rules}} {
+	for _, f := range []struct{ role, path string }{{"link plan", c.Plan}, {"port map", c.Map}, {"profiles", c.Profiles}, {"rules", c.Rules}} {
 		if f.path == "" {
 			continue
 		}

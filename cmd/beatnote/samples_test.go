@@ -310,3 +310,27 @@ func TestCheckBothDirectionsOnDemoNetwork(t *testing.T) {
 		t.Errorf("text: exit %d\n%s", code, out)
 	}
 }
+
+// The acceptance report of the demo circuit with a port map holds both directions and points
+// at the direction whose line lost OSNR.
+func TestReportBothDirectionsOnDemoNetwork(t *testing.T) {
+	root := filepath.Join("..", "..", "samples", "network")
+	if _, err := os.Stat(filepath.Join(root, "portmap.yaml")); err != nil {
+		t.Skipf("no demo network: %v", err)
+	}
+	out := filepath.Join(t.TempDir(), "pair.md")
+	code, _, errw := runCLI(t, "report", filepath.Join(root, "logs", "line-ferrowick-oskelby.csv"), filepath.Join(root, "logs", "line-oskelby-ferrowick.csv"),
+		"--map", filepath.Join(root, "portmap.yaml"), "--soak", "6h", "--format", "markdown", "--out", out, "--time", "2026-03-14T12:00:00Z")
+	if code == 2 {
+		t.Fatalf("exit 2: %s", errw)
+	}
+	md, err := os.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := string(md)
+	if !strings.Contains(s, "## Both directions") || !strings.Contains(s, "| FRW-LX1/1 | OSK-LX1/1 | QRO-LN-FRW-OSK |") ||
+		!strings.Contains(s, "Seen in one direction only") || !strings.Contains(s, "## Port FRW-LX1/1") {
+		t.Errorf("report lacks both directions:\n%s", s[:min(len(s), 3000)])
+	}
+}

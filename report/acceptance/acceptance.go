@@ -104,12 +104,14 @@ type Report struct {
 	Verdict     diagnose.Verdict      `json:"verdict"`
 	Plan        *PlanSummary          `json:"plan,omitempty"`
 	Ports       []diagnose.PortResult `json:"ports"` // the engine's judgements; empty actions filled from DefaultActions
-	Inputs      []parse.InputStats    `json:"inputs"`
-	Settings    []SettingsFile        `json:"settings_files,omitempty"`
-	Rejected    RejectionSummary      `json:"rejected"`
-	Safety      SafetySection         `json:"safety"`
-	SignOff     SignOff               `json:"sign_off"`
-	Signing     *Signing              `json:"signing,omitempty"`
+	// Directions holds the circuit judged both ways, when both ends' ports are reported.
+	Directions []diagnose.DirectionPair `json:"directions,omitempty"`
+	Inputs     []parse.InputStats       `json:"inputs"`
+	Settings   []SettingsFile           `json:"settings_files,omitempty"`
+	Rejected   RejectionSummary         `json:"rejected"`
+	Safety     SafetySection            `json:"safety"`
+	SignOff    SignOff                  `json:"sign_off"`
+	Signing    *Signing                 `json:"signing,omitempty"`
 
 	// series keeps each port's telemetry for the charts (PDF only), keyed by port.
 	series map[string]*parse.Series
@@ -157,6 +159,7 @@ func New(in Input) (*Report, error) {
 		GeneratedAt: in.Time.UTC().Format(time.RFC3339),
 		Inputs:      append([]parse.InputStats(nil), in.Result.Inputs...),
 		Settings:    in.Settings,
+		Directions:  in.Result.Directions,
 		SignOff:     in.Fields,
 		Signing:     in.Signing,
 		series:      map[string]*parse.Series{},

@@ -132,6 +132,17 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 		p("\n\n")
 	}
 
+	if len(a.Directions) > 0 {
+		p("## Both directions\n\n| from | received at | line | verdict | causes and line findings |\n| --- | --- | --- | --- | --- |\n")
+		for _, dp := range a.Directions {
+			for _, d := range dp.Directions {
+				p("| %s | %s | %s | %s | %s |\n", mdCell(d.From), mdCell(d.ReceivedAt), mdCell(orBlank(d.Line, "—")), VerdictWords(d.Verdict),
+					mdCell(orBlank(strings.Join(append(append([]string{}, d.LineFindings...), d.Causes...), ", "), "none")))
+			}
+			p("\n%s\n\n", mdText(dp.Finding))
+		}
+	}
+
 	for _, port := range a.Ports {
 		p("## Port %s — %s\n\n", mdText(port.Port), VerdictWords(port.Verdict))
 		p("Profile %s; %s from %s to %s.\n\n", mdText(orBlank(report.ProfileText(&port), "not stated")), report.Plural(port.Samples, "sample", "samples"), port.From, port.To)

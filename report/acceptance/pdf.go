@@ -527,6 +527,20 @@ func (pw *pdfWriter) body() error {
 		pw.para(s, "", pdfBodySize)
 	}
 
+	if len(a.Directions) > 0 {
+		pw.heading("Both directions", 12)
+		for _, dp := range a.Directions {
+			var rows [][]string
+			for _, d := range dp.Directions {
+				rows = append(rows, []string{d.From, d.ReceivedAt, orBlank(d.Line, "—"), VerdictWords(d.Verdict),
+					orBlank(strings.Join(append(append([]string{}, d.LineFindings...), d.Causes...), ", "), "none")})
+			}
+			pw.table([]column{{title: "from", width: 0.16, align: "L"}, {title: "received at", width: 0.16, align: "L"},
+				{title: "line", width: 0.2, align: "L"}, {title: "verdict", width: 0.14, align: "L"}, {title: "causes and line findings", width: 0.34, align: "L"}}, rows, pdfBodySize)
+			pw.para(dp.Finding, "", pdfBodySize)
+		}
+	}
+
 	for _, port := range a.Ports {
 		if err := pw.portSection(port); err != nil {
 			return err
