@@ -30,6 +30,28 @@ type Plan struct {
 	// Soak is the acceptance test period (ParseTestPeriod: 15m, 2h, 24h, 7d, …); empty means
 	// the rules' acceptance.test_period_h.
 	Soak string `yaml:"soak" json:"soak,omitempty"`
+	// Instruments are the test instruments used at acceptance, with their calibration.
+	Instruments []Instrument `yaml:"instruments" json:"instruments,omitempty"`
+	// PowerReadings are optical power readings taken by hand with a power meter at acceptance.
+	PowerReadings []PowerReading `yaml:"power_readings" json:"power_readings,omitempty"`
+}
+
+// Instrument is one test instrument used at acceptance. Dates are YYYY-MM-DD.
+type Instrument struct {
+	Kind           string `yaml:"kind" json:"kind"` // e.g. "optical power meter"
+	Model          string `yaml:"model" json:"model,omitempty"`
+	Serial         string `yaml:"serial" json:"serial"`
+	CalibratedOn   string `yaml:"calibrated_on" json:"calibrated_on"`
+	CalibrationDue string `yaml:"calibration_due" json:"calibration_due,omitempty"`
+}
+
+// PowerReading is one hand power-meter reading.
+type PowerReading struct {
+	Location     string  `yaml:"location" json:"location"` // e.g. "Rx patch panel, site Z"
+	PowerDBm     float64 `yaml:"power_dbm" json:"power_dbm"`
+	WavelengthNm float64 `yaml:"wavelength_nm" json:"wavelength_nm,omitempty"`
+	Instrument   string  `yaml:"instrument" json:"instrument,omitempty"` // the serial of one of Instruments
+	TakenAt      string  `yaml:"taken_at" json:"taken_at,omitempty"`     // RFC 3339 or YYYY-MM-DD
 }
 
 // Span is one fibre section between two sites or amplifiers.

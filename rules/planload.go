@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"slices"
 	"strings"
+	"time"
 )
 
 // FiberTypes are the fibre type names a plan's span may use; the figures of each live with the
@@ -36,6 +37,9 @@ func (p *Plan) Validate() error {
 		if _, err := ParseTestPeriod(p.Soak); err != nil {
 			return fieldErr("soak", ErrRange, "%v", err)
 		}
+	}
+	if err := p.validateFieldRecords(); err != nil {
+		return err
 	}
 	// 184.5…238 THz spans the O to U bands (about 1260…1625 nm); 0 means "not given".
 	if p.FrequencyTHz != 0 && !(p.FrequencyTHz >= 184.5 && p.FrequencyTHz <= 238) {
@@ -166,4 +170,55 @@ func LoadPlan(path string, profiles ...Profile) (Plan, error) {
 		return Plan{}, ix.toFileError(path, err)
 	}
 	return p, nil
+}
+
+// validateFieldRecords checks the instruments and hand readings: dates as YYYY-MM-DD, powers a
+// power meter can read, and every reading's instrument one of the plan's.
+func (p *Plan) validateFieldRecords() error {
+	date := func(key, v string, need bool) error {
+		if v == "" && !need {
+			return nil
+		}
+		if _, err := time.Parse(time.DateOnly, v); err != nil {
+			return fieldErr(key, ErrRange, "%q: want a date as YYYY-MM-DD", v)
+		}
+		return nil
+	}
+	serials := map[string]bool{}
+	for i, in := range p.Instruments {
+		pre := fmt.Sprintf("instruments[%d]", i)
+		if strings.TrimSpace(in.Kind) == "" || strings.TrimSpace(in.Serial) == "" {
+			return fieldErr(pre, ErrMissing, "an instrument needs its kind and serial")
+		}
+		if err := date(pre+".calibrated_on", in.CalibratedOn, true); err != nil {
+			return err
+		}
+		if err := date(pre+".calibration_due", in.CalibrationDue, false); err != nil {
+			return err
+		}
+		serials[in.Serial] = true
+	}
+	for i, r := range p.PowerReadings {
+		pre := fmt.Sprintf("power_readings[%d]", i)
+		if strings.TrimSpace(r.Location) == "" {
+			return fieldErr(pre+".location", ErrMissing, "say where the reading was taken")
+		}
+		if !(r.PowerDBm >= -80 && r.PowerDBm <= 30) {
+			return fieldErr(pre+".power_dbm", ErrRange, "%g dBm is outside −80…+30 dBm", r.PowerDBm)
+		}
+		if r.WavelengthNm != 0 && !(r.WavelengthNm >= 1260 && r.WavelengthNm <= 1675) {
+			return fieldErr(pre+".wavelength_nm", ErrRange, "%g nm is outside 1260…1675 nm", r.WavelengthNm)
+		}
+		if r.Instrument != "" && !serials[r.Instrument] {
+			return fieldErr(pre+".instrument", ErrRange, "%q is not the serial of an instrument listed under instruments", r.Instrument)
+		}
+		if r.TakenAt != "" {
+			if _, err := time.Parse(time.RFC3339, r.TakenAt); err != nil {
+				if err := date(pre+".taken_at", r.TakenAt, true); err != nil {
+					return err
+				}
+			}
+		}
+	}
+	return nil
 }

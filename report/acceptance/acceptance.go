@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"io"
 	"sort"
+	"strconv"
 	"strings"
 	"time"
 
@@ -54,6 +55,10 @@ type PlanSummary struct {
 	LengthKm     float64 `json:"length_km"`
 	Amplifiers   int     `json:"amplifiers"`
 	FrequencyTHz float64 `json:"frequency_thz,omitempty"`
+	// Instruments and PowerReadings are the plan's record of the instruments used and the hand
+	// power-meter readings taken at acceptance.
+	Instruments   []rules.Instrument   `json:"instruments,omitempty"`
+	PowerReadings []rules.PowerReading `json:"power_readings,omitempty"`
 }
 
 // SafetySection is the laser-safety part of the report.
@@ -203,7 +208,7 @@ func New(in Input) (*Report, error) {
 		ps := &PlanSummary{
 			Circuit: in.Plan.Circuit, Description: in.Plan.Description, EndA: in.Plan.EndA,
 			EndZ: in.Plan.EndZ, Spans: len(in.Plan.Spans), Amplifiers: len(in.Plan.Amplifiers),
-			FrequencyTHz: in.Plan.FrequencyTHz,
+			FrequencyTHz: in.Plan.FrequencyTHz, Instruments: in.Plan.Instruments, PowerReadings: in.Plan.PowerReadings,
 		}
 		for _, s := range in.Plan.Spans {
 			ps.LengthKm += s.LengthKm
@@ -410,6 +415,45 @@ func metricRows(m map[string]diagnose.Metric) [][]string {
 			name += " (derived)"
 		}
 		rows[i] = []string{name, report.FormatValue(mt.Min, mt.Unit), report.FormatValue(mt.P50, mt.Unit), report.FormatValue(mt.P99, mt.Unit), report.FormatValue(mt.Max, mt.Unit)}
+	}
+	return rows
+}
+
+// readingNote says what a reader of a hand reading should know about its instrument: not
+// listed, or the reading taken after the instrument's calibration fell due ("" when neither).
+func readingNote(r rules.PowerReading, ins []rules.Instrument) string {
+	if r.Instrument == "" {
+		return "instrument not stated"
+	}
+	for _, in := range ins {
+		if in.Serial != r.Instrument {
+			continue
+		}
+		if in.CalibrationDue != "" && r.TakenAt != "" && r.TakenAt[:min(len(r.TakenAt), 10)] > in.CalibrationDue {
+			return "taken after the instrument's calibration fell due (" + in.CalibrationDue + ")"
+		}
+		return ""
+	}
+	return ""
+}
+
+// instrumentRows and readingRows are the field-measurement tables, the same for PDF and Markdown.
+func instrumentRows(ins []rules.Instrument) [][]string {
+	rows := make([][]string, len(ins))
+	for i, in := range ins {
+		rows[i] = []string{in.Kind, orBlank(in.Model, "not stated"), in.Serial, in.CalibratedOn, orBlank(in.CalibrationDue, "not stated")}
+	}
+	return rows
+}
+
+func readingRows(rs []rules.PowerReading, ins []rules.Instrument) [][]string {
+	rows := make([][]string, len(rs))
+	for i, r := range rs {
+		wl := "not stated"
+		if r.WavelengthNm > 0 {
+			wl = strconv.FormatFloat(r.WavelengthNm, 'f', -1, 64) + " nm"
+		}
+		rows[i] = []string{r.Location, report.FormatValue(r.PowerDBm, "dBm"), wl, orBlank(r.Instrument, "not stated"), orBlank(r.TakenAt, "not stated"), readingNote(r, ins)}
 	}
 	return rows
 }

@@ -58,9 +58,13 @@ func headline(a *Report) string {
 }
 
 // portFacts are the sentences under a port's heading: its verdict with what decided it, the
-// test period it covers and its error performance.
+// module's identity when known, the test period it covers and its error performance.
 func portFacts(p *diagnose.PortResult) []string {
 	out := []string{report.VerdictSentence(p)}
+	if m := p.Module; m != nil {
+		out = append(out, fmt.Sprintf("Module: part number %s, serial %s, firmware %s (from the port map).",
+			orBlank(m.PartNumber, "not stated"), orBlank(m.Serial, "not stated"), orBlank(m.Firmware, "not stated")))
+	}
 	if s := report.TestPeriodText(p.TestPeriod); s != "" {
 		out = append(out, s)
 	}
@@ -130,6 +134,23 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 			p(" %s", mdText(a.Plan.Description))
 		}
 		p("\n\n")
+		if len(a.Plan.Instruments) > 0 || len(a.Plan.PowerReadings) > 0 {
+			p("## Field measurements\n\n")
+			if rows := instrumentRows(a.Plan.Instruments); len(rows) > 0 {
+				p("| instrument | model | serial | calibrated on | calibration due |\n| --- | --- | --- | --- | --- |\n")
+				for _, r := range rows {
+					p("| %s | %s | %s | %s | %s |\n", mdCell(r[0]), mdCell(r[1]), mdCell(r[2]), mdCell(r[3]), mdCell(r[4]))
+				}
+				p("\n")
+			}
+			if rows := readingRows(a.Plan.PowerReadings, a.Plan.Instruments); len(rows) > 0 {
+				p("Hand power-meter readings:\n\n| where | power | wavelength | instrument | taken | note |\n| --- | ---: | ---: | --- | --- | --- |\n")
+				for _, r := range rows {
+					p("| %s | %s | %s | %s | %s | %s |\n", mdCell(r[0]), r[1], r[2], mdCell(r[3]), mdCell(r[4]), r[5])
+				}
+				p("\n")
+			}
+		}
 	}
 
 	if len(a.Directions) > 0 {

@@ -379,3 +379,22 @@ func TestSignatureBlockStaysWithItsFields(t *testing.T) {
 		}
 	}
 }
+
+// A hand reading taken after its instrument's calibration fell due is flagged; one within it is
+// not; one without an instrument says so.
+func TestReadingNote(t *testing.T) {
+	ins := []rules.Instrument{{Kind: "optical power meter", Serial: "PM-1", CalibratedOn: "2025-11-03", CalibrationDue: "2026-03-01"}}
+	for _, tc := range []struct {
+		r    rules.PowerReading
+		want string
+	}{
+		{rules.PowerReading{Instrument: "PM-1", TakenAt: "2026-03-14T07:40:00Z"}, "taken after the instrument's calibration fell due (2026-03-01)"},
+		{rules.PowerReading{Instrument: "PM-1", TakenAt: "2026-02-20"}, ""},
+		{rules.PowerReading{Instrument: "PM-1", TakenAt: "2026-03-01"}, ""},
+		{rules.PowerReading{}, "instrument not stated"},
+	} {
+		if got := readingNote(tc.r, ins); got != tc.want {
+			t.Errorf("%+v: %q, want %q", tc.r, got, tc.want)
+		}
+	}
+}

@@ -525,6 +525,22 @@ func (pw *pdfWriter) body() error {
 			s += " " + a.Plan.Description
 		}
 		pw.para(s, "", pdfBodySize)
+		if rows := instrumentRows(a.Plan.Instruments); len(rows) > 0 {
+			pw.heading("Field measurements", 12)
+			pw.table([]column{{title: "instrument", width: 0.26, align: "L"}, {title: "model", width: 0.22, align: "L"},
+				{title: "serial", width: 0.18, align: "L"}, {title: "calibrated on", width: 0.17, align: "L"}, {title: "calibration due", width: 0.17, align: "L"}},
+				rows, pdfBodySize-0.5)
+		}
+		if rows := readingRows(a.Plan.PowerReadings, a.Plan.Instruments); len(rows) > 0 {
+			if len(a.Plan.Instruments) == 0 {
+				pw.heading("Field measurements", 12)
+			}
+			pw.para("Hand power-meter readings:", "", pdfBodySize)
+			pw.table([]column{{title: "where", width: 0.24, align: "L"}, {title: "power", width: 0.12, align: "R"},
+				{title: "wavelength", width: 0.12, align: "R"}, {title: "instrument", width: 0.14, align: "L"},
+				{title: "taken", width: 0.18, align: "L"}, {title: "note", width: 0.2, align: "L"}},
+				rows, pdfBodySize-0.5)
+		}
 	}
 
 	if len(a.Directions) > 0 {
