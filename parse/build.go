@@ -69,10 +69,17 @@ func (c *colBuf) pushNaN(n int) {
 	}
 }
 
-// setLast overwrites the last value pushed.
-func (c *colBuf) setLast(v float64) {
-	last := c.segs[len(c.segs)-1]
-	last[len(last)-1] = v
+// set overwrites value number i, looking from the newest segment (a repeat is usually recent).
+func (c *colBuf) set(i int, v float64) {
+	end := c.n
+	for k := len(c.segs) - 1; k >= 0; k-- {
+		start := end - len(c.segs[k])
+		if i >= start {
+			c.segs[k][i-start] = v
+			return
+		}
+		end = start
+	}
 }
 
 // flatten returns the values as one slice and empties c.
@@ -102,7 +109,10 @@ type portBuf struct {
 	unsorted bool // some time is smaller than its predecessor
 	ties     bool // some time equals its predecessor
 	runs     []fileRun
-	merged   int // rows that repeated the port's last time and replaced that row as they arrived
+	merged   int // rows that repeated a time of the port and replaced that row as they arrived
+	// rowOf maps each time to its row once the port's times have gone backwards (nil before):
+	// a repeat of any earlier time is then found and merged as it arrives.
+	rowOf map[int64]int32
 }
 
 // fileRun says that rows from start on came from input file (index into Dataset.Inputs).
@@ -136,30 +146,55 @@ func (p *portBuf) ensure(q Quantity) {
 	p.mask |= 1 << q
 }
 
-// replaceLast overwrites the port's last row with a row of the same time that came later (the
+// replaceRow overwrites row i of the port with a row of the same time that came later (the
 // later row wins, docs/formats.md): duplicates are merged as they arrive, so an input that
-// repeats rows does not grow memory. vals[j*stride] belongs to qs[j]; quantities the port has
-// that the row lacks become NaN, as the whole row is replaced.
-func (p *portBuf) replaceLast(qs []Quantity, vals []float64, stride int, qmask uint32) {
+// repeats rows does not grow memory. vals[j] belongs to qs[j]; quantities the port has that the
+// row lacks become NaN, as the whole row is replaced.
+func (p *portBuf) replaceRow(i int, qs []Quantity, vals []float64, qmask uint32) {
 	for q := Quantity(0); q < NumQuantities; q++ {
 		if p.mask&(1<<q) != 0 && qmask&(1<<q) == 0 {
-			p.vals[q].setLast(math.NaN())
+			p.vals[q].set(i, math.NaN())
 		}
 	}
 	for j, q := range qs {
 		p.ensure(q)
-		p.vals[q].setLast(vals[j*stride])
+		p.vals[q].set(i, vals[j])
 	}
 	p.merged++
 }
 
+// repeatOf returns the row that already holds time t, if any: the last row when t is the last
+// time; otherwise, once times have gone backwards, through rowOf (built on first need).
+func (p *portBuf) repeatOf(t int64) (int, bool) {
+	n := len(p.times)
+	switch {
+	case n == 0:
+		return 0, false
+	case t == p.last:
+		return n - 1, true
+	case p.rowOf == nil && t > p.last:
+		return 0, false // still in time order: no earlier row can hold t
+	}
+	if p.rowOf == nil {
+		p.rowOf = make(map[int64]int32, n)
+		for i, x := range p.times {
+			p.rowOf[x] = int32(i) // a time can appear once only: repeats were merged
+		}
+	}
+	i, ok := p.rowOf[t]
+	return int(i), ok
+}
+
 // addDense appends one row whose values vals[j] belong to qs[j]; every quantity the port has
 // that is not in qs gets NaN. The per-file CSV path always passes the file's full column set.
-// A row with the port's last time replaces that row instead.
+// A row with a time the port already has replaces that row instead.
 func (p *portBuf) addDense(t int64, qs []Quantity, vals []float64, qmask uint32) {
-	if len(p.times) > 0 && t == p.last {
-		p.replaceLast(qs, vals, 1, qmask)
+	if i, ok := p.repeatOf(t); ok {
+		p.replaceRow(i, qs, vals, qmask)
 		return
+	}
+	if p.rowOf != nil {
+		p.rowOf[t] = int32(len(p.times))
 	}
 	p.noteTime(t)
 	if p.mask&^qmask != 0 || qmask&^p.mask != 0 {
@@ -184,8 +219,8 @@ func (p *portBuf) addBlock(times []int64, qs []Quantity, vals []float64, qmask u
 	n := len(times)
 	prev, have := p.last, len(p.times) > 0
 	for i, t := range times {
-		if have && t == prev {
-			// A row repeats the time before it: merge row by row from here on.
+		if have && t <= prev || p.rowOf != nil {
+			// A row repeats or goes back in time: merge row by row from here on.
 			p.addBlockRows(times, i, qs, vals, qmask)
 			return
 		}
@@ -216,9 +251,9 @@ func (p *portBuf) addBlock(times []int64, qs []Quantity, vals []float64, qmask u
 	}
 }
 
-// addBlockRows is addBlock's careful path, for a run whose row i repeats the time before it:
-// rows before i are appended as a block, the rest one by one with addDense, which merges each
-// repeat into the row before.
+// addBlockRows is addBlock's careful path, for a run whose row i repeats or precedes a time
+// before it: rows before i are appended as a block, the rest one by one with addDense, which
+// merges each repeat into the row it repeats.
 func (p *portBuf) addBlockRows(times []int64, i int, qs []Quantity, vals []float64, qmask uint32) {
 	n := len(times)
 	if i > 0 {
@@ -271,7 +306,7 @@ type datasetBuilder struct {
 func (db *datasetBuilder) absorb(fb *fileBuilder, fileIdx int) (merged int) {
 	for _, p := range fb.order {
 		merged += p.merged
-		p.merged = 0
+		p.merged, p.rowOf = 0, nil
 		g := db.ports[p.name]
 		if g == nil {
 			p.runs = []fileRun{{0, fileIdx}}

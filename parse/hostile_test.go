@@ -371,3 +371,37 @@ func TestJSONDocumentBounded(t *testing.T) {
 		t.Errorf("accounting %+v, want the first document used", in)
 	}
 }
+
+// Repeats of any earlier time (not only the one before) are merged as they arrive: a block of
+// rows repeated many times keeps one row per port and time, the last copy winning.
+func TestRepeatedBlocksMergeAsTheyArrive(t *testing.T) {
+	block := func(ber string) string {
+		var b strings.Builder
+		for _, tm := range []string{"08:30", "08:31", "08:32"} {
+			for _, p := range []string{"a", "b"} {
+				b.WriteString("2026-03-14T" + tm + ":00Z," + p + "," + ber + ",-8\n")
+			}
+		}
+		return b.String()
+	}
+	var in strings.Builder
+	in.WriteString(bombHeader)
+	for range 20000 {
+		in.WriteString(block("1e-3"))
+	}
+	in.WriteString(block("2e-3"))
+	z := gzipBytes(t, []byte(in.String()))
+	ds, err := ReadFile("blocks.csv.gz", bytes.NewReader(z), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkAccounting(t, ds)
+	if d := ds.Inputs[0].Duplicates; d != 20000*6 {
+		t.Errorf("duplicates %d, want %d", d, 20000*6)
+	}
+	for _, s := range ds.Series {
+		if s.Len() != 3 || s.Values[PreFECBER][0] != 2e-3 || s.Values[PreFECBER][2] != 2e-3 {
+			t.Errorf("port %s: %v %v; want 3 samples with the last copy's BER", s.Port, s.TimesMs, s.Values[PreFECBER])
+		}
+	}
+}
