@@ -405,3 +405,19 @@ func TestRepeatedBlocksMergeAsTheyArrive(t *testing.T) {
 		}
 	}
 }
+
+// The row limit covers JSON inputs too (a block that would pass it is not taken).
+func TestRowLimitJSON(t *testing.T) {
+	var in strings.Builder
+	for i := range 500 {
+		in.WriteString(`{"time": ` + time.Date(2026, 3, 14, 0, i, 0, 0, time.UTC).Format(`"2006-01-02T15:04:05Z"`) + `, "port": "p", "osnr_db": 20}` + "\n")
+	}
+	ds, err := ReadFile("rows.jsonl", strings.NewReader(in.String()), Options{MaxRows: 100})
+	if !errors.Is(err, ErrTooLarge) {
+		t.Fatalf("err = %v, want ErrTooLarge", err)
+	}
+	checkAccounting(t, ds)
+	if in := ds.Inputs[0]; in.RowsRead > 100 || !strings.Contains(in.Error, "--max-rows") {
+		t.Errorf("input %+v, want at most 100 rows read and the limit as its error", in)
+	}
+}

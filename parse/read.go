@@ -106,7 +106,7 @@ func (b *readBudget) takeRows(n int) bool {
 
 // rowLimitError says that the run's row limit stopped an input at line.
 func (b *readBudget) rowLimitError(file string, line int) error {
-	return &ParseError{File: file, Line: line, Err: fmt.Errorf("%w: more than %d rows in all inputs (the --max-rows limit, which bounds memory); this input was read up to line %d", ErrTooLarge, b.maxRows, line-1)}
+	return &ParseError{File: file, Line: line, Err: fmt.Errorf("%w: more than %d rows in all inputs (the --max-rows limit, which bounds memory); this input was not read from line %d on", ErrTooLarge, b.maxRows, line)}
 }
 
 // budgetReader stops a stream with ErrTooLarge once the run's unpacked-byte budget is spent.
