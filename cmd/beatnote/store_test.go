@@ -301,6 +301,9 @@ func TestPrometheusErrors(t *testing.T) {
 	// authenticating gateway does.
 	target, _ := url.Parse(u)
 	proxy := httputil.NewSingleHostReverseProxy(target)
+	// A transport of its own, one connection per request: the proxy shares no pooled
+	// connection with the client under test.
+	proxy.Transport = &http.Transport{DisableKeepAlives: true}
 	proxy.ErrorHandler = func(w http.ResponseWriter, r *http.Request, err error) {
 		t.Logf("proxy: %v", err)
 		w.WriteHeader(http.StatusBadGateway)
