@@ -98,6 +98,9 @@ type watchSession struct {
 	file      *os.File
 	rec       *parse.CSVRecorder
 	acc       *diagnose.AcceptanceTest
+	pending   bool // a sample arrived that the view does not judge yet
+	judgedAt  time.Time
+	judgeTook time.Duration
 	first     int64 // first sample time, Unix ms
 	last      int64
 	samples   int
@@ -168,6 +171,11 @@ func (c *WatchCmd) Run(g *Globals, pr *printer) error {
 	}
 	pr.Notef("watching %s (%s), every %v; Ctrl-C stops", c.Target, ws.transport, c.Interval)
 	ferr := gnmisub.Follow(ctx, conn, opts, ws.sample)
+	if ws.pending {
+		if err := ws.judge(); err != nil && ferr == nil {
+			ferr = err
+		}
+	}
 	if c.Record != "" && ws.rows > 0 {
 		pr.Notef("recorded %d rows to %s; 'beatnote report %s …' signs exactly what was watched", ws.rows, c.Record, c.Record)
 	}
@@ -193,20 +201,34 @@ func (ws *watchSession) sample(s gnmisub.Sample) error {
 		if err := ws.rec.WriteSeries(sr); err != nil {
 			return fmt.Errorf("--record: %w", err)
 		}
-		ws.rows += sr.Len()
-		if ws.first == 0 {
-			ws.first = sr.TimesMs[0]
+		if ws.rows == 0 {
+			ws.first, ws.last = sr.TimesMs[0], sr.TimesMs[0]
 		}
+		ws.rows += sr.Len()
+		ws.first = min(ws.first, sr.TimesMs[0])
 		ws.last = max(ws.last, sr.TimesMs[sr.Len()-1])
 	}
 	ws.samples++
 	if err := ws.file.Sync(); err != nil {
 		return fmt.Errorf("--record: %w", err)
 	}
+	ws.pending = true
+	// Judging the whole session costs more as it grows: when the last judgement took more than
+	// a quarter of the time since it, this sample waits for the next (the end judges it).
+	if ws.rows > 0 && time.Since(ws.judgedAt) < 4*ws.judgeTook {
+		return nil
+	}
+	return ws.judge()
+}
+
+// judge re-judges the whole recording and redraws.
+func (ws *watchSession) judge() error {
+	ws.pending = false
 	if ws.rows == 0 {
 		ws.draw()
 		return nil
 	}
+	start := time.Now()
 	quiet := newPrinter(io.Discard, io.Discard, true)
 	acc := *ws.acc
 	acc.Rejected = ws.rejected
@@ -215,6 +237,7 @@ func (ws *watchSession) sample(s gnmisub.Sample) error {
 		return err
 	}
 	ws.result = a
+	ws.judgedAt, ws.judgeTook = time.Now(), time.Since(start)
 	ws.draw()
 	return nil
 }
