@@ -105,3 +105,67 @@ func TestBusyChannelsCoincideByChance(t *testing.T) {
 		t.Errorf("chance coincidences made %+v", res.Lines[0].Findings)
 	}
 }
+
+// The line's mean DGD pools every sample of every channel (ITU-T G.650.2: the average over time
+// and wavelength), and its Maxwellian tail at the smallest tolerance. Reference tail from
+// Python's math module: P(τ > x) = erfc(u/√2) + √(2/π)·u·exp(−u²/2), u = x/a,
+// a = mean/(2·√(2/π)) (the Maxwell distribution, e.g. scipy.stats.maxwell.sf).
+func TestPooledPMD(t *testing.T) {
+	r, _ := rules.DefaultRules()
+	nan := math.NaN()
+	mk := func(name string, dgd []float64, tol float64) diagnose.PortResult {
+		p := port(name, "L", len(dgd), diagnose.PortAnalysis{})
+		p.Analysis.Series.Values[parse.DGDps] = dgd
+		p.Analysis.Profile = rules.Profile{DGDTolerancePs: tol}
+		return p
+	}
+	res := &diagnose.Result{Ports: []diagnose.PortResult{
+		mk("a", []float64{1, 2, 3, nan}, 8), mk("b", []float64{2, 4, nan, nan}, 6), mk("c", []float64{nan, nan, nan, nan}, 5),
+	}}
+	Reason(res, r)
+	pm := res.Lines[0].PMD
+	if pm == nil || pm.Channels != 2 || pm.Samples != 5 || math.Abs(pm.MeanDGDPs-2.4) > 1e-12 ||
+		pm.ChannelMeanMinPs != 2 || pm.ChannelMeanMaxPs != 3 || pm.TolerancePs != 6 {
+		t.Fatalf("pooled PMD %+v, want mean 2.4 ps over 5 samples of 2 channels, means 2…3 ps, tolerance 6 ps", pm)
+	}
+	if want := 0.0011801297705922738; math.Abs(pm.ExceedProbability-want) > 1e-12 {
+		t.Errorf("P(DGD > 6 ps) = %.17g, want %.17g", pm.ExceedProbability, want)
+	}
+}
+
+// An OSNR step with the power held is line-osnr-drop; with the power falling as much at the
+// same minute it is a loss the receivers see: line-power-drop only.
+func TestOSNRDropNeedsPowerHeld(t *testing.T) {
+	r, _ := rules.DefaultRules()
+	mk := func(name string, powerStep bool) diagnose.PortResult {
+		const n, at = 240, 120
+		osnr, pw := make([]float64, n), make([]float64, n)
+		for i := range osnr {
+			osnr[i], pw[i] = 30+0.05*math.Sin(float64(i)), -8+0.02*math.Cos(float64(i))
+			if i >= at {
+				osnr[i] -= 4
+				if powerStep {
+					pw[i] -= 6
+				}
+			}
+		}
+		var an diagnose.PortAnalysis
+		if powerStep {
+			an.PowerSteps = []diagnose.ChangePoint{{TimeMs: minute(at), Index: at, Quantity: "rx_power_dbm", Before: -8, After: -14, Step: -6, Unit: "dB"}}
+		}
+		p := port(name, "L", n, an)
+		p.Analysis.Series.Values[parse.OSNRdB], p.Analysis.Series.Values[parse.RxPowerDBm] = osnr, pw
+		return p
+	}
+	for _, c := range []struct {
+		powerStep bool
+		want      string
+	}{{false, diagnose.LineOSNRDrop}, {true, diagnose.LinePowerDrop}} {
+		res := &diagnose.Result{Ports: []diagnose.PortResult{mk("a", c.powerStep), mk("b", c.powerStep), mk("c", c.powerStep)}}
+		Reason(res, r)
+		f := res.Lines[0].Findings
+		if len(f) != 1 || f[0].ID != c.want || f[0].From != "2026-03-14T02:00:00Z" || len(f[0].PortsAffected) != 3 {
+			t.Errorf("power step %v: findings %+v, want one %s at 02:00 on 3 ports", c.powerStep, f, c.want)
+		}
+	}
+}
