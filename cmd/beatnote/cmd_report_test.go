@@ -166,3 +166,26 @@ func TestKeygenRefusesOverwrite(t *testing.T) {
 		t.Error("keygen --force failed")
 	}
 }
+
+// A report judged on the assumed default profile says so in its header; with a plan naming the
+// profile it does not.
+func TestReportHeaderShowsAssumedProfile(t *testing.T) {
+	dir, log, plan, _ := reportFixture(t)
+	for _, c := range []struct {
+		plan string
+		want bool
+	}{{"", true}, {plan, false}} {
+		out := filepath.Join(dir, "assumed.md")
+		if _, code := runCmd(t, (&ReportCmd{Logs: []string{log}, judgeFlags: judgeFlags{Plan: c.plan}, Out: out, Format: "markdown", Paper: "a4", Time: "2026-03-15T09:00:00Z"}).Run); code == 2 {
+			t.Fatal("exit 2")
+		}
+		data, _ := os.ReadFile(out)
+		header := string(data)
+		if i := strings.Index(header, "## "); i > 0 {
+			header = header[:i]
+		}
+		if got := strings.Contains(header, "ASSUMED"); got != c.want {
+			t.Errorf("plan %q: header says assumed %v, want %v\n%s", c.plan, got, c.want, header)
+		}
+	}
+}

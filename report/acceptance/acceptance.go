@@ -43,6 +43,9 @@ type ProfileSummary struct {
 	BaudGBd         float64 `json:"baud_gbd"`
 	FEC             string  `json:"fec"`
 	FECThresholdBER float64 `json:"fec_threshold_ber"`
+	// Assumed is set when nothing named the profile of some port: the built-in default was
+	// assumed (the report says so in its header).
+	Assumed bool `json:"assumed,omitempty"`
 }
 
 // PlanSummary is the part of a link plan an acceptance report shows.
@@ -242,6 +245,11 @@ func New(in Input) (*Report, error) {
 		a.Profile = &ProfileSummary{
 			ID: in.Profile.ID, Name: in.Profile.Name, Modulation: in.Profile.Modulation,
 			BaudGBd: in.Profile.BaudGBd, FEC: in.Profile.FEC, FECThresholdBER: in.Profile.FECThresholdBER,
+		}
+		for _, p := range in.Result.Ports {
+			if p.ProfileSource == diagnose.ProfileAssumed {
+				a.Profile.Assumed = true
+			}
 		}
 	}
 

@@ -303,6 +303,9 @@ func profileLine(ps *ProfileSummary) string {
 	if len(parts) > 0 {
 		s += ": " + strings.Join(parts, ", ")
 	}
+	if ps.Assumed {
+		s += ". ASSUMED: no --profile, plan or port map names the module's profile; the built-in default was used"
+	}
 	return s
 }
 
