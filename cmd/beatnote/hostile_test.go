@@ -5,6 +5,7 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"regexp"
 	"strconv"
@@ -133,7 +134,7 @@ func TestHostileInputCSV(t *testing.T) {
 var (
 	htmlTag      = regexp.MustCompile(`<(/?)([a-zA-Z0-9]+)[^>]*>`)
 	markdownTags = map[string]bool{"h1": true, "h2": true, "h3": true, "p": true, "table": true, "thead": true, "tbody": true,
-		"tr": true, "th": true, "td": true, "ul": true, "ol": true, "li": true, "strong": true, "code": true, "br": true}
+		"tr": true, "th": true, "td": true, "ul": true, "ol": true, "li": true, "strong": true, "em": true, "code": true, "br": true}
 	// No cell, item, paragraph or heading begun by a marker after a line break, and no heading
 	// made of a hostile string at all.
 	forgedElement = regexp.MustCompile(`<(td|th|li|h[1-6]|p)>\s*FORGED|<h[1-6]>\s*FAKE`)
@@ -194,6 +195,73 @@ func TestHostileInputJSON(t *testing.T) {
 	for _, name := range c.portNames {
 		if !got[name] {
 			t.Errorf("port %q is not in the JSON as read", name)
+		}
+	}
+}
+
+// hostileSignOff are sign-off fields typed (or pasted) with the same hostile content. The
+// notes keep the lines they were typed on (each escaped), so their markers are FAKE.
+var hostileSignOff = []string{"--technician", "T\x1b[2J\n# FORGED-technician", "--organisation", "=1+2",
+	"--notes", "line one\nline two <b>FAKE-notes</b>\r\n| FAKE-notes \x1b[2J|"}
+
+func TestHostileInputAcceptanceMarkdown(t *testing.T) {
+	c := newHostileCorpus(t)
+	out := filepath.Join(c.dir, "acceptance.md")
+	args := append([]string{"report", c.values, "--plan", c.plan, "--format", "markdown", "--out", out}, hostileSignOff...)
+	if code, _, stderr := runCLI(t, args...); code == 2 {
+		t.Fatalf("report: %s", stderr)
+	}
+	md, err := os.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	assertMarkdownSafe(t, "acceptance markdown", string(md))
+}
+
+// pdfLines extracts the text of a PDF with pdftotext (poppler-utils), keeping the layout, so
+// that each line of text on a page is one line of the result.
+func pdfLines(t *testing.T, file string) []string {
+	t.Helper()
+	tool, err := exec.LookPath("pdftotext")
+	if err != nil {
+		if os.Getenv("CI") != "" {
+			t.Fatal("pdftotext is not installed; .ci/run installs poppler-utils")
+		}
+		t.Skip("pdftotext is not installed (Debian: apt-get install poppler-utils); .ci/run installs it")
+	}
+	out, err := exec.Command(tool, "-layout", "-enc", "UTF-8", file, "-").Output()
+	if err != nil {
+		t.Fatalf("pdftotext: %v", err)
+	}
+	return strings.Split(string(out), "\n")
+}
+
+// In the PDF every text from an input stays on its line: no line of a page starts with a
+// marker that followed a line break (in any column of a table), and no control character
+// reaches the page.
+func TestHostileInputAcceptancePDF(t *testing.T) {
+	c := newHostileCorpus(t)
+	out := filepath.Join(c.dir, "acceptance.pdf")
+	args := append([]string{"report", c.values, "--plan", c.plan, "--out", out}, hostileSignOff...)
+	if code, _, stderr := runCLI(t, args...); code == 2 {
+		t.Fatalf("report: %s", stderr)
+	}
+	lines := pdfLines(t, out)
+	text := strings.Join(lines, "\n")
+	if !strings.Contains(text, `\nFORGED-circuit`) {
+		t.Errorf("the PDF does not show the circuit's line break as \\n:\n%s", text)
+	}
+	for _, line := range lines {
+		// pdftotext -layout separates table columns by runs of spaces.
+		for _, col := range regexp.MustCompile(`\s{2,}`).Split(strings.TrimSpace(line), -1) {
+			if forgedLine.MatchString(strings.TrimLeft(col, "•→ ")) {
+				t.Errorf("PDF line begun by a hostile string: %q", line)
+			}
+		}
+		for _, r := range line {
+			if (r < 0x20 && r != '\f') || r == 0x7f || (r >= 0x80 && unicode.In(r, unicode.Cc, unicode.Cf)) {
+				t.Errorf("PDF line %q holds %U", line, r)
+			}
 		}
 	}
 }

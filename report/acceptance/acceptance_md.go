@@ -8,6 +8,7 @@ import (
 
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/report"
+	"github.com/beatnote/beatnote/report/escape"
 )
 
 // VerdictWords is how a verdict is written out in a report, never by colour alone.
@@ -81,43 +82,43 @@ func orBlank(s, blank string) string {
 	return s
 }
 
-func mdCell(s string) string {
-	s = strings.ReplaceAll(s, "\\", "\\\\")
-	s = strings.ReplaceAll(s, "|", "\\|")
-	s = strings.ReplaceAll(s, "\r", "")
-	return strings.ReplaceAll(s, "\n", "<br>")
-}
-
-func mdText(s string) string {
-	return strings.ReplaceAll(s, "\r", "")
+// mdLines escapes text typed on several lines (the sign-off notes) for a Markdown table cell:
+// each line escaped with escape.Markdown, the lines joined by <br>.
+func mdLines(s string) string {
+	lines := strings.Split(s, "\n")
+	for i, l := range lines {
+		lines[i] = escape.Markdown(strings.TrimSuffix(l, "\r"))
+	}
+	return strings.Join(lines, "<br>")
 }
 
 // WriteMarkdown writes the report as Markdown for tickets: the same content as the PDF, less
-// the charts.
+// the charts. Every text that may come from an input or a flag goes through escape.Markdown, so
+// that it renders as the text it is: no forged row, heading, link or HTML.
 func (a *Report) WriteMarkdown(w io.Writer) error {
 	b := bufio.NewWriter(w)
 	p := func(format string, args ...any) { fmt.Fprintf(b, format, args...) }
 
-	p("# Coherent link acceptance report — %s\n\n", mdText(a.Circuit))
-	p("**Verdict: %s** — %s", VerdictWords(a.Verdict), mdText(headline(a)))
+	p("# Coherent link acceptance report — %s\n\n", escape.Markdown(a.Circuit))
+	p("**Verdict: %s** — %s", VerdictWords(a.Verdict), escape.Markdown(headline(a)))
 	if tally := criteriaTally(a); tally != "" {
 		p(" %s", tally)
 	}
 	p("\n\n")
 	p("| | |\n| --- | --- |\n")
-	p("| Circuit | %s |\n", mdCell(a.Circuit))
-	p("| End A | %s |\n", mdCell(orBlank(a.EndA, "not stated")))
-	p("| End Z | %s |\n", mdCell(orBlank(a.EndZ, "not stated")))
-	p("| Period (UTC) | %s to %s |\n", mdCell(a.From), mdCell(a.To))
+	p("| Circuit | %s |\n", escape.Markdown(a.Circuit))
+	p("| End A | %s |\n", escape.Markdown(orBlank(a.EndA, "not stated")))
+	p("| End Z | %s |\n", escape.Markdown(orBlank(a.EndZ, "not stated")))
+	p("| Period (UTC) | %s to %s |\n", escape.Markdown(a.From), escape.Markdown(a.To))
 	if a.Profile != nil {
-		p("| Module profile | %s |\n", mdCell(profileLine(a.Profile)))
+		p("| Module profile | %s |\n", escape.Markdown(profileLine(a.Profile)))
 	} else {
 		p("| Module profile | not stated |\n")
 	}
 	p("| Report id | %s |\n", a.ReportID)
 	p("| Report time | %s |\n", a.GeneratedAt)
 	if a.Signing != nil {
-		p("| Signer | %s |\n", mdCell(a.Signing.Signer))
+		p("| Signer | %s |\n", escape.Markdown(a.Signing.Signer))
 		p("| Signing key | `%s` |\n", a.Signing.KeyFingerprint)
 	} else {
 		p("| Signing key | not signed |\n")
@@ -125,13 +126,13 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 	p("\n")
 
 	if a.Plan != nil {
-		p("## Link plan\n\n%s: %s, %.1f km, %s", mdText(a.Plan.Circuit), report.Plural(a.Plan.Spans, "span", "spans"), a.Plan.LengthKm, report.Plural(a.Plan.Amplifiers, "amplifier", "amplifiers"))
+		p("## Link plan\n\n%s: %s, %.1f km, %s", escape.Markdown(a.Plan.Circuit), report.Plural(a.Plan.Spans, "span", "spans"), a.Plan.LengthKm, report.Plural(a.Plan.Amplifiers, "amplifier", "amplifiers"))
 		if a.Plan.FrequencyTHz > 0 {
 			p(", channel %.5f THz", a.Plan.FrequencyTHz)
 		}
 		p(".")
 		if a.Plan.Description != "" {
-			p(" %s", mdText(a.Plan.Description))
+			p(" %s", escape.Markdown(a.Plan.Description))
 		}
 		p("\n\n")
 		if len(a.Plan.Instruments) > 0 || len(a.Plan.PowerReadings) > 0 {
@@ -139,14 +140,14 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 			if rows := instrumentRows(a.Plan.Instruments); len(rows) > 0 {
 				p("| instrument | model | serial | calibrated on | calibration due |\n| --- | --- | --- | --- | --- |\n")
 				for _, r := range rows {
-					p("| %s | %s | %s | %s | %s |\n", mdCell(r[0]), mdCell(r[1]), mdCell(r[2]), mdCell(r[3]), mdCell(r[4]))
+					p("| %s | %s | %s | %s | %s |\n", escape.Markdown(r[0]), escape.Markdown(r[1]), escape.Markdown(r[2]), escape.Markdown(r[3]), escape.Markdown(r[4]))
 				}
 				p("\n")
 			}
 			if rows := readingRows(a.Plan.PowerReadings, a.Plan.Instruments); len(rows) > 0 {
 				p("Hand power-meter readings:\n\n| where | power | wavelength | instrument | taken | note |\n| --- | ---: | ---: | --- | --- | --- |\n")
 				for _, r := range rows {
-					p("| %s | %s | %s | %s | %s | %s |\n", mdCell(r[0]), r[1], r[2], mdCell(r[3]), mdCell(r[4]), r[5])
+					p("| %s | %s | %s | %s | %s | %s |\n", escape.Markdown(r[0]), r[1], r[2], escape.Markdown(r[3]), escape.Markdown(r[4]), escape.Markdown(r[5]))
 				}
 				p("\n")
 			}
@@ -157,18 +158,18 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 		p("## Both directions\n\n| from | received at | line | verdict | causes and line findings |\n| --- | --- | --- | --- | --- |\n")
 		for _, dp := range a.Directions {
 			for _, d := range dp.Directions {
-				p("| %s | %s | %s | %s | %s |\n", mdCell(d.From), mdCell(d.ReceivedAt), mdCell(orBlank(d.Line, "—")), VerdictWords(d.Verdict),
-					mdCell(orBlank(strings.Join(append(append([]string{}, d.LineFindings...), d.Causes...), ", "), "none")))
+				p("| %s | %s | %s | %s | %s |\n", escape.Markdown(d.From), escape.Markdown(d.ReceivedAt), escape.Markdown(orBlank(d.Line, "—")), VerdictWords(d.Verdict),
+					escape.Markdown(orBlank(strings.Join(append(append([]string{}, d.LineFindings...), d.Causes...), ", "), "none")))
 			}
-			p("\n%s\n\n", mdText(dp.Finding))
+			p("\n%s\n\n", escape.Markdown(dp.Finding))
 		}
 	}
 
 	for _, port := range a.Ports {
-		p("## Port %s — %s\n\n", mdText(port.Port), VerdictWords(port.Verdict))
-		p("Profile %s; %s from %s to %s.\n\n", mdText(orBlank(report.ProfileText(&port), "not stated")), report.Plural(port.Samples, "sample", "samples"), port.From, port.To)
+		p("## Port %s — %s\n\n", escape.Markdown(port.Port), VerdictWords(port.Verdict))
+		p("Profile %s; %s from %s to %s.\n\n", escape.Markdown(orBlank(report.ProfileText(&port), "not stated")), report.Plural(port.Samples, "sample", "samples"), port.From, port.To)
 		for _, f := range portFacts(&port) {
-			p("%s\n\n", mdText(f))
+			p("%s\n\n", escape.Markdown(f))
 		}
 		if len(port.Criteria) > 0 {
 			p("### Criteria\n\n| criterion | statistic | measured | limit | margin | verdict | limit source |\n| --- | --- | ---: | ---: | ---: | --- | --- |\n")
@@ -178,20 +179,20 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 				if c.Source != "" {
 					src = fmt.Sprintf("%s [%d]", report.SourceClass(c.Source), notes.Note(c.Source))
 				}
-				p("| %s | %s | %s | %s | %s | %s | %s |\n", mdCell(c.Name), mdCell(c.Statistic), report.FormatValue(c.Measured, c.Unit),
+				p("| %s | %s | %s | %s | %s | %s | %s |\n", escape.Markdown(c.Name), escape.Markdown(c.Statistic), report.FormatValue(c.Measured, c.Unit),
 					report.FormatValue(c.Limit, c.Unit), report.CriterionMargin(c), strings.ToLower(VerdictWords(c.Verdict)), src)
 			}
 			p("\n")
 			for i, t := range notes.Texts() {
-				p("[%d] %s  \n", i+1, mdText(t))
+				p("[%d] %s  \n", i+1, escape.Markdown(t))
 			}
 			p("\n")
 		}
 		if len(port.PlanVsMeasured) > 0 {
 			p("### Plan vs measured\n\n| quantity | planned | measured | difference | note |\n| --- | ---: | ---: | ---: | --- |\n")
 			for _, pc := range port.PlanVsMeasured {
-				p("| %s | %s | %s | %s | %s |\n", mdCell(report.QuantityLabel(pc.Quantity)), report.FormatValue(pc.Expected, pc.Unit), report.FormatValue(pc.Measured, pc.Unit),
-					report.FormatMargin(pc.Measured-pc.Expected, pc.Unit), mdCell(pc.Note))
+				p("| %s | %s | %s | %s | %s |\n", escape.Markdown(report.QuantityLabel(pc.Quantity)), report.FormatValue(pc.Expected, pc.Unit), report.FormatValue(pc.Measured, pc.Unit),
+					report.FormatMargin(pc.Measured-pc.Expected, pc.Unit), escape.Markdown(pc.Note))
 			}
 			p("\n")
 		}
@@ -200,23 +201,23 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 			p("None: nothing in the telemetry points at a physical fault.\n\n")
 		}
 		for i, c := range port.Causes {
-			p("%d. **%s** (confidence %.0f %%)\n", i+1, c.ID, 100*c.Confidence)
+			p("%d. **%s** (confidence %.0f %%)\n", i+1, escape.Markdown(c.ID), 100*c.Confidence)
 			for _, e := range c.Evidence {
-				p("   - evidence: %s\n", mdText(e))
+				p("   - evidence: %s\n", escape.Markdown(e))
 			}
 			for j, act := range c.Actions {
-				p("   - action: %s\n", mdText(act))
+				p("   - action: %s\n", escape.Markdown(act))
 				if j < len(c.Cautions) && c.Cautions[j] != "" {
-					p("     *%s*\n", mdText(c.Cautions[j]))
+					p("     *%s*\n", escape.Markdown(c.Cautions[j]))
 				}
 			}
 		}
 		p("\n")
 		if port.NextTest != "" {
-			p("Next test: %s\n\n", mdText(port.NextTest))
+			p("Next test: %s\n\n", escape.Markdown(port.NextTest))
 		}
 		for _, r := range port.Risks {
-			p("- risk: %s\n", mdText(r))
+			p("- risk: %s\n", escape.Markdown(r))
 		}
 		if len(port.Risks) > 0 {
 			p("\n")
@@ -224,21 +225,21 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 		if lines := report.BudgetLines(port.Budget); len(lines) > 0 {
 			p("### SNR budget\n\n")
 			for _, l := range lines {
-				p("- %s\n", mdText(l))
+				p("- %s\n", escape.Markdown(l))
 			}
 			p("\n")
 		}
 		if len(port.NotJudged) > 0 {
 			p("Not judged:\n\n")
 			for _, n := range port.NotJudged {
-				p("- %s\n", mdText(n))
+				p("- %s\n", escape.Markdown(n))
 			}
 			p("\n")
 		}
 		if rows := metricRows(port.Metrics); len(rows) > 0 {
 			p("### Measurements\n\n| quantity | min | median | p99 | max |\n| --- | ---: | ---: | ---: | ---: |\n")
 			for _, r := range rows {
-				p("| %s | %s | %s | %s | %s |\n", mdCell(r[0]), r[1], r[2], r[3], r[4])
+				p("| %s | %s | %s | %s | %s |\n", escape.Markdown(r[0]), r[1], r[2], r[3], r[4])
 			}
 			p("\n")
 		}
@@ -246,20 +247,20 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 
 	p("## Inputs\n\n| file | SHA-256 | rows read | used | rejected |\n| --- | --- | ---: | ---: | ---: |\n")
 	for _, in := range a.Inputs {
-		p("| %s | `%s` | %d | %d | %d |\n", mdCell(in.File), in.SHA256, in.RowsRead, in.RowsUsed, in.RowsRejected)
+		p("| %s | `%s` | %d | %d | %d |\n", escape.Markdown(in.File), in.SHA256, in.RowsRead, in.RowsUsed, in.RowsRejected)
 	}
 	p("\n")
 	if len(a.Settings) > 0 {
 		p("| judged with | file | SHA-256 |\n| --- | --- | --- |\n")
 		for _, f := range a.Settings {
-			p("| %s | %s | `%s` |\n", f.Role, mdCell(f.File), f.SHA256)
+			p("| %s | %s | `%s` |\n", f.Role, escape.Markdown(f.File), f.SHA256)
 		}
 		p("\n")
 	}
 	if a.Rejected.Total > 0 {
 		p("%s rejected; the first %d:\n\n", report.Plural(a.Rejected.Total, "row", "rows"), len(a.Rejected.First))
 		for _, r := range a.Rejected.First {
-			p("- %s\n", mdText(rejectionLine(r.File, r.Line, r.Field, r.Reason)))
+			p("- %s\n", escape.Markdown(rejectionLine(r.File, r.Line, r.Field, r.Reason)))
 		}
 		p("\n")
 	} else {
@@ -271,12 +272,12 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 		p("- %s\n", c)
 	}
 	p("\n## Sign-off\n\n| | |\n| --- | --- |\n")
-	p("| Technician | %s |\n", mdCell(a.SignOff.Technician))
-	p("| Organisation | %s |\n", mdCell(a.SignOff.Organisation))
-	p("| Accepting party | %s |\n", mdCell(a.SignOff.AcceptingParty))
-	p("| End A | %s |\n", mdCell(a.SignOff.EndA))
-	p("| End Z | %s |\n", mdCell(a.SignOff.EndZ))
-	p("| Notes | %s |\n", mdCell(a.SignOff.Notes))
+	p("| Technician | %s |\n", escape.Markdown(a.SignOff.Technician))
+	p("| Organisation | %s |\n", escape.Markdown(a.SignOff.Organisation))
+	p("| Accepting party | %s |\n", escape.Markdown(a.SignOff.AcceptingParty))
+	p("| End A | %s |\n", escape.Markdown(a.SignOff.EndA))
+	p("| End Z | %s |\n", escape.Markdown(a.SignOff.EndZ))
+	p("| Notes | %s |\n", mdLines(a.SignOff.Notes))
 	p("\nHanded over by: ______________________  date: ____________\n\n")
 	p("Accepted by: ______________________  date: ____________\n")
 	return b.Flush()

@@ -8,7 +8,6 @@ import (
 	"sort"
 	"strings"
 	"time"
-	"unicode"
 
 	"codeberg.org/go-fonts/liberation/liberationmonoregular"
 	"codeberg.org/go-fonts/liberation/liberationsansbold"
@@ -19,6 +18,7 @@ import (
 
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/report"
+	"github.com/beatnote/beatnote/report/escape"
 )
 
 // Paper is a page size for the PDF report.
@@ -141,16 +141,14 @@ func (a *Report) WritePDF(w io.Writer, opt PDFOptions) error {
 	return err
 }
 
-// text makes s drawable: control characters become spaces and runes the font lacks become
-// <U+XXXX>, remembered so the report can say so.
+// text makes s one drawable line: control and formatting characters (line breaks included)
+// are shown as escapes by escape.Visible, so that text from an input cannot start a line of its
+// own, and runes the font lacks become <U+XXXX>, remembered so the report can say so. Text
+// meant to take several lines is split at its line breaks first (see table).
 func (pw *pdfWriter) text(s string) string {
 	var b strings.Builder
-	for _, r := range s {
+	for _, r := range escape.Visible(s) {
 		switch {
-		case r == '\n':
-			b.WriteRune(r)
-		case r == '\t' || unicode.IsControl(r):
-			b.WriteByte(' ')
 		case r == ' ' || pw.cover.has(r):
 			b.WriteRune(r)
 		default:
@@ -180,7 +178,7 @@ func (pw *pdfWriter) header() {
 // fit shortens s with an ellipsis to width w; only for the running header, whose full text
 // appears on the first page.
 func (pw *pdfWriter) fit(s string, w float64) string {
-	s = pw.text(strings.ReplaceAll(s, "\n", " "))
+	s = pw.text(s)
 	if pw.pdf.GetStringWidth(s) <= w-2*pdfCellPad {
 		return s
 	}
@@ -350,6 +348,17 @@ type cellLine struct {
 // table draws a table with wrapped cells. Every cell's text is wrapped, none is cut. The header
 // row is repeated after a page break; a row that fits on a page is never split, a taller one
 // continues on the next page.
+// oneLineCells escapes every cell of rows with escape.Visible: table cells break at "\n", and a
+// cell made of text from an input must stay on one line.
+func oneLineCells(rows [][]string) [][]string {
+	for _, r := range rows {
+		for j := range r {
+			r[j] = escape.Visible(r[j])
+		}
+	}
+	return rows
+}
+
 func (pw *pdfWriter) table(cols []column, rows [][]string, size float64) {
 	pdf := pw.pdf
 	lineH := size * 0.47
@@ -376,10 +385,11 @@ func (pw *pdfWriter) table(cols []column, rows [][]string, size float64) {
 		for i, c := range cols {
 			txt := ""
 			if i < len(cells) {
-				txt = pw.text(cells[i])
+				txt = cells[i]
 			}
 			var lines []cellLine
 			for k, para := range strings.Split(txt, "\n") {
+				para = pw.text(para)
 				sub := c.subdued && k > 0 && !bold
 				setFont(c, bold, sub)
 				sl := pdf.SplitText(para, widths[i])
@@ -495,18 +505,18 @@ func (pw *pdfWriter) body() error {
 	}
 	signing := "not signed"
 	if a.Signing != nil {
-		signing = a.Signing.KeyFingerprint + "\nsigner: " + orBlank(a.Signing.Signer, "not named")
+		signing = a.Signing.KeyFingerprint + "\nsigner: " + escape.Visible(orBlank(a.Signing.Signer, "not named"))
 	}
 	var ports []string
 	for _, p := range a.Ports {
-		ports = append(ports, fmt.Sprintf("%s: %s (%d samples)", p.Port, VerdictWords(p.Verdict), p.Samples))
+		ports = append(ports, fmt.Sprintf("%s: %s (%d samples)", escape.Visible(p.Port), VerdictWords(p.Verdict), p.Samples))
 	}
 	kv := [][]string{
-		{"Circuit", a.Circuit},
-		{"End A", orBlank(a.EndA, "not stated")},
-		{"End Z", orBlank(a.EndZ, "not stated")},
+		{"Circuit", escape.Visible(a.Circuit)},
+		{"End A", escape.Visible(orBlank(a.EndA, "not stated"))},
+		{"End Z", escape.Visible(orBlank(a.EndZ, "not stated"))},
 		{"Period (UTC)", a.From + " to " + a.To},
-		{"Module profile", profile},
+		{"Module profile", escape.Visible(profile)},
 		{"Ports", strings.Join(ports, "\n")},
 		{"Report id", a.ReportID},
 		{"Report time (UTC)", a.GeneratedAt},
@@ -529,7 +539,7 @@ func (pw *pdfWriter) body() error {
 			pw.heading("Field measurements", 12)
 			pw.table([]column{{title: "instrument", width: 0.26, align: "L"}, {title: "model", width: 0.22, align: "L"},
 				{title: "serial", width: 0.18, align: "L"}, {title: "calibrated on", width: 0.17, align: "L"}, {title: "calibration due", width: 0.17, align: "L"}},
-				rows, pdfBodySize-0.5)
+				oneLineCells(rows), pdfBodySize-0.5)
 		}
 		if rows := readingRows(a.Plan.PowerReadings, a.Plan.Instruments); len(rows) > 0 {
 			if len(a.Plan.Instruments) == 0 {
@@ -539,7 +549,7 @@ func (pw *pdfWriter) body() error {
 			pw.table([]column{{title: "where", width: 0.24, align: "L"}, {title: "power", width: 0.12, align: "R"},
 				{title: "wavelength", width: 0.12, align: "R"}, {title: "instrument", width: 0.14, align: "L"},
 				{title: "taken", width: 0.18, align: "L"}, {title: "note", width: 0.2, align: "L"}},
-				rows, pdfBodySize-0.5)
+				oneLineCells(rows), pdfBodySize-0.5)
 		}
 	}
 
@@ -552,7 +562,7 @@ func (pw *pdfWriter) body() error {
 					orBlank(strings.Join(append(append([]string{}, d.LineFindings...), d.Causes...), ", "), "none")})
 			}
 			pw.table([]column{{title: "from", width: 0.16, align: "L"}, {title: "received at", width: 0.16, align: "L"},
-				{title: "line", width: 0.2, align: "L"}, {title: "verdict", width: 0.14, align: "L"}, {title: "causes and line findings", width: 0.34, align: "L"}}, rows, pdfBodySize)
+				{title: "line", width: 0.2, align: "L"}, {title: "verdict", width: 0.14, align: "L"}, {title: "causes and line findings", width: 0.34, align: "L"}}, oneLineCells(rows), pdfBodySize)
 			pw.para(dp.Finding, "", pdfBodySize)
 		}
 	}
@@ -588,11 +598,11 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 		bars := make([]float64, len(port.Criteria))
 		var notes report.Footnotes
 		for i, c := range port.Criteria {
-			name := c.Name
+			name := escape.Visible(c.Name)
 			if c.Source != "" {
 				name += fmt.Sprintf("\nlimit: %s [%d]", report.SourceClass(c.Source), notes.Note(c.Source))
 			}
-			rows[i] = []string{name, c.Statistic, report.FormatValue(c.Measured, c.Unit), report.FormatValue(c.Limit, c.Unit), report.CriterionMargin(c), strings.ToLower(VerdictWords(c.Verdict))}
+			rows[i] = []string{name, escape.Visible(c.Statistic), report.FormatValue(c.Measured, c.Unit), report.FormatValue(c.Limit, c.Unit), report.CriterionMargin(c), strings.ToLower(VerdictWords(c.Verdict))}
 			bars[i] = marginFraction(c)
 		}
 		pw.table([]column{
@@ -606,7 +616,7 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 		pw.heading("Plan vs measured", 11)
 		rows := make([][]string, len(port.PlanVsMeasured))
 		for i, pc := range port.PlanVsMeasured {
-			rows[i] = []string{report.QuantityLabel(pc.Quantity), report.FormatValue(pc.Expected, pc.Unit), report.FormatValue(pc.Measured, pc.Unit), report.FormatMargin(pc.Measured-pc.Expected, pc.Unit), pc.Note}
+			rows[i] = []string{report.QuantityLabel(pc.Quantity), report.FormatValue(pc.Expected, pc.Unit), report.FormatValue(pc.Measured, pc.Unit), report.FormatMargin(pc.Measured-pc.Expected, pc.Unit), escape.Visible(pc.Note)}
 		}
 		pw.table([]column{
 			{title: "quantity", width: 0.22, align: "L"}, {title: "planned", width: 0.15, align: "R"},
@@ -673,7 +683,7 @@ func (pw *pdfWriter) inputsSection() {
 	pw.heading("Inputs", 12)
 	rows := make([][]string, len(a.Inputs))
 	for i, in := range a.Inputs {
-		rows[i] = []string{in.File + "\nSHA-256 " + in.SHA256, fmt.Sprint(in.RowsRead), fmt.Sprint(in.RowsUsed), fmt.Sprint(in.RowsRejected)}
+		rows[i] = []string{escape.Visible(in.File) + "\nSHA-256 " + in.SHA256, fmt.Sprint(in.RowsRead), fmt.Sprint(in.RowsUsed), fmt.Sprint(in.RowsRejected)}
 	}
 	pw.table([]column{
 		{title: "file and SHA-256", width: 0.64, align: "L", mono: true}, {title: "rows read", width: 0.12, align: "R"},
@@ -682,7 +692,7 @@ func (pw *pdfWriter) inputsSection() {
 	if len(a.Settings) > 0 {
 		rows := make([][]string, len(a.Settings))
 		for i, f := range a.Settings {
-			rows[i] = []string{f.Role, f.File + "\nSHA-256 " + f.SHA256}
+			rows[i] = []string{f.Role, escape.Visible(f.File) + "\nSHA-256 " + f.SHA256}
 		}
 		pw.table([]column{{title: "judged with", width: 0.2, align: "L"}, {title: "file and SHA-256", width: 0.8, align: "L", mono: true}}, rows, pdfSmallSize+0.5)
 	}
@@ -728,13 +738,19 @@ func (pw *pdfWriter) safetySection() {
 func (pw *pdfWriter) signOffSection() {
 	a, pdf := pw.a, pw.pdf
 	so := a.SignOff
+	// Table cells break at "\n": every field is one line, except the notes, which keep the
+	// lines they were typed on, each escaped.
+	notes := strings.Split(so.Notes, "\n")
+	for i, l := range notes {
+		notes[i] = escape.Visible(strings.TrimSuffix(l, "\r"))
+	}
 	rows := [][]string{
-		{"Technician", so.Technician},
-		{"Organisation", so.Organisation},
-		{"Accepting party", so.AcceptingParty},
-		{"Site, end A", so.EndA},
-		{"Site, end Z", so.EndZ},
-		{"Notes", so.Notes},
+		{"Technician", escape.Visible(so.Technician)},
+		{"Organisation", escape.Visible(so.Organisation)},
+		{"Accepting party", escape.Visible(so.AcceptingParty)},
+		{"Site, end A", escape.Visible(so.EndA)},
+		{"Site, end Z", escape.Visible(so.EndZ)},
+		{"Notes", strings.Join(notes, "\n")},
 	}
 	// The heading, the fields and the signature lines stay together on one page (when they fit
 	// on one): signature lines alone on a last page sign nothing visible.
