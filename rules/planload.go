@@ -145,14 +145,20 @@ func (p *Plan) CheckProfile(profiles []Profile) error {
 	return nil
 }
 
-// LoadPlan reads and validates the link plan at path. Its profile id is checked against
-// profiles, or against the built-in profiles when none are given. A bad plan fails with a
-// *FileError giving the line and field.
+// LoadPlan reads (ReadConfig) and validates the link plan at path. Its profile id is checked
+// against profiles, or against the built-in profiles when none are given. A bad plan fails with
+// a *FileError giving the line and field.
 func LoadPlan(path string, profiles ...Profile) (Plan, error) {
-	data, err := readConfig(path)
+	data, err := ReadConfig(path)
 	if err != nil {
 		return Plan{}, err
 	}
+	return ParsePlan(path, data, profiles...)
+}
+
+// ParsePlan decodes and validates a link plan already read from the file named path, as LoadPlan
+// does: for a caller that keeps the bytes it parsed (to sign their digest).
+func ParsePlan(path string, data []byte, profiles ...Profile) (Plan, error) {
 	var p Plan
 	_, ix, err := decodeStrict(path, data, &p)
 	if err != nil {

@@ -194,7 +194,7 @@ func (m *PortMap) Index(port string) (int, bool) {
 // against the map file's folder and must name readable files (the plans themselves are read by
 // LoadPlan when needed).
 func LoadPortMap(path string, profiles ...Profile) (PortMap, error) {
-	data, err := readConfig(path)
+	data, err := ReadConfig(path)
 	if err != nil {
 		return PortMap{}, err
 	}

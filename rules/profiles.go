@@ -204,11 +204,16 @@ func BuiltinProfiles() ([]Profile, error) {
 // their built-in value and source); a new id is added after the built-in ones. A figure the file
 // sets without a source gets the source "user profiles file <path>".
 func LoadProfiles(path string) ([]Profile, error) {
-	base, err := BuiltinProfiles()
+	data, err := ReadConfig(path)
 	if err != nil {
 		return nil, err
 	}
-	data, err := readConfig(path)
+	return ParseProfiles(path, data)
+}
+
+// ParseProfiles is LoadProfiles for a profiles file already read from path.
+func ParseProfiles(path string, data []byte) ([]Profile, error) {
+	base, err := BuiltinProfiles()
 	if err != nil {
 		return nil, err
 	}

@@ -15,10 +15,10 @@ const MaxConfigBytes = 16 << 20
 // ErrTooLarge is wrapped by the FileError of a configuration file above MaxConfigBytes.
 var ErrTooLarge = errors.New("file too large")
 
-// readConfig reads the configuration file at path, at most MaxConfigBytes of it, so that a
+// ReadConfig reads the configuration file at path, at most MaxConfigBytes of it, so that a
 // device or a stream that never ends (/dev/zero) fails with a clear error instead of exhausting
 // memory. Its errors are *FileError naming path.
-func readConfig(path string) ([]byte, error) {
+func ReadConfig(path string) ([]byte, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, &FileError{File: path, Err: err}

@@ -50,11 +50,11 @@ func TestConfigReadUnderLimit(t *testing.T) {
 	if err := os.WriteFile(p, []byte("x: 1\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	data, err := readConfig(p)
+	data, err := ReadConfig(p)
 	if err != nil || string(data) != "x: 1\n" {
-		t.Fatalf("readConfig = %q, %v", data, err)
+		t.Fatalf("ReadConfig = %q, %v", data, err)
 	}
-	if _, err := readConfig(filepath.Join(t.TempDir(), "missing.yaml")); err == nil || !strings.Contains(err.Error(), "missing.yaml") {
+	if _, err := ReadConfig(filepath.Join(t.TempDir(), "missing.yaml")); err == nil || !strings.Contains(err.Error(), "missing.yaml") {
 		t.Errorf("missing file: err = %v, want one naming the file", err)
 	}
 }

@@ -302,11 +302,16 @@ func DefaultRules() (Rules, error) {
 // LoadRules returns the built-in rules with the values of the file at path overriding them one
 // by one. A value the file sets without a source gets the source "user rules file <path>".
 func LoadRules(path string) (Rules, error) {
-	r, err := DefaultRules()
+	data, err := ReadConfig(path)
 	if err != nil {
 		return Rules{}, err
 	}
-	data, err := readConfig(path)
+	return ParseRules(path, data)
+}
+
+// ParseRules is LoadRules for a rules file already read from path.
+func ParseRules(path string, data []byte) (Rules, error) {
+	r, err := DefaultRules()
 	if err != nil {
 		return Rules{}, err
 	}
