@@ -1,6 +1,8 @@
 package main
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"os"
@@ -66,6 +68,27 @@ type analysis struct {
 	Result *diagnose.Result
 	// ReadErr is non-nil when some input could not be read completely (exit 2 after printing).
 	ReadErr error
+	// Profiles and Plan are those the ports were judged with (Plan nil without --plan).
+	Profiles []rules.Profile
+	Plan     *rules.Plan
+	// Configs are the configuration files read (--profiles, --rules, --plan), each with the
+	// SHA-256 of the bytes parsed: what a signature vouches for, like DS.Inputs' digests.
+	Configs []configFile
+}
+
+// configFile is a configuration file as it was read and parsed.
+type configFile struct{ Path, SHA256 string }
+
+// readConfig reads a configuration file once (bounded, rules.ReadConfig) and keeps the digest
+// of the bytes it returns, which the caller parses.
+func (a *analysis) readConfig(path string) ([]byte, error) {
+	data, err := rules.ReadConfig(path)
+	if err != nil {
+		return nil, err
+	}
+	sum := sha256.Sum256(data)
+	a.Configs = append(a.Configs, configFile{Path: path, SHA256: hex.EncodeToString(sum[:])})
+	return data, nil
 }
 
 // analyze reads the inputs and judges every port. mapFile is a port map (triage) or "". With
@@ -75,27 +98,40 @@ type analysis struct {
 // Errors it returns are usage or input errors (exit 2).
 func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool, acc *diagnose.AcceptanceTest, pr *printer) (*analysis, error) {
 	boundHeap()
-	profiles, err := loadProfiles(jf.Profiles)
+	a := &analysis{}
+	profiles, err := rules.BuiltinProfiles()
+	if jf.Profiles != "" {
+		var data []byte
+		if data, err = a.readConfig(jf.Profiles); err == nil {
+			profiles, err = rules.ParseProfiles(jf.Profiles, data)
+		}
+	}
 	if err != nil {
 		return nil, err
 	}
-	rs := rules.Rules{}
+	rs, err := rules.DefaultRules()
 	if jf.Rules != "" {
-		rs, err = rules.LoadRules(jf.Rules)
-	} else {
-		rs, err = rules.DefaultRules()
+		var data []byte
+		if data, err = a.readConfig(jf.Rules); err == nil {
+			rs, err = rules.ParseRules(jf.Rules, data)
+		}
 	}
 	if err != nil {
 		return nil, err
 	}
 	var plan *rules.Plan
 	if jf.Plan != "" {
-		p, err := rules.LoadPlan(jf.Plan, profiles...)
+		data, err := a.readConfig(jf.Plan)
+		if err != nil {
+			return nil, err
+		}
+		p, err := rules.ParsePlan(jf.Plan, data, profiles...)
 		if err != nil {
 			return nil, err
 		}
 		plan = &p
 	}
+	a.Profiles, a.Plan = profiles, plan
 	var pm *rules.PortMap
 	if mapFile != "" {
 		m, err := rules.LoadPortMap(mapFile, profiles...)
@@ -201,7 +237,8 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		return nil, err
 	}
 	line.Reason(res, rs)
-	return &analysis{DS: ds, Result: res, ReadErr: readErr}, nil
+	a.DS, a.Result, a.ReadErr = ds, res, readErr
+	return a, nil
 }
 
 // gcPercent is the heap growth, in per cent of the live heap, that triggers a collection while
@@ -217,13 +254,6 @@ func boundHeap() {
 	if os.Getenv("GOGC") == "" {
 		debug.SetGCPercent(gcPercent)
 	}
-}
-
-func loadProfiles(file string) ([]rules.Profile, error) {
-	if file != "" {
-		return rules.LoadProfiles(file)
-	}
-	return rules.BuiltinProfiles()
 }
 
 // portMapLookup gives each mapped port its plan and profile. Plans are read once each. The
