@@ -198,6 +198,11 @@ func LoadPortMap(path string, profiles ...Profile) (PortMap, error) {
 	if err != nil {
 		return PortMap{}, err
 	}
+	return ParsePortMap(path, data, profiles...)
+}
+
+// ParsePortMap is LoadPortMap for a port map already read from path.
+func ParsePortMap(path string, data []byte, profiles ...Profile) (PortMap, error) {
 	m := PortMap{File: path}
 	_, ix, err := decodeStrict(path, data, &m)
 	if err != nil {

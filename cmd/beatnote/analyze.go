@@ -76,18 +76,19 @@ type analysis struct {
 	Configs []configFile
 }
 
-// configFile is a configuration file as it was read and parsed.
-type configFile struct{ Path, SHA256 string }
+// configFile is a configuration file as it was read and parsed, with its role ("link plan",
+// "profiles", "rules").
+type configFile struct{ Role, Path, SHA256 string }
 
 // readConfig reads a configuration file once (bounded, rules.ReadConfig) and keeps the digest
 // of the bytes it returns, which the caller parses.
-func (a *analysis) readConfig(path string) ([]byte, error) {
+func (a *analysis) readConfig(role, path string) ([]byte, error) {
 	data, err := rules.ReadConfig(path)
 	if err != nil {
 		return nil, err
 	}
 	sum := sha256.Sum256(data)
-	a.Configs = append(a.Configs, configFile{Path: path, SHA256: hex.EncodeToString(sum[:])})
+	a.Configs = append(a.Configs, configFile{Role: role, Path: path, SHA256: hex.EncodeToString(sum[:])})
 	return data, nil
 }
 
@@ -102,7 +103,7 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	profiles, err := rules.BuiltinProfiles()
 	if jf.Profiles != "" {
 		var data []byte
-		if data, err = a.readConfig(jf.Profiles); err == nil {
+		if data, err = a.readConfig("profiles", jf.Profiles); err == nil {
 			profiles, err = rules.ParseProfiles(jf.Profiles, data)
 		}
 	}
@@ -112,7 +113,7 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	rs, err := rules.DefaultRules()
 	if jf.Rules != "" {
 		var data []byte
-		if data, err = a.readConfig(jf.Rules); err == nil {
+		if data, err = a.readConfig("rules", jf.Rules); err == nil {
 			rs, err = rules.ParseRules(jf.Rules, data)
 		}
 	}
@@ -121,7 +122,7 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	}
 	var plan *rules.Plan
 	if jf.Plan != "" {
-		data, err := a.readConfig(jf.Plan)
+		data, err := a.readConfig("link plan", jf.Plan)
 		if err != nil {
 			return nil, err
 		}
@@ -134,7 +135,11 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	a.Profiles, a.Plan = profiles, plan
 	var pm *rules.PortMap
 	if mapFile != "" {
-		m, err := rules.LoadPortMap(mapFile, profiles...)
+		data, err := a.readConfig("port map", mapFile)
+		if err != nil {
+			return nil, err
+		}
+		m, err := rules.ParsePortMap(mapFile, data, profiles...)
 		if err != nil {
 			return nil, err
 		}
@@ -156,7 +161,7 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		// Nothing the commands print uses a correlation no cause asked for.
 		CorrelationsOnDemand: true}
 	if pm != nil {
-		lk, err := portMapLookup(pm, profiles, jf.Profile, cfg.Default)
+		lk, err := a.portMapLookup(pm, profiles, jf.Profile, cfg.Default)
 		if err != nil {
 			return nil, err
 		}
@@ -256,10 +261,11 @@ func boundHeap() {
 	}
 }
 
-// portMapLookup gives each mapped port its plan and profile. Plans are read once each. The
+// portMapLookup gives each mapped port its plan and profile. Plans are read once each (and
+// their digests kept, as every configuration file's). The
 // profile is the entry's, else --profile, else the plan's (the entry's plan, else --plan's),
 // else def's; ProfileSource says which.
-func portMapLookup(pm *rules.PortMap, profiles []rules.Profile, flagProfile string, def diagnose.Setup) (func(string) (diagnose.Setup, bool), error) {
+func (a *analysis) portMapLookup(pm *rules.PortMap, profiles []rules.Profile, flagProfile string, def diagnose.Setup) (func(string) (diagnose.Setup, bool), error) {
 	plans := map[string]*rules.Plan{}
 	for _, e := range pm.Entries {
 		if e.PlanPath == "" {
@@ -268,7 +274,11 @@ func portMapLookup(pm *rules.PortMap, profiles []rules.Profile, flagProfile stri
 		if _, ok := plans[e.PlanPath]; ok {
 			continue
 		}
-		p, err := rules.LoadPlan(e.PlanPath, profiles...)
+		data, err := a.readConfig("link plan", e.PlanPath)
+		if err != nil {
+			return nil, fmt.Errorf("port map %s line %d: %w", pm.File, e.Line, err)
+		}
+		p, err := rules.ParsePlan(e.PlanPath, data, profiles...)
 		if err != nil {
 			return nil, fmt.Errorf("port map %s line %d: %w", pm.File, e.Line, err)
 		}

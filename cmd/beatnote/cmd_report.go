@@ -3,6 +3,8 @@ package main
 import (
 	"bytes"
 	"crypto/ed25519"
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -72,12 +74,10 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 	var priv ed25519.PrivateKey
 	var signing *acceptance.Signing
 	if c.SignKey != "" {
+		// Refused when others may read it (sign.ErrKeyExposed): an error, not a note.
 		k, err := sign.LoadPrivateKey(c.SignKey)
 		if err != nil {
 			return &exitError{code: 2, err: err}
-		}
-		if st, err := os.Stat(c.SignKey); err == nil && st.Mode().Perm()&0o077 != 0 {
-			pr.Notef("note: %s is readable by others (mode %v); keep private keys to yourself (chmod 600)", c.SignKey, st.Mode().Perm())
 		}
 		fp, err := sign.KeyFingerprint(k.Public().(ed25519.PublicKey))
 		if err != nil {
@@ -89,6 +89,9 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 	in, err := c.load(pr)
 	if err != nil {
 		return err
+	}
+	if testHookAnalysed != nil {
+		testHookAnalysed()
 	}
 	in.Fields = acceptance.SignOff{
 		Technician: c.Technician, Organisation: c.Organisation, AcceptingParty: c.AcceptingParty,
@@ -112,19 +115,43 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}
-	for _, f := range in.files {
-		if sameFile(f, c.Out) {
-			return &exitError{code: 2, err: fmt.Errorf("--out %s is one of the inputs; choose another file name", c.Out)}
+	// Neither the report nor its signature may replace an input or the key.
+	sigPath := sign.SignaturePath(c.Out)
+	protected := make([]string, 0, len(in.signed)+1)
+	for _, f := range in.signed {
+		protected = append(protected, f.Path)
+	}
+	if c.SignKey != "" {
+		protected = append(protected, c.SignKey)
+	}
+	written := []string{c.Out}
+	if priv != nil {
+		written = append(written, sigPath)
+	}
+	for _, w := range written {
+		for _, p := range protected {
+			if sameFile(w, p) {
+				return &exitError{code: 2, err: fmt.Errorf("%s is %s, an input or the signing key: writing it would destroy it; choose another --out", w, p)}
+			}
+		}
+	}
+
+	// The signature covers the report's bytes as written and the inputs' bytes as analysed:
+	// nothing is read again, so a file changed meanwhile cannot slip into the signature.
+	var sigData []byte
+	if priv != nil {
+		sum := sha256.Sum256(buf.Bytes())
+		doc := sign.SignedFile{Path: c.Out, SHA256: hex.EncodeToString(sum[:])}
+		if _, sigData, err = sign.Sign(priv, c.Signer, when, doc, in.signed, sigPath); err != nil {
+			return &exitError{code: 2, err: fmt.Errorf("signing: %w", err)}
 		}
 	}
 	if err := writeFileAtomic(c.Out, buf.Bytes()); err != nil {
 		return &exitError{code: 2, err: err}
 	}
 	pr.Printf("%s: %s (report %s)\n", c.Out, acceptance.VerdictWords(acc.Verdict), acc.ReportID)
-
 	if priv != nil {
-		sigPath := sign.SignaturePath(c.Out)
-		if _, err := sign.Sign(priv, c.Signer, when, c.Out, in.files, sigPath); err != nil {
+		if err := writeFileAtomic(sigPath, sigData); err != nil {
 			return &exitError{code: 2, err: fmt.Errorf("signing: %w", err)}
 		}
 		pr.Printf("%s: signed with key %s\n", sigPath, signing.KeyFingerprint)
@@ -168,11 +195,16 @@ func (c *ReportCmd) validate() error {
 // a protection pair); a fleet belongs in triage.
 const maxReportPorts = 16
 
-// reportInput is what the report is made from, plus the input files the signature covers.
+// reportInput is what the report is made from, plus the input files the signature covers,
+// each with the SHA-256 of the bytes that were analysed.
 type reportInput struct {
 	acceptance.Input
-	files []string
+	signed []sign.SignedFile
 }
+
+// testHookAnalysed, when set by a test, runs after the inputs were read and judged and before
+// the report is written and signed: where a file changed meanwhile would matter.
+var testHookAnalysed func()
 
 // load reads and judges the telemetry with the shared analysis (as check does) and gathers
 // what the report shows. Only the plan's ports are reported when the plan lists them.
@@ -198,18 +230,10 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 			break
 		}
 	}
-	if in.Plan == nil && c.Plan != "" {
-		p, err := rules.LoadPlan(c.Plan)
-		if err != nil {
-			return nil, &exitError{code: 2, err: err}
-		}
-		in.Plan = &p
+	if in.Plan == nil {
+		in.Plan = a.Plan
 	}
 	if in.Profile == nil {
-		profiles, err := loadProfiles(c.Profiles)
-		if err != nil {
-			return nil, &exitError{code: 2, err: err}
-		}
 		id := c.judgeFlags.Profile
 		if id == "" && in.Plan != nil {
 			id = in.Plan.Profile
@@ -217,7 +241,7 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 		if id == "" {
 			id = defaultProfileID
 		}
-		prof, err := rules.ProfileByID(profiles, id)
+		prof, err := rules.ProfileByID(a.Profiles, id)
 		if err != nil {
 			return nil, &exitError{code: 2, err: err}
 		}
@@ -251,18 +275,11 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 		return nil, &exitError{code: 2, err: fmt.Errorf("the inputs hold %d ports; an acceptance report covers one circuit (at most %d ports): list its ports in the plan (ports:) or use triage for a fleet", len(res.Ports), maxReportPorts)}
 	}
 	for _, st := range a.DS.Inputs {
-		in.files = append(in.files, st.File)
+		in.signed = append(in.signed, sign.SignedFile{Path: st.File, SHA256: st.SHA256})
 	}
-	for _, f := range []struct{ role, path string }{{"link plan", c.Plan}, {"port map", c.Map}, {"profiles", c.Profiles}, {"rules", c.Rules}} {
-		if f.path == "" {
-			continue
-		}
-		in.files = append(in.files, f.path)
-		sum, err := sign.FileSHA256(f.path)
-		if err != nil {
-			return nil, &exitError{code: 2, err: err}
-		}
-		in.Settings = append(in.Settings, acceptance.SettingsFile{Role: f.role, File: asTyped(f.path), SHA256: sum})
+	for _, cf := range a.Configs {
+		in.signed = append(in.signed, sign.SignedFile{Path: cf.Path, SHA256: cf.SHA256})
+		in.Settings = append(in.Settings, acceptance.SettingsFile{Role: cf.Role, File: asTyped(cf.Path), SHA256: cf.SHA256})
 	}
 	return in, nil
 }
@@ -304,8 +321,14 @@ func asTyped(path string) string {
 	return path
 }
 
-// sameFile reports whether two paths name the same existing file.
+// sameFile reports whether two paths name the same file: the same path once made absolute
+// and clean, or the same existing file (os.SameFile: through a link or another spelling).
 func sameFile(a, b string) bool {
+	if aa, err := filepath.Abs(a); err == nil {
+		if ab, err := filepath.Abs(b); err == nil && aa == ab {
+			return true
+		}
+	}
 	sa, err := os.Stat(a)
 	if err != nil {
 		return false

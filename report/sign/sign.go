@@ -6,7 +6,12 @@
 // of that SubjectPublicKeyInfo DER.
 //
 // A signature is a detached JSON file (SignatureFile) beside the report. Its Ed25519 signature
-// covers the canonical encoding of every other field (see SignatureFile.Canonical).
+// covers the canonical encoding of every other field (see SignatureFile.Canonical). What is
+// signed are the SHA-256 digests the caller gives: those of the bytes it analysed and of the
+// report it wrote, never files read again at signing time, which could have changed meanwhile.
+//
+// Every file this package reads must be a regular file (no folder, device or FIFO), and every
+// read is bounded: small files by a size limit, hashed files by the size they had when opened.
 package sign
 
 import (
@@ -26,6 +31,7 @@ import (
 	"os"
 	"path"
 	"path/filepath"
+	"runtime"
 	"strconv"
 	"strings"
 	"time"
@@ -164,11 +170,21 @@ func writePEM(path string, flags int, mode os.FileMode, kind string, der []byte)
 	return f.Close()
 }
 
-// LoadPrivateKey reads an Ed25519 private key written by WriteKeyPair (PEM PKCS #8).
+// ErrKeyExposed is wrapped by LoadPrivateKey's error for a private key file that its group or
+// others may read or write.
+var ErrKeyExposed = errors.New("private key readable or writable by others")
+
+// LoadPrivateKey reads an Ed25519 private key written by WriteKeyPair (PEM PKCS #8). A key file
+// with any permission for its group or others is refused (ErrKeyExposed): a signature proves
+// nothing when others could have read the key. (Windows keeps no such bits; there the check is
+// left to the file's access list.)
 func LoadPrivateKey(path string) (ed25519.PrivateKey, error) {
-	der, err := readPEM(path, "PRIVATE KEY", " (create one with beatnote keygen)")
+	der, fi, err := readPEM(path, "PRIVATE KEY", " (create one with beatnote keygen)")
 	if err != nil {
 		return nil, err
+	}
+	if perm := fi.Mode().Perm(); perm&0o077 != 0 && runtime.GOOS != "windows" {
+		return nil, fmt.Errorf("%s: %w (mode %04o): make it yours alone with chmod 600, and make a new key if others may have copied it", path, ErrKeyExposed, perm)
 	}
 	k, err := x509.ParsePKCS8PrivateKey(der)
 	if err != nil {
@@ -183,7 +199,7 @@ func LoadPrivateKey(path string) (ed25519.PrivateKey, error) {
 
 // LoadPublicKey reads an Ed25519 public key written by WriteKeyPair (PEM PKIX).
 func LoadPublicKey(path string) (ed25519.PublicKey, error) {
-	der, err := readPEM(path, "PUBLIC KEY", "")
+	der, _, err := readPEM(path, "PUBLIC KEY", "")
 	if err != nil {
 		return nil, err
 	}
@@ -198,56 +214,47 @@ func LoadPublicKey(path string) (ed25519.PublicKey, error) {
 	return pub, nil
 }
 
-// readPEM returns the bytes of the first PEM block of the file at path, which must be of type
-// kind; hint ends the error when it is not.
-func readPEM(path, kind, hint string) ([]byte, error) {
-	data, err := os.ReadFile(path)
+// maxKeyFileBytes bounds a key file: an Ed25519 key in PEM is about 120 bytes.
+const maxKeyFileBytes = 64 << 10
+
+// readPEM returns the bytes of the first PEM block of the regular file at path, which must be of
+// type kind (hint ends the error when it is not), and the file's information.
+func readPEM(path, kind, hint string) ([]byte, fs.FileInfo, error) {
+	data, fi, err := readSmall(path, maxKeyFileBytes)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	block, _ := pem.Decode(data)
 	if block == nil || block.Type != kind {
-		return nil, fmt.Errorf("%s: not a PEM %q file%s", path, kind, hint)
+		return nil, nil, fmt.Errorf("%s: not a PEM %q file%s", path, kind, hint)
 	}
-	return block.Bytes, nil
-}
-
-// FileSHA256 is the lowercase hex SHA-256 of a file's bytes.
-func FileSHA256(path string) (string, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return "", err
-	}
-	defer f.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
-		return "", fmt.Errorf("%s: %w", path, err)
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
+	return block.Bytes, fi, nil
 }
 
 // SignaturePath is where the detached signature of document goes: document + ".sig".
 func SignaturePath(document string) string { return document + ".sig" }
 
-// Sign hashes document and inputs, signs them with priv and writes the signature file to
-// sigPath (normally SignaturePath(document)). Paths inside the file are stored relative to the
+// Sign signs the document and the inputs, by the SHA-256 digests given with them, with priv and
+// returns the signature file and its bytes, to be written to sigPath (normally
+// SignaturePath(document.Path)). The digests must be those of the bytes that were analysed and
+// written: Sign reads no file. Paths inside the signature file are stored relative to the
 // directory of sigPath where possible.
-func Sign(priv ed25519.PrivateKey, signer string, signedAt time.Time, document string, inputs []string, sigPath string) (*SignatureFile, error) {
+func Sign(priv ed25519.PrivateKey, signer string, signedAt time.Time, document SignedFile, inputs []SignedFile, sigPath string) (*SignatureFile, []byte, error) {
 	pub, ok := priv.Public().(ed25519.PublicKey)
 	if !ok {
-		return nil, errors.New("sign: not an Ed25519 key")
+		return nil, nil, errors.New("sign: not an Ed25519 key")
 	}
 	fp, err := KeyFingerprint(pub)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	der, err := x509.MarshalPKIXPublicKey(pub)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	sigDir, err := filepath.Abs(filepath.Dir(sigPath))
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	sf := &SignatureFile{
 		Format:         SignatureFormat,
@@ -256,33 +263,28 @@ func Sign(priv ed25519.PrivateKey, signer string, signedAt time.Time, document s
 		PublicKey:      base64.StdEncoding.EncodeToString(der),
 		SignedAt:       signedAt.UTC().Format(time.RFC3339),
 	}
-	entry := func(path string) (SignedFile, error) {
-		sum, err := FileSHA256(path)
-		if err != nil {
-			return SignedFile{}, err
+	entry := func(f SignedFile) (SignedFile, error) {
+		if _, err := hex.DecodeString(f.SHA256); err != nil || len(f.SHA256) != 2*sha256.Size {
+			return SignedFile{}, fmt.Errorf("sign: %s: %q is not a SHA-256 digest in hex", f.Path, f.SHA256)
 		}
-		return SignedFile{Path: relativePath(sigDir, path), SHA256: sum}, nil
+		return SignedFile{Path: relativePath(sigDir, f.Path), SHA256: strings.ToLower(f.SHA256)}, nil
 	}
 	if sf.Document, err = entry(document); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	for _, in := range inputs {
 		e, err := entry(in)
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		sf.Inputs = append(sf.Inputs, e)
 	}
 	sf.Signature = base64.StdEncoding.EncodeToString(ed25519.Sign(priv, sf.Canonical()))
 	data, err := json.MarshalIndent(sf, "", "  ")
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
-	data = append(data, '\n')
-	if err := os.WriteFile(sigPath, data, 0o644); err != nil {
-		return nil, err
-	}
-	return sf, nil
+	return sf, append(data, '\n'), nil
 }
 
 // relativePath expresses path relative to dir (slash-separated) when it can, else absolute.
@@ -303,10 +305,11 @@ type CheckStatus string
 
 // The outcomes of a verification step.
 const (
-	CheckOK      CheckStatus = "ok"
-	CheckChanged CheckStatus = "changed" // hash differs: tampered or replaced
-	CheckMissing CheckStatus = "missing" // input no longer present: a warning only
-	CheckFailed  CheckStatus = "failed"  // signature or key check failed
+	CheckOK         CheckStatus = "ok"
+	CheckChanged    CheckStatus = "changed"    // hash differs: tampered or replaced
+	CheckMissing    CheckStatus = "missing"    // input no longer present: a warning only
+	CheckUnreadable CheckStatus = "unreadable" // present but not a regular file, or not readable: a failure
+	CheckFailed     CheckStatus = "failed"     // signature or key check failed
 )
 
 // FileCheck is the verification of one signed file.
@@ -316,6 +319,7 @@ type FileCheck struct {
 	Expected string      `json:"expected_sha256"`
 	Actual   string      `json:"actual_sha256,omitempty"`
 	Status   CheckStatus `json:"status"`
+	Problem  string      `json:"problem,omitempty"` // why an unreadable file could not be hashed
 }
 
 // Verification is the full outcome of Verify.
@@ -326,14 +330,26 @@ type Verification struct {
 	Signature      CheckStatus `json:"signature"`
 	Document       FileCheck   `json:"document"`
 	Inputs         []FileCheck `json:"inputs"`
-	// Failures say, one sentence each, what does not match. Empty means verified.
+	// KeyPinned is true when the signing key is one the person verifying trusts (a --pub key
+	// or an entry of a trusted-keys file); PinnedBy then says which. Without it the signature
+	// proves the files unchanged since someone signed them, not who: the Signer is only what
+	// the signature file claims.
+	KeyPinned bool   `json:"key_pinned"`
+	PinnedBy  string `json:"pinned_by,omitempty"`
+	// TrustedName is the holder's name from the trusted-keys file, when it gives one.
+	TrustedName string `json:"trusted_name,omitempty"`
+	// Failures say, one sentence each, what does not match. Empty means the files are intact.
 	Failures []string `json:"failures"`
 	// Warnings say what could not be checked (a signed input no longer present).
 	Warnings []string `json:"warnings"`
 }
 
-// OK reports whether nothing failed (warnings allowed).
+// OK reports whether nothing failed (warnings allowed): the report and its inputs are as they
+// were signed, by whoever holds the key.
 func (v *Verification) OK() bool { return len(v.Failures) == 0 }
+
+// Verified reports whether nothing failed and the key is a trusted one.
+func (v *Verification) Verified() bool { return v.OK() && v.KeyPinned }
 
 // VerifyError means verification could not be carried out (unreadable files, unknown format):
 // distinct from a verification that ran and found a mismatch.
@@ -345,18 +361,22 @@ type VerifyError struct {
 func (e *VerifyError) Error() string { return e.Path + ": " + e.Err.Error() }
 func (e *VerifyError) Unwrap() error { return e.Err }
 
+// maxSignatureFileBytes bounds a signature file: its size grows with the number of inputs, at
+// about 150 bytes each.
+const maxSignatureFileBytes = 16 << 20
+
 // Verify checks document against the signature file at sigPath: the Ed25519 signature over the
 // canonical encoding, the document's SHA-256, and the SHA-256 of every signed input still
-// present (relative input paths are resolved against the signature file's directory). When pin
-// is not nil the signature must have been made with that public key. It returns a
+// present (relative input paths are resolved against the signature file's directory). When
+// trusted is not empty the signature must have been made with one of those keys (a failure
+// otherwise), and the Verification is KeyPinned; when it is empty, nothing says who signed.
+// Only regular files are read: a signed input that became a folder, a device or a FIFO, or
+// that cannot be read, is a failure (one no longer present only a warning). It returns a
 // *VerifyError when it cannot complete; a damaged signature file is a failure, not an error.
-func Verify(document, sigPath string, pin ed25519.PublicKey) (*Verification, error) {
-	raw, err := os.ReadFile(sigPath)
+func Verify(document, sigPath string, trusted []TrustedKey) (*Verification, error) {
+	raw, _, err := readSmall(sigPath, maxSignatureFileBytes)
 	if err != nil {
 		return nil, &VerifyError{Path: sigPath, Err: err}
-	}
-	if _, err := os.Stat(document); err != nil {
-		return nil, &VerifyError{Path: document, Err: err}
 	}
 	v := &Verification{Signature: CheckFailed}
 	var sf SignatureFile
@@ -394,9 +414,12 @@ func Verify(document, sigPath string, pin ed25519.PublicKey) (*Verification, err
 		if fp != sf.KeyFingerprint {
 			v.Failures = append(v.Failures, fmt.Sprintf("the key fingerprint %s does not belong to the public key in the signature file (%s)", sf.KeyFingerprint, fp))
 		}
-		if pin != nil && !pub.Equal(pin) {
-			pinFP, _ := KeyFingerprint(pin)
-			v.Failures = append(v.Failures, fmt.Sprintf("signed with key %s, not with the expected key %s", fp, pinFP))
+		if k, ok := trustedFor(pub, trusted); ok {
+			v.KeyPinned, v.PinnedBy, v.TrustedName = true, k.From, k.Name
+		} else if len(trusted) == 1 {
+			v.Failures = append(v.Failures, fmt.Sprintf("signed with key %s, not with the expected key %s (%s)", fp, trusted[0].Fingerprint, trusted[0].From))
+		} else if len(trusted) > 1 {
+			v.Failures = append(v.Failures, fmt.Sprintf("signed with key %s, which is none of the %d trusted keys", fp, len(trusted)))
 		}
 		if ed25519.Verify(pub, sf.Canonical(), sig) {
 			v.Signature = CheckOK
@@ -412,14 +435,14 @@ func Verify(document, sigPath string, pin ed25519.PublicKey) (*Verification, err
 	}
 	v.Document = checkFile(sf.Document, document)
 	switch v.Document.Status {
+	case CheckMissing, CheckUnreadable:
+		return nil, &VerifyError{Path: document, Err: errors.New("cannot be read: " + v.Document.Problem)}
 	case CheckChanged:
 		msg := fmt.Sprintf("report %s has changed since signing (SHA-256 %s, signed %s)", document, v.Document.Actual, v.Document.Expected)
 		if path.Base(sf.Document.Path) != filepath.Base(document) {
 			msg += fmt.Sprintf("; note the signature was made for %s", sf.Document.Path)
 		}
 		v.Failures = append(v.Failures, msg)
-	case CheckMissing:
-		return nil, &VerifyError{Path: document, Err: errors.New("cannot be read")}
 	}
 	for _, in := range sf.Inputs {
 		p := filepath.FromSlash(in.Path)
@@ -431,6 +454,8 @@ func Verify(document, sigPath string, pin ed25519.PublicKey) (*Verification, err
 		switch fc.Status {
 		case CheckChanged:
 			v.Failures = append(v.Failures, fmt.Sprintf("input %s has changed since signing (SHA-256 %s, signed %s)", p, fc.Actual, fc.Expected))
+		case CheckUnreadable:
+			v.Failures = append(v.Failures, fmt.Sprintf("input %s cannot be checked: %s", p, fc.Problem))
 		case CheckMissing:
 			v.Warnings = append(v.Warnings, fmt.Sprintf("input %s is no longer present; its hash could not be checked", p))
 		}
@@ -438,12 +463,16 @@ func Verify(document, sigPath string, pin ed25519.PublicKey) (*Verification, err
 	return v, nil
 }
 
+// checkFile hashes the file at path (a regular file only, read no further than its size) and
+// compares the digest with the signed one.
 func checkFile(sf SignedFile, path string) FileCheck {
 	fc := FileCheck{Path: sf.Path, Resolved: path, Expected: sf.SHA256}
 	sum, err := FileSHA256(path)
 	switch {
+	case errors.Is(err, fs.ErrNotExist):
+		fc.Status, fc.Problem = CheckMissing, "no such file"
 	case err != nil:
-		fc.Status = CheckMissing
+		fc.Status, fc.Problem = CheckUnreadable, strings.TrimPrefix(err.Error(), path+": ")
 	case sum != strings.ToLower(sf.SHA256):
 		fc.Actual, fc.Status = sum, CheckChanged
 	default:

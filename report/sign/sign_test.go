@@ -11,6 +11,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"testing"
 	"time"
@@ -36,10 +37,37 @@ func signedFixture(t *testing.T) (dir, doc, sig string, inputs []string) {
 		t.Fatal(err)
 	}
 	sig = SignaturePath(doc)
-	if _, err := Sign(priv, "Signer Ω Ünïcode", time.Date(2026, 3, 2, 10, 0, 0, 0, time.UTC), doc, inputs, sig); err != nil {
+	var signed []SignedFile
+	for _, in := range inputs {
+		signed = append(signed, SignedFile{Path: in, SHA256: sha256Hex(t, in)})
+	}
+	_, data, err := Sign(priv, "Signer Ω Ünïcode", time.Date(2026, 3, 2, 10, 0, 0, 0, time.UTC), SignedFile{Path: doc, SHA256: sha256Hex(t, doc)}, signed, sig)
+	if err != nil {
 		t.Fatal(err)
 	}
+	mustWrite(t, sig, string(data))
 	return dir, doc, sig, inputs
+}
+
+// sha256Hex hashes a file with crypto/sha256 directly, independently of FileSHA256.
+func sha256Hex(t *testing.T, path string) string {
+	t.Helper()
+	data, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum := sha256.Sum256(data)
+	return hex.EncodeToString(sum[:])
+}
+
+// trust pins the public key file at path.
+func trust(t *testing.T, path string) []TrustedKey {
+	t.Helper()
+	k, err := TrustPublicKey(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return []TrustedKey{k}
 }
 
 func mustWrite(t *testing.T, path, s string) {
@@ -140,15 +168,11 @@ func TestKeygenFilesAndFingerprint(t *testing.T) {
 
 func TestSignVerifyRoundTrip(t *testing.T) {
 	dir, doc, sig, _ := signedFixture(t)
-	pin, err := LoadPublicKey(filepath.Join(dir, "tech.pub"))
+	v, err := Verify(doc, sig, trust(t, filepath.Join(dir, "tech.pub")))
 	if err != nil {
 		t.Fatal(err)
 	}
-	v, err := Verify(doc, sig, pin)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !v.OK() || v.Signature != CheckOK || len(v.Warnings) != 0 {
+	if !v.Verified() || !v.KeyPinned || v.PinnedBy != filepath.Join(dir, "tech.pub") || v.Signature != CheckOK || len(v.Warnings) != 0 {
 		t.Fatalf("verification failed: %+v", v)
 	}
 	if v.Signer != "Signer Ω Ünïcode" {
@@ -238,11 +262,7 @@ func TestVerifyPinnedKey(t *testing.T) {
 	if _, err := WriteKeyPair(filepath.Join(dir, "other"), false, nil); err != nil {
 		t.Fatal(err)
 	}
-	other, err := LoadPublicKey(filepath.Join(dir, "other.pub"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	v, err := Verify(doc, sig, other)
+	v, err := Verify(doc, sig, trust(t, filepath.Join(dir, "other.pub")))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -290,5 +310,108 @@ func TestCanonicalEncoding(t *testing.T) {
 		"inputs.count:1:1\ninput.0.path:5:x.csv\ninput.0.sha256:1:e\n"
 	if got := string(s.Canonical()); got != want {
 		t.Errorf("canonical\n%q\nwant\n%q", got, want)
+	}
+}
+
+// Without a trusted key the files can be intact, but nothing says who signed: not Verified.
+func TestUnpinnedKeyIsNotVerified(t *testing.T) {
+	_, doc, sig, _ := signedFixture(t)
+	v, err := Verify(doc, sig, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !v.OK() || v.KeyPinned || v.Verified() || v.PinnedBy != "" {
+		t.Errorf("unpinned: OK %v, KeyPinned %v, Verified %v, PinnedBy %q; want true, false, false, \"\"", v.OK(), v.KeyPinned, v.Verified(), v.PinnedBy)
+	}
+}
+
+func TestTrustedKeysFile(t *testing.T) {
+	dir, doc, sig, _ := signedFixture(t)
+	tech, err := TrustPublicKey(filepath.Join(dir, "tech.pub"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	otherFP, err := WriteKeyPair(filepath.Join(dir, "other"), false, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	file := filepath.Join(dir, "trusted.txt")
+	mustWrite(t, file, "# contractors\n\n"+otherFP+"  O. Ther\n"+tech.Fingerprint+"\tA. Technician, Field crew\n")
+	keys, err := LoadTrustedKeys(file)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(keys) != 2 || keys[1].Name != "A. Technician, Field crew" || keys[1].From != file+":4" {
+		t.Fatalf("keys %+v", keys)
+	}
+	v, err := Verify(doc, sig, keys)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !v.Verified() || v.TrustedName != "A. Technician, Field crew" || v.PinnedBy != file+":4" {
+		t.Errorf("trusted key not found: %+v", v)
+	}
+	// A file that trusts only another key: the signature fails.
+	mustWrite(t, file, otherFP+" O. Ther\n")
+	keys, _ = LoadTrustedKeys(file)
+	if v, err := Verify(doc, sig, keys); err != nil || v.OK() || v.KeyPinned {
+		t.Errorf("key not in the trusted file accepted: %v %+v", err, v)
+	}
+	for _, bad := range []string{"SHA256:abc A\n", "not a key\n", "# only comments\n", otherFP[:70] + "zz A\n"} {
+		mustWrite(t, file, bad)
+		if _, err := LoadTrustedKeys(file); err == nil {
+			t.Errorf("trusted-keys file %q accepted", bad)
+		} else if !strings.Contains(err.Error(), file) {
+			t.Errorf("error %v does not name the file", err)
+		}
+	}
+}
+
+// A private key that its group or others may read or write is refused, an error rather than
+// a note (RFC 8410 keys are secrets: a key others could copy proves nothing).
+func TestPrivateKeyPermissions(t *testing.T) {
+	if runtime.GOOS == "windows" {
+		t.Skip("Windows keeps no Unix permission bits")
+	}
+	dir := t.TempDir()
+	prefix := filepath.Join(dir, "k")
+	if _, err := WriteKeyPair(prefix, false, nil); err != nil {
+		t.Fatal(err)
+	}
+	for _, mode := range []os.FileMode{0o644, 0o640, 0o604, 0o620, 0o660} {
+		os.Chmod(prefix+".key", mode)
+		if _, err := LoadPrivateKey(prefix + ".key"); !errors.Is(err, ErrKeyExposed) {
+			t.Errorf("key of mode %04o: err %v, want ErrKeyExposed", mode, err)
+		}
+	}
+	for _, mode := range []os.FileMode{0o600, 0o400} {
+		os.Chmod(prefix+".key", mode)
+		if _, err := LoadPrivateKey(prefix + ".key"); err != nil {
+			t.Errorf("key of mode %04o: %v", mode, err)
+		}
+	}
+}
+
+// Sign signs the digests it is given and reads no file: the hashes of what was analysed.
+func TestSignUsesGivenDigests(t *testing.T) {
+	dir := t.TempDir()
+	if _, err := WriteKeyPair(filepath.Join(dir, "k"), false, nil); err != nil {
+		t.Fatal(err)
+	}
+	priv, err := LoadPrivateKey(filepath.Join(dir, "k.key"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	analysed := strings.Repeat("ab", 32)
+	sf, _, err := Sign(priv, "S", time.Unix(0, 0), SignedFile{Path: filepath.Join(dir, "r.pdf"), SHA256: strings.Repeat("CD", 32)},
+		[]SignedFile{{Path: filepath.Join(dir, "never-written.csv"), SHA256: analysed}}, filepath.Join(dir, "r.pdf.sig"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if sf.Inputs[0].SHA256 != analysed || sf.Inputs[0].Path != "never-written.csv" || sf.Document.SHA256 != strings.Repeat("cd", 32) {
+		t.Errorf("signed %+v", sf)
+	}
+	if _, _, err := Sign(priv, "S", time.Unix(0, 0), SignedFile{Path: "r.pdf", SHA256: "xyz"}, nil, "r.pdf.sig"); err == nil {
+		t.Error("a digest that is not hex SHA-256 was signed")
 	}
 }
