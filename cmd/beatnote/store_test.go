@@ -21,8 +21,8 @@ import (
 	"time"
 
 	"github.com/beatnote/beatnote/parse"
-	"github.com/beatnote/beatnote/report/escape"
 	"github.com/beatnote/beatnote/parse/promapi"
+	"github.com/beatnote/beatnote/report/escape"
 )
 
 // These tests run beatnote against a real Prometheus server (the Debian package; .ci/run
