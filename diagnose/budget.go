@@ -38,59 +38,65 @@ type Budget struct {
 	ASEFrom string `json:"ase_from,omitempty"`
 }
 
-// budget builds the port's Budget; nil without an eSNR.
+// budget builds the port's Budget from its forward model; nil without an eSNR.
 func (pc *portCtx) budget() *Budget {
 	f := pc.forwardModel()
-	if !finite(f.measuredDB) {
+	pdl, dgd := math.NaN(), math.NaN()
+	if pc.has(parse.PDLdB) {
+		pdl = f.pdlDB
+	}
+	if pc.has(parse.DGDps) {
+		dgd = f.dgdDB
+	}
+	b := snrBudget(f.measuredDB, f.aseSNRdB, f.nliSNRdB, f.trxSNRdB, pdl, dgd)
+	if b != nil {
+		b.ASEFrom = f.aseFrom
+	}
+	return b
+}
+
+// snrBudget decomposes a measured eSNR (dB) over the noise terms given as the SNR (dB) each
+// alone allows (NaN or +Inf: not known / absent) and the penalties (dB; NaN: not known), as the
+// Budget type says. Nil when the eSNR is unknown or no term is known.
+func snrBudget(measuredDB, aseDB, nliDB, trxDB, pdlDB, dgdDB float64) *Budget {
+	if !finite(measuredDB) {
 		return nil
 	}
-	b := &Budget{MeasuredESNRdB: round2(f.measuredDB), ASEFrom: f.aseFrom}
-	var noise []float64
-	type term struct {
+	b := &Budget{MeasuredESNRdB: round2(measuredDB)}
+	terms := []struct {
 		snr          float64
 		cost, snrOut **float64
-	}
-	terms := []term{{f.aseSNRdB, &b.ASEdB, &b.ASESNRdB}, {f.nliSNRdB, &b.NLIdB, &b.NLISNRdB}, {f.trxSNRdB, &b.TransceiverDB, &b.TransceiverSNRdB}}
-	total := 0.0
+	}{{aseDB, &b.ASEdB, &b.ASESNRdB}, {nliDB, &b.NLIdB, &b.NLISNRdB}, {trxDB, &b.TransceiverDB, &b.TransceiverSNRdB}}
+	total := 0.0 // N: Σ noise-to-signal ratios, linear
 	for _, t := range terms {
 		if finite(t.snr) {
-			n := 1 / optics.DBToLinear(t.snr)
-			noise = append(noise, n)
-			total += n
-		} else {
-			noise = append(noise, math.NaN())
+			total += 1 / optics.DBToLinear(t.snr)
 		}
 	}
-	for i, t := range terms {
+	if !(total > 0) {
+		return nil
+	}
+	for _, t := range terms {
 		if !finite(t.snr) {
 			continue
 		}
 		*t.snrOut = ptr(round2(t.snr))
-		if rest := total - noise[i]; rest > 0 {
+		if rest := total - 1/optics.DBToLinear(t.snr); rest > 0 {
 			*t.cost = ptr(round2(optics.LinearToDB(total / rest)))
-		} else {
-			*t.cost = ptr(math.Inf(1)) // the only term: ptr makes it null
 		}
 	}
-	pen := 0.0
-	if pc.has(parse.PDLdB) {
-		b.PDLdB = ptr(round2(f.pdlDB))
-		pen += f.pdlDB
-	}
-	if pc.has(parse.DGDps) {
-		b.DGDdB = ptr(round2(f.dgdDB))
-		pen += f.dgdDB
-	}
-	model := math.Inf(1)
-	if total > 0 {
-		model = -optics.LinearToDB(total)
-	}
-	model -= pen
-	if !finite(model) {
-		return nil
+	model := -optics.LinearToDB(total)
+	for _, p := range []struct {
+		v   float64
+		out **float64
+	}{{pdlDB, &b.PDLdB}, {dgdDB, &b.DGDdB}} {
+		if finite(p.v) {
+			*p.out = ptr(round2(p.v))
+			model -= p.v
+		}
 	}
 	b.ModelESNRdB = round2(model)
-	b.UnexplainedDB = round2(model - f.measuredDB)
+	b.UnexplainedDB = round2(model - measuredDB)
 	return b
 }
 

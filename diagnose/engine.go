@@ -143,6 +143,7 @@ func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 	pc.planVsMeasured()
 	pc.causes()
 	pc.res.Budget = pc.budget()
+	pc.res.Risks = pc.risks()
 	pc.verdict()
 	addCautions(pc.res)
 	return *pc.res

@@ -200,3 +200,26 @@ func TestPlanFlagsAnotherChannel(t *testing.T) {
 		}
 	}
 }
+
+// Compliance, explanation and risk are kept apart: received power 1 dB above the sensitivity
+// limit with the Q margin fine is a marginal criterion (compliance) and a risk note that says
+// how much more loss the port can take; the signal itself is not yet short.
+func TestNearSensitivityWithQFineIsARisk(t *testing.T) {
+	p, r := testSetup(t, "400g-dp-16qam-cfec")
+	for seed := uint64(1); seed <= 3; seed++ {
+		res := AnalyzePort(styleLog(t, seed, func(i int, rng *rand.Rand, v *styleSample) { v.rx = p.RxPowerMinDBm + 1 }), p, nil, nil, r)
+		if qm := *res.Metrics["q_db"].Margin; qm < r.QMarginalMarginDB {
+			t.Fatalf("seed %d: Q margin %.2f dB: the fixture should keep the Q fine", seed, qm)
+		}
+		if res.Verdict != Marginal {
+			t.Errorf("seed %d: verdict %s, want marginal (power inside the band of the sensitivity limit)", seed, res.Verdict)
+		}
+		if len(res.Risks) == 0 || !strings.Contains(res.Risks[0], "sensitivity limit") {
+			t.Errorf("seed %d: risks %q, want the near-sensitivity note", seed, res.Risks)
+		}
+	}
+	// A healthy port carries no risk note.
+	if res := AnalyzePort(styleLog(t, 1, nil), p, nil, nil, r); len(res.Risks) != 0 {
+		t.Errorf("healthy port: risks %q", res.Risks)
+	}
+}

@@ -637,6 +637,21 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 		pw.causeList("Recommended actions", "→", c.Actions, c.Cautions)
 		pdf.Ln(1.5)
 	}
+	if port.NextTest != "" {
+		pw.para("Next test: "+port.NextTest, "", pdfBodySize)
+	}
+	if len(port.Risks) > 0 {
+		pw.heading("Risks (inside the limits, close to them)", 11)
+		for _, r := range port.Risks {
+			pw.bullet(0, "•", r)
+		}
+	}
+	if lines := report.BudgetLines(port.Budget); len(lines) > 0 {
+		pw.heading("SNR budget", 11)
+		for _, l := range lines {
+			pw.bullet(0, "•", l)
+		}
+	}
 	if len(port.NotJudged) > 0 {
 		pw.heading("Not judged", 11)
 		for _, n := range port.NotJudged {
