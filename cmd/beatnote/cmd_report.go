@@ -28,6 +28,8 @@ type ReportCmd struct {
 	Format string `help:"Report format: pdf, markdown or json." enum:"pdf,markdown,json" default:"pdf"`
 	Paper  string `help:"Paper size of the PDF: a4 or letter." enum:"a4,letter" default:"a4"`
 	Map    string `help:"Port map (YAML): plans, profiles, lines and each port's far-end peer; a port and its peer are reported as the two directions of the circuit (see docs/rules.md)." type:"existingfile" placeholder:"PORTMAP.yaml"`
+	// ByCircuit splits a folder of circuits into one report each.
+	ByCircuit bool `name:"by-circuit" help:"Write one report per circuit, each judged on its own plan and profile (from --map), into the folder --out names: FOLDER/CIRCUIT.pdf (.md, .json)."`
 
 	Technician     string `help:"Technician who carried out the acceptance." placeholder:"NAME"`
 	Organisation   string `help:"Organisation handing the link over." placeholder:"NAME"`
@@ -93,6 +95,29 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 	if testHookAnalysed != nil {
 		testHookAnalysed()
 	}
+	parts, outs := []*reportInput{in}, []string{c.Out}
+	if c.ByCircuit {
+		if parts, outs, err = c.splitByCircuit(in); err != nil {
+			return err
+		}
+	}
+	passing := true
+	for i, part := range parts {
+		v, err := c.write(part, outs[i], when, priv, signing, pr)
+		if err != nil {
+			return err
+		}
+		passing = passing && v == diagnose.Pass
+	}
+	if !passing {
+		return errNotPassing
+	}
+	return nil
+}
+
+// write makes one report from in, writes it to out and signs it with priv when given; it
+// returns the report's verdict.
+func (c *ReportCmd) write(in *reportInput, out string, when time.Time, priv ed25519.PrivateKey, signing *acceptance.Signing, pr *printer) (diagnose.Verdict, error) {
 	in.Fields = acceptance.SignOff{
 		Technician: c.Technician, Organisation: c.Organisation, AcceptingParty: c.AcceptingParty,
 		EndA: c.EndA, EndZ: c.EndZ, Notes: c.Notes,
@@ -100,7 +125,7 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 	in.Time, in.Signing = when, signing
 	acc, err := acceptance.New(in.Input)
 	if err != nil {
-		return &exitError{code: 2, err: err}
+		return "", &exitError{code: 2, err: err}
 	}
 
 	var buf bytes.Buffer
@@ -113,10 +138,10 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 		err = acc.WritePDF(&buf, acceptance.PDFOptions{Paper: acceptance.Paper(c.Paper)})
 	}
 	if err != nil {
-		return &exitError{code: 2, err: err}
+		return "", &exitError{code: 2, err: err}
 	}
 	// Neither the report nor its signature may replace an input or the key.
-	sigPath := sign.SignaturePath(c.Out)
+	sigPath := sign.SignaturePath(out)
 	protected := make([]string, 0, len(in.signed)+1)
 	for _, f := range in.signed {
 		protected = append(protected, f.Path)
@@ -124,14 +149,14 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 	if c.SignKey != "" {
 		protected = append(protected, c.SignKey)
 	}
-	written := []string{c.Out}
+	written := []string{out}
 	if priv != nil {
 		written = append(written, sigPath)
 	}
 	for _, w := range written {
 		for _, p := range protected {
 			if sameFile(w, p) {
-				return &exitError{code: 2, err: fmt.Errorf("%s is %s, an input or the signing key: writing it would destroy it; choose another --out", w, p)}
+				return "", &exitError{code: 2, err: fmt.Errorf("%s is %s, an input or the signing key: writing it would destroy it; choose another --out", w, p)}
 			}
 		}
 	}
@@ -141,30 +166,27 @@ func (c *ReportCmd) Run(g *Globals, pr *printer) error {
 	var sigData []byte
 	if priv != nil {
 		sum := sha256.Sum256(buf.Bytes())
-		doc := sign.SignedFile{Path: c.Out, SHA256: hex.EncodeToString(sum[:])}
+		doc := sign.SignedFile{Path: out, SHA256: hex.EncodeToString(sum[:])}
 		if _, sigData, err = sign.Sign(priv, c.Signer, when, doc, in.signed, sigPath); err != nil {
-			return &exitError{code: 2, err: fmt.Errorf("signing: %w", err)}
+			return "", &exitError{code: 2, err: fmt.Errorf("signing: %w", err)}
 		}
 	}
-	if err := writeFileAtomic(c.Out, buf.Bytes()); err != nil {
-		return &exitError{code: 2, err: err}
+	if err := writeFileAtomic(out, buf.Bytes()); err != nil {
+		return "", &exitError{code: 2, err: err}
 	}
-	pr.Printf("%s: %s (report %s)\n", c.Out, acceptance.VerdictWords(acc.Verdict), acc.ReportID)
+	pr.Printf("%s: %s (report %s)\n", out, acceptance.VerdictWords(acc.Verdict), acc.ReportID)
 	if priv != nil {
 		if err := writeFileAtomic(sigPath, sigData); err != nil {
-			return &exitError{code: 2, err: fmt.Errorf("signing: %w", err)}
+			return "", &exitError{code: 2, err: fmt.Errorf("signing: %w", err)}
 		}
 		pr.Printf("%s: signed with key %s\n", sigPath, signing.KeyFingerprint)
 	}
 	if priv == nil {
-		if _, err := os.Stat(sign.SignaturePath(c.Out)); err == nil {
-			pr.Notef("note: %s belongs to an earlier report and no longer matches this one; remove it or sign again", sign.SignaturePath(c.Out))
+		if _, err := os.Stat(sign.SignaturePath(out)); err == nil {
+			pr.Notef("note: %s belongs to an earlier report and no longer matches this one; remove it or sign again", sign.SignaturePath(out))
 		}
 	}
-	if acc.Verdict != diagnose.Pass {
-		return errNotPassing
-	}
-	return nil
+	return acc.Verdict, nil
 }
 
 func (c *ReportCmd) validate() error {
@@ -184,6 +206,9 @@ func (c *ReportCmd) validate() error {
 	}
 	if c.active() && c.SignKey != "" {
 		return usageErrorf("a signed report needs its inputs as files that verify can check: write the store's data with 'beatnote scan --prometheus URL … --export FILE.csv' and report that file")
+	}
+	if c.ByCircuit && c.Map == "" && c.Plan != "" {
+		return usageErrorf("--by-circuit takes each circuit's plan from --map; with a single --plan there is one circuit")
 	}
 	if c.Format != "pdf" && c.Paper != "a4" {
 		return usageErrorf("--paper applies to PDF reports only")
@@ -247,7 +272,7 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 		}
 		in.Profile = &prof
 	}
-	if in.Plan != nil && len(in.Plan.Ports) > 0 {
+	if in.Plan != nil && len(in.Plan.Ports) > 0 && !c.ByCircuit {
 		want := map[string]bool{}
 		for _, p := range in.Plan.Ports {
 			want[p] = true
@@ -271,7 +296,7 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 		}
 	}
 	diagnose.PairDirections(&res, directionPairs(a))
-	if len(res.Ports) > maxReportPorts {
+	if len(res.Ports) > maxReportPorts && !c.ByCircuit {
 		return nil, &exitError{code: 2, err: fmt.Errorf("the inputs hold %d ports; an acceptance report covers one circuit (at most %d ports): list its ports in the plan (ports:) or use triage for a fleet", len(res.Ports), maxReportPorts)}
 	}
 	for _, st := range a.DS.Inputs {

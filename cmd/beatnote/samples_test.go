@@ -334,3 +334,41 @@ func TestReportBothDirectionsOnDemoNetwork(t *testing.T) {
 		t.Errorf("report lacks both directions:\n%s", s[:min(len(s), 3000)])
 	}
 }
+
+// A folder of circuits with its port map gives one report per circuit, each judged on its own
+// plan and profile: the demo's fifteen circuits give fifteen reports, and the healthy one,
+// whose log covers the 24-hour test period, passes with error-performance figures.
+func TestReportByCircuitOnDemoSamples(t *testing.T) {
+	root := filepath.Join("..", "..", "samples")
+	if _, err := os.Stat(filepath.Join(root, "portmap.yaml")); err != nil {
+		t.Skipf("no demo samples: %v", err)
+	}
+	dir := t.TempDir()
+	code, _, errw := runCLI(t, "report", filepath.Join(root, "logs"), "--map", filepath.Join(root, "portmap.yaml"), "--by-circuit",
+		"--format", "markdown", "--out", dir, "--time", "2026-03-15T09:00:00Z")
+	if code != 1 {
+		t.Fatalf("exit %d, want 1 (some demo circuits fail): %s", code, errw)
+	}
+	files, _ := filepath.Glob(filepath.Join(dir, "*.md"))
+	if len(files) != 15 {
+		t.Fatalf("%d reports, want 15", len(files))
+	}
+	md, err := os.ReadFile(filepath.Join(dir, "QRO-FRW-LTF-401.md"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := string(md)
+	for _, want := range []string{"# Coherent link acceptance report — QRO-FRW-LTF-401", "**Verdict: PASS**", "## Port FRW-OT1/1/C1",
+		"Test period 24 h: the log covers 24 h", "0 severely errored seconds", "400g-dp-16qam-cfec"} {
+		if !strings.Contains(s, want) {
+			t.Errorf("QRO-FRW-LTF-401 report lacks %q", want)
+		}
+	}
+	if strings.Contains(s, "## Port OSK-OT2/1/C1") {
+		t.Error("a port of another circuit is in QRO-FRW-LTF-401's report")
+	}
+	qpsk, _ := os.ReadFile(filepath.Join(dir, "QRO-RSK-MDQ-104.md"))
+	if !strings.Contains(string(qpsk), "100g-dp-qpsk") {
+		t.Error("QRO-RSK-MDQ-104 is not judged on its own profile, 100g-dp-qpsk")
+	}
+}
