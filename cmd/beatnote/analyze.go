@@ -171,6 +171,9 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	if err := jf.checkSource(paths); err != nil {
 		return nil, err
 	}
+	if plan != nil {
+		jf.storeFlags.ports = plan.Ports // a store is asked for the plan's ports only
+	}
 	ds, readErr := readInputs(paths, jf, pr)
 	if ds == nil {
 		return nil, readErr

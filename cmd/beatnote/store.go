@@ -29,6 +29,9 @@ type storeFlags struct {
 	Step          time.Duration `group:"store" help:"With --prometheus: the resolution; each step takes the latest sample of the step before it. Set it to the export interval." default:"60s" placeholder:"DURATION"`
 	PrometheusMap string        `group:"store" help:"YAML mapping from metrics and labels to quantities and ports (default: the built-in one, named after the OpenConfig paths)." type:"existingfile" placeholder:"FILE"`
 	TokenFile     string        `group:"store" name:"prometheus-token-file" help:"File holding the bearer token for the store (else $BEATNOTE_PROMETHEUS_TOKEN when set; never on the command line)." type:"existingfile" placeholder:"FILE"`
+
+	// ports, when set, are the only ports asked for (a plan's).
+	ports []string `kong:"-"`
 }
 
 // active reports whether the store is the source.
@@ -49,7 +52,7 @@ func (s *storeFlags) checkSource(paths []string) error {
 
 // query turns the flags into a promapi.Query; now is the end when --end is not given.
 func (s *storeFlags) query(now time.Time) (promapi.Query, error) {
-	q := promapi.Query{URL: s.Prometheus, Step: s.Step, End: now.UTC().Truncate(time.Second)}
+	q := promapi.Query{URL: s.Prometheus, Step: s.Step, End: now.UTC().Truncate(time.Second), Ports: s.ports}
 	if s.Since != 0 && s.Start != "" {
 		return q, usageErrorf("give --since or --start, not both")
 	}

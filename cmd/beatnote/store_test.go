@@ -417,14 +417,15 @@ func TestPrometheusBatchesAndChunksMatchFiles(t *testing.T) {
 	}
 }
 
-// A report read from the store lists each series' query, range and SHA-256 among its inputs;
-// signing one is refused (verify can check files, not queries) with the way out.
+// A report read from the store asks for the plan's ports only and lists each of their series'
+// query, range and SHA-256 among its inputs; signing one is refused (verify can check files,
+// not queries) with the way out.
 func TestReportFromPrometheus(t *testing.T) {
 	u := prometheusURL(t)
 	dir := t.TempDir()
 	md := filepath.Join(dir, "r.md")
 	args := []string{"report", "--prometheus", u, "--start", demoRangeStart, "--end", "2026-03-14T01:00:00Z", "--step", "60s",
-		"--profile", "100g-dp-qpsk", "--format", "markdown", "--out", md}
+		"--plan", filepath.Join("..", "..", "samples", "plans", "qro-glm-tlv-403.yaml"), "--format", "markdown", "--out", md}
 	code, _, errw := runCLI(t, args...)
 	if code == 2 {
 		t.Fatalf("report: exit 2: %s", errw)
@@ -436,6 +437,10 @@ func TestReportFromPrometheus(t *testing.T) {
 	// The Markdown shows the query as text: escape.Markdown escapes its underscores.
 	if !strings.Contains(string(b), escape.Markdown(`last_over_time(components_component_optical_channel_state_input_power_instant{component_name="`)) {
 		t.Fatalf("the report's inputs do not name the query:\n%s", b)
+	}
+	// The plan names one port, GLM-OT1/2/C1: its 14 series are the inputs.
+	if n := strings.Count(string(b), "last_over_time("); n != 14 || !strings.Contains(string(b), "GLM-OT1/2/C1") {
+		t.Fatalf("%d series listed, want the 14 of the plan's port", n)
 	}
 	code, _, errw = runCLI(t, append(args[:len(args)-2], "--out", filepath.Join(dir, "r.pdf"), "--format", "pdf",
 		"--sign-key", filepath.Join(dir, "k.key"), "--signer", "A. Technician")...)

@@ -30,6 +30,7 @@ import (
 	"math"
 	"net/http"
 	"net/url"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -54,6 +55,9 @@ type Query struct {
 	Start, End time.Time     // the range, both included
 	Step       time.Duration // resolution, at least 1 s
 	Mapping    Mapping
+	// Ports, when set, are the only ports read (e.g. a plan's); otherwise every port the
+	// mapped metrics have in the range.
+	Ports []string
 	// BatchPorts is how many ports one query asks for (default 64).
 	BatchPorts int
 	// Client is the HTTP client (default: a client with a 60 s timeout per request).
@@ -93,8 +97,10 @@ func Read(ctx context.Context, q Query) (*parse.Dataset, error) {
 		q.Client = &http.Client{Timeout: 60 * time.Second}
 	}
 	r := &reader{q: q, base: base, feed: &parse.Feed{Strict: q.Strict}, inputs: map[string]*seriesInput{}}
-	ports, err := r.ports(ctx, true)
-	if err != nil {
+	var ports []string
+	if len(q.Ports) > 0 {
+		ports = slices.Compact(slices.Sorted(slices.Values(q.Ports)))
+	} else if ports, err = r.ports(ctx, true); err != nil {
 		return nil, err
 	}
 	if len(ports) == 0 {
@@ -117,6 +123,10 @@ func Read(ctx context.Context, q Query) (*parse.Dataset, error) {
 	}
 	for _, in := range r.order {
 		r.feed.SetSHA256(in.idx, hex.EncodeToString(in.h.Sum(nil)))
+	}
+	if r.samples == 0 && len(q.Ports) > 0 {
+		return nil, fmt.Errorf("prometheus %s: %w %s to %s for the ports asked for (%s)", r.base.Redacted(), ErrEmpty,
+			fmtT(q.Start), fmtT(q.End), shortenMsg(strings.Join(ports, ", ")))
 	}
 	if r.samples == 0 {
 		return nil, fmt.Errorf("prometheus %s: %w %s to %s at step %v (%d ports have series, but no sample falls on a step)",
