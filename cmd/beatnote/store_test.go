@@ -22,7 +22,6 @@ import (
 
 	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/parse/promapi"
-	"github.com/beatnote/beatnote/report/escape"
 )
 
 // These tests run beatnote against a real Prometheus server (the Debian package; .ci/run
@@ -423,24 +422,36 @@ func TestPrometheusBatchesAndChunksMatchFiles(t *testing.T) {
 func TestReportFromPrometheus(t *testing.T) {
 	u := prometheusURL(t)
 	dir := t.TempDir()
-	md := filepath.Join(dir, "r.md")
+	out := filepath.Join(dir, "r.json")
 	args := []string{"report", "--prometheus", u, "--start", demoRangeStart, "--end", "2026-03-14T01:00:00Z", "--step", "60s",
-		"--plan", filepath.Join("..", "..", "samples", "plans", "qro-glm-tlv-403.yaml"), "--format", "markdown", "--out", md}
+		"--plan", filepath.Join("..", "..", "samples", "plans", "qro-glm-tlv-403.yaml"), "--format", "json", "--out", out}
 	code, _, errw := runCLI(t, args...)
 	if code == 2 {
 		t.Fatalf("report: exit 2: %s", errw)
 	}
-	b, err := os.ReadFile(md)
+	raw, err := os.ReadFile(out)
 	if err != nil {
 		t.Fatal(err)
 	}
-	// The Markdown shows the query as text: escape.Markdown escapes its underscores.
-	if !strings.Contains(string(b), escape.Markdown(`last_over_time(components_component_optical_channel_state_input_power_instant{component_name="`)) {
-		t.Fatalf("the report's inputs do not name the query:\n%s", b)
+	var rep struct {
+		Inputs []parse.InputStats `json:"inputs"`
+	}
+	if err := json.Unmarshal(raw, &rep); err != nil {
+		t.Fatal(err)
+	}
+	var b strings.Builder
+	for _, in := range rep.Inputs {
+		if len(in.SHA256) != 64 {
+			t.Errorf("input without SHA-256: %+v", in)
+		}
+		b.WriteString(in.File + "\n")
+	}
+	if !strings.Contains(b.String(), `last_over_time(components_component_optical_channel_state_input_power_instant{component_name="GLM-OT1/2/C1"}[59999ms]) `+demoRangeStart) {
+		t.Fatalf("the report's inputs do not name the query and range:\n%s", b.String())
 	}
 	// The plan names one port, GLM-OT1/2/C1: its 14 series are the inputs.
-	if n := strings.Count(string(b), "last_over_time("); n != 14 || !strings.Contains(string(b), "GLM-OT1/2/C1") {
-		t.Fatalf("%d series listed, want the 14 of the plan's port", n)
+	if n := strings.Count(b.String(), "last_over_time("); n != 14 || strings.Count(b.String(), "GLM-OT1/2/C1") != 14 {
+		t.Fatalf("%d series listed, want the 14 of the plan's port:\n%s", n, b.String())
 	}
 	code, _, errw = runCLI(t, append(args[:len(args)-2], "--out", filepath.Join(dir, "r.pdf"), "--format", "pdf",
 		"--sign-key", filepath.Join(dir, "k.key"), "--signer", "A. Technician")...)
