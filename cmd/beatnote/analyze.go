@@ -77,8 +77,11 @@ type analysis struct {
 }
 
 // configFile is a configuration file as it was read and parsed, with its role ("link plan",
-// "profiles", "rules").
-type configFile struct{ Role, Path, SHA256 string }
+// "profiles", "rules") and, for a link plan, the plan it holds.
+type configFile struct {
+	Role, Path, SHA256 string
+	Plan               *rules.Plan
+}
 
 // readConfig reads a configuration file once (bounded, rules.ReadConfig) and keeps the digest
 // of the bytes it returns, which the caller parses.
@@ -131,6 +134,7 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 			return nil, err
 		}
 		plan = &p
+		a.Configs[len(a.Configs)-1].Plan = plan
 	}
 	a.Profiles, a.Plan = profiles, plan
 	var pm *rules.PortMap
@@ -286,6 +290,7 @@ func (a *analysis) portMapLookup(pm *rules.PortMap, profiles []rules.Profile, fl
 			return nil, fmt.Errorf("port map %s line %d: %w", pm.File, e.Line, err)
 		}
 		plans[e.PlanPath] = &p
+		a.Configs[len(a.Configs)-1].Plan = &p
 	}
 	setups := make([]diagnose.Setup, len(pm.Entries))
 	for i, e := range pm.Entries {

@@ -225,6 +225,8 @@ const maxReportPorts = 16
 type reportInput struct {
 	acceptance.Input
 	signed []sign.SignedFile
+	// plans names the plan each link-plan file holds, by path, for reports split by circuit.
+	plans map[string]*rules.Plan
 }
 
 // testHookAnalysed, when set by a test, runs after the inputs were read and judged and before
@@ -302,7 +304,11 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 	for _, st := range a.DS.Inputs {
 		in.signed = append(in.signed, sign.SignedFile{Path: st.File, SHA256: st.SHA256})
 	}
+	in.plans = map[string]*rules.Plan{}
 	for _, cf := range a.Configs {
+		if cf.Plan != nil {
+			in.plans[cf.Path] = cf.Plan
+		}
 		in.signed = append(in.signed, sign.SignedFile{Path: cf.Path, SHA256: cf.SHA256})
 		in.Settings = append(in.Settings, acceptance.SettingsFile{Role: cf.Role, File: asTyped(cf.Path), SHA256: cf.SHA256})
 	}

@@ -53,6 +53,19 @@ func (c *ReportCmd) splitByCircuit(in *reportInput) ([]*reportInput, []string, e
 		res.Ports = g.ports
 		part := *in
 		part.Result, part.Plan, part.Profile = &res, g.plan, nil
+		// The circuit's own plan is listed and signed; the other circuits' plans are not.
+		other := func(path string) bool { p, ok := in.plans[path]; return ok && p != g.plan }
+		part.signed, part.Settings = nil, nil
+		for _, f := range in.signed {
+			if !other(f.Path) {
+				part.signed = append(part.signed, f)
+			}
+		}
+		for _, f := range in.Settings {
+			if f.Role != "link plan" || !otherTyped(in, f.File, g.plan) {
+				part.Settings = append(part.Settings, f)
+			}
+		}
 		if an := g.ports[0].Analysis; an != nil {
 			prof := an.Profile
 			part.Profile = &prof
@@ -85,4 +98,14 @@ func fileName(id string) string {
 		s = "circuit"
 	}
 	return s
+}
+
+// otherTyped says whether the plan file shown as typed path holds another plan than plan.
+func otherTyped(in *reportInput, typed string, plan *rules.Plan) bool {
+	for path, p := range in.plans {
+		if asTyped(path) == typed {
+			return p != plan
+		}
+	}
+	return false
 }

@@ -367,6 +367,9 @@ func TestReportByCircuitOnDemoSamples(t *testing.T) {
 	if strings.Contains(s, "## Port OSK-OT2/1/C1") {
 		t.Error("a port of another circuit is in QRO-FRW-LTF-401's report")
 	}
+	if !strings.Contains(s, "qro-frw-ltf-401.yaml") || strings.Contains(s, "qro-osk-ven-402.yaml") {
+		t.Error("QRO-FRW-LTF-401's report should list its own plan and no other circuit's")
+	}
 	qpsk, _ := os.ReadFile(filepath.Join(dir, "QRO-RSK-MDQ-104.md"))
 	if !strings.Contains(string(qpsk), "100g-dp-qpsk") {
 		t.Error("QRO-RSK-MDQ-104 is not judged on its own profile, 100g-dp-qpsk")
