@@ -30,6 +30,25 @@ const (
 	llrAgainstSome = -2.0
 	llrAgainstBit  = -1.5
 	llrAgainstTiny = -0.5
+	// At a loss of lock: strong at the limit, +2 per unit of ratio beyond it, at most 6.
+	llrLockLossPerRatio = 2.0
+	llrLockLossMax      = 6.0
+)
+
+// Statistical and physical thresholds of the column tests (common practice unless named).
+const (
+	corrMaxP           = 0.01  // a rank correlation counts at p below this (with |ρ| ≥ correlation_min_spearman)
+	ksMinSamples       = 30    // a Maxwellian fit is judged on at least this many DGD samples
+	ksFitP             = 0.05  // the fit is claimed where the KS test does not reject it at 5 %
+	ksRejectP          = 0.001 // and called not Maxwellian-shaped below this
+	coincidentShare    = 0.5   // at least half the bursts at an SOP spike …
+	chanceFactorStrong = 3.0   // … and more than 3× (strong) or 2× (moderate) the chance rate
+	chanceFactor       = 2.0
+	driftHorizonFactor = 4.0 // an LO drift reaching the limit within 4 horizons is moderate evidence
+	planDGDFactor      = 2.0 // mean DGD more than twice the plan's fibre PMD is weak evidence
+	// loDriftShareOfRange: a laser's carrier normally moves by far less than a quarter of the
+	// capture range over a log; a drift that large is a frequency-control fault in itself.
+	loDriftShareOfRange = 0.25
 )
 
 type item struct {
@@ -242,7 +261,7 @@ func (pc *portCtx) signalLoss() *score {
 // outside its specified tolerance, the less a module is expected to hold lock (common practice),
 // so of two quantities beyond their limits the one further out ranks first.
 func lockLossLLR(ratio float64) float64 {
-	return math.Min(6, llrStrong+2*math.Max(0, ratio-1))
+	return math.Min(llrLockLossMax, llrStrong+llrLockLossPerRatio*math.Max(0, ratio-1))
 }
 
 // lockLossExplained says whether DGD, PDL, SOP rate or LO offset was beyond the module's limit
@@ -313,14 +332,14 @@ func (pc *portCtx) rxPowerLow() *score {
 	if pc.exp != nil && finite(pc.exp.RxPowerDBm) {
 		gap := pc.exp.RxPowerDBm - lp.P50
 		if gap > r.RxPowerMarginalBandDB+1 {
-			s.add(3.0, "Median received power %.1f dBm is %.1f dB below the %.1f dBm the link plan predicts: more loss than designed.", lp.P50, gap, pc.exp.RxPowerDBm)
+			s.add(llrFirm, "Median received power %.1f dBm is %.1f dB below the %.1f dBm the link plan predicts: more loss than designed.", lp.P50, gap, pc.exp.RxPowerDBm)
 		}
 	}
 	if rr := pc.routeRatio(); s.supported() && finite(rr) && rr > 1 {
-		s.add(-2, "The measured CD says the route is about %.0f %% longer than planned, which by itself adds loss.", 100*(rr-1))
+		s.add(llrAgainstSome, "The measured CD says the route is about %.0f %% longer than planned, which by itself adds loss.", 100*(rr-1))
 	}
 	if s.supported() {
-		if c := pc.correlation(parse.RxPowerDBm); c != nil && c.Rho <= -r.CorrelationMinSpearman && c.P < 0.01 {
+		if c := pc.correlation(parse.RxPowerDBm); c != nil && c.Rho <= -r.CorrelationMinSpearman && c.P < corrMaxP {
 			s.add(llrWeak, "Pre-FEC BER rises as power falls (Spearman ρ = %.2f over %d samples).", c.Rho, c.N)
 		}
 		if qm := pc.qMarginP50(); finite(qm) && qm < r.QMarginalMarginDB {
@@ -367,10 +386,10 @@ func (pc *portCtx) rxOverload() *score {
 		}
 	}
 	if rr := pc.routeRatio(); s.supported() && finite(rr) && rr < 1 {
-		s.add(-2, "The measured CD says the route is about %.0f %% shorter than planned, which by itself leaves less loss.", 100*(1-rr))
+		s.add(llrAgainstSome, "The measured CD says the route is about %.0f %% shorter than planned, which by itself leaves less loss.", 100*(1-rr))
 	}
 	if s.supported() {
-		if c := pc.correlation(parse.RxPowerDBm); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < 0.01 {
+		if c := pc.correlation(parse.RxPowerDBm); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < corrMaxP {
 			s.add(llrWeak, "Pre-FEC BER rises with power (Spearman ρ = %.2f over %d samples), as receiver saturation would make it.", c.Rho, c.N)
 		}
 	}
@@ -406,9 +425,9 @@ func (pc *portCtx) cdMismatch() *score {
 	}
 	switch {
 	case rel >= 2*r.CDMismatchRelativeTolerance:
-		s.add(4.0, "Measured CD %.0f ps/nm differs from the planned %.0f ps/nm by %+.0f ps/nm (%s, tolerance ±%.0f ps/nm).%s", meas, exp, diff, pct(rel), tol, implied)
+		s.add(llrCDMismatch2, "Measured CD %.0f ps/nm differs from the planned %.0f ps/nm by %+.0f ps/nm (%s, tolerance ±%.0f ps/nm).%s", meas, exp, diff, pct(rel), tol, implied)
 	default:
-		s.add(2.5, "Measured CD %.0f ps/nm differs from the planned %.0f ps/nm by %+.0f ps/nm (%s, tolerance ±%.0f ps/nm).%s", meas, exp, diff, pct(rel), tol, implied)
+		s.add(llrCDMismatch, "Measured CD %.0f ps/nm differs from the planned %.0f ps/nm by %+.0f ps/nm (%s, tolerance ±%.0f ps/nm).%s", meas, exp, diff, pct(rel), tol, implied)
 	}
 	spread := (cs.P99 - cs.Min) / 2
 	if spread < math.Abs(diff)/3 {
@@ -438,7 +457,7 @@ func (pc *portCtx) cdOverLimit() *score {
 	}
 	if s.supported() {
 		if pc.exp != nil && math.Abs(pc.exp.CDPsNm) > tol {
-			s.add(3.0, "The link plan itself expects %.0f ps/nm: the route is longer than this module can compensate.", pc.exp.CDPsNm)
+			s.add(llrFirm, "The link plan itself expects %.0f ps/nm: the route is longer than this module can compensate.", pc.exp.CDPsNm)
 		}
 		if qm := pc.qMarginP50(); finite(qm) && qm < pc.r.QMarginalMarginDB {
 			s.add(llrWeak, "The Q margin is %.1f dB (median) with CD at the edge of the range.", qm)
@@ -475,7 +494,7 @@ func (pc *portCtx) pmd() *score {
 		pe := f.ExceedProbability
 		switch {
 		case pe > r.PMDOutageProbability:
-			s.add(3.0, "Mean DGD %.1f ps gives a Maxwellian probability of %.2g that the DGD exceeds the %.0f ps tolerance (allowed %.2g).", f.MeanPs, pe, tol, r.PMDOutageProbability)
+			s.add(llrFirm, "Mean DGD %.1f ps gives a Maxwellian probability of %.2g that the DGD exceeds the %.0f ps tolerance (allowed %.2g).", f.MeanPs, pe, tol, r.PMDOutageProbability)
 		case pe > r.PMDOutageProbability/10:
 			s.add(llrWeak, "Mean DGD %.1f ps gives a Maxwellian outage probability of %.2g, within a factor of 10 of the %.2g allowed.", f.MeanPs, pe, r.PMDOutageProbability)
 		}
@@ -486,17 +505,17 @@ func (pc *portCtx) pmd() *score {
 	if !s.supported() {
 		return s
 	}
-	if f != nil && f.N >= 30 && finite(f.KSPValue) {
-		if f.KSPValue >= 0.05 { // the fit is claimed only where the test does not reject it at 5 % (common practice)
+	if f != nil && f.N >= ksMinSamples && finite(f.KSPValue) {
+		if f.KSPValue >= ksFitP { // the fit is claimed only where the test does not reject it at 5 % (common practice)
 			s.add(llrWeak, "The DGD spread fits a Maxwellian of that mean (Kolmogorov–Smirnov D = %.3f, %s over %d samples), as fibre PMD does.", f.KS, pval(f.KSPValue), f.N)
-		} else if f.KSPValue < 0.001 {
-			s.add(-0.5, "The DGD spread is not Maxwellian-shaped (Kolmogorov–Smirnov D = %.3f, %s), which fibre PMD alone would give.", f.KS, pval(f.KSPValue))
+		} else if f.KSPValue < ksRejectP {
+			s.add(llrAgainstTiny, "The DGD spread is not Maxwellian-shaped (Kolmogorov–Smirnov D = %.3f, %s), which fibre PMD alone would give.", f.KS, pval(f.KSPValue))
 		}
 	}
-	if c := pc.correlation(parse.DGDps); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < 0.01 {
+	if c := pc.correlation(parse.DGDps); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < corrMaxP {
 		s.add(llrModerate, "Pre-FEC BER follows the DGD (Spearman ρ = %.2f over %d samples, %s).", c.Rho, c.N, pval(c.P))
 	}
-	if pc.exp != nil && f != nil && pc.exp.MeanDGDPs > 0 && f.MeanPs > 2*pc.exp.MeanDGDPs {
+	if pc.exp != nil && f != nil && pc.exp.MeanDGDPs > 0 && f.MeanPs > planDGDFactor*pc.exp.MeanDGDPs {
 		s.add(llrWeak, "Mean DGD %.1f ps is %.1f× the %.1f ps the plan's fibre PMD coefficients predict.", f.MeanPs, f.MeanPs/pc.exp.MeanDGDPs, pc.exp.MeanDGDPs)
 	}
 	return s
@@ -536,11 +555,11 @@ func (pc *portCtx) sopTransient() *score {
 	matched, blocks := 0, 0
 	lagMin, lagMax := math.Inf(1), math.Inf(-1)
 	for _, c := range an.Coincidences {
-		if (kind == "BER bursts") == (c.Kind == "pre_fec_ber") {
+		if (kind == "BER bursts") == (c.Kind == parse.PreFECBER.Column()) {
 			matched++
 			lagMin, lagMax = math.Min(lagMin, c.LagS), math.Max(lagMax, c.LagS)
 		}
-		if c.Kind == "uncorrected_blocks" {
+		if c.Kind == parse.UncorrectedBlocks.Column() {
 			blocks++
 		}
 	}
@@ -550,9 +569,9 @@ func (pc *portCtx) sopTransient() *score {
 		msg := fmt.Sprintf("%d of %d %s fall within %.0f s of an SOP-rate spike (lag %+.0f…%+.0f s); chance alone would give about %s.",
 			matched, bursts, kind, an.CoincidenceWindowS, lagMin, lagMax, pct(chance))
 		switch {
-		case matched >= 2 && frac >= 0.5 && frac > 3*chance:
+		case matched >= 2 && frac >= coincidentShare && frac > chanceFactorStrong*chance:
 			s.add(llrStrong, "%s", msg)
-		case frac >= 0.5 && frac > 2*chance:
+		case frac >= coincidentShare && frac > chanceFactor*chance:
 			s.add(llrModerate, "%s", msg)
 		}
 	}
@@ -589,7 +608,7 @@ func (pc *portCtx) pdlHigh() *score {
 	if ps.P50 >= r.PDLMarginalFraction*tol {
 		s.add(llrWeak, "PDL stays high: its median is %.2f dB.", ps.P50)
 	}
-	if c := pc.correlation(parse.PDLdB); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < 0.01 {
+	if c := pc.correlation(parse.PDLdB); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < corrMaxP {
 		s.add(llrModerate, "Pre-FEC BER follows the PDL (Spearman ρ = %.2f over %d samples, %s).", c.Rho, c.N, pval(c.P))
 	}
 	return s
@@ -626,13 +645,15 @@ func (pc *portCtx) loOffset() *score {
 		case t.HoursToLimit > 0 && t.HoursToLimit <= r.LODriftHorizonH:
 			s.add(llrStrong, "The offset drifts %+.1f ± %.1f MHz/h (now about %+.0f MHz); at that rate it reaches the %+.0f MHz capture limit in about %.1f h, within the %.0f h horizon.",
 				t.Slope, t.SlopeSE, t.AtEnd, t.Limit, t.HoursToLimit, r.LODriftHorizonH)
-		case t.HoursToLimit > 0 && t.HoursToLimit <= 4*r.LODriftHorizonH:
+		case t.HoursToLimit > 0 && t.HoursToLimit <= driftHorizonFactor*r.LODriftHorizonH:
 			s.add(llrModerate, "The offset drifts %+.1f ± %.1f MHz/h toward the %+.0f MHz capture limit (about %.0f h away at that rate, within 4× the %.0f h horizon).",
 				t.Slope, t.SlopeSE, t.Limit, t.HoursToLimit, r.LODriftHorizonH)
 		}
-		// A laser's carrier normally moves by far less than a quarter of the capture range over a
-		// log (common practice); a drift that large is a frequency-control fault in itself.
-		if drift := math.Abs(t.Slope) * float64(t.EndMs-t.StartMs) / 3.6e6; drift >= 0.25*rng {
+		from := t.StartMs
+		if k := len(pc.an.LOSteps); k > 0 {
+			from = pc.an.LOSteps[k-1].TimeMs // the trend is fitted after the last step
+		}
+		if drift := math.Abs(t.Slope) * float64(t.EndMs-from) / 3.6e6; drift >= loDriftShareOfRange*rng {
 			s.add(llrModerate, "Over the log the offset moved by about %.0f MHz (%s of the capture range).", drift, pct(drift/rng))
 		}
 	}

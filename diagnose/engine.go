@@ -123,7 +123,7 @@ func topConfidence(p *PortResult) float64 {
 }
 
 func qMargin(p *PortResult) float64 {
-	if m, ok := p.Metrics["q_db"]; ok && m.Margin != nil {
+	if m, ok := p.Metrics[parse.QdB.Column()]; ok && m.Margin != nil {
 		return *m.Margin
 	}
 	return 1e9

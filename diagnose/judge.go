@@ -114,15 +114,15 @@ func (pc *portCtx) metrics() {
 	if pc.berDerived {
 		s := pc.summarize(pc.ber)
 		pc.widenDerived(&s, false)
-		pc.metric("pre_fec_ber", "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, r.QStatistic))
+		pc.metric(parse.PreFECBER.Column(), "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, r.QStatistic))
 	}
 	if pc.qDerived {
 		s := pc.qSummary()
-		pc.metric("q_db", "dB", s, true, pc.qLimitDB, pick(s, r.QStatistic)-pc.qLimitDB)
+		pc.metric(parse.QdB.Column(), "dB", s, true, pc.qLimitDB, pick(s, r.QStatistic)-pc.qLimitDB)
 	}
 	if pc.esnrDerived {
 		s := pc.summarize(pc.esnr)
-		pc.metric("esnr_db", "dB", s, true, pc.snrThDB, pick(s, r.QStatistic)-pc.snrThDB)
+		pc.metric(parse.ESNRdB.Column(), "dB", s, true, pc.snrThDB, pick(s, r.QStatistic)-pc.snrThDB)
 	}
 }
 
@@ -193,7 +193,7 @@ func (pc *portCtx) criteria() {
 	if pc.qdb != nil && p.FECThresholdBER > 0 {
 		s := pc.qSummary()
 		m := pick(s, r.QStatistic)
-		pc.addCriterion(Criterion{Name: "Q-factor margin to the FEC threshold", Metric: "q_db", Statistic: string(r.QStatistic),
+		pc.addCriterion(Criterion{Name: "Q-factor margin to the FEC threshold", Metric: parse.QdB.Column(), Statistic: string(r.QStatistic),
 			Measured: m, Limit: pc.qLimitDB, Margin: m - pc.qLimitDB, Unit: "dB",
 			Source: pc.source("fec_threshold_ber") + fmt.Sprintf("; limit = Q of BER %.3g", p.FECThresholdBER)}, r.QMarginalMarginDB, "")
 	} else {
@@ -201,24 +201,24 @@ func (pc *portCtx) criteria() {
 	}
 	if has(parse.OSNRdB) && pc.reqOSNRdB > 0 {
 		m := pick(pc.sum[parse.OSNRdB], r.OSNRStatistic)
-		pc.addCriterion(Criterion{Name: "OSNR margin to the required OSNR", Metric: "osnr_db", Statistic: string(r.OSNRStatistic),
+		pc.addCriterion(Criterion{Name: "OSNR margin to the required OSNR", Metric: parse.OSNRdB.Column(), Statistic: string(r.OSNRStatistic),
 			Measured: m, Limit: pc.reqOSNRdB, Margin: m - pc.reqOSNRdB, Unit: "dB", Source: pc.source("required_osnr_db")}, r.OSNRMarginalMarginDB, CauseOSNRLow)
 	}
 	if has(parse.RxPowerDBm) && p.RxPowerMaxDBm > p.RxPowerMinDBm {
 		s := pc.sum[parse.RxPowerDBm]
 		lo, hi := pick(s, r.RxPowerLowStatistic), pick(s, r.RxPowerHighStatistic)
-		pc.addCriterion(Criterion{Name: "Received power above the sensitivity limit", Metric: "rx_power_dbm", Statistic: string(r.RxPowerLowStatistic),
+		pc.addCriterion(Criterion{Name: "Received power above the sensitivity limit", Metric: parse.RxPowerDBm.Column(), Statistic: string(r.RxPowerLowStatistic),
 			Measured: lo, Limit: p.RxPowerMinDBm, Margin: lo - p.RxPowerMinDBm, Unit: "dBm", Source: pc.source("rx_power_min_dbm")}, r.RxPowerMarginalBandDB, pc.powerEdgeOwner(CauseRxPowerLow))
-		pc.addCriterion(Criterion{Name: "Received power below the overload limit", Metric: "rx_power_dbm", Statistic: string(r.RxPowerHighStatistic),
+		pc.addCriterion(Criterion{Name: "Received power below the overload limit", Metric: parse.RxPowerDBm.Column(), Statistic: string(r.RxPowerHighStatistic),
 			Measured: hi, Limit: p.RxPowerMaxDBm, Margin: p.RxPowerMaxDBm - hi, Unit: "dBm", Source: pc.source("rx_power_max_dbm")}, r.RxPowerMarginalBandDB, pc.powerEdgeOwner(CauseRxOverload))
 	} else if !has(parse.RxPowerDBm) {
 		pc.notJudged("received power: the log has no rx_power_dbm")
 	}
 	if has(parse.TxPowerDBm) && p.TxPowerMaxDBm > p.TxPowerMinDBm {
 		s := pc.sum[parse.TxPowerDBm]
-		pc.addCriterion(Criterion{Name: "Transmit power inside the module's range", Metric: "tx_power_dbm", Statistic: "min",
+		pc.addCriterion(Criterion{Name: "Transmit power inside the module's range", Metric: parse.TxPowerDBm.Column(), Statistic: "min",
 			Measured: s.Min, Limit: p.TxPowerMinDBm, Margin: s.Min - p.TxPowerMinDBm, Unit: "dBm", Source: pc.source("tx_power_min_dbm")}, 0, "")
-		pc.addCriterion(Criterion{Name: "Transmit power inside the module's range", Metric: "tx_power_dbm", Statistic: "max",
+		pc.addCriterion(Criterion{Name: "Transmit power inside the module's range", Metric: parse.TxPowerDBm.Column(), Statistic: "max",
 			Measured: s.Max, Limit: p.TxPowerMaxDBm, Margin: p.TxPowerMaxDBm - s.Max, Unit: "dBm", Source: pc.source("tx_power_max_dbm")}, 0, "")
 	}
 	upper := func(name string, q parse.Quantity, sum series.Summary, st rules.Statistic, limit, frac float64, unit, key, owner string) {
@@ -258,7 +258,7 @@ func (pc *portCtx) criteria() {
 	if has(parse.LOOffsetMHz) {
 		upper("|LO offset| inside the capture range", parse.LOOffsetMHz, pc.absSum[parse.LOOffsetMHz], r.LOOffsetStatistic, p.LOOffsetRangeMHz, r.LOOffsetMarginalFraction, "MHz", "lo_offset_range_mhz", CauseLOOffset)
 		if t := pc.an.LOTrend; t != nil && pc.trendSignificant(t) && finite(t.HoursToLimit) && t.HoursToLimit > 0 {
-			c := Criterion{Name: "LO offset drift: hours until the capture limit", Metric: "lo_offset_mhz", Statistic: "trend",
+			c := Criterion{Name: "LO offset drift: hours until the capture limit", Metric: parse.LOOffsetMHz.Column(), Statistic: "trend",
 				Measured: t.HoursToLimit, Limit: r.LODriftHorizonH, Margin: t.HoursToLimit - r.LODriftHorizonH, Unit: "h",
 				Source: "rules lo_drift_horizon_h: " + r.Sources["lo_drift_horizon_h"]}
 			c.Verdict = Pass
@@ -275,17 +275,17 @@ func (pc *portCtx) criteria() {
 				total += v
 			}
 		}
-		pc.addCriterion(Criterion{Name: "Uncorrected FEC blocks (total)", Metric: "uncorrected_blocks", Statistic: "sum",
+		pc.addCriterion(Criterion{Name: "Uncorrected FEC blocks (total)", Metric: parse.UncorrectedBlocks.Column(), Statistic: "sum",
 			Measured: total, Limit: 0, Margin: 0 - total, Unit: "blocks", Source: "common practice: error-free after FEC"}, 0, "")
 	}
 	if has(parse.PostFECBER) {
 		m := pc.sum[parse.PostFECBER].Max
-		pc.addCriterion(Criterion{Name: "Post-FEC BER (margin in decades)", Metric: "post_fec_ber", Statistic: "max",
+		pc.addCriterion(Criterion{Name: "Post-FEC BER (margin in decades)", Metric: parse.PostFECBER.Column(), Statistic: "max",
 			Measured: m, Limit: postFECLimitBER, Margin: decadesBelow(postFECLimitBER, m), Unit: "", MarginUnit: "decades",
 			Source: "common practice: 1e-12, the error-free reference of FEC specifications such as ITU-T G.975; margin = log10(limit / measured), a measured 0 taken as 1e-15"}, 0, "")
 	}
 	if pc.darkCount > 0 {
-		pc.addCriterion(Criterion{Name: "Samples without signal", Metric: "rx_power_dbm", Statistic: "count",
+		pc.addCriterion(Criterion{Name: "Samples without signal", Metric: parse.RxPowerDBm.Column(), Statistic: "count",
 			Measured: float64(pc.darkCount), Limit: 0, Margin: -float64(pc.darkCount), Unit: "samples",
 			Source: fmt.Sprintf("rules signal_loss_floor_dbm %.1f dBm, or pre-FEC BER ≥ %.2g", r.SignalLossFloorDBm, noLockBER)}, 0, pc.darkOwner())
 	}
@@ -293,7 +293,7 @@ func (pc *portCtx) criteria() {
 		exp := math.Abs(pc.exp.CDPsNm)
 		meas := pc.absSum[parse.CDpsPerNm].P50
 		tol := math.Max(r.CDMismatchRelativeTolerance*exp, r.CDMismatchFloorPsNm)
-		c := Criterion{Name: fmt.Sprintf("|CD| within ±%.0f ps/nm of the plan's", tol), Metric: "cd_ps_nm", Statistic: "p50",
+		c := Criterion{Name: fmt.Sprintf("|CD| within ±%.0f ps/nm of the plan's", tol), Metric: parse.CDpsPerNm.Column(), Statistic: "p50",
 			Measured: meas, Limit: exp, Margin: tol - math.Abs(meas-exp), Unit: "ps/nm",
 			Source: fmt.Sprintf("plan %s via the fibre model; tolerance ±%.0f ps/nm (rules cd_mismatch_*)", pc.plan.Circuit, tol)}
 		c.Verdict = Pass
@@ -327,7 +327,7 @@ func (pc *portCtx) planVsMeasured() {
 		if s.P50*e.CDPsNm < 0 {
 			note += "; reported with the opposite sign to the plan (compared by magnitude)"
 		}
-		add("cd_ps_nm", e.CDPsNm, s.P50, "ps/nm", note)
+		add(parse.CDpsPerNm.Column(), e.CDPsNm, s.P50, "ps/nm", note)
 		if d := math.Abs(e.CDPsNm) / e.RouteLengthKm; finite(d) && d != 0 {
 			add("route_length_km", e.RouteLengthKm, pc.absSum[parse.CDpsPerNm].P50/d, "km", fmt.Sprintf("implied by the measured |CD| at the plan's average %.2f ps/(nm·km)", d))
 		}
@@ -336,10 +336,10 @@ func (pc *portCtx) planVsMeasured() {
 		add("mean_dgd_ps", e.MeanDGDPs, f.MeanPs, "ps", "mean of the DGD samples")
 	}
 	if countFinite(pc.litPower) > 0 {
-		add("rx_power_dbm", e.RxPowerDBm, pc.litPowerSummary().P50, "dBm", "median while the signal was present")
+		add(parse.RxPowerDBm.Column(), e.RxPowerDBm, pc.litPowerSummary().P50, "dBm", "median while the signal was present")
 	}
 	if s, ok := pc.sum[parse.OSNRdB]; ok {
-		add("osnr_db", e.ASEOSNRdB, s.P50, "dB", "median reported OSNR vs the ASE OSNR of the amplifier chain")
+		add(parse.OSNRdB.Column(), e.ASEOSNRdB, s.P50, "dB", "median reported OSNR vs the ASE OSNR of the amplifier chain")
 	}
 	if v := pc.impliedOSNRp50(); finite(v) {
 		ref := e.GOSNRdB
@@ -356,10 +356,10 @@ func (pc *portCtx) planVsMeasured() {
 		if d := math.Abs(s.P50-e.FrequencyTHz) * 1000; finite(d) && e.FrequencyTHz > 0 && d > gridStepGHz {
 			note = fmt.Sprintf("tuned to another channel than planned: %.2f GHz off (%.0f steps of the 6.25 GHz grid, %.1f of a 50 GHz grid)", d, d/gridStepGHz, d/50)
 		}
-		add("frequency_thz", e.FrequencyTHz, s.P50, "THz", note)
+		add(parse.FrequencyTHz.Column(), e.FrequencyTHz, s.P50, "THz", note)
 	}
 	if s, ok := pc.sum[parse.TxPowerDBm]; ok && pc.plan.TxPowerDBm != 0 {
-		add("tx_power_dbm", pc.plan.TxPowerDBm, s.P50, "dBm", "")
+		add(parse.TxPowerDBm.Column(), pc.plan.TxPowerDBm, s.P50, "dBm", "")
 	}
 }
 

@@ -223,3 +223,37 @@ func TestNearSensitivityWithQFineIsARisk(t *testing.T) {
 		t.Errorf("healthy port: risks %q", res.Risks)
 	}
 }
+
+// A carrier offset that steps by 2.95 GHz half-way through the log (a laser retuned or
+// relocked) is a step, not a drift: the evidence names the step with its time and size, the
+// drift trend is fitted after it, and no drift toward the capture limit is projected.
+func TestLOStepIsNotADrift(t *testing.T) {
+	p, r := testSetup(t, "400g-dp-16qam-cfec")
+	for seed := uint64(1); seed <= 3; seed++ {
+		res := AnalyzePort(styleLog(t, seed, func(i int, rng *rand.Rand, v *styleSample) {
+			if i >= 336 {
+				v.lo += 2950
+			}
+		}), p, nil, nil, r)
+		if len(res.Analysis.LOSteps) != 1 || math.Abs(res.Analysis.LOSteps[0].Step-2950) > 50 {
+			t.Fatalf("seed %d: LO steps %+v, want one of about +2950 MHz", seed, res.Analysis.LOSteps)
+		}
+		var ev string
+		for _, c := range res.Causes {
+			if c.ID == CauseLOOffset {
+				ev = strings.Join(c.Evidence, " ")
+			}
+		}
+		if !strings.Contains(ev, "stepped by +29") || !strings.Contains(ev, "not a drift") {
+			t.Errorf("seed %d: lo-offset evidence %q does not name the step", seed, ev)
+		}
+		if strings.Contains(ev, "moved by about") || strings.Contains(ev, "drifts") {
+			t.Errorf("seed %d: the step is read as a drift: %q", seed, ev)
+		}
+		for _, c := range res.Criteria {
+			if c.Statistic == "trend" && c.Verdict != Pass {
+				t.Errorf("seed %d: drift criterion %s (%.1f h to the limit) from a step", seed, c.Verdict, c.Measured)
+			}
+		}
+	}
+}

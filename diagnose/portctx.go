@@ -321,11 +321,11 @@ func (pc *portCtx) analyseSeries() {
 	if pc.s.Has(parse.RxPowerDBm) && countFinite(pc.litPower) >= minN {
 		for _, st := range series.ChangePoints(pc.litPower, series.ChangePointOptions{MinStep: r.PowerStepDB}) {
 			an.PowerSteps = append(an.PowerSteps, ChangePoint{
-				TimeMs: s.TimesMs[st.Index], Index: st.Index, Quantity: "rx_power_dbm",
+				TimeMs: s.TimesMs[st.Index], Index: st.Index, Quantity: parse.RxPowerDBm.Column(),
 				Before: st.Before, After: st.After, Step: st.Size(), Unit: "dB",
 			})
 		}
-		tr := pc.trend(pc.litPower, "rx_power_dbm", "dBm", math.NaN())
+		tr := pc.trend(pc.litPower, parse.RxPowerDBm.Column(), "dBm", math.NaN())
 		an.RxPowerTrend = tr
 	}
 
@@ -379,7 +379,7 @@ func (pc *portCtx) analyseSeries() {
 		for _, kind := range []struct {
 			name   string
 			bursts []Interval
-		}{{"pre_fec_ber", an.BERBursts}, {"uncorrected_blocks", an.BlockBursts}} {
+		}{{parse.PreFECBER.Column(), an.BERBursts}, {parse.UncorrectedBlocks.Column(), an.BlockBursts}} {
 			for _, p := range series.Coincide(toRuns(kind.bursts), spikes, win) {
 				an.Coincidences = append(an.Coincidences, Coincidence{
 					Kind: kind.name, Burst: toInterval(p.Burst), Spike: toInterval(p.Spike), LagS: float64(p.LagMs) / 1000,
@@ -396,7 +396,7 @@ func (pc *portCtx) analyseSeries() {
 		if countFinite(lo) >= minN {
 			for _, st := range series.ChangePoints(lo, series.ChangePointOptions{MinStep: r.LOStepFraction * pc.prof.LOOffsetRangeMHz}) {
 				an.LOSteps = append(an.LOSteps, ChangePoint{
-					TimeMs: s.TimesMs[st.Index], Index: st.Index, Quantity: "lo_offset_mhz",
+					TimeMs: s.TimesMs[st.Index], Index: st.Index, Quantity: parse.LOOffsetMHz.Column(),
 					Before: st.Before, After: st.After, Step: st.Size(), Unit: "MHz",
 				})
 			}
@@ -406,7 +406,7 @@ func (pc *portCtx) analyseSeries() {
 			copy(after[an.LOSteps[k-1].Index:], lo[an.LOSteps[k-1].Index:])
 			lo = after
 		}
-		an.LOTrend = pc.trend(lo, "lo_offset_mhz", "MHz", pc.prof.LOOffsetRangeMHz)
+		an.LOTrend = pc.trend(lo, parse.LOOffsetMHz.Column(), "MHz", pc.prof.LOOffsetRangeMHz)
 	}
 	if s.Has(parse.DGDps) {
 		v := pc.scratch[:0] // FitMaxwell copies what it keeps
@@ -474,7 +474,7 @@ func (pc *portCtx) computeCorrelation(q parse.Quantity) {
 		rho, n, p = series.Spearman(pc.litBER, y)
 	}
 	if n >= max(pc.r.MinSamplesForTrend, 3) && !math.IsNaN(rho) {
-		pc.an.Correlations = append(pc.an.Correlations, Correlation{A: "pre_fec_ber", B: q.Column(), Rho: rho, N: n, P: p})
+		pc.an.Correlations = append(pc.an.Correlations, Correlation{A: parse.PreFECBER.Column(), B: q.Column(), Rho: rho, N: n, P: p})
 	}
 }
 
