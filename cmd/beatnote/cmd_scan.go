@@ -2,6 +2,7 @@ package main
 
 import (
 	"errors"
+	"fmt"
 	"os"
 
 	"github.com/beatnote/beatnote/parse"
@@ -61,6 +62,11 @@ func (c *ScanCmd) Run(g *Globals, pr *printer) error {
 		return err
 	}
 	if c.Export != "" {
+		for _, in := range ds.Inputs {
+			if sameFile(c.Export, in.File) {
+				return &exitError{code: 2, err: fmt.Errorf("--export %s is the input %s: writing it would destroy it; choose another file", c.Export, in.File)}
+			}
+		}
 		if err := exportCSV(c.Export, ds); err != nil {
 			return &exitError{code: 2, err: err}
 		}

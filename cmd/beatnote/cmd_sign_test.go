@@ -234,3 +234,19 @@ func TestVerifyEscapesPathsFromTheSignature(t *testing.T) {
 		}
 	}
 }
+
+// scan --export never replaces one of the inputs it read, named directly or found in a folder.
+func TestScanExportRefusesAnInput(t *testing.T) {
+	dir := t.TempDir()
+	log := writeFile(t, dir, "a.csv", "time,port,osnr_db\n2026-03-14T08:00:00Z,p,20\n")
+	before := mustRead(t, log)
+	for _, args := range [][]string{{"scan", log, "--export", log}, {"scan", dir, "--export", filepath.Join(dir, "sub", "..", "a.csv")}} {
+		code, _, stderr := runCLI(t, args...)
+		if code != 2 || !strings.Contains(stderr, "choose another file") {
+			t.Errorf("%v: exit %d, stderr %q", args, code, stderr)
+		}
+		if !bytes.Equal(mustRead(t, log), before) {
+			t.Fatalf("%v: the input was overwritten", args)
+		}
+	}
+}
