@@ -156,7 +156,11 @@ func (c *ReportCmd) write(in *reportInput, out string, when time.Time, priv ed25
 	for _, w := range written {
 		for _, p := range protected {
 			if sameFile(w, p) {
-				return "", &exitError{code: 2, err: fmt.Errorf("%s is %s, an input or the signing key: writing it would destroy it; choose another --out", w, p)}
+				what := w
+				if wa, pa := absPath(w), absPath(p); wa != pa {
+					what = fmt.Sprintf("%s (the same file as %s)", w, p)
+				}
+				return "", &exitError{code: 2, err: fmt.Errorf("%s is an input or the signing key: writing it would destroy it; choose another --out", what)}
 			}
 		}
 	}
@@ -352,13 +356,19 @@ func asTyped(path string) string {
 	return path
 }
 
+// absPath is path made absolute and clean (as given when that fails).
+func absPath(path string) string {
+	if abs, err := filepath.Abs(path); err == nil {
+		return abs
+	}
+	return path
+}
+
 // sameFile reports whether two paths name the same file: the same path once made absolute
 // and clean, or the same existing file (os.SameFile: through a link or another spelling).
 func sameFile(a, b string) bool {
-	if aa, err := filepath.Abs(a); err == nil {
-		if ab, err := filepath.Abs(b); err == nil && aa == ab {
-			return true
-		}
+	if absPath(a) == absPath(b) {
+		return true
 	}
 	sa, err := os.Stat(a)
 	if err != nil {
