@@ -413,12 +413,7 @@ func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line 
 // order. In strict mode a job's parse stopped at its first rejected row, which stops the file:
 // the counts then cover every row up to and including it.
 func (res *fileResult) accountCSV(job *csvJob, strict bool) {
-	if !res.budget.takeRows(job.rowsRead) {
-		// The run's row limit stops the input like a strict rejection: the block that would
-		// pass it is neither counted nor merged (no port group left to apply).
-		job.names = job.names[:0]
-		res.strictErr = res.budget.rowLimitError(res.stats.File, job.firstLine)
-		res.stats.Error = res.strictErr.Error()
+	if res.overRowLimit(job) {
 		return
 	}
 	res.stats.RowsRead += job.rowsRead

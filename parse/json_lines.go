@@ -174,12 +174,7 @@ func documentTooLong(line int) error {
 // block stopped by a syntax error or a strict rejection still gives the rows before it.
 func (jr *jsonFile) account(job *csvJob) bool {
 	res := jr.res
-	if !res.budget.takeRows(job.rowsRead) {
-		// The run's row limit stops the input as for CSV: this block is neither counted nor
-		// merged.
-		job.names = job.names[:0]
-		res.strictErr = res.budget.rowLimitError(res.stats.File, job.firstLine)
-		res.stats.Error = res.strictErr.Error()
+	if res.overRowLimit(job) {
 		return false
 	}
 	res.stats.RowsRead += job.rowsRead

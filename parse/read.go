@@ -104,9 +104,18 @@ func (b *readBudget) takeRows(n int) bool {
 	return true
 }
 
-// rowLimitError says that the run's row limit stopped an input at line.
-func (b *readBudget) rowLimitError(file string, line int) error {
-	return &ParseError{File: file, Line: line, Err: fmt.Errorf("%w: more than %d rows in all inputs (the --max-rows limit, which bounds memory); this input was not read from line %d on", ErrTooLarge, b.maxRows, line)}
+// overRowLimit takes a parsed block's rows from the run's row limit. When the limit is passed it
+// stops the input like a strict rejection — the block is neither counted nor merged (no port
+// group left to apply) — and reports true.
+func (res *fileResult) overRowLimit(job *csvJob) bool {
+	b := res.budget
+	if b.takeRows(job.rowsRead) {
+		return false
+	}
+	job.names = job.names[:0]
+	res.strictErr = &ParseError{File: res.stats.File, Line: job.firstLine, Err: fmt.Errorf("%w: more than %d rows in all inputs (the --max-rows limit, which bounds memory); this input was not read from line %d on", ErrTooLarge, b.maxRows, job.firstLine)}
+	res.stats.Error = res.strictErr.Error()
+	return true
 }
 
 // budgetReader stops a stream with ErrTooLarge once the run's unpacked-byte budget is spent.
