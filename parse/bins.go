@@ -6,6 +6,8 @@ import (
 	"slices"
 	"sort"
 	"strings"
+
+	dseries "github.com/beatnote/beatnote/diagnose/series"
 )
 
 // Performance-monitoring (PM) exports summarise each quantity over a bin — usually 15 minutes
@@ -213,7 +215,7 @@ func attachBins(series []*Series, files []*binRows) {
 			}
 			return c[q]
 		}
-		inferred := medianSpacingMs(s.TimesMs)
+		inferred := dseries.MedianStepMs(s.TimesMs)
 		k := 0
 		for j, r := range rows {
 			if j+1 < len(rows) && rows[j+1].t == r.t {
@@ -240,17 +242,4 @@ func attachBins(series []*Series, files []*binRows) {
 		}
 		s.Bins = bins
 	}
-}
-
-// medianSpacingMs is the median step between consecutive times (0 with fewer than two).
-func medianSpacingMs(t []int64) int64 {
-	if len(t) < 2 {
-		return 0
-	}
-	d := make([]int64, len(t)-1)
-	for i := range d {
-		d[i] = t[i+1] - t[i]
-	}
-	slices.Sort(d)
-	return d[len(d)/2]
 }
