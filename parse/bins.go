@@ -216,7 +216,7 @@ func attachBins(series []*Series, files []*binRows) {
 			return c[q]
 		}
 		inferred := dseries.MedianStepMs(s.TimesMs)
-		k := 0
+		k, attached := 0, false
 		for j, r := range rows {
 			if j+1 < len(rows) && rows[j+1].t == r.t {
 				continue // a later row of the same time wins
@@ -228,6 +228,10 @@ func attachBins(series []*Series, files []*binRows) {
 				continue
 			}
 			br := files[r.f]
+			if r.length == 0 && !br.hasCompanion(r.i) {
+				continue // nothing of a bin given: a plain sample
+			}
+			attached = true
 			bins.LengthMs[k] = r.length
 			if r.length == 0 {
 				bins.LengthMs[k] = inferred
@@ -240,6 +244,24 @@ func attachBins(series []*Series, files []*binRows) {
 				col(&bins.High, q)[k] = br.high[r.i*nh+x]
 			}
 		}
-		s.Bins = bins
+		if attached {
+			s.Bins = bins
+		}
 	}
+}
+
+// hasCompanion reports whether row i gives some bin minimum or maximum.
+func (br *binRows) hasCompanion(i int) bool {
+	nl, nh := len(br.lay.lowQs), len(br.lay.highQs)
+	for _, v := range br.low[i*nl : (i+1)*nl] {
+		if !math.IsNaN(v) {
+			return true
+		}
+	}
+	for _, v := range br.high[i*nh : (i+1)*nh] {
+		if !math.IsNaN(v) {
+			return true
+		}
+	}
+	return false
 }

@@ -2,6 +2,7 @@ package parse
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"path/filepath"
 	"strings"
@@ -155,5 +156,53 @@ func TestPMBinErrors(t *testing.T) {
 	}
 	if s := ds.Series[0]; s.Len() != 1 || s.Bins.Low[PreFECBER][0] != 1e-4 {
 		t.Errorf("series %+v bins %+v", s, s.Bins)
+	}
+}
+
+// The export writes the bin companions and reads back to the same bins; a port without bins
+// in the same export stays without.
+func TestPMBinsExportRoundTrip(t *testing.T) {
+	ds, err := ReadPaths([]string{filepath.Join("testdata", "messy", "pm_15min.csv"), filepath.Join("testdata", "out_of_order.csv")}, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf strings.Builder
+	if err := WriteCanonicalCSV(&buf, ds); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(buf.String(), ",q_db_min,") || !strings.Contains(buf.String(), ",bin_length_s\n") {
+		t.Fatalf("export header lacks the bin columns:\n%s", buf.String())
+	}
+	back, err := ReadFile("export.csv", strings.NewReader(buf.String()), Options{})
+	if err != nil || len(back.Series) != len(ds.Series) {
+		t.Fatalf("%v: %d series, want %d", err, len(back.Series), len(ds.Series))
+	}
+	same := func(a, b []float64) bool {
+		if len(a) != len(b) {
+			return false
+		}
+		for i := range a {
+			if a[i] != b[i] && !(math.IsNaN(a[i]) && math.IsNaN(b[i])) {
+				return false
+			}
+		}
+		return true
+	}
+	for i, s := range ds.Series {
+		b := back.Series[i]
+		if (s.Bins == nil) != (b.Bins == nil) {
+			t.Fatalf("port %s: bins %v, read back %v", s.Port, s.Bins, b.Bins)
+		}
+		if s.Bins == nil {
+			continue
+		}
+		for q := range NumQuantities {
+			if !same(s.Bins.Low[q], b.Bins.Low[q]) || !same(s.Bins.High[q], b.Bins.High[q]) {
+				t.Errorf("port %s %v: low %v/%v high %v/%v", s.Port, q, s.Bins.Low[q], b.Bins.Low[q], s.Bins.High[q], b.Bins.High[q])
+			}
+		}
+		if fmt.Sprint(s.Bins.LengthMs) != fmt.Sprint(b.Bins.LengthMs) {
+			t.Errorf("lengths %v, read back %v", s.Bins.LengthMs, b.Bins.LengthMs)
+		}
 	}
 }

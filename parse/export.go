@@ -11,15 +11,26 @@ import (
 // WriteCanonicalCSV writes ds as canonical CSV: header time,port and every quantity some port
 // has, in canonical order; one row per port and time, ports in the Dataset's order (by name);
 // times in RFC 3339 UTC; numbers in the shortest form that parses back to the same float64;
-// missing values empty. Reading the output back yields the same series, and writing those again
-// yields the same bytes.
+// missing values empty. Performance-monitoring bins add their companions after the quantities:
+// <column>_min for every quantity some bin gives a minimum for, then the <column>_max, then
+// bin_length_s.
+// Reading the output back yields the same series, and writing those again yields the same bytes.
 func WriteCanonicalCSV(w io.Writer, ds *Dataset) error {
 	var present [NumQuantities]bool
+	var bc *binColumns
+	var low, high [NumQuantities]bool
 	for _, s := range ds.Series {
 		for q := Quantity(0); q < NumQuantities; q++ {
 			if s.Values[q] != nil {
 				present[q] = true
 			}
+			if b := s.Bins; b != nil {
+				low[q] = low[q] || b.Low[q] != nil
+				high[q] = high[q] || b.High[q] != nil
+			}
+		}
+		if s.Bins != nil {
+			bc = &binColumns{}
 		}
 	}
 	var qs []Quantity
@@ -30,6 +41,21 @@ func WriteCanonicalCSV(w io.Writer, ds *Dataset) error {
 			header = append(header, q.Column())
 		}
 	}
+	if bc != nil {
+		for q := Quantity(0); q < NumQuantities; q++ {
+			if low[q] {
+				bc.low = append(bc.low, q)
+				header = append(header, q.Column()+"_min")
+			}
+		}
+		for q := Quantity(0); q < NumQuantities; q++ {
+			if high[q] {
+				bc.high = append(bc.high, q)
+				header = append(header, q.Column()+"_max")
+			}
+		}
+		header = append(header, "bin_length_s")
+	}
 	bw := bufio.NewWriterSize(w, 256*1024)
 	bw.WriteString(strings.Join(header, ","))
 	bw.WriteByte('\n')
@@ -37,7 +63,7 @@ func WriteCanonicalCSV(w io.Writer, ds *Dataset) error {
 	for _, s := range ds.Series {
 		port := csvQuote(s.Port)
 		for i := range s.TimesMs {
-			line = appendCanonicalRow(line[:0], s, i, port, qs)
+			line = appendCanonicalRow(line[:0], s, i, port, qs, bc)
 			if _, err := bw.Write(line); err != nil {
 				return err
 			}
@@ -46,15 +72,41 @@ func WriteCanonicalCSV(w io.Writer, ds *Dataset) error {
 	return bw.Flush()
 }
 
-// appendCanonicalRow appends row i of s (port already quoted) with the columns qs and a line end.
-func appendCanonicalRow(line []byte, s *Series, i int, port string, qs []Quantity) []byte {
+// binColumns are the bin companion columns of an export: the minima of low, the maxima of high,
+// then the bin length in seconds.
+type binColumns struct {
+	low, high []Quantity
+}
+
+// appendCanonicalRow appends row i of s (port already quoted) with the columns qs, the bin
+// columns bc (nil: none) and a line end.
+func appendCanonicalRow(line []byte, s *Series, i int, port string, qs []Quantity, bc *binColumns) []byte {
 	line = append(line, formatTime(s.TimesMs[i])...)
 	line = append(line, ',')
 	line = append(line, port...)
-	for _, q := range qs {
+	cell := func(col []float64) {
 		line = append(line, ',')
-		if col := s.Values[q]; col != nil && !math.IsNaN(col[i]) {
+		if col != nil && !math.IsNaN(col[i]) {
 			line = strconv.AppendFloat(line, col[i], 'g', -1, 64)
+		}
+	}
+	for _, q := range qs {
+		cell(s.Values[q])
+	}
+	if bc != nil {
+		var b Bins
+		if s.Bins != nil {
+			b = *s.Bins
+		}
+		for _, q := range bc.low {
+			cell(b.Low[q])
+		}
+		for _, q := range bc.high {
+			cell(b.High[q])
+		}
+		line = append(line, ',')
+		if b.LengthMs != nil && b.LengthMs[i] > 0 {
+			line = strconv.AppendFloat(line, float64(b.LengthMs[i])/1000, 'g', -1, 64)
 		}
 	}
 	return append(line, '\n')
@@ -86,7 +138,7 @@ func (r *CSVRecorder) WriteSeries(s *Series) error {
 	r.line = r.line[:0]
 	port := csvQuote(s.Port)
 	for i := range s.TimesMs {
-		r.line = appendCanonicalRow(r.line, s, i, port, r.qs)
+		r.line = appendCanonicalRow(r.line, s, i, port, r.qs, nil)
 	}
 	_, err := r.w.Write(r.line)
 	return err
