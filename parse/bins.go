@@ -80,6 +80,10 @@ func worseHigh(q Quantity) bool {
 	return true
 }
 
+// maxBinMs is the longest bin read, 7 days: PM bins are 15 minutes or 24 hours; a longer
+// "bin" is a misread column.
+const maxBinMs = 7 * 86400000
+
 // parseBinLength reads a bin length: a number with an optional unit — s, sec, m, min, h, hr,
 // hour, d, day (any case, plural too, optionally after a space or dash: "15min", "15-MIN",
 // "24 h", "1day", "900") — or HH:MM:SS. A bare number is in unitS seconds. The result is in
@@ -89,7 +93,7 @@ func parseBinLength(b []byte, unitS float64) (ms int64, ok bool) {
 	if h, m, sec, n := 0, 0, 0, 0; len(s) == 8 && s[2] == ':' && s[5] == ':' {
 		if n, _ = fmt.Sscanf(s, "%2d:%2d:%2d", &h, &m, &sec); n == 3 && m < 60 && sec < 60 {
 			ms = int64(h*3600+m*60+sec) * 1000
-			return ms, ms > 0 && ms <= 7*86400000
+			return ms, ms > 0 && ms <= maxBinMs
 		}
 		return 0, false
 	}
@@ -114,7 +118,7 @@ func parseBinLength(b []byte, unitS float64) (ms int64, ok bool) {
 		return 0, false
 	}
 	ms = int64(math.Round(v * scale * 1000))
-	return ms, vok && ms > 0 && ms <= 7*86400000
+	return ms, vok && ms > 0 && ms <= maxBinMs
 }
 
 // binLayout is what a header says about bins: the companion columns and the bin length.
@@ -216,6 +220,9 @@ func attachBins(series []*Series, files []*binRows) {
 			return c[q]
 		}
 		inferred := dseries.MedianStepMs(s.TimesMs)
+		if inferred > maxBinMs {
+			inferred = 0 // no bin is that long: unknown
+		}
 		k, attached := 0, false
 		for j, r := range rows {
 			if j+1 < len(rows) && rows[j+1].t == r.t {

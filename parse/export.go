@@ -106,7 +106,7 @@ func appendCanonicalRow(line []byte, s *Series, i int, port string, qs []Quantit
 		}
 		line = append(line, ',')
 		if b.LengthMs != nil && b.LengthMs[i] > 0 {
-			line = strconv.AppendFloat(line, float64(b.LengthMs[i])/1000, 'g', -1, 64)
+			line = strconv.AppendFloat(line, float64(b.LengthMs[i])/1000, 'f', -1, 64)
 		}
 	}
 	return append(line, '\n')
