@@ -6,8 +6,7 @@ import "sync"
 // input's size is known: a port with c rows in a first block of b bytes is expected to have
 // about c·size/b rows in all. Regular telemetry (every port every interval) then fills exactly
 // one allocation per column, which finish hands over without copying; a wrong guess only
-// costs extra segments. All the hinted columns are cut from two slabs, so that the kernel can
-// back them with huge pages (see adviseHuge).
+// costs extra segments. All the hinted columns are cut from two slabs.
 //
 // Only ports whose rows are spread over most of the block are hinted: in a file sorted by
 // port the first block holds a few ports end to end, and scaling their counts up would
@@ -42,8 +41,6 @@ func newCapacityHint(job *csvJob, ratio float64, cols func(g int) int) *capacity
 	}
 	h.times = make([]int64, total)
 	h.vals = make([]float64, nvals)
-	adviseHuge(h.times)
-	adviseHuge(h.vals)
 	return h
 }
 
@@ -66,10 +63,9 @@ func exactHint(job *csvJob, k int, arena *slabArena) *capacityHint {
 	return h
 }
 
-// slabArena cuts the columns of many small inputs from a few large chunks advised for huge
-// pages (adviseHuge): thousands of files' columns allocated one by one would each be faulted in
-// page by page, which on a virtual machine costs more than parsing them. A nil arena allocates
-// plainly. Safe for concurrent use.
+// slabArena cuts the columns of many small inputs from a few large chunks: thousands of files'
+// columns allocated one by one would each be allocated, cleared and faulted in on their own.
+// A nil arena allocates plainly. Safe for concurrent use.
 type slabArena struct {
 	mu sync.Mutex
 	f  []float64
@@ -93,8 +89,8 @@ func (a *slabArena) times(n int) []int64 {
 	return carve(&a.mu, &a.t, n)
 }
 
-// carve cuts n values from the arena chunk *chunk, starting a new chunk (advised for huge pages)
-// when the current one is full; requests above a quarter chunk get their own allocation.
+// carve cuts n values from the arena chunk *chunk, starting a new chunk when the current one
+// is full; requests above a quarter chunk get their own allocation.
 func carve[T float64 | int64](mu *sync.Mutex, chunk *[]T, n int) []T {
 	if n > arenaChunk/4 {
 		return make([]T, n)
@@ -103,7 +99,6 @@ func carve[T float64 | int64](mu *sync.Mutex, chunk *[]T, n int) []T {
 	defer mu.Unlock()
 	if cap(*chunk)-len(*chunk) < n {
 		*chunk = make([]T, 0, arenaChunk)
-		adviseHuge(*chunk)
 	}
 	m := len(*chunk)
 	*chunk = (*chunk)[:m+n]

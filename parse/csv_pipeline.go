@@ -81,7 +81,6 @@ type csvJob struct {
 	seq       int           // the block's number in the input, from 0
 	dataLen   int           // len(data), kept after data is released
 	hint      *capacityHint // set on the first block with rows when the input size is known
-	pending   atomic.Int32  // merge shards still to take this job
 	done      chan struct{}
 
 	rowsRead int
@@ -194,7 +193,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 			res.accountCSV(job, opt.Strict)
 			return res.strictErr == nil // a strict stop still takes the rows before the bad one
 		},
-		apply: func(fb *fileBuilder, job *csvJob, shard, shards int) { applyCSV(fb, lay, job, shard, shards) },
+		apply: func(fb *fileBuilder, job *csvJob) { applyCSV(fb, lay, job) },
 	}, carry, line, eof, readErr)
 }
 
@@ -214,8 +213,8 @@ type blockFormat struct {
 	// account takes a parsed job's counts, in input order; false stops the input after this
 	// job. A job whose rows must not be taken is left with no port groups (job.names empty).
 	account func(job *csvJob) bool
-	// apply appends the rows of the ports of shard (of shards) to fb.
-	apply func(fb *fileBuilder, job *csvJob, shard, shards int)
+	// apply appends the block's rows to fb.
+	apply func(fb *fileBuilder, job *csvJob)
 }
 
 // cutLines cuts at the last line end.
@@ -303,27 +302,16 @@ func runBlocks(res *fileResult, r io.Reader, opt Options, f blockFormat, carry [
 			}
 		}()
 	}
-	// The merge is sharded by port: shard i appends the ports whose name hashes to i, every
-	// shard taking the jobs in input order, so each port's rows keep their order while
-	// several goroutines fill (and fault in) the columns.
-	shards := workers
-	builders := make([]*fileBuilder, shards)
-	chans := make([]chan *csvJob, shards)
-	var swg sync.WaitGroup
-	for i := range shards {
-		builders[i] = newFileBuilder()
-		chans[i] = make(chan *csvJob, 1)
-		swg.Add(1)
-		go func() {
-			defer swg.Done()
-			for job := range chans[i] {
-				f.apply(builders[i], job, i, shards)
-				if job.pending.Add(-1) == 0 {
-					rec.putJob(job)
-				}
-			}
-		}()
-	}
+	// One goroutine merges the blocks in input order, so each port's rows keep their order.
+	merge := make(chan *csvJob, 1)
+	merged := make(chan struct{})
+	go func() {
+		defer close(merged)
+		for job := range merge {
+			f.apply(res.fb, job)
+			rec.putJob(job)
+		}
+	}()
 	for job := range order {
 		<-job.done
 		if stop.Load() {
@@ -332,22 +320,11 @@ func runBlocks(res *fileResult, r io.Reader, opt Options, f blockFormat, carry [
 		if !f.account(job) {
 			stop.Store(true)
 		}
-		job.pending.Store(int32(shards))
-		for _, ch := range chans {
-			ch <- job
-		}
+		merge <- job
 	}
-	for _, ch := range chans {
-		close(ch)
-	}
-	swg.Wait()
+	close(merge)
+	<-merged
 	wg.Wait()
-	for _, b := range builders {
-		for _, p := range b.order {
-			res.fb.ports[p.name] = p
-			res.fb.order = append(res.fb.order, p)
-		}
-	}
 	if readErr != nil {
 		res.fail(&ParseError{File: res.stats.File, Line: line, Err: truncated(readErr)}, nil)
 	}
@@ -403,7 +380,7 @@ func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line 
 	job.data = nil
 	res.accountCSV(job, opt.Strict)
 	job.hint = exactHint(job, k, opt.arena)
-	applyCSV(res.fb, res.lay, job, 0, 1)
+	applyCSV(res.fb, res.lay, job)
 	if readErr != nil {
 		res.fail(&ParseError{File: res.stats.File, Line: line, Err: truncated(readErr)}, nil)
 	}
@@ -457,29 +434,17 @@ type wholeScratch struct {
 
 var wholePool = sync.Pool{New: func() any { return new(wholeScratch) }}
 
-// applyCSV appends the rows of the ports of shard (of shards) from a parsed job.
-func applyCSV(fb *fileBuilder, lay *csvLayout, job *csvJob, shard, shards int) {
+// applyCSV appends the rows of a parsed job.
+func applyCSV(fb *fileBuilder, lay *csvLayout, job *csvJob) {
 	k := len(lay.qs)
 	start := int32(0)
 	for g, name := range job.names {
 		end := job.groupEnd[g]
-		if shards == 1 || shardOf(name, shards) == shard {
-			p := fb.port([]byte(name))
-			if job.hint != nil && len(p.times) == 0 && p.mask == 0 {
-				job.hint.apply(p, g, lay.qs)
-			}
-			p.addBlock(job.gTimes[start:end], lay.qs, job.gVals[int(start)*k:int(end)*k], lay.qmask)
+		p := fb.port([]byte(name))
+		if job.hint != nil && len(p.times) == 0 && p.mask == 0 {
+			job.hint.apply(p, g, lay.qs)
 		}
+		p.addBlock(job.gTimes[start:end], lay.qs, job.gVals[int(start)*k:int(end)*k], lay.qmask)
 		start = end
 	}
-}
-
-// shardOf hashes a port name (FNV-1a) to one of n shards.
-func shardOf(name string, n int) int {
-	h := uint32(2166136261)
-	for i := 0; i < len(name); i++ {
-		h ^= uint32(name[i])
-		h *= 16777619
-	}
-	return int(h % uint32(n))
 }

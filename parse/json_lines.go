@@ -685,26 +685,22 @@ func (job *csvJob) groupSparse() {
 	}
 }
 
-// applySparse appends the rows of the ports of shard (of shards) from a block grouped by
-// groupSparse.
-func applySparse(fb *fileBuilder, job *csvJob, shard, shards int) {
+// applySparse appends the rows of a block grouped by groupSparse.
+func applySparse(fb *fileBuilder, job *csvJob) {
 	start := int32(0)
 	var qbuf [NumQuantities]Quantity
 	for g, name := range job.names {
 		end := job.groupEnd[g]
-		if shards == 1 || shardOf(name, shards) == shard {
-			qs := qbuf[:0]
-			for m := job.gMask[g]; m != 0; m &= m - 1 {
-				qs = append(qs, Quantity(bits.TrailingZeros32(m)))
-			}
-			n := int(end - start)
-			off := int(job.gOff[g])
-			p := fb.port([]byte(name))
-			if job.hint != nil && len(p.times) == 0 && p.mask == 0 {
-				job.hint.apply(p, g, qs)
-			}
-			p.addBlock(job.gTimes[start:end], qs, job.gVals[off:off+n*len(qs)], job.gMask[g])
+		qs := qbuf[:0]
+		for m := job.gMask[g]; m != 0; m &= m - 1 {
+			qs = append(qs, Quantity(bits.TrailingZeros32(m)))
 		}
+		n, off := int(end-start), int(job.gOff[g])
+		p := fb.port([]byte(name))
+		if job.hint != nil && len(p.times) == 0 && p.mask == 0 {
+			job.hint.apply(p, g, qs)
+		}
+		p.addBlock(job.gTimes[start:end], qs, job.gVals[off:off+n*len(qs)], job.gMask[g])
 		start = end
 	}
 }
