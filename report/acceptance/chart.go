@@ -141,6 +141,14 @@ func legendRoom(lo, hi float64, n int) float64 {
 	return hi + f/(1-f)*(hi-lo)
 }
 
+// burstsCaption is the caption sentence on the shaded BER bursts.
+func burstsCaption(bursts []TimeSpan) string {
+	if n := len(bursts); n > 0 {
+		return fmt.Sprintf(" Shaded: %s found by the analysis.", report.Plural(n, "pre-FEC BER burst", "pre-FEC BER bursts"))
+	}
+	return " The analysis found no BER burst."
+}
+
 // count is 1 for true, for tallying legend entries.
 func count(b bool) int {
 	if b {
@@ -380,6 +388,7 @@ func (a *Report) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 			}
 			caption = fmt.Sprintf("Q-factor as reported; dashed line: the FEC limit expressed as Q (%.2f dB).", *m.QLimitDB)
 		}
+		caption += burstsCaption(m.BERBursts)
 		p.Y.Min, p.Y.Max = lo, hi
 		return a.renderChart(p, "Q-factor over time", caption)
 	}
@@ -428,6 +437,7 @@ func (a *Report) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 	if zeros > 0 {
 		caption += fmt.Sprintf(" %d samples with BER 0 cannot be drawn on a log scale and are left out of the chart only.", zeros)
 	}
+	caption += burstsCaption(m.BERBursts)
 	p.Y.Min, p.Y.Max = lo, hi
 	return a.renderChart(p, "Pre-FEC BER over time", caption)
 }
@@ -595,11 +605,7 @@ func (a *Report) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 	if err := addTopMarks(p, m.SOPSpikes, top, "SOP spike start"); err != nil {
 		return nil, err
 	}
-	if n := len(m.BERBursts); n > 0 {
-		caption += fmt.Sprintf(" Shaded: %s found by the analysis.", report.Plural(n, "pre-FEC BER burst", "pre-FEC BER bursts"))
-	} else {
-		caption += " The analysis found no BER burst."
-	}
+	caption += burstsCaption(m.BERBursts)
 	if n := len(m.SOPSpikes); n > 0 {
 		caption += fmt.Sprintf(" Triangles: the start of %s.", report.Plural(n, "SOP-rate spike", "SOP-rate spikes"))
 	}

@@ -673,6 +673,8 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 		return err
 	}
 	if len(charts) > 0 {
+		// The heading stays with the first chart.
+		pw.ensure(pw.contentW*charts[0].HeightMM/charts[0].WidthMM + 22)
 		pw.heading("Charts — port "+port.Port, 11)
 	}
 	for i, c := range charts {
