@@ -17,6 +17,7 @@ import (
 	"github.com/beatnote/beatnote/parse/gnmisub"
 	"github.com/beatnote/beatnote/report"
 	"github.com/beatnote/beatnote/report/escape"
+	"github.com/beatnote/beatnote/rules"
 	"golang.org/x/term"
 )
 
@@ -79,14 +80,9 @@ func (c *WatchCmd) password() (string, error) {
 	if c.PasswordFile == "" {
 		return os.Getenv(passwordEnv), nil
 	}
-	f, err := os.Open(c.PasswordFile)
+	b, err := rules.ReadConfig(c.PasswordFile)
 	if err != nil {
-		return "", err
-	}
-	defer f.Close()
-	b, err := io.ReadAll(io.LimitReader(f, maxTokenBytes+1))
-	if err != nil || len(b) > maxTokenBytes {
-		return "", fmt.Errorf("--password-file %s: not a password file (%v)", c.PasswordFile, err)
+		return "", fmt.Errorf("--password-file: %w", err)
 	}
 	return strings.TrimRight(string(b), "\r\n"), nil
 }

@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"io"
 	"net"
 	"net/url"
 	"os"
@@ -14,6 +13,7 @@ import (
 
 	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/parse/promapi"
+	"github.com/beatnote/beatnote/rules"
 )
 
 // tokenEnv is the environment variable holding the store's bearer token.
@@ -92,25 +92,14 @@ func (s *storeFlags) query(now time.Time) (promapi.Query, error) {
 	return q, nil
 }
 
-// maxTokenBytes bounds a token file.
-const maxTokenBytes = 64 << 10
-
 // bearerToken reads the token from file, else from $BEATNOTE_PROMETHEUS_TOKEN; "" for none.
 func bearerToken(file string) (string, error) {
 	if file == "" {
 		return strings.TrimSpace(os.Getenv(tokenEnv)), nil
 	}
-	f, err := os.Open(file)
+	b, err := rules.ReadConfig(file)
 	if err != nil {
-		return "", err
-	}
-	defer f.Close()
-	b, err := io.ReadAll(io.LimitReader(f, maxTokenBytes+1))
-	if err != nil {
-		return "", fmt.Errorf("--prometheus-token-file %s: %w", file, err)
-	}
-	if len(b) > maxTokenBytes {
-		return "", fmt.Errorf("--prometheus-token-file %s: larger than %d bytes: not a token", file, maxTokenBytes)
+		return "", fmt.Errorf("--prometheus-token-file: %w", err)
 	}
 	tok := strings.TrimSpace(string(b))
 	if tok == "" || strings.ContainsAny(tok, "\r\n") {

@@ -15,12 +15,12 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"sort"
 	"strconv"
 	"strings"
 	"time"
 
+	"github.com/beatnote/beatnote/rules"
 	gpb "github.com/openconfig/gnmi/proto/gnmi"
 	"google.golang.org/grpc"
 	"google.golang.org/grpc/codes"
@@ -54,25 +54,6 @@ type Options struct {
 	Interval time.Duration
 }
 
-// maxPEMBytes bounds the certificate and key files read.
-const maxPEMBytes = 1 << 20
-
-func readPEM(name string) ([]byte, error) {
-	f, err := os.Open(name)
-	if err != nil {
-		return nil, err
-	}
-	defer f.Close()
-	b, err := io.ReadAll(io.LimitReader(f, maxPEMBytes+1))
-	if err != nil {
-		return nil, err
-	}
-	if len(b) > maxPEMBytes {
-		return nil, fmt.Errorf("%s: larger than %d bytes: not a PEM file", name, maxPEMBytes)
-	}
-	return b, nil
-}
-
 // userPass sends the gNMI username and password with every call.
 type userPass struct {
 	user, pass string
@@ -92,7 +73,7 @@ func Dial(o Options) (*grpc.ClientConn, error) {
 	} else {
 		cfg := &tls.Config{MinVersion: tls.VersionTLS12, ServerName: o.ServerName}
 		if o.CAFile != "" {
-			pem, err := readPEM(o.CAFile)
+			pem, err := rules.ReadConfig(o.CAFile)
 			if err != nil {
 				return nil, fmt.Errorf("--ca: %w", err)
 			}
@@ -103,11 +84,11 @@ func Dial(o Options) (*grpc.ClientConn, error) {
 			cfg.RootCAs = pool
 		}
 		if o.CertFile != "" || o.KeyFile != "" {
-			certPEM, err := readPEM(o.CertFile)
+			certPEM, err := rules.ReadConfig(o.CertFile)
 			if err != nil {
 				return nil, fmt.Errorf("--cert: %w", err)
 			}
-			keyPEM, err := readPEM(o.KeyFile)
+			keyPEM, err := rules.ReadConfig(o.KeyFile)
 			if err != nil {
 				return nil, fmt.Errorf("--key: %w", err)
 			}

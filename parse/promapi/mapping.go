@@ -6,13 +6,13 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"regexp"
 	"sort"
 	"strconv"
 	"strings"
 
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/rules"
 	"go.yaml.in/yaml/v3"
 )
 
@@ -51,22 +51,11 @@ func DefaultMapping() Mapping {
 	return m
 }
 
-// maxMappingBytes bounds a mapping file: a mapping is a few dozen lines.
-const maxMappingBytes = 1 << 20
-
-// LoadMapping reads a mapping file (at most 1 MiB).
+// LoadMapping reads a mapping file (bounded as every configuration file is: rules.ReadConfig).
 func LoadMapping(file string) (Mapping, error) {
-	f, err := os.Open(file)
+	data, err := rules.ReadConfig(file)
 	if err != nil {
 		return Mapping{}, err
-	}
-	defer f.Close()
-	data, err := io.ReadAll(io.LimitReader(f, maxMappingBytes+1))
-	if err != nil {
-		return Mapping{}, fmt.Errorf("%s: %w", file, err)
-	}
-	if len(data) > maxMappingBytes {
-		return Mapping{}, fmt.Errorf("%s: larger than %d bytes: not a mapping file", file, maxMappingBytes)
 	}
 	return ParseMapping(file, data)
 }
