@@ -85,7 +85,7 @@ func (c *CheckCmd) Run(g *Globals, pr *printer) error {
 
 // directionPairs pairs the ports that are the two directions of one circuit: each port with the
 // peer the port map gives it (once per pair), or, without peers, the two ports of two logs of
-// one port each (both ends' logs).
+// one port each (both ends' logs) unless their plans name different circuits.
 func directionPairs(a *analysis) [][2]string {
 	ports := a.Result.Ports
 	var pairs [][2]string
@@ -96,7 +96,8 @@ func directionPairs(a *analysis) [][2]string {
 			seen[p.Port], seen[p.Peer] = true, true
 		}
 	}
-	if len(pairs) == 0 && len(ports) == 2 && len(a.DS.Inputs) == 2 {
+	if len(pairs) == 0 && len(ports) == 2 && len(a.DS.Inputs) == 2 &&
+		(ports[0].Circuit == "" || ports[1].Circuit == "" || ports[0].Circuit == ports[1].Circuit) {
 		pairs = append(pairs, [2]string{ports[0].Port, ports[1].Port})
 	}
 	return pairs

@@ -308,6 +308,11 @@ func finding(id string, chans []*channel, clusters []cluster, windowMs, spanMs, 
 			cl.k(), n, win, float64(spanMs)/3.6e6, cl.chance)
 	}
 	cl := clusters[0]
+	for _, c := range clusters[1:] {
+		if c.chance < cl.chance {
+			cl = c // the clearest: the least likely by chance
+		}
+	}
 	sizes := func() (med, lo, hi float64) {
 		var v []float64
 		for _, o := range cl.members {
