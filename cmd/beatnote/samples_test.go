@@ -86,7 +86,7 @@ func TestTriageOnDemoSamplesMatchesManifest(t *testing.T) {
 // The service-impact ranking on the demo samples: the two ports that went dark first, then the
 // ports with uncorrected blocks or Q below the FEC threshold, then the ports whose carrier offset
 // is forecast to leave the capture range within the horizon (the one marginal port among them
-// about 1.1 h away) ahead of every other failing port; --sort port orders by id.
+// about an hour away) ahead of every other failing port; --sort port orders by id.
 func TestTriageImpactOrderOnDemoSamples(t *testing.T) {
 	root := filepath.Join("..", "..", "samples")
 	if _, err := os.Stat(filepath.Join(root, "portmap.yaml")); err != nil {
@@ -141,7 +141,7 @@ func TestTriageImpactOrderOnDemoSamples(t *testing.T) {
 				if p.Verdict == "marginal" {
 					forecast = i + 1
 					if c.Measured < 0.9 || c.Measured > 1.3 {
-						t.Errorf("%s forecast %.2f h, want about 1.1 h", p.Port, c.Measured)
+						t.Errorf("%s forecast %.2f h, want about an hour", p.Port, c.Measured)
 					}
 				}
 			}
