@@ -16,6 +16,8 @@ type CheckCmd struct {
 	Port   string `help:"Judge only this port of the logs (and its peer, with a port map)." placeholder:"PORT"`
 	Map    string `help:"Port map (YAML): plans, profiles, lines and each port's far-end peer; a port and its peer are judged as the two directions of one circuit (see docs/rules.md)." type:"existingfile" placeholder:"PORTMAP.yaml"`
 	Format string `help:"Output format: text or json." enum:"text,json" default:"text"`
+	// Baseline compares with an earlier period.
+	Baseline []string `help:"Logs of an earlier period of the same ports (e.g. before cleaning) to compare with, criterion by criterion; judged the same way." placeholder:"OLD_LOG"`
 }
 
 // Help is the long help of the command.
@@ -72,10 +74,28 @@ func (c *CheckCmd) Run(g *Globals, pr *printer) error {
 		res.Lines = lines
 	}
 	diagnose.PairDirections(res, pairs)
-	if c.Format == "json" {
+	var base *report.Baseline
+	if len(c.Baseline) > 0 {
+		acc, _ := c.acceptanceTest() // checked above
+		b, err := analyze(c.Baseline, c.judgeFlags, c.Map, false, acc, pr)
+		if err != nil {
+			return &exitError{code: 2, err: fmt.Errorf("--baseline: %w", err)}
+		}
+		if b.ReadErr != nil {
+			return &exitError{code: 2, err: fmt.Errorf("--baseline: %w", b.ReadErr)}
+		}
+		base = report.CompareBaseline(b.Result, res)
+	}
+	switch {
+	case c.Format == "json" && base != nil:
+		err = report.WriteResultWithBaselineJSON(pr.Out(), res, base)
+	case c.Format == "json":
 		err = report.WriteResultJSON(pr.Out(), res)
-	} else {
+	default:
 		err = report.WriteCheckText(pr.Out(), res)
+		if err == nil && base != nil {
+			err = report.WriteBaselineText(pr.Out(), base)
+		}
 	}
 	if err != nil {
 		return &exitError{code: 2, err: err}

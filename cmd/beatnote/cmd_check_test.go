@@ -294,3 +294,49 @@ func TestCheckBothEndsLogs(t *testing.T) {
 		t.Errorf("one log gave directions")
 	}
 }
+
+// --baseline compares an earlier period of the same port criterion by criterion: a low-power
+// period before and a healthy one after shows the received-power criterion going from fail to
+// pass, in text and JSON.
+func TestCheckBaseline(t *testing.T) {
+	before, _ := writeCase(t, t.TempDir(), "p-1", synth.Spec{Seed: 3, Samples: 200, Causes: []string{"rx-power-low"}, Severity: 1})
+	after, plan := writeCase(t, t.TempDir(), "p-1", synth.Spec{Seed: 3, Samples: 200})
+	code, out, errw := runCLI(t, "check", after, "--plan", plan, "--soak", "2h", "--baseline", before)
+	if code != 0 || !strings.Contains(out, "Compared with the baseline period") || !strings.Contains(out, "FAIL → PASS") {
+		t.Fatalf("text: exit %d\n%s%s", code, out, errw)
+	}
+	_, out, _ = runCLI(t, "check", after, "--plan", plan, "--soak", "2h", "--baseline", before, "--format", "json")
+	var doc struct {
+		Ports    []json.RawMessage `json:"ports"`
+		Baseline struct {
+			Ports []struct {
+				Port          string `json:"port"`
+				VerdictBefore string `json:"verdict_before"`
+				VerdictAfter  string `json:"verdict_after"`
+				Criteria      []struct {
+					Name          string   `json:"name"`
+					Before        *float64 `json:"before"`
+					After         *float64 `json:"after"`
+					VerdictBefore string   `json:"verdict_before"`
+					VerdictAfter  string   `json:"verdict_after"`
+				} `json:"criteria"`
+			} `json:"ports"`
+		} `json:"baseline"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil || len(doc.Ports) != 1 || len(doc.Baseline.Ports) != 1 {
+		t.Fatalf("JSON: %v\n%s", err, out)
+	}
+	bp := doc.Baseline.Ports[0]
+	if bp.Port != "p-1" || bp.VerdictBefore != "fail" || bp.VerdictAfter != "pass" {
+		t.Errorf("baseline port %+v", bp)
+	}
+	found := false
+	for _, c := range bp.Criteria {
+		if strings.HasPrefix(c.Name, "Received power above") {
+			found = c.VerdictBefore == "fail" && c.VerdictAfter == "pass" && c.Before != nil && c.After != nil && *c.After > *c.Before
+		}
+	}
+	if !found {
+		t.Errorf("the sensitivity criterion does not go from fail to pass: %+v", bp.Criteria)
+	}
+}
