@@ -393,8 +393,9 @@ func (pc *portCtx) analyseSeries() {
 		// lo_step_fraction of the capture range are steps, and the trend is fitted after the
 		// last one, so a step is never read as a drift.
 		lo := s.Values[parse.LOOffsetMHz]
-		if countFinite(lo) >= minN {
-			for _, st := range series.ChangePoints(lo, series.ChangePointOptions{MinStep: r.LOStepFraction * pc.prof.LOOffsetRangeMHz}) {
+		minStep := r.LOStepFraction * pc.prof.LOOffsetRangeMHz
+		if sl := pc.sum[parse.LOOffsetMHz]; sl.Max-sl.Min >= minStep && countFinite(lo) >= minN {
+			for _, st := range series.ChangePoints(lo, series.ChangePointOptions{MinStep: minStep}) {
 				an.LOSteps = append(an.LOSteps, ChangePoint{
 					TimeMs: s.TimesMs[st.Index], Index: st.Index, Quantity: parse.LOOffsetMHz.Column(),
 					Before: st.Before, After: st.After, Step: st.Size(), Unit: "MHz",

@@ -182,38 +182,33 @@ func row2(t map[string][2]float64, h string) [2]float64 {
 	return t[""]
 }
 
-// symptomLogLik is Σ_k ln P(o_k | H) for a hypothesis made of one or two causes (a pair takes
-// the even mixture of its two rows: either fault may be the one a given observable shows) or of
-// healthy or unexplained. Unknown observables contribute nothing (marginalised).
-func (o observables) symptomLogLik(h ...string) float64 {
-	mix4 := func(t map[string][4]float64, i int) float64 {
-		s := 0.0
-		for _, x := range h {
-			s += row4(t, x)[i]
-		}
-		return s / float64(len(h))
-	}
-	mix2 := func(t map[string][2]float64, i int) float64 {
-		s := 0.0
-		for _, x := range h {
-			s += row2(t, x)[i]
-		}
-		return s / float64(len(h))
-	}
-	ll := 0.0
+// stateProbs lists P(observed state | h) for each known observable of the port (unknown
+// observables are left out: marginalised).
+func (o observables) stateProbs(h string) []float64 {
+	out := make([]float64, 0, 5)
 	if o.noise != noiseUnknown {
-		ll += math.Log(mix4(noiseLik, int(o.noise)))
+		out = append(out, row4(noiseLik, h)[o.noise])
 	}
 	if o.power != powerUnknown {
-		ll += math.Log(mix4(powerLik, int(o.power)))
+		out = append(out, row4(powerLik, h)[o.power])
 	}
 	if o.osnr != osnrUnknown {
-		ll += math.Log(mix2(osnrLik, int(o.osnr)))
+		out = append(out, row2(osnrLik, h)[o.osnr])
 	}
 	if o.tx != txUnknown {
-		ll += math.Log(mix2(txLik, int(o.tx)))
+		out = append(out, row2(txLik, h)[o.tx])
 	}
-	ll += math.Log(mix2(darkLik, int(o.dark)))
+	return append(out, row2(darkLik, h)[o.dark])
+}
+
+// symptomLogLik is Σ_k ln P(o_k | h) over the known observables; a pair of causes takes the
+// even mixture of its two rows per observable (either fault may be the one a given observable
+// shows), as posterior computes it.
+func (o observables) symptomLogLik(h string) float64 {
+	ll := 0.0
+	for _, p := range o.stateProbs(h) {
+		ll += math.Log(p)
+	}
 	return ll
 }
 
@@ -295,13 +290,6 @@ func (pc *portCtx) litBlockBursts() int {
 	return n
 }
 
-// hypothesis is one entry of the posterior: healthy, unexplained, one cause or a pair.
-type hypothesis struct {
-	ids    []string
-	logw   float64 // ln prior + scaled log-likelihood
-	weight float64 // normalised posterior
-}
-
 // posterior weighs every hypothesis and returns the marginal posterior of each cause and the
 // posterior of healthy and of unexplained. scores holds the column tests by cause id.
 func (pc *portCtx) posterior(o observables, scores map[string]*score) (causes map[string]float64, healthy, unexplained float64) {
@@ -309,28 +297,47 @@ func (pc *portCtx) posterior(o observables, scores map[string]*score) (causes ma
 	if !(T > 0) {
 		T = 1
 	}
-	prior := func(id string) float64 {
-		v, ok := pc.r.Priors.Of(id)
-		if !ok || !(v > 0) {
-			return 1e-6
+	lnPrior := func(id string) float64 {
+		if v, ok := pc.r.Priors.Of(id); ok && v > 0 {
+			return math.Log(v)
 		}
-		return v
+		return math.Log(1e-6)
 	}
-	llr := func(id string) float64 {
+	// Per cause: ln prior, Σ LLR, and the probability of each observed state, so that a pair's
+	// mixture is arithmetic on these (no table look-ups in the pair loop).
+	n := len(AllCauses)
+	lp, llr := make([]float64, n), make([]float64, n)
+	q := make([][]float64, n)
+	for i, id := range AllCauses {
+		lp[i] = lnPrior(id)
 		if s := scores[id]; s != nil {
-			return s.sum()
+			llr[i] = s.sum()
 		}
-		return 0
+		q[i] = o.stateProbs(id)
 	}
-	var hs []hypothesis
+	pairLL := func(a, b int) float64 {
+		ll := 0.0
+		for k := range q[a] {
+			ll += math.Log((q[a][k] + q[b][k]) / 2)
+		}
+		return ll
+	}
+	type hyp struct {
+		a, b int // cause indices; b < 0 for a single cause; a < 0: healthy (−1) or unexplained (−2)
+		logw float64
+	}
+	hs := make([]hyp, 0, 2+n+n*(n-1)/2)
 	hs = append(hs,
-		hypothesis{ids: []string{HypHealthy}, logw: math.Log(prior(HypHealthy)) + o.symptomLogLik(HypHealthy)/T},
-		hypothesis{ids: []string{HypUnexplained}, logw: math.Log(prior(HypUnexplained)) + o.symptomLogLik(HypUnexplained)/T})
-	for i, a := range AllCauses {
-		hs = append(hs, hypothesis{ids: []string{a}, logw: math.Log(prior(a)) + (o.symptomLogLik(a)+llr(a))/T})
-		for _, b := range AllCauses[i+1:] {
-			lp := math.Log(pairWeight * prior(a) * prior(b))
-			hs = append(hs, hypothesis{ids: []string{a, b}, logw: lp + (o.symptomLogLik(a, b)+llr(a)+llr(b))/T})
+		hyp{-1, -1, lnPrior(HypHealthy) + o.symptomLogLik(HypHealthy)/T},
+		hyp{-2, -1, lnPrior(HypUnexplained) + o.symptomLogLik(HypUnexplained)/T})
+	for a := 0; a < n; a++ {
+		single := 0.0
+		for _, p := range q[a] {
+			single += math.Log(p)
+		}
+		hs = append(hs, hyp{a, -1, lp[a] + (single+llr[a])/T})
+		for b := a + 1; b < n; b++ {
+			hs = append(hs, hyp{a, b, math.Log(pairWeight) + lp[a] + lp[b] + (pairLL(a, b)+llr[a]+llr[b])/T})
 		}
 	}
 	top := math.Inf(-1)
@@ -338,23 +345,29 @@ func (pc *portCtx) posterior(o observables, scores map[string]*score) (causes ma
 		top = math.Max(top, h.logw)
 	}
 	total := 0.0
-	for i := range hs {
-		hs[i].weight = math.Exp(hs[i].logw - top)
-		total += hs[i].weight
+	w := make([]float64, len(hs))
+	for i, h := range hs {
+		w[i] = math.Exp(h.logw - top)
+		total += w[i]
 	}
-	causes = map[string]float64{}
-	for _, h := range hs {
-		w := h.weight / total
-		switch h.ids[0] {
-		case HypHealthy:
-			healthy = w
-		case HypUnexplained:
-			unexplained = w
+	marg := make([]float64, n)
+	for i, h := range hs {
+		p := w[i] / total
+		switch {
+		case h.a == -1:
+			healthy = p
+		case h.a == -2:
+			unexplained = p
 		default:
-			for _, id := range h.ids {
-				causes[id] += w
+			marg[h.a] += p
+			if h.b >= 0 {
+				marg[h.b] += p
 			}
 		}
+	}
+	causes = make(map[string]float64, n)
+	for i, id := range AllCauses {
+		causes[id] = marg[i]
 	}
 	return causes, healthy, unexplained
 }

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"reflect"
 	"strings"
+	"sync"
 )
 
 //go:embed thresholds.yaml
@@ -170,15 +171,23 @@ func (p Priors) checks() []rangeCheck {
 // Of is the prior of the hypothesis id ("healthy", "unexplained" or a cause id such as
 // "osnr-low"); ok is false for an id Priors does not know.
 func (p Priors) Of(id string) (prior float64, ok bool) {
-	key := strings.ReplaceAll(id, "-", "_")
-	v, t := reflect.ValueOf(p), reflect.TypeOf(p)
-	for i := 0; i < t.NumField(); i++ {
-		if name, _, _ := strings.Cut(t.Field(i).Tag.Get("yaml"), ","); name == key {
-			return v.Field(i).Float(), true
-		}
+	i, ok := priorField()[strings.ReplaceAll(id, "-", "_")]
+	if !ok {
+		return 0, false
 	}
-	return 0, false
+	return reflect.ValueOf(p).Field(i).Float(), true
 }
+
+// priorField maps each prior's YAML name to its field index (built once).
+var priorField = sync.OnceValue(func() map[string]int {
+	m := map[string]int{}
+	t := reflect.TypeOf(Priors{})
+	for i := 0; i < t.NumField(); i++ {
+		name, _, _ := strings.Cut(t.Field(i).Tag.Get("yaml"), ",")
+		m[name] = i
+	}
+	return m
+})
 
 // ruleValues lists every value of Rules by dotted YAML name, for the source checks.
 func ruleValues(r *Rules) []ruleValue {
