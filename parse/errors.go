@@ -23,7 +23,18 @@ var (
 	ErrNoData          = errors.New("no optical-channel or OTN data")
 	ErrNotText         = errors.New("not a text file")
 	ErrTooLarge        = errors.New("input over the reading limit")
+	// ErrOption is matched (errors.Is) by the error of a reading option or a list of paths that
+	// cannot be used — a bad --time-format or --timezone, "-" twice — found before anything is
+	// read: a caller can report it as a usage error.
+	ErrOption = errors.New("bad reading option")
 )
+
+// optionError is an error of the reading options (ErrOption); it reads as its message alone.
+type optionError struct{ err error }
+
+func (e optionError) Error() string        { return e.err.Error() }
+func (e optionError) Unwrap() error        { return e.err }
+func (e optionError) Is(target error) bool { return target == ErrOption }
 
 // ParseError says where an input went wrong, like encoding/csv's ParseError. Line is 1-based;
 // Column is the 1-based field number in a CSV row (0 when not known); Field is the column or

@@ -65,14 +65,14 @@ const bytesPerRow = 1024
 // prepare checks the options a caller set and fills in the derived ones.
 func (o *Options) prepare() error {
 	if _, err := o.statistic(); err != nil {
-		return err
+		return optionError{err}
 	}
 	if o.MaxRows < 0 {
-		return fmt.Errorf("parse: the row limit must be positive, not %d", o.MaxRows)
+		return optionError{fmt.Errorf("--max-rows %d: the row limit must be positive", o.MaxRows)}
 	}
 	tr, err := newTimeReader(o.TimeFormat, o.DayFirst, o.TimeZone)
 	if err != nil {
-		return err
+		return optionError{err}
 	}
 	o.times = tr
 	rows := int64(o.MaxRows)
@@ -221,7 +221,7 @@ func expandPaths(paths []string) (files []string, walked []bool, skipped []Skip,
 	for _, p := range paths {
 		if p == "-" {
 			if stdin {
-				return nil, nil, nil, errors.New("parse: \"-\" (standard input) is given twice; it can be read only once")
+				return nil, nil, nil, optionError{errors.New(`"-" (standard input) is given twice; it can be read only once`)}
 			}
 			stdin = true
 			files, walked = append(files, p), append(walked, false)

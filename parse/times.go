@@ -61,7 +61,7 @@ func parseZone(zone string) (*time.Location, error) {
 	}
 	loc, err := time.LoadLocation(zone)
 	if err != nil {
-		return nil, fmt.Errorf("parse: unknown time zone %q: give an IANA zone name such as Europe/Berlin, UTC, or an offset such as +01:00", zone)
+		return nil, fmt.Errorf("--timezone %q: unknown time zone; give an IANA zone name such as Europe/Berlin, UTC, or an offset such as +01:00", zone)
 	}
 	return loc, nil
 }
@@ -88,21 +88,21 @@ func timeLayout(format string) (string, error) {
 				continue
 			}
 			if i+1 == len(format) {
-				return "", fmt.Errorf("parse: --time-format %q ends with a lone %%", format)
+				return "", fmt.Errorf("--time-format %q ends with a lone %%", format)
 			}
 			i++
 			d := format[i]
 			if d == 'f' {
 				s := b.String()
 				if !strings.HasSuffix(s, ".") && !strings.HasSuffix(s, ",") {
-					return "", fmt.Errorf("parse: --time-format %q: %%f must follow a . or a ,", format)
+					return "", fmt.Errorf("--time-format %q: %%f must follow a . or a ,", format)
 				}
 				b.WriteString("999999999")
 				continue
 			}
 			g, ok := strftimeDirectives[d]
 			if !ok {
-				return "", fmt.Errorf("parse: --time-format %q: unknown directive %%%c (known: %%Y %%y %%m %%d %%e %%H %%I %%M %%S %%f %%p %%b %%B %%a %%A %%j %%z %%Z %%F %%T %%R %%%%)", format, d)
+				return "", fmt.Errorf("--time-format %q: unknown directive %%%c (known: %%Y %%y %%m %%d %%e %%H %%I %%M %%S %%f %%p %%b %%B %%a %%A %%j %%z %%Z %%F %%T %%R %%%%)", format, d)
 			}
 			b.WriteString(g)
 		}
@@ -113,7 +113,7 @@ func timeLayout(format string) (string, error) {
 	ref := time.Date(2026, 11, 23, 17, 45, 39, 0, time.UTC)
 	got, err := time.Parse(layout, ref.Format(layout))
 	if err != nil || got.Year() != 2026 || got.Month() != 11 || got.Day() != 23 || got.Hour() != 17 || got.Minute() != 45 {
-		return "", fmt.Errorf("parse: --time-format %q does not read back a date and time (year, month, day, hour and minute); e.g. %%d.%%m.%%Y %%H:%%M or 02.01.2006 15:04", format)
+		return "", fmt.Errorf("--time-format %q does not read back a date and time (year, month, day, hour and minute); e.g. %%d.%%m.%%Y %%H:%%M or 02.01.2006 15:04", format)
 	}
 	return layout, nil
 }

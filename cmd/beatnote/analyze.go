@@ -366,6 +366,9 @@ func readWithProgress(paths []string, opt parse.Options, pr *printer) (*parse.Da
 	if bar != nil {
 		_ = bar.Finish()
 	}
+	if ds == nil && errors.Is(err, parse.ErrOption) {
+		return nil, usageErrorf("%v", err)
+	}
 	return ds, err
 }
 

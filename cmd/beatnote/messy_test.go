@@ -59,12 +59,12 @@ func TestReadingOptionsOnEveryReadingCommand(t *testing.T) {
 			if code != 2 || !strings.Contains(errw, "--max-rows") {
 				t.Errorf("--max-rows 2 over 3 rows: exit %d, want 2 naming the limit\n%s", code, errw)
 			}
-			if code, _, errw := runCLI(t, append(args, "--timezone", "Nowhere/Else")...); code != 2 || !strings.Contains(errw, "unknown time zone") {
+			if code, _, errw := runCLI(t, append(args, "--timezone", "Nowhere/Else")...); code != 2 || !strings.Contains(errw, "unknown time zone") || !strings.Contains(errw, "--help") {
 				t.Errorf("bad zone: exit %d\n%s", code, errw)
 			}
 		})
 	}
-	if code, _, errw := runCLI(t, "scan", "-", "-"); code != 2 || !strings.Contains(errw, "given twice") {
+	if code, _, errw := runCLI(t, "scan", "-", "-"); code != 2 || !strings.Contains(errw, "given twice") || !strings.Contains(errw, "see 'beatnote scan --help'") {
 		t.Errorf("scan - -: exit %d\n%s", code, errw)
 	}
 }
