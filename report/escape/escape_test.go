@@ -167,3 +167,56 @@ func TestMarkdownRendersAsText(t *testing.T) {
 		}
 	}
 }
+
+// FuzzEscape checks the promise of each sink on any input: Visible leaves one line of
+// printable text (and plain text unchanged), CSVCell a cell that starts no formula and stays
+// one cell, Markdown text that renders in a table cell without adding a cell, row or element.
+func FuzzEscape(f *testing.F) {
+	for _, s := range hostile {
+		f.Add(s)
+	}
+	md := goldmark.New(goldmark.WithExtensions(extension.Table, extension.Strikethrough),
+		goldmark.WithRendererOptions(rhtml.WithUnsafe()))
+	f.Fuzz(func(t *testing.T, s string) {
+		v := Visible(s)
+		if !utf8.ValidString(v) {
+			t.Fatalf("Visible(%q) = %q is not UTF-8", s, v)
+		}
+		for _, r := range v {
+			if r < 0x20 || r == 0x7f || (r >= 0x80 && hidden(r)) {
+				t.Fatalf("Visible(%q) = %q keeps %U", s, v, r)
+			}
+		}
+		if isPlain(s) && v != s {
+			t.Fatalf("Visible changed plain text %q to %q", s, v)
+		}
+
+		c := CSVCell(s)
+		if c != "" && strings.ContainsAny(c[:1], "=+-@\t\r") {
+			t.Fatalf("CSVCell(%q) = %q starts a formula", s, c)
+		}
+		var buf bytes.Buffer
+		w := csv.NewWriter(&buf)
+		_ = w.Write([]string{c, "end"})
+		w.Flush()
+		recs, err := csv.NewReader(&buf).ReadAll()
+		if err != nil || len(recs) != 1 || len(recs[0]) != 2 || recs[0][1] != "end" {
+			t.Fatalf("CSVCell(%q) = %q does not stay one cell: %q %v", s, c, recs, err)
+		}
+
+		var out bytes.Buffer
+		doc := "| a | b |\n| --- | --- |\n| " + Markdown(s) + " | end |\n"
+		if err := md.Convert([]byte(doc), &out); err != nil {
+			t.Fatal(err)
+		}
+		html := out.String()
+		for _, m := range tagRe.FindAllStringSubmatch(html, -1) {
+			if !allowTags[m[2]] {
+				t.Fatalf("Markdown(%q) renders <%s>:\n%s", s, m[2], html)
+			}
+		}
+		if n := strings.Count(html, "<td>") + strings.Count(html, "<td "); n != 2 || strings.Count(html, "<tr>") != 2 {
+			t.Fatalf("Markdown(%q) changes the table:\n%s", s, html)
+		}
+	})
+}
