@@ -31,17 +31,8 @@ type ErrorPerformance struct {
 	From  string `json:"from"`
 	To    string `json:"to"`
 
-	EvaluatedS      int64   `json:"evaluated_s"`
-	AvailableS      int64   `json:"available_s"`
-	UnavailableS    int64   `json:"unavailable_s"`
-	ES              int64   `json:"errored_seconds"`
-	SES             int64   `json:"severely_errored_seconds"`
-	BBE             float64 `json:"background_block_errors"`
-	BlocksPerSecond float64 `json:"blocks_per_second"`
-	// Ratios over the available time; null when there was none.
-	ESR  *float64 `json:"esr"`
-	SESR *float64 `json:"sesr"`
-	BBER *float64 `json:"bber"`
+	// The events and ratios; the ratios are over the available time, null when there was none.
+	errperf.Events
 
 	Objectives ErrorObjectives `json:"objectives"`
 }
@@ -127,14 +118,7 @@ func errorPerformance(s *parse.Series, prof rules.Profile, r rules.Rules) (*Erro
 		iv[i] = errperf.Interval{Seconds: sec, ErroredBlocks: n, Defect: defect}
 	}
 	e := errperf.Count(iv, blocksPerS, a.SESErroredBlockFraction, int64(a.UnavailableAfterSES))
-	ratio := func(v float64) *float64 {
-		if math.IsNaN(v) {
-			return nil
-		}
-		return &v
-	}
-	ep := &ErrorPerformance{Basis: basis, EvaluatedS: e.EvaluatedS, AvailableS: e.AvailableS, UnavailableS: e.UnavailableS,
-		ES: e.ES, SES: e.SES, BBE: e.BBE, BlocksPerSecond: blocksPerS, ESR: ratio(e.ESR), SESR: ratio(e.SESR), BBER: ratio(e.BBER),
+	ep := &ErrorPerformance{Basis: basis, Events: e,
 		Objectives: ErrorObjectives{SESFraction: a.SESErroredBlockFraction, SESR: a.SESRObjective, BBER: a.BBERObjective, MaxUnavailableS: a.MaxUnavailableS,
 			Sources: map[string]string{}}}
 	for _, k := range []string{"ses_errored_block_fraction", "sesr_objective", "bber_objective", "max_unavailable_s", "block_bits", "unavailable_after_ses_s"} {

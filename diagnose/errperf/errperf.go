@@ -34,7 +34,7 @@ type Interval struct {
 	Defect bool
 }
 
-// Events are the error-performance figures of a period. Ratios are NaN when their denominator
+// Events are the error-performance figures of a period. Ratios are nil when their denominator
 // is zero (no available time).
 type Events struct {
 	// EvaluatedS is the time evaluated (available plus unavailable), seconds.
@@ -45,10 +45,10 @@ type Events struct {
 	SES          int64   `json:"severely_errored_seconds"`
 	BBE          float64 `json:"background_block_errors"`
 	// BlocksPerSecond is the block rate the ratios and the SES test use.
-	BlocksPerSecond float64 `json:"blocks_per_second"`
-	ESR             float64 `json:"esr"`
-	SESR            float64 `json:"sesr"`
-	BBER            float64 `json:"bber"`
+	BlocksPerSecond float64  `json:"blocks_per_second"`
+	ESR             *float64 `json:"esr"`
+	SESR            *float64 `json:"sesr"`
+	BBER            *float64 `json:"bber"`
 }
 
 // Count evaluates the intervals in time order. blocksPerSecond is the block rate, sesFraction
@@ -122,13 +122,13 @@ func Count(iv []Interval, blocksPerSecond, sesFraction float64, unavailableRun i
 			}
 		}
 	}
-	e.ESR, e.SESR, e.BBER = math.NaN(), math.NaN(), math.NaN()
+	ratio := func(v float64) *float64 { return &v }
 	if e.AvailableS > 0 {
-		e.ESR = float64(e.ES) / float64(e.AvailableS)
-		e.SESR = float64(e.SES) / float64(e.AvailableS)
+		e.ESR = ratio(float64(e.ES) / float64(e.AvailableS))
+		e.SESR = ratio(float64(e.SES) / float64(e.AvailableS))
 	}
 	if nonSESBlocks > 0 {
-		e.BBER = e.BBE / nonSESBlocks
+		e.BBER = ratio(e.BBE / nonSESBlocks)
 	}
 	return e
 }

@@ -67,16 +67,16 @@ func TestCountWorkedExamples(t *testing.T) {
 // blocks in 10 s of 1000 blocks → BBER 3e-4.
 func TestCountRatios(t *testing.T) {
 	e := Count(seconds(repeat("s", 5)+repeat(".", 20)), 1000, 0.15, 10)
-	if e.SESR != 0.2 || e.ESR != 0.2 {
-		t.Errorf("SESR %g ESR %g, want 0.2 0.2", e.SESR, e.ESR)
+	if *e.SESR != 0.2 || *e.ESR != 0.2 {
+		t.Errorf("SESR %g ESR %g, want 0.2 0.2", *e.SESR, *e.ESR)
 	}
 	e = Count(seconds("..e..e..e."), 1000, 0.15, 10)
-	if math.Abs(e.BBER-3e-4) > 1e-15 || math.Abs(e.ESR-0.3) > 1e-15 || e.SESR != 0 {
-		t.Errorf("BBER %g ESR %g SESR %g, want 3e-4 0.3 0", e.BBER, e.ESR, e.SESR)
+	if math.Abs(*e.BBER-3e-4) > 1e-15 || math.Abs(*e.ESR-0.3) > 1e-15 || *e.SESR != 0 {
+		t.Errorf("BBER %g ESR %g SESR %g, want 3e-4 0.3 0", *e.BBER, *e.ESR, *e.SESR)
 	}
 	e = Count(seconds(repeat("s", 20)), 1000, 0.15, 10)
-	if !math.IsNaN(e.SESR) || !math.IsNaN(e.BBER) || e.UnavailableS != 20 {
-		t.Errorf("all unavailable: SESR %g BBER %g unavailable %d, want NaN NaN 20", e.SESR, e.BBER, e.UnavailableS)
+	if e.SESR != nil || e.BBER != nil || e.UnavailableS != 20 {
+		t.Errorf("all unavailable: SESR %v BBER %v unavailable %d, want nil nil 20", e.SESR, e.BBER, e.UnavailableS)
 	}
 }
 

@@ -112,28 +112,8 @@ func fixtureAcceptance(t *testing.T, fields SignOff, signing *Signing) *Report {
 // pdfText extracts the plain text of every page with github.com/ledongthuc/pdf.
 func pdfText(t *testing.T, data []byte) (text string, pages int) {
 	t.Helper()
-	r, err := pdf.NewReader(bytes.NewReader(data), int64(len(data)))
-	if err != nil {
-		t.Fatalf("read back PDF: %v", err)
-	}
-	var b strings.Builder
-	for i := 1; i <= r.NumPage(); i++ {
-		p := r.Page(i)
-		if p.V.IsNull() {
-			continue
-		}
-		rows, err := p.GetTextByRow()
-		if err != nil {
-			t.Fatalf("page %d: %v", i, err)
-		}
-		for _, row := range rows {
-			for _, w := range row.Content {
-				b.WriteString(w.S)
-			}
-			b.WriteByte('\n')
-		}
-	}
-	return b.String(), r.NumPage()
+	ps := pageTexts(t, data)
+	return strings.Join(ps, ""), len(ps)
 }
 
 func keepPDF(t *testing.T, name string, data []byte) {
@@ -337,7 +317,7 @@ func lowBytes(s string) string {
 	return b.String()
 }
 
-// pageTexts extracts the plain text of each page.
+// pageTexts extracts the plain text of each page with github.com/ledongthuc/pdf.
 func pageTexts(t *testing.T, data []byte) []string {
 	t.Helper()
 	r, err := pdf.NewReader(bytes.NewReader(data), int64(len(data)))
