@@ -52,6 +52,8 @@ type PortAnalysis struct {
 	DGDFit *MaxwellFit
 	// Posterior is the marginal posterior of every cause id (all of them, listed or not).
 	Posterior map[string]float64
+	// OSNRSteps are change points in the reported OSNR of at least osnr_step_db.
+	OSNRSteps []ChangePoint
 	// LOSteps are change points in the carrier (LO) offset of at least lo_step_fraction of the
 	// capture range: retunes or relocks, not drift.
 	LOSteps []ChangePoint

@@ -320,6 +320,9 @@ func (pc *portCtx) rxPowerLow() *score {
 	for _, st := range pc.an.PowerSteps {
 		if st.Step <= -r.PowerStepDB {
 			s.add(llrStrong, "Received power stepped down by %.1f dB at %s (%.1f → %.1f dBm): a sudden loss such as a dirty or disturbed connector or a bend.", -st.Step, clock(st.TimeMs), st.Before, st.After)
+			if pc.has(parse.OSNRdB) && !pc.osnrStepNear(st.TimeMs) {
+				s.add(llrWeak, "The reported OSNR held through the step (median %.1f dB, no step of %.1f dB or more): the loss is after the last amplifier (receive patching, connectors, demultiplexer), not in the line.", pc.sum[parse.OSNRdB].P50, r.OSNRStepDB)
+			}
 			break
 		}
 	}

@@ -232,6 +232,12 @@ func (pc *portCtx) osnrLow() *score {
 			}
 		}
 	}
+	for _, st := range pc.an.OSNRSteps {
+		if st.Step <= -r.OSNRStepDB && !pc.powerStepNear(st.TimeMs) {
+			s.add(llrStrong, "The reported OSNR stepped down by %.1f dB at %s (%.1f → %.1f dB) while the received power held: loss before an amplifier that holds its output, or an amplifier adding noise.", -st.Step, clock(st.TimeMs), st.Before, st.After)
+			break
+		}
+	}
 	if rr := pc.routeRatio(); s.supported() && finite(rr) && rr > 1 {
 		s.add(llrAgainst, "The measured CD says the light takes a route about %.0f %% longer than planned, which by itself costs OSNR: the patching is the first suspect.", 100*(rr-1))
 	}
@@ -239,6 +245,28 @@ func (pc *portCtx) osnrLow() *score {
 		s.add(llrAgainstBit, "The plan launches %.1f dBm/GHz (%+.1f dBm per channel), above %s: fibre nonlinearity may be the noise source.", psd, pc.launchDBm(), what)
 	}
 	return s
+}
+
+// powerStepNear: the received power stepped by power_step_db or more within two sample
+// intervals of t.
+func (pc *portCtx) powerStepNear(t int64) bool {
+	for _, st := range pc.an.PowerSteps {
+		if d := st.TimeMs - t; d >= -2*pc.intervalMs && d <= 2*pc.intervalMs && math.Abs(st.Step) >= pc.r.PowerStepDB {
+			return true
+		}
+	}
+	return false
+}
+
+// osnrStepNear: the reported OSNR stepped by osnr_step_db or more within two sample intervals
+// of t.
+func (pc *portCtx) osnrStepNear(t int64) bool {
+	for _, st := range pc.an.OSNRSteps {
+		if d := st.TimeMs - t; d >= -2*pc.intervalMs && d <= 2*pc.intervalMs {
+			return true
+		}
+	}
+	return false
 }
 
 // psd is a per-channel power in dBm as a spectral density in dBm per GHz of symbol rate.

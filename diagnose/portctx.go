@@ -341,6 +341,16 @@ func (pc *portCtx) analyseSeries() {
 		}
 	}
 
+	// Steps in the reported OSNR (loss before an amplifier: OSNR falls, power held).
+	if so := pc.sum[parse.OSNRdB]; s.Has(parse.OSNRdB) && so.Max-so.Min >= r.OSNRStepDB && countFinite(s.Values[parse.OSNRdB]) >= minN {
+		for _, st := range series.ChangePoints(s.Values[parse.OSNRdB], series.ChangePointOptions{MinStep: r.OSNRStepDB}) {
+			an.OSNRSteps = append(an.OSNRSteps, ChangePoint{
+				TimeMs: s.TimesMs[st.Index], Index: st.Index, Quantity: parse.OSNRdB.Column(),
+				Before: st.Before, After: st.After, Step: st.Size(), Unit: "dB",
+			})
+		}
+	}
+
 	// BER bursts.
 	if pc.ber != nil {
 		med := pc.summaryOf(pc.lit(pc.ber), parse.PreFECBER).P50
