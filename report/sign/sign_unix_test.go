@@ -61,6 +61,10 @@ func TestVerifyReadsRegularFilesOnly(t *testing.T) {
 			}
 			resign(t, dir, sig, fifo)
 		}, "a FIFO"},
+		{"input path through a file", func(t *testing.T, dir, sig string, in []string) {
+			// An error other than "no such file" (here ENOTDIR, which even root meets) fails.
+			resign(t, dir, sig, in[1]+"/inner")
+		}, "not a directory"},
 		{"input unreadable", func(t *testing.T, dir, sig string, in []string) {
 			if os.Geteuid() == 0 {
 				t.Skip("root reads every file")
@@ -130,4 +134,16 @@ func resign(t *testing.T, dir, sig, target string) {
 		s.Inputs[0].Path = target
 		s.Signature = base64.StdEncoding.EncodeToString(ed25519.Sign(priv, s.Canonical()))
 	})
+}
+
+// A file is hashed no further than the size it had when opened: one that holds more (it grew,
+// or it is a kernel file that reports size 0) is an error, not an endless read.
+func TestFileSHA256StopsAtTheSizeWhenOpened(t *testing.T) {
+	const grows = "/proc/self/status" // Linux: a regular file of size 0 that reads as text
+	if fi, err := os.Stat(grows); err != nil || !fi.Mode().IsRegular() || fi.Size() != 0 {
+		t.Skipf("no %s of size 0 here", grows)
+	}
+	if _, err := FileSHA256(grows); !errors.Is(err, ErrChangedWhileRead) {
+		t.Errorf("FileSHA256(%s): err %v, want ErrChangedWhileRead", grows, err)
+	}
 }
