@@ -35,7 +35,7 @@ func TestVerdictSentence(t *testing.T) {
 		{Name: "Received power above the sensitivity limit", Measured: -13.9, Limit: -12, Margin: -1.9, Unit: "dBm", Verdict: diagnose.Fail},
 		{Name: "Uncorrected FEC blocks (total)", Measured: 1, Limit: 0, Margin: -1, Unit: "blocks", Verdict: diagnose.Fail},
 	}}
-	if got, want := VerdictSentence(&fail), "Fails on received power above the sensitivity limit (and 1 more): -13.90 dBm against a limit of -12.00 dBm, margin -1.90 dBm."; got != want {
+	if got, want := VerdictSentence(&fail), "Fails on received power above the sensitivity limit (and 1 more): -13.90 dBm against a limit of -12.00 dBm, margin -1.90 dB."; got != want {
 		t.Errorf("got  %q\nwant %q", got, want)
 	}
 	cov := soak.Assess([]int64{0, 60_000}, 2, 0, 0.95) // the shortfall text is soak's

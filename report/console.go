@@ -72,8 +72,12 @@ func CriterionMargin(c diagnose.Criterion) string {
 	return FormatMargin(c.Margin, c.Unit)
 }
 
-// FormatMargin prints a margin with its sign and unit.
+// FormatMargin prints a margin (a difference) with its sign and unit. A difference of two
+// levels in dBm is a ratio, so it prints in dB.
 func FormatMargin(v float64, unit string) string {
+	if unit == "dBm" {
+		unit = "dB"
+	}
 	s := FormatValue(v, unit)
 	if v >= 0 && !strings.HasPrefix(s, "n/a") && unit != "" {
 		s = "+" + s

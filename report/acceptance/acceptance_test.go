@@ -135,7 +135,7 @@ func TestPDFReadsBack(t *testing.T) {
 	text, pages := pdfText(t, buf.Bytes())
 	squashed := strings.Join(strings.Fields(text), "")
 	for _, want := range []string{
-		"Verdict: MARGINAL", "Q-factor margin to FEC threshold", "+1.05 dB", "+2.20 dBm",
+		"Verdict: MARGINAL", "Q-factor margin to FEC threshold", "+1.05 dB", "+2.20 dB",
 		"sop-transient", "Laser safety", "IEC 60825-2", "1M", "IEC 61300-3-35", "G.664",
 		signing.KeyFingerprint, a.ReportID, "Handed over by", "Accepted by",
 	} {
