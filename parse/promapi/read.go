@@ -235,7 +235,9 @@ func (r *reader) readBatch(ctx context.Context, ports []string) error {
 				return fmt.Errorf("prometheus %s: %w: query_range answered a %q, not a matrix", r.base.Redacted(), ErrServer, m.ResultType)
 			}
 			for _, s := range m.Result {
-				r.series(mm, s, rows, owner)
+				if err := r.series(mm, s, rows, owner); err != nil {
+					return fmt.Errorf("prometheus %s: %w (%v)", r.base.Redacted(), ErrServer, err)
+				}
 			}
 		}
 		r.flush(rows)
@@ -244,7 +246,7 @@ func (r *reader) readBatch(ctx context.Context, ports []string) error {
 }
 
 // series accounts for one series' samples and gathers the accepted ones into rows.
-func (r *reader) series(mm *MetricMap, s series, rows map[string]map[int64]*pending, owner map[string]int) {
+func (r *reader) series(mm *MetricMap, s series, rows map[string]map[int64]*pending, owner map[string]int) error {
 	in := r.input(mm, s.Metric)
 	port := s.Metric[mm.PortLabel]
 	q := mm.spec.Quantity()
@@ -253,47 +255,48 @@ func (r *reader) series(mm *MetricMap, s series, rows map[string]map[int64]*pend
 	if !taken {
 		owner[key] = in.idx
 	}
-	for _, pt := range s.Values {
+	byT := rows[port]
+	if byT == nil {
+		byT = map[int64]*pending{}
+		rows[port] = byT
+	}
+	nq := len(r.q.Mapping.Metrics)
+	return eachPair(s.Values, func(pt []json.RawMessage) {
 		in.n++
 		r.samples++
 		tsText, valText, tMs, v, perr := parsePoint(pt)
-		in.h.Write([]byte(tsText))
-		in.h.Write([]byte{' '})
-		in.h.Write([]byte(valText))
-		in.h.Write([]byte{'\n'})
-		reject := func(reason string) {
-			r.feed.Reject(in.idx, parse.Rejection{File: in.name, Line: in.n, Field: mm.Metric, Reason: reason})
-		}
+		in.h.Write(tsText)
+		in.h.Write(space)
+		in.h.Write(valText)
+		in.h.Write(newline)
+		reason := ""
 		switch {
 		case perr != nil:
-			reject(perr.Error())
-			continue
+			reason = perr.Error()
 		case port == "":
-			reject(fmt.Sprintf("%s: the series has no %s label (no port)", mm.Column, mm.PortLabel))
-			continue
+			reason = fmt.Sprintf("%s: the series has no %s label (no port)", mm.Column, mm.PortLabel)
 		case taken && prev != in.idx:
-			reject(fmt.Sprintf("%s: port %q already has this quantity from another series (%s): check the mapping's labels", q.Column(), port, r.order[prev].name))
-			continue
+			reason = fmt.Sprintf("%s: port %q already has this quantity from another series (%s): check the mapping's labels", q.Column(), port, r.order[prev].name)
 		}
-		val, err := mm.spec.Value(v)
-		if err != nil {
-			reject(fmt.Sprintf("%s: %v at %s", mm.Column, err, fmtT(time.UnixMilli(tMs))))
-			continue
+		val, err := 0.0, error(nil)
+		if reason == "" {
+			if val, err = mm.spec.Value(v); err != nil {
+				reason = fmt.Sprintf("%s: %v at %s", mm.Column, err, fmtT(time.UnixMilli(tMs)))
+			}
 		}
-		byT := rows[port]
-		if byT == nil {
-			byT = map[int64]*pending{}
-			rows[port] = byT
+		if reason != "" {
+			r.feed.Reject(in.idx, parse.Rejection{File: in.name, Line: in.n, Field: mm.Metric, Reason: reason})
+			return
 		}
 		p := byT[tMs]
 		if p == nil {
-			p = &pending{in: in.idx}
+			p = &pending{in: in.idx, qs: make([]parse.Quantity, 0, nq), vals: make([]float64, 0, nq)}
 			byT[tMs] = p
 		}
 		p.qs = append(p.qs, q)
 		p.vals = append(p.vals, val)
 		r.feed.Used(in.idx, 1)
-	}
+	})
 }
 
 // flush adds the gathered rows, port by port in time order.
@@ -348,25 +351,109 @@ func (r *reader) input(mm *MetricMap, labels map[string]string) *seriesInput {
 	return in
 }
 
-// parsePoint reads one [timestamp, "value"] pair of a matrix. A value of NaN is a missing value.
-func parsePoint(pt []json.RawMessage) (tsText, valText string, tMs int64, v float64, err error) {
+// space and newline separate the hashed text of a sample.
+var space, newline = []byte{' '}, []byte{'\n'}
+
+// parsePoint reads one [timestamp, "value"] pair of a matrix; tsText and valText are the
+// time and the value as the server wrote them (the value without its JSON quotes). A value of
+// NaN is a missing value.
+func parsePoint(pt []json.RawMessage) (tsText, valText []byte, tMs int64, v float64, err error) {
 	if len(pt) != 2 {
-		return "", "", 0, 0, fmt.Errorf("sample is not a [time, value] pair")
+		return nil, nil, 0, 0, fmt.Errorf("sample is not a [time, value] pair")
 	}
-	tsText = string(pt[0])
-	secs, perr := strconv.ParseFloat(tsText, 64)
+	tsText = pt[0]
+	secs, perr := strconv.ParseFloat(string(tsText), 64)
 	if perr != nil || math.IsInf(secs, 0) || math.IsNaN(secs) {
-		return tsText, "", 0, 0, fmt.Errorf("%w: sample time %q", parse.ErrBadTime, shorten(tsText))
+		return tsText, nil, 0, 0, fmt.Errorf("%w: sample time %q", parse.ErrBadTime, shorten(string(tsText)))
 	}
 	tMs = int64(math.Round(secs * 1000))
-	if err := json.Unmarshal(pt[1], &valText); err != nil {
-		return tsText, string(pt[1]), tMs, 0, fmt.Errorf("%w: sample value %q is not a JSON string", parse.ErrNotNumber, shorten(string(pt[1])))
+	raw := pt[1]
+	switch {
+	case len(raw) >= 2 && raw[0] == '"' && raw[len(raw)-1] == '"' && !bytes.ContainsAny(raw[1:len(raw)-1], "\\\""):
+		valText = raw[1 : len(raw)-1] // the common case: no escapes to undo
+	default:
+		var s string
+		if err := json.Unmarshal(raw, &s); err != nil {
+			return tsText, raw, tMs, 0, fmt.Errorf("%w: sample value %q is not a JSON string", parse.ErrNotNumber, shorten(string(raw)))
+		}
+		valText = []byte(s)
 	}
-	v, perr = strconv.ParseFloat(valText, 64)
+	v, perr = strconv.ParseFloat(string(valText), 64)
 	if perr != nil {
-		return tsText, valText, tMs, 0, fmt.Errorf("%w: sample value %q", parse.ErrNotNumber, shorten(valText))
+		return tsText, valText, tMs, 0, fmt.Errorf("%w: sample value %q", parse.ErrNotNumber, shorten(string(valText)))
 	}
 	return tsText, valText, tMs, v, nil
+}
+
+// eachPair calls fn with the elements of every pair in a matrix series' values,
+// [[t,"v"],[t,"v"],…], as slices of raw (no copy, no decoding): a series of thousands of
+// samples costs no allocation per sample. An element that is itself an array or object, or
+// values that are not an array of arrays, make an error.
+func eachPair(raw []byte, fn func(pt []json.RawMessage)) error {
+	bad := errors.New("the values of a series are not [time, value] pairs")
+	i := skipWS(raw, 0)
+	if i >= len(raw) || raw[i] != '[' {
+		return bad
+	}
+	pt := make([]json.RawMessage, 0, 2)
+	for i = skipWS(raw, i+1); i < len(raw) && raw[i] != ']'; {
+		if raw[i] != '[' {
+			return bad
+		}
+		pt = pt[:0]
+		for i = skipWS(raw, i+1); i < len(raw) && raw[i] != ']'; {
+			end, ok := scalarEnd(raw, i)
+			if !ok {
+				return bad
+			}
+			pt = append(pt, raw[i:end])
+			if i = skipWS(raw, end); i < len(raw) && raw[i] == ',' {
+				i = skipWS(raw, i+1)
+			}
+		}
+		if i >= len(raw) {
+			return bad
+		}
+		fn(pt)
+		if i = skipWS(raw, i+1); i < len(raw) && raw[i] == ',' {
+			i = skipWS(raw, i+1)
+		}
+	}
+	if i >= len(raw) {
+		return bad
+	}
+	return nil
+}
+
+func skipWS(b []byte, i int) int {
+	for i < len(b) && (b[i] == ' ' || b[i] == '\t' || b[i] == '\n' || b[i] == '\r') {
+		i++
+	}
+	return i
+}
+
+// scalarEnd finds the end of the JSON string or scalar starting at b[i]; ok is false for an
+// array, an object or an unterminated string.
+func scalarEnd(b []byte, i int) (end int, ok bool) {
+	switch b[i] {
+	case '[', '{', ',':
+		return i, false
+	case '"':
+		for j := i + 1; j < len(b); j++ {
+			switch b[j] {
+			case '\\':
+				j++
+			case '"':
+				return j + 1, true
+			}
+		}
+		return i, false
+	}
+	j := i
+	for j < len(b) && b[j] != ',' && b[j] != ']' && b[j] != ' ' && b[j] != '\t' && b[j] != '\n' && b[j] != '\r' {
+		j++
+	}
+	return j, j > i
 }
 
 func shorten(s string) string {
@@ -377,8 +464,8 @@ func shorten(s string) string {
 }
 
 type series struct {
-	Metric map[string]string   `json:"metric"`
-	Values [][]json.RawMessage `json:"values"`
+	Metric map[string]string `json:"metric"`
+	Values json.RawMessage   `json:"values"`
 }
 
 type matrix struct {
