@@ -164,10 +164,28 @@ func launchExcessDB(e *optics.LinkExpectation, osnrDB float64) float64 {
 	return hi
 }
 
+// unmodelledImpairment names a measured impairment whose SNR penalty the forward model does
+// not hold — |CD| beyond the compensation range, a carrier offset in the last part of the
+// capture range, BER bursts at SOP transients — and which can by itself explain an eSNR
+// shortfall; "" when none.
+func (pc *portCtx) unmodelledImpairment() string {
+	p, r := pc.prof, pc.r
+	switch {
+	case pc.has(parse.CDpsPerNm) && p.CDTolerancePsNm > 0 && pc.absSum[parse.CDpsPerNm].P50 > p.CDTolerancePsNm:
+		return fmt.Sprintf("|CD| of %.0f ps/nm beyond the module's %.0f ps/nm compensation range", pc.absSum[parse.CDpsPerNm].P50, p.CDTolerancePsNm)
+	case pc.has(parse.LOOffsetMHz) && p.LOOffsetRangeMHz > 0 && pc.absSum[parse.LOOffsetMHz].Max >= r.LOOffsetMarginalFraction*p.LOOffsetRangeMHz:
+		return fmt.Sprintf("a carrier offset of up to %.0f MHz, near the ±%.0f MHz capture range", pc.absSum[parse.LOOffsetMHz].Max, p.LOOffsetRangeMHz)
+	case len(pc.an.Coincidences) > 0:
+		return fmt.Sprintf("%d BER or block burst(s) at SOP-rate spikes", len(pc.an.Coincidences))
+	}
+	return ""
+}
+
 // eSNRShortfall: the OSNR is comfortably above the requirement, yet the eSNR falls at least
 // nonlinear_snr_gap_db short of what the line's ASE, the transceiver ceiling and the penalties
 // give (without NLI): noise that is not amplifier noise. The weight is llrStrong for the full
-// gap, llrModerate for half of it with the Q margin inside the marginal band, 0 otherwise.
+// gap, llrModerate for half of it with the Q margin inside the marginal band, 0 otherwise — and
+// 0 when a measured impairment the model does not hold explains the shortfall by itself.
 func (pc *portCtx) eSNRShortfall() (*forward, float64) {
 	f := pc.forwardModel()
 	if !f.ok {
@@ -175,6 +193,9 @@ func (pc *portCtx) eSNRShortfall() (*forward, float64) {
 	}
 	if pc.reqOSNRdB > 0 && f.aseOSNRdB < pc.reqOSNRdB+pc.r.OSNRMarginalMarginDB {
 		return f, 0
+	}
+	if pc.unmodelledImpairment() != "" {
+		return f, 0 // a measured impairment explains it (the cause that owns it is weighed)
 	}
 	switch gap := pc.r.NonlinearSNRGapDB; {
 	case f.shortfallNoNLIdB >= gap:
