@@ -1,17 +1,26 @@
 #!/usr/bin/env bash
-# samples/bench.sh — issue 6: time `beatnote triage --format json` on the fleet shapes next to the
-# baseline (encoding/csv with ReuseRecord + strconv.ParseFloat on every numeric field, nothing
-# else; samples/fleetgen/baseline), side by side in one run, and print the ratios, the peak
-# resident memory and the state bytes per row.
+# samples/bench.sh — the fleet-scale speed and memory goals of docs/performance.md, measured side
+# by side in one run: every ratio is computed run by run (A then B, repeated) and the median of
+# the per-pair ratios is printed, so that a comparison holds while other jobs load the machine.
 #
-#   samples/bench.sh            # best of 3 (RUNS=5 samples/bench.sh for more)
+#   samples/bench.sh              # 3 pairs per comparison
+#   RUNS=5 samples/bench.sh       # more pairs
+#   BIG=0 samples/bench.sh        # without the 10-million-row file (about 1 GB, minutes)
 #
-# Builds both programs, generates the data into out/ when missing (deterministic, seed 1; never
-# committed), then alternates the programs run by run so that both see the same machine load.
+# Builds beatnote and the baseline (samples/fleetgen/baseline: encoding/csv with ReuseRecord and
+# strconv.ParseFloat on every numeric field, nothing else), generates the inputs into out/ when
+# missing (samples/fleetgen, deterministic, seed 1; out/ is never committed) and prints:
+#   - triage / bare read at 1M rows (700 ports) and at 10M rows (7,000 ports)
+#   - peak RSS per row above 50 MB, at 1M and 10M rows
+#   - triage of the same rows as JSON Lines / as CSV, and as OpenConfig-shaped JSON / as CSV
+#   - triage of 20,000 files × 50 rows / the bare read loop over them
+#   - triage / a pandas read plus per-port quantiles at 1M rows (samples/pandas_summary.py;
+#     skipped when pandas is not installed)
 # Wall time and peak RSS come from /usr/bin/time (apt-get install -y time if it is missing).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 RUNS=${RUNS:-3}
+BIG=${BIG:-1}
 BIN=out/bench-bin
 TIME=/usr/bin/time
 if [ ! -x "$TIME" ]; then
@@ -22,15 +31,21 @@ fi
 mkdir -p "$BIN"
 go build -o "$BIN/beatnote" ./cmd/beatnote
 go build -o "$BIN/baseline" ./samples/fleetgen/baseline
-# The port maps give each port its profile (triage refuses to assume one); older out/ lacks them.
-[ -f out/fleet.portmap.yaml ] || go run ./samples/fleetgen -out out/fleet.csv
-[ -f out/fleet-250k.portmap.yaml ] || go run ./samples/fleetgen -out out/fleet-250k.csv -samples 360
-[ -f out/fleet-files.portmap.yaml ] || go run ./samples/fleetgen -out "" -files-dir out/fleet-files
+gen() { # FILE ARGS...: generate FILE (and its port map) with fleetgen unless present
+	local f=$1
+	shift
+	[ -e "$f" ] && [ -f "${f%.*}.portmap.yaml" ] || go run ./samples/fleetgen "$@"
+}
+gen out/fleet.csv -out out/fleet.csv
+gen out/fleet.jsonl -out out/fleet.jsonl
+gen out/fleet.json -out out/fleet.json
+gen out/fleet-20k-files -out "" -files-dir out/fleet-20k-files -files 20000 -rows 50
+[ "$BIG" = 0 ] || gen out/fleet-10m.csv -out out/fleet-10m.csv -ports 7000
 
 calc() { awk "BEGIN { print $1 }"; } # arithmetic without bc
 
 rows() { # data rows of a file or of the *.csv files of a folder
-	if [ -d "$1" ]; then cat "$1"/*.csv | grep -vc '^time,'; else echo $(($(wc -l <"$1") - 1)); fi
+	if [ -d "$1" ]; then find "$1" -name '*.csv' -exec cat {} + | grep -vc '^time,'; else echo $(($(wc -l <"$1") - 1)); fi
 }
 
 # run NAME CMD...: one timed run; appends "wall_s peak_kb" to out/bench-bin/NAME.
@@ -47,43 +62,82 @@ run() {
 	fi
 	tail -n 1 "$BIN/$name.one" >>"$BIN/$name"
 }
-best() { sort -n "$BIN/$1" | head -n 1 | cut -d' ' -f1; }  # fastest wall time, s
-peak() { sort -n -k2 "$BIN/$1" | tail -n 1 | cut -d' ' -f2; } # largest peak RSS over the runs, KB
 
-for n in base1m tri1m base250k tri250k basefiles trifiles; do : >"$BIN/$n"; done
-for i in $(seq "$RUNS"); do
-	run base1m "$BIN/baseline" out/fleet.csv
-	run tri1m "$BIN/beatnote" triage out/fleet.csv --map out/fleet.portmap.yaml --format json
-	run base250k "$BIN/baseline" out/fleet-250k.csv
-	run tri250k "$BIN/beatnote" triage out/fleet-250k.csv --map out/fleet-250k.portmap.yaml --format json
-	run basefiles "$BIN/baseline" out/fleet-files
-	run trifiles "$BIN/beatnote" triage out/fleet-files --map out/fleet-files.portmap.yaml --format json
-done
+# pair A B: RUNS alternating runs of the commands in arrays CMD_A and CMD_B, named A and B.
+pair() {
+	: >"$BIN/$1"
+	: >"$BIN/$2"
+	for _ in $(seq "$RUNS"); do
+		run "$1" "${CMD_A[@]}"
+		run "$2" "${CMD_B[@]}"
+	done
+}
+# ratio A B: median over the pairs of wall(A) / wall(B).
+ratio() {
+	paste -d' ' "$BIN/$1" "$BIN/$2" | awk '{ print $1 / ($3 > 0 ? $3 : 0.01) }' | sort -g |
+		awk '{ r[NR] = $1 } END { print (NR % 2 ? r[(NR + 1) / 2] : (r[NR / 2] + r[NR / 2 + 1]) / 2) }'
+}
+median() { # median wall time of NAME, s
+	cut -d' ' -f1 "$BIN/$1" | sort -g | awk '{ r[NR] = $1 } END { print (NR % 2 ? r[(NR + 1) / 2] : (r[NR / 2] + r[NR / 2 + 1]) / 2) }'
+}
+peak() { sort -n -k2 "$BIN/$1" | tail -n 1 | cut -d' ' -f2; } # largest peak RSS over the runs, KB
+# triage FILE: the triage command line of FILE; above the default --max-rows for the 10M file.
+triage() { echo "$BIN/beatnote" triage "$1" --map "${1%.*}.portmap.yaml" --format json --max-rows 20000000; }
+
+CMD_A=($(triage out/fleet.csv))
+CMD_B=("$BIN/baseline" out/fleet.csv)
+pair tri1m base1m
+CMD_A=($(triage out/fleet.jsonl))
+CMD_B=($(triage out/fleet.csv))
+pair trijsonl tricsv
+CMD_A=($(triage out/fleet.json))
+CMD_B=($(triage out/fleet.csv))
+pair trioc tricsv2
+CMD_A=($(triage out/fleet-20k-files))
+CMD_B=("$BIN/baseline" out/fleet-20k-files)
+pair trifiles basefiles
+if [ "$BIG" != 0 ]; then
+	CMD_A=($(triage out/fleet-10m.csv))
+	CMD_B=("$BIN/baseline" out/fleet-10m.csv)
+	pair tri10m base10m
+fi
+pandas=skipped
+if python3 -c 'import pandas' 2>/dev/null; then
+	CMD_A=($(triage out/fleet.csv))
+	CMD_B=(python3 samples/pandas_summary.py out/fleet.csv)
+	pair tripd pandas
+	pandas=ran
+fi
 
 r1m=$(rows out/fleet.csv)
-r250k=$(rows out/fleet-250k.csv)
-rfiles=$(rows out/fleet-files)
 echo
-echo "machine: $(nproc) cores, $(go env GOVERSION), best of $RUNS runs (wall time), peak RSS the largest of the runs"
-printf '%-44s %9s %9s %12s\n' "input" "baseline" "triage" "triage/base"
-line() { # label rows base tri
-	local b t
-	b=$(best "$3")
-	t=$(best "$4")
-	printf '%-44s %8.2fs %8.2fs %12.2f\n' "$1 ($2 rows)" "$b" "$t" "$(calc "$t / $b")"
+echo "machine: $(nproc) cores, $(go env GOVERSION), $RUNS alternating pairs per comparison; ratios are medians of the per-pair ratios"
+printf '%-62s %8s %8s %8s  %s\n' "comparison" "A s" "B s" "A/B" "goal"
+show() { # label A B goal
+	printf '%-62s %8.2f %8.2f %8.2f  %s\n' "$1" "$(median "$2")" "$(median "$3")" "$(ratio "$2" "$3")" "$4"
 }
-line "out/fleet.csv" "$r1m" base1m tri1m
-line "out/fleet-250k.csv" "$r250k" base250k tri250k
-line "out/fleet-files, 5000 files" "$rfiles" basefiles trifiles
+show "triage / bare read, out/fleet.csv ($r1m rows, 700 ports)" tri1m base1m "<= 0.6"
+if [ "$BIG" != 0 ]; then
+	show "triage / bare read, out/fleet-10m.csv ($(rows out/fleet-10m.csv) rows, 7000 ports)" tri10m base10m "<= 0.8"
+fi
+show "triage JSON Lines / CSV, the same $r1m rows" trijsonl tricsv "<= 2"
+show "triage OpenConfig JSON / CSV, the same rows" trioc tricsv2 "(none)"
+show "triage / bare loop, out/fleet-20k-files ($(rows out/fleet-20k-files) rows)" trifiles basefiles "<= 1.5"
+if [ "$pandas" = ran ]; then
+	show "triage / pandas read + per-port quantiles, out/fleet.csv" tripd pandas "<= 0.1"
+else
+	echo "triage / pandas summary: skipped (pandas is not installed; python3 samples/pandas_summary.py)"
+fi
 echo
-t1m=$(best tri1m)
-tfiles=$(best trifiles)
-printf 'folder of 5000 files / 1M-row file (triage): %.2f (goal < 2)\n' "$(calc "$tfiles / $t1m")"
-p1m=$(peak tri1m)
-p250k=$(peak tri250k)
-pfiles=$(peak trifiles)
-printf 'peak RSS triage: 1M rows %d MB, 250k rows %d MB, 5000 files %d MB (goal < 300 MB at 1M rows)\n' \
-	$((p1m / 1024)) $((p250k / 1024)) $((pfiles / 1024))
-printf 'state bytes per row (RSS growth from 250k to 1M rows): %.0f B/row; RSS/rows at 1M: %.0f B/row\n' \
-	"$(calc "($p1m - $p250k) * 1024 / ($r1m - $r250k)")" "$(calc "$p1m * 1024 / $r1m")"
-printf 'peak RSS baseline: 1M rows %d MB\n' $(($(peak base1m) / 1024))
+perrow() { # label peak_kb rows
+	printf '%-62s %6d MB  %5.0f B/row above 50 MB  (goal <= 64 B/row + 50 MB)\n' "$1" $(($2 / 1024)) \
+		"$(calc "($2 / 1024 - 50) * 1048576 / $3")"
+}
+perrow "peak RSS, triage out/fleet.csv" "$(peak tri1m)" "$r1m"
+if [ "$BIG" != 0 ]; then
+	perrow "peak RSS, triage out/fleet-10m.csv" "$(peak tri10m)" "$(rows out/fleet-10m.csv)"
+fi
+perrow "peak RSS, triage out/fleet.jsonl" "$(peak trijsonl)" "$r1m"
+perrow "peak RSS, triage out/fleet.json (OpenConfig)" "$(peak trioc)" "$r1m"
+perrow "peak RSS, triage out/fleet-20k-files" "$(peak trifiles)" "$(rows out/fleet-20k-files)"
+printf 'peak RSS, bare read of out/fleet.csv: %d MB\n' $(($(peak base1m) / 1024))

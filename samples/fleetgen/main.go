@@ -1,7 +1,8 @@
-// Command fleetgen writes the fleet-scale inputs of issue 6, deterministically by seed, from
-// samples/synth: a canonical CSV of 700 ports × 1440 one-minute samples with all sixteen columns
-// (about one million rows), a few per cent of the ports in trouble; and, with -files-dir, the
-// second shape: 5,000 small files of 200 rows each (one port per file).
+// Command fleetgen writes the fleet-scale inputs of samples/bench.sh (docs/performance.md),
+// deterministically by seed, from samples/synth: a canonical CSV of 700 ports × 1440 one-minute
+// samples with all sixteen columns (about one million rows), a few per cent of the ports in
+// trouble; and, with -files-dir, the second shape: 5,000 small files of 200 rows each (one port
+// per file).
 //
 //	go run ./samples/fleetgen                       # out/fleet.csv
 //	go run ./samples/fleetgen -files-dir out/fleet-files

@@ -1,4 +1,4 @@
-// Command baseline is the yardstick of issue 6: it reads CSV files with encoding/csv
+// Command baseline is the yardstick of samples/bench.sh: it reads CSV files with encoding/csv
 // (ReuseRecord = true) and parses every field but the first two (time and port) with
 // strconv.ParseFloat, doing nothing else. samples/bench.sh times `beatnote triage` against it.
 //
