@@ -474,11 +474,12 @@ type matrix struct {
 }
 
 // envelope is every API response: {"status": "success"|"error", "data": …, "errorType", "error"}.
+// Data holds a pointer to where the data member is decoded, so the answer is decoded once.
 type envelope struct {
-	Status    string          `json:"status"`
-	Data      json.RawMessage `json:"data"`
-	ErrorType string          `json:"errorType"`
-	Error     string          `json:"error"`
+	Status    string `json:"status"`
+	Data      any    `json:"data"`
+	ErrorType string `json:"errorType"`
+	Error     string `json:"error"`
 }
 
 // call sends form to the API path and decodes the data member into out. A query only reads,
@@ -537,15 +538,15 @@ func (r *reader) callOnce(ctx context.Context, path string, form url.Values, out
 		}
 		return fmt.Errorf("prometheus %s: %w (HTTP %d %s: %s)", r.base.Redacted(), ErrAuth, resp.StatusCode, http.StatusText(resp.StatusCode), what)
 	}
-	var env envelope
-	if jerr := json.Unmarshal(body, &env); jerr != nil || env.Status == "" {
+	env := envelope{Data: out}
+	jerr := json.Unmarshal(body, &env)
+	switch {
+	case env.Status == "":
 		return fmt.Errorf("prometheus %s: %w (HTTP %d, and the answer is not the query API's JSON: is this the right URL?)", r.base.Redacted(), ErrServer, resp.StatusCode)
-	}
-	if env.Status != "success" {
+	case env.Status != "success":
 		return fmt.Errorf("prometheus %s: %w (HTTP %d, %s: %q)", r.base.Redacted(), ErrServer, resp.StatusCode, shorten(env.ErrorType), shortenMsg(env.Error))
-	}
-	if err := json.NewDecoder(bytes.NewReader(env.Data)).Decode(out); err != nil {
-		return fmt.Errorf("prometheus %s: %w (unexpected answer to %s: %v)", r.base.Redacted(), ErrServer, path, err)
+	case jerr != nil:
+		return fmt.Errorf("prometheus %s: %w (unexpected answer to %s: %q)", r.base.Redacted(), ErrServer, path, shortenMsg(jerr.Error()))
 	}
 	return nil
 }
