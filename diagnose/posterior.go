@@ -430,7 +430,7 @@ func (pc *portCtx) symptomEvidence(id string, o observables) []item {
 			add(row2(osnrLik, id)[o.osnr], osnrLik[HypHealthy][o.osnr], text)
 		}
 	}
-	if o.tx == txChanged {
+	if o.tx == txChanged && id != CauseTxPower { // tx-power's own test says it
 		add(row2(txLik, id)[o.tx], txLik[HypHealthy][o.tx], pc.txChange().text)
 	}
 	return out
