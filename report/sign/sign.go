@@ -35,6 +35,8 @@ import (
 	"strconv"
 	"strings"
 	"time"
+
+	"github.com/beatnote/beatnote/rules"
 )
 
 // SignatureFormat is the value of the "format" member of a signature file this version writes.
@@ -220,7 +222,7 @@ const maxKeyFileBytes = 64 << 10
 // readPEM returns the bytes of the first PEM block of the regular file at path, which must be of
 // type kind (hint ends the error when it is not), and the file's information.
 func readPEM(path, kind, hint string) ([]byte, fs.FileInfo, error) {
-	data, fi, err := readSmall(path, maxKeyFileBytes)
+	data, fi, err := rules.ReadRegular(path, maxKeyFileBytes)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -374,7 +376,7 @@ const maxSignatureFileBytes = 16 << 20
 // that cannot be read, is a failure (one no longer present only a warning). It returns a
 // *VerifyError when it cannot complete; a damaged signature file is a failure, not an error.
 func Verify(document, sigPath string, trusted []TrustedKey) (*Verification, error) {
-	raw, _, err := readSmall(sigPath, maxSignatureFileBytes)
+	raw, _, err := rules.ReadRegular(sigPath, maxSignatureFileBytes)
 	if err != nil {
 		return nil, &VerifyError{Path: sigPath, Err: err}
 	}

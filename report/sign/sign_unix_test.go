@@ -12,6 +12,8 @@ import (
 	"syscall"
 	"testing"
 	"time"
+
+	"github.com/beatnote/beatnote/rules"
 )
 
 // withTimeout runs f and fails the test when it has not returned within d: a verification
@@ -105,18 +107,18 @@ func TestVerifyDoesNotHangOnSpecialFiles(t *testing.T) {
 		withTimeout(t, 10*time.Second, func() {
 			_, err := Verify(c.doc, c.sig, nil)
 			var ve *VerifyError
-			if !errors.As(err, &ve) || !strings.Contains(err.Error(), ErrNotRegular.Error()) {
+			if !errors.As(err, &ve) || !strings.Contains(err.Error(), rules.ErrNotRegular.Error()) {
 				t.Errorf("Verify(%s, %s): err %v, want a *VerifyError: not a regular file", c.doc, c.sig, err)
 			}
 		})
 	}
 	for _, p := range []string{fifo, "/dev/zero", dir} {
 		withTimeout(t, 10*time.Second, func() {
-			if _, err := LoadPublicKey(p); !errors.Is(err, ErrNotRegular) {
-				t.Errorf("LoadPublicKey(%s): err %v, want ErrNotRegular", p, err)
+			if _, err := LoadPublicKey(p); !errors.Is(err, rules.ErrNotRegular) {
+				t.Errorf("LoadPublicKey(%s): err %v, want rules.ErrNotRegular", p, err)
 			}
-			if _, err := LoadTrustedKeys(p); !errors.Is(err, ErrNotRegular) {
-				t.Errorf("LoadTrustedKeys(%s): err %v, want ErrNotRegular", p, err)
+			if _, err := LoadTrustedKeys(p); !errors.Is(err, rules.ErrNotRegular) {
+				t.Errorf("LoadTrustedKeys(%s): err %v, want rules.ErrNotRegular", p, err)
 			}
 		})
 	}

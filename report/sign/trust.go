@@ -7,6 +7,8 @@ import (
 	"encoding/hex"
 	"fmt"
 	"strings"
+
+	"github.com/beatnote/beatnote/rules"
 )
 
 // TrustedKey is a public key the person verifying trusts, by its fingerprint, with the name
@@ -45,7 +47,7 @@ const maxTrustedKeysBytes = 1 << 20
 //
 // A line that is not of this form is an error naming the file and line.
 func LoadTrustedKeys(path string) ([]TrustedKey, error) {
-	data, _, err := readSmall(path, maxTrustedKeysBytes)
+	data, _, err := rules.ReadRegular(path, maxTrustedKeysBytes)
 	if err != nil {
 		return nil, err
 	}
