@@ -1,7 +1,8 @@
 package parse
 
 import (
-	"fmt"
+	"errors"
+	"strings"
 )
 
 // ColumnSpec is a quantity as a column header names it, with the conversion from the unit the
@@ -54,24 +55,41 @@ func (f *Feed) AddInput(name, format string) int {
 	return len(f.res) - 1
 }
 
-// Used counts n records of input in as read and used.
+// Used counts n records of input in as read and used. An input that a strict read stopped
+// takes no more records.
 func (f *Feed) Used(in, n int) {
+	if f.Stopped(in) {
+		return
+	}
 	st := &f.res[in].stats
 	st.RowsRead += n
 	st.RowsUsed += n
 }
 
 // Reject counts one record of input in as read and rejected, for the reason r (whose File
-// should name the input).
+// should name the input). When Strict, the first rejection stops the input as it stops a file:
+// the record is counted, the input's Error says reading stopped there, and the input takes no
+// more records (see Stopped).
 func (f *Feed) Reject(in int, r Rejection) {
+	if f.Stopped(in) {
+		return
+	}
 	res := f.res[in]
 	res.stats.RowsRead++
 	res.stats.RowsRejected++
 	res.addRejection(r)
-	if f.Strict && res.strictErr == nil {
-		res.strictErr = fmt.Errorf("%s: %s (line %d)", r.File, r.Reason, r.Line)
+	if f.Strict {
+		pe := &ParseError{File: r.File, Line: r.Line, Column: r.Column, Err: errors.New(r.Reason)}
+		if !strings.HasPrefix(r.Reason, r.Field+": ") {
+			pe.Field = r.Field // the reason does not name its field already
+		}
+		res.stopStrict(pe)
 	}
 }
+
+// Stopped reports whether a strict read stopped input in at a rejected record. A source reads
+// on only to finish its digest: what follows is neither counted nor added.
+func (f *Feed) Stopped(in int) bool { return f.res[in].strictErr != nil }
 
 // Note adds a note to input in.
 func (f *Feed) Note(in int, note string) {

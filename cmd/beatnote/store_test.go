@@ -459,3 +459,34 @@ func TestReportFromPrometheus(t *testing.T) {
 		t.Fatalf("signed report from a store: exit %d, %s", code, errw)
 	}
 }
+
+// --strict stops a series read from the store at its first rejected sample exactly as it stops
+// a file: exit 2, the counts up to that sample, and the input's error saying where it stopped.
+func TestPrometheusStrictStopsLikeFiles(t *testing.T) {
+	u := prometheusURL(t)
+	mapFile := filepath.Join(t.TempDir(), "map.yaml")
+	if err := os.WriteFile(mapFile, []byte("metrics:\n  - {column: pre_fec_ber, metric: "+badMetric+", port_label: line}\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	src := []string{"--prometheus", u, "--prometheus-map", mapFile, "--start", demoRangeStart,
+		"--end", "2026-03-14T00:10:00Z", "--step", "1m", "--strict"}
+	code, out, errw := runCLI(t, append([]string{"scan", "--format", "json"}, src...)...)
+	if code != 2 {
+		t.Fatalf("scan --strict: exit %d, want 2: %s", code, errw)
+	}
+	var res struct {
+		Inputs []parse.InputStats `json:"inputs"`
+	}
+	if err := json.Unmarshal([]byte(out), &res); err != nil {
+		t.Fatalf("scan --strict: %v: %q", err, out)
+	}
+	// The series holds 4 samples, the 3rd a BER of 0.7: reading stops there.
+	if len(res.Inputs) != 1 || res.Inputs[0].RowsRead != 3 || res.Inputs[0].RowsUsed != 2 || res.Inputs[0].RowsRejected != 1 ||
+		!strings.Contains(res.Inputs[0].Error, "strict reading stops at the first rejected row") {
+		t.Fatalf("scan --strict: inputs %+v, want 3 read, 2 used, 1 rejected and where reading stopped", res.Inputs)
+	}
+	code, _, errw = runCLI(t, append([]string{"triage", "--profile", "400g-dp-16qam-cfec"}, src...)...)
+	if code != 2 || !strings.Contains(errw, "--strict: nothing judged") || !strings.Contains(errw, "3 rows read, 2 used, 1 rejected") {
+		t.Fatalf("triage --strict: exit %d, stderr %q, want 2 and the counts where reading stopped", code, errw)
+	}
+}

@@ -269,6 +269,9 @@ func (r *reader) series(mm *MetricMap, s series, rows map[string]map[int64]*pend
 		in.h.Write(space)
 		in.h.Write(valText)
 		in.h.Write(newline)
+		if r.feed.Stopped(in.idx) {
+			return // a strict read stopped this series: hashed, not counted
+		}
 		reason := ""
 		switch {
 		case perr != nil:
