@@ -17,6 +17,7 @@ import (
 	"github.com/beatnote/beatnote/diagnose/series"
 	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/report"
+	"github.com/beatnote/beatnote/report/escape"
 )
 
 // TimeSpan is an interval of Unix milliseconds, From ≤ To.
@@ -132,6 +133,13 @@ func newPlot(title string) *plot.Plot {
 	p.Legend.Padding = vg.Points(1)
 	p.Add(plotter.NewGrid())
 	return p
+}
+
+// addLegend adds a legend entry. Its text is drawn into the chart image, where a line break
+// would start a new line and a control character has no glyph, so it is shown as escape.Visible
+// shows it: one line of printable text, whatever an input put into it.
+func addLegend(p *plot.Plot, label string, thumbs ...plot.Thumbnailer) {
+	p.Legend.Add(escape.Visible(label), thumbs...)
 }
 
 // legendRoom raises hi so a legend of n entries in the top right corner sits above the data:
@@ -274,7 +282,7 @@ func addLine(p *plot.Plot, xy plotter.XYs, c color.Color, width vg.Length, dashe
 	l.Color, l.Width, l.Dashes = c, width, dashes
 	p.Add(l)
 	if label != "" {
-		p.Legend.Add(label, l)
+		addLegend(p, label, l)
 	}
 	return nil
 }
@@ -307,7 +315,7 @@ func addTopMarks(p *plot.Plot, timesMs []int64, y float64, label string) error {
 	sc.GlyphStyle.Color = colMark
 	sc.GlyphStyle.Radius = vg.Points(3)
 	p.Add(sc)
-	p.Legend.Add(label, sc)
+	addLegend(p, label, sc)
 	return nil
 }
 
@@ -341,7 +349,7 @@ func addSpans(p *plot.Plot, spans []TimeSpan, lo, hi, minWidthS float64, label s
 		poly.LineStyle.Width = 0
 		p.Add(poly)
 		if i == 0 && label != "" {
-			p.Legend.Add(label, poly)
+			addLegend(p, label, poly)
 		}
 	}
 	return nil
@@ -355,6 +363,11 @@ func (a *Report) renderChart(p *plot.Plot, title, caption string) (*Chart, error
 	a.chartIndex++
 	c := vgimg.NewWith(vgimg.UseWH(chartWidthMM*vg.Millimeter+extra, chartHeightMM*vg.Millimeter),
 		vgimg.UseDPI(chartDPI), vgimg.UseBackgroundColor(color.White))
+	// Title and axis labels are drawn into the image: one line of printable text each (as
+	// addLegend does for the legend).
+	for _, t := range []*string{&p.Title.Text, &p.X.Label.Text, &p.Y.Label.Text} {
+		*t = escape.Visible(*t)
+	}
 	p.Draw(draw.New(c))
 	var buf bytes.Buffer
 	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
@@ -529,7 +542,7 @@ func (a *Report) chartDGD(s *parse.Series, m ChartMarks) (*Chart, error) {
 	h.LineStyle.Color = colData
 	h.LineStyle.Width = vg.Points(0.5)
 	p.Add(h)
-	p.Legend.Add(fmt.Sprintf("measured (%d samples)", len(vs)), h)
+	addLegend(p, fmt.Sprintf("measured (%d samples)", len(vs)), h)
 	caption := fmt.Sprintf("Histogram of %d DGD samples, normalised to unit area.", len(vs))
 	if m.DGDFit != nil && m.DGDFit.PDF != nil {
 		_, hi := rangeOf(vs)

@@ -5,8 +5,13 @@ import (
 	"testing"
 	"time"
 
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/report/escape"
 )
 
 // powerSeries is an invented flat power trace at level dBm, with an optional drop to drop dBm
@@ -68,6 +73,40 @@ func TestMaxwellianFitClaimedOnlyWhenNotRejected(t *testing.T) {
 		claims := strings.Contains(m.DGDFit.Label, "Maxwellian fit")
 		if claims != tc.fit || strings.Contains(m.DGDFit.Note, "does not reject") != tc.fit {
 			t.Errorf("KS p = %g: label %q, note %q; fit claimed %v, want %v", tc.p, m.DGDFit.Label, m.DGDFit.Note, claims, tc.fit)
+		}
+	}
+}
+
+// Text drawn inside a chart image — title, axis labels, legend — is one line of printable text
+// whatever it holds: a line break in it would start a second line in the image, an escape code
+// would be drawn as nothing. The legend of a hostile label takes the room of its escaped form.
+func TestChartTextIsOneVisibleLine(t *testing.T) {
+	const hostile = "och-1\x1b[2J\r\nFORGED: PASS\u202e"
+	legendSize := func(label string) vg.Point {
+		p := newPlot("t")
+		if err := addHLine(p, 0, 1, 1, colLimit, nil, label); err != nil {
+			t.Fatal(err)
+		}
+		c := vgimg.New(chartWidthMM*vg.Millimeter, chartHeightMM*vg.Millimeter)
+		r := p.Legend.Rectangle(draw.New(c))
+		return r.Size()
+	}
+	if want, got := legendSize(escape.Visible(hostile)), legendSize(hostile); got != want {
+		t.Errorf("legend of %q takes %v, its escaped form %v", hostile, got, want)
+	}
+
+	p := newTimePlot(hostile, hostile, 3_600_000)
+	p.X.Label.Text = hostile
+	if err := addSeries(p, []int64{0, 3_600_000}, []float64{1, 2}, hostile); err != nil {
+		t.Fatal(err)
+	}
+	a := &Report{}
+	if _, err := a.renderChart(p, hostile, ""); err != nil {
+		t.Fatal(err)
+	}
+	for name, got := range map[string]string{"title": p.Title.Text, "x label": p.X.Label.Text, "y label": p.Y.Label.Text} {
+		if got != escape.Visible(hostile) || strings.ContainsAny(got, "\x1b\r\n\u202e") {
+			t.Errorf("%s drawn as %q, want %q", name, got, escape.Visible(hostile))
 		}
 	}
 }
