@@ -15,6 +15,7 @@ const (
 	colPort
 	colQuantity
 	colBinLength // the length of a performance-monitoring bin (see bins.go)
+	colProfile   // the module profile of the row's port (see profile.go)
 )
 
 // unitConv converts a value from the unit written in a column name to the stored unit.
@@ -60,6 +61,9 @@ func buildHeaderTable() map[string]column {
 	}
 	for _, n := range []string{"port", "port_name", "port_id", "interface", "channel"} {
 		add(n, column{kind: colPort})
+	}
+	for _, n := range []string{"profile", "profile_id", "module_profile"} {
+		add(n, column{kind: colProfile})
 	}
 	db := []unitAlt{{[]string{"db"}, convNone}}
 	power := []unitAlt{{[]string{"dbm"}, convNone}, {[]string{"mw"}, convMilliwatt}, {[]string{"uw"}, convMicrowatt}}

@@ -97,6 +97,10 @@ type csvJob struct {
 	gTimes   []int64   // times, port group after port group, arrival order inside a group
 	gVals    []float64 // per group: len(qs) columns of the group's length, one after the other
 
+	// Profile names of the accepted rows (see markProfile); empty without a profile column.
+	profMarks []profileMark
+	profLast  []string // per port of the block: the profile its last row named
+
 	// Bin companions of the accepted rows, row after row (see binRows); empty without bins.
 	binLow, binHigh []float64
 	binLen          []int64
@@ -402,6 +406,7 @@ func (res *fileResult) accountCSV(job *csvJob, strict bool) {
 	if res.bins != nil {
 		res.bins.addJob(job)
 	}
+	res.takeProfiles(job)
 	for _, pe := range job.rejects {
 		res.addRejection(pe.rejection())
 	}

@@ -38,6 +38,7 @@ type csvLayout struct {
 	names        []string // header cells as written
 	timeCol      int
 	portCol      int
+	profileCol   int        // field of the module profile, -1 when none
 	qFields      []int      // field index of each quantity column
 	qs           []Quantity // quantity of each quantity column
 	qmask        uint32
@@ -79,7 +80,7 @@ func sniffDelimiter(line []byte) byte {
 
 // parseHeader reads the header row. notes lists unknown columns.
 func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, error) {
-	lay := &csvLayout{delim: sniffDelimiter(line), timeCol: -1, portCol: -1}
+	lay := &csvLayout{delim: sniffDelimiter(line), timeCol: -1, portCol: -1, profileCol: -1}
 	lay.decimalComma = lay.delim == ';'
 	fields, _, err := splitFields(line, lay.delim, nil, nil)
 	if err != nil {
@@ -115,6 +116,8 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 			lay.portCol = i
 		case colBinLength:
 			bl.lengthCol, bl.lengthUnitS = i, unitS
+		case colProfile:
+			lay.profileCol = i
 		case colQuantity:
 			switch st {
 			case statLow:
@@ -347,6 +350,13 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 	if !known && !utf8.Valid(pf) { // a name seen before in this block was valid then
 		return cp.fieldErr(lineNo, lay.portCol, fmt.Errorf("%w: port name %s", ErrEncoding, quoteShort(pf)))
 	}
+	var prof []byte
+	if fi := lay.profileCol; fi >= 0 && !isMissing(fields[fi]) {
+		if err := checkProfileName(fields[fi]); err != nil {
+			return cp.fieldErr(lineNo, fi, err)
+		}
+		prof = fields[fi]
+	}
 	for j, fi := range lay.qFields {
 		v, pe := cp.value(fields, lineNo, fi, lay.qs[j])
 		if pe != nil {
@@ -364,6 +374,9 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 		name := string(pf)
 		job.names = append(job.names, name)
 		cp.portIdx[name] = pi
+	}
+	if prof != nil {
+		job.markProfile(pi, prof, lineNo)
 	}
 	job.rowPort = append(job.rowPort, pi)
 	job.times = append(job.times, t)

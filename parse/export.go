@@ -4,12 +4,14 @@ import (
 	"bufio"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 )
 
-// WriteCanonicalCSV writes ds as canonical CSV: header time,port and every quantity some port
-// has, in canonical order; one row per port and time, ports in the Dataset's order (by name);
+// WriteCanonicalCSV writes ds as canonical CSV: header time,port, profile when some port's rows
+// name one module profile (a port whose rows disagree is written without one: its profile is
+// unknown either way), and every quantity some port has, in canonical order; one row per port and time, ports in the Dataset's order (by name);
 // times in RFC 3339 UTC; numbers in the shortest form that parses back to the same float64;
 // missing values empty. Performance-monitoring bins add their companions after the quantities:
 // <column>_min for every quantity some bin gives a minimum for, then the <column>_max, then
@@ -35,6 +37,10 @@ func WriteCanonicalCSV(w io.Writer, ds *Dataset) error {
 	}
 	var qs []Quantity
 	header := []string{"time", "port"}
+	withProfile := slices.ContainsFunc(ds.Series, func(s *Series) bool { return s.Profile() != "" })
+	if withProfile {
+		header = append(header, "profile")
+	}
 	for q := Quantity(0); q < NumQuantities; q++ {
 		if present[q] {
 			qs = append(qs, q)
@@ -62,6 +68,12 @@ func WriteCanonicalCSV(w io.Writer, ds *Dataset) error {
 	var line []byte
 	for _, s := range ds.Series {
 		port := csvQuote(s.Port)
+		if withProfile {
+			port += ","
+			if p := s.Profile(); p != "" {
+				port += csvQuote(p)
+			}
+		}
 		for i := range s.TimesMs {
 			line = appendCanonicalRow(line[:0], s, i, port, qs, bc)
 			if _, err := bw.Write(line); err != nil {
@@ -78,7 +90,7 @@ type binColumns struct {
 	low, high []Quantity
 }
 
-// appendCanonicalRow appends row i of s (port already quoted) with the columns qs, the bin
+// appendCanonicalRow appends row i of s (port: the port's cells after the time, quoted) with the columns qs, the bin
 // columns bc (nil: none) and a line end.
 func appendCanonicalRow(line []byte, s *Series, i int, port string, qs []Quantity, bc *binColumns) []byte {
 	line = append(line, formatTime(s.TimesMs[i])...)

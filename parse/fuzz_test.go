@@ -78,12 +78,14 @@ func FuzzCSV(f *testing.F) {
 	addCorpus(f, "*.gz")
 	addCorpus(f, "messy/*.csv")
 	f.Add([]byte("time,port,q\n1,\"a\"\"b\",3\n"))
+	f.Add([]byte("time,port,profile,q_db\n1,a,p1,9\n2,a,p2,9\n1,b,\"x;y\",8\n2,b,NA,8\n"))
 	f.Fuzz(func(t *testing.T, data []byte) { fuzzRead(t, "fuzz.csv", data) })
 }
 
 func FuzzJSONL(f *testing.F) {
 	f.Add([]byte("{\"time\":\"2026-03-14T08:30:00Z\",\"port\":\"a\",\"pre_fec_ber\":1.2e-3,\"rx_power_mw\":0.5}\n{\"time\":1773477060,\"port\":\"a\",\"osnr_db\":\"NA\"}\n"))
 	f.Add([]byte("{\"time\":1,\"port\":\"a\",\"q\":3}\n{bad\n"))
+	f.Add([]byte("{\"time\":1,\"port\":\"a\",\"profile\":\"p1\",\"q_db\":9}\n{\"time\":2,\"port\":\"a\",\"profile\":[1],\"q_db\":9}\n"))
 	f.Fuzz(func(t *testing.T, data []byte) { fuzzRead(t, "fuzz.jsonl", data) })
 }
 

@@ -183,6 +183,7 @@ func (jr *jsonFile) account(job *csvJob) bool {
 	for _, pe := range job.rejects {
 		res.addRejection(pe.rejection())
 	}
+	res.takeProfiles(job)
 	for _, u := range job.unknown {
 		jr.unknown[u] = true
 	}
@@ -396,9 +397,11 @@ func (jp *jsonParser) reject(pe *ParseError) {
 }
 
 // record is one port's values at one time; mask marks the quantities it carries a column for.
+// profile is the module profile the record names (nil: none).
 type record struct {
-	vals [NumQuantities]float64
-	mask uint32
+	vals    [NumQuantities]float64
+	mask    uint32
+	profile []byte
 }
 
 func (rec *record) set(q Quantity, v float64) {
@@ -406,8 +409,8 @@ func (rec *record) set(q Quantity, v float64) {
 	rec.mask |= 1 << q
 }
 
-// use adds an accepted row to the block.
-func (jp *jsonParser) use(port []byte, t int64, rec *record) {
+// use adds an accepted row, of the record at line lineNo, to the block.
+func (jp *jsonParser) use(port []byte, t int64, rec *record, lineNo int) {
 	job := jp.job
 	pi, known := jp.portIdx[bytesString(port)]
 	if !known {
@@ -415,6 +418,9 @@ func (jp *jsonParser) use(port []byte, t int64, rec *record) {
 		name := string(port)
 		job.names = append(job.names, name)
 		jp.portIdx[name] = pi
+	}
+	if rec.profile != nil {
+		job.markProfile(pi, rec.profile, lineNo)
 	}
 	job.rowPort = append(job.rowPort, pi)
 	job.times = append(job.times, t)
@@ -468,7 +474,7 @@ func (jp *jsonParser) canonical(lineNo int) {
 	var rec record
 	var t int64
 	var port []byte
-	var seen uint32 // bit q for quantity q, bits 30 and 31 for time and port
+	var seen uint32 // bit q for quantity q, bits 29, 30 and 31 for profile, time and port
 	haveTime, havePort := false, false
 	jp.unknown = jp.unknown[:0]
 	ok := true
@@ -486,6 +492,8 @@ func (jp *jsonParser) canonical(lineNo int) {
 			bit = 1 << 30
 		case colPort:
 			bit = 1 << 31
+		case colProfile:
+			bit = 1 << 29
 		default:
 			bit = 1 << col.q
 		}
@@ -509,6 +517,9 @@ func (jp *jsonParser) canonical(lineNo int) {
 			}
 			port, ok = b, utf8.Valid(b)
 			havePort = true
+		case colProfile:
+			b, err := d.profile(c)
+			rec.profile, ok = b, err == nil
 		case colQuantity:
 			v, err := d.quantity(c, col)
 			rec.set(col.q, v)
@@ -541,7 +552,7 @@ func (jp *jsonParser) finishCanonical(lineNo int, haveTime, havePort bool, port 
 	case rec.mask == 0:
 		jp.reject(&ParseError{File: jp.file, Line: lineNo, Err: fmt.Errorf("%w: the record has no measured quantity", ErrMissingColumn)})
 	default:
-		jp.use(port, t, rec)
+		jp.use(port, t, rec, lineNo)
 	}
 }
 
@@ -604,6 +615,13 @@ func (jp *jsonParser) canonicalSorted(lineNo int) {
 				return
 			}
 			port, havePort = b, true
+		case colProfile:
+			b, err := d.profile(m.node)
+			if err != nil {
+				jp.reject(&ParseError{File: file, Line: lineNo, Field: k, Err: err})
+				return
+			}
+			rec.profile = b
 		case colQuantity:
 			v, err := d.quantity(m.node, c)
 			if err != nil {
@@ -614,6 +632,19 @@ func (jp *jsonParser) canonicalSorted(lineNo int) {
 		}
 	}
 	jp.finishCanonical(lineNo, haveTime, havePort, port, t, &rec)
+}
+
+// profile reads JSON value node v as a profile name: a string (or a number's literal); nil
+// when missing.
+func (d *jdoc) profile(v int) ([]byte, error) {
+	if k := d.nodes[v].kind; k == jObject || k == jArray {
+		return nil, fmt.Errorf("%w: a profile name is a string, not an object or array", ErrJSON)
+	}
+	b, missing := d.scalar(v)
+	if missing {
+		return nil, nil
+	}
+	return b, checkProfileName(b)
 }
 
 // quantity converts JSON value node v of column c to the stored unit and checks it; NaN means

@@ -265,7 +265,7 @@ func (jp *jsonParser) openConfig(lineNo int) {
 		case !utf8.ValidString(p):
 			jp.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: port name %q", ErrEncoding, p)})
 		default:
-			jp.use([]byte(p), t, &r.rec)
+			jp.use([]byte(p), t, &r.rec, lineNo)
 		}
 	}
 }

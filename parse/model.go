@@ -81,6 +81,10 @@ type Series struct {
 	Values  [NumQuantities][]float64
 	// Bins is set when some samples are performance-monitoring bins (see Bins); nil otherwise.
 	Bins *Bins
+	// Profiles are the distinct module profiles the port's rows name (a profile column), in
+	// input order, each with where it is first named; at most two are kept. Two mean the rows
+	// disagree; Profile gives the port's one profile.
+	Profiles []ProfileMention
 }
 
 // Bins are the worst-case companions of samples that summarise a bin (a 15-minute or 24-hour

@@ -157,11 +157,12 @@ type fileResult struct {
 	fb        *fileBuilder
 	lay       *csvLayout
 	rejects   []Rejection
-	times     *timeReader // how times are read (nil: built-in formats, UTC)
-	budget    *readBudget // the run's row and byte limits (nil: none)
-	bins      *binRows    // bin companions of the accepted rows (nil: no bin columns)
-	strictErr error       // first bad row in strict mode, or the row limit reached
-	fileErr   error       // input not read completely
+	times     *timeReader                 // how times are read (nil: built-in formats, UTC)
+	budget    *readBudget                 // the run's row and byte limits (nil: none)
+	bins      *binRows                    // bin companions of the accepted rows (nil: no bin columns)
+	profiles  map[string][]ProfileMention // profiles the accepted rows name, by port (nil: none)
+	strictErr error                       // first bad row in strict mode, or the row limit reached
+	fileErr   error                       // input not read completely
 }
 
 func (res *fileResult) addRejection(r Rejection) {
@@ -425,6 +426,7 @@ func assemble(results []*fileResult, workers int) (*Dataset, error) {
 	}
 	ds.Series = db.finish(ds.Inputs, workers)
 	attachBins(ds.Series, bins)
+	attachProfiles(ds.Series, results)
 	return ds, errors.Join(errs...)
 }
 

@@ -246,7 +246,7 @@ func sameDataset(a, b *Dataset) bool {
 	}
 	for i := range a.Series {
 		x, y := a.Series[i], b.Series[i]
-		if x.Port != y.Port || !reflect.DeepEqual(x.TimesMs, y.TimesMs) {
+		if x.Port != y.Port || !reflect.DeepEqual(x.TimesMs, y.TimesMs) || x.Profile() != y.Profile() {
 			return false
 		}
 		for q := range x.Values {
@@ -295,6 +295,7 @@ func TestRoundTrip(t *testing.T) {
 		"generated.csv": big,
 		"semicolon.csv": "Time;Port;Pre-FEC BER;Rx power [mW];CD [ns/nm];Wavelength [nm]\n2026-03-14 08:00:00.125;\"a;b\";1,2E-03;0,5;1,7;1552,524\n2026-03-14 08:00:01;NA;1e-3;1;1;1550\n2026-03-14 08:00:01;\" sp \";NA;0,3;-;1550\n",
 		"oc.json":       ocSample,
+		"profile.csv":   "time,port,Module profile,q_db\n2026-03-14T08:00:00Z,a,400g-dp-16qam-cfec,9\n2026-03-14T08:00:00Z,b,x;y,8\n2026-03-14T08:01:00Z,a,,9.5\n2026-03-14T08:01:00Z,c,p1,7\n2026-03-14T08:02:00Z,c,p2,7\n",
 	}
 	for name, content := range sources {
 		t.Run(name, func(t *testing.T) {
