@@ -223,10 +223,14 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 	}
 }
 
-// ProfileText is the port's profile id, with the assumption spelled out when nothing named it.
+// ProfileText is the port's profile id, with the assumption spelled out when nothing named it
+// and the data named when it did.
 func ProfileText(p *diagnose.PortResult) string {
-	if p.ProfileSource == diagnose.ProfileAssumed {
-		return p.Profile + " (assumed: no --profile, plan or port map names it)"
+	switch p.ProfileSource {
+	case diagnose.ProfileAssumed:
+		return p.Profile + " (assumed: no --profile, plan, port map or profile column names it)"
+	case diagnose.ProfileFromColumn:
+		return p.Profile + " (named by the telemetry's profile column)"
 	}
 	return p.Profile
 }

@@ -22,7 +22,7 @@ const defaultProfileID = "400g-dp-16qam-cfec"
 
 // judgeFlags are the options check, triage and report share for judging ports.
 type judgeFlags struct {
-	Profile  string `help:"Module profile id to judge against (see 'beatnote profiles'). Default: the map's or the plan's; else triage stops, check and report assume 400g-dp-16qam-cfec and say so." placeholder:"ID"`
+	Profile  string `help:"Module profile id to judge against (see 'beatnote profiles'). Default: the map's, the plan's or the data's profile column; else triage stops, check and report assume 400g-dp-16qam-cfec and say so." placeholder:"ID"`
 	Profiles string `help:"YAML file of module profiles adding to or overriding the built-in ones (by id)." type:"existingfile" placeholder:"FILE"`
 	Rules    string `help:"YAML file overriding threshold rules (see docs/rules.md)." type:"existingfile" placeholder:"FILE"`
 	Plan     string `help:"Link plan (YAML) the ports are judged against; enables plan vs measured and cd-mismatch." type:"existingfile" placeholder:"PLAN.yaml"`
@@ -95,9 +95,10 @@ func (a *analysis) readConfig(role, path string) ([]byte, error) {
 	return data, nil
 }
 
-// analyze reads the inputs and judges every port. mapFile is a port map (triage) or "". With
-// requireProfile it refuses (an error) to judge a port on the assumed default profile: when
-// neither --profile, --plan, the map nor the data names the port's profile. With acc, each
+// analyze reads the inputs and judges every port. mapFile is a port map (triage) or "". A port's
+// profile is its map entry's, else --profile's, else the --plan's, else the one its data names
+// (profileFromData), else the assumed default. With requireProfile it refuses (an error) to
+// judge a port on the assumed default profile. With acc, each
 // port's test period and error performance are judged too (check and report).
 // Errors it returns are usage or input errors (exit 2).
 func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool, acc *diagnose.AcceptanceTest, pr *printer) (*analysis, error) {
@@ -220,6 +221,8 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		cfg.Acceptance = acc
 	}
 	unmapped, assumed := 0, 0
+	byColumn := map[string]diagnose.Setup{}
+	var mixed, overridden []string
 	for _, s := range ds.Series {
 		st, ok := cfg.Default, false
 		if cfg.Lookup != nil {
@@ -230,16 +233,50 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		if pm != nil && !ok {
 			unmapped++
 		}
+		st, note, err := profileFromData(s, st, profiles)
+		if err != nil {
+			return nil, err
+		}
+		switch {
+		case st.ProfileSource == diagnose.ProfileFromColumn:
+			byColumn[s.Port] = st
+		case len(s.Profiles) > 1 && st.ProfileSource == diagnose.ProfileAssumed:
+			mixed = append(mixed, note)
+		case note != "":
+			overridden = append(overridden, note)
+		}
 		if st.ProfileSource == diagnose.ProfileAssumed {
 			assumed++
 		}
 	}
+	if len(byColumn) > 0 {
+		base := cfg.Lookup
+		cfg.Lookup = func(port string) (diagnose.Setup, bool) {
+			if st, ok := byColumn[port]; ok {
+				return st, true
+			}
+			if base != nil {
+				return base(port)
+			}
+			return diagnose.Setup{}, false
+		}
+	}
 	if assumed > 0 && requireProfile {
-		return nil, fmt.Errorf("%d of %d ports have no known profile (no --profile, --plan or port map entry names it): pass --profile ID or --map PORTMAP.yaml rather than judge them on an assumed %s", assumed, len(ds.Series), defProf.ID)
+		why := ""
+		if len(mixed) > 0 {
+			why = fmt.Sprintf("; %d of them name two profiles in their rows, e.g. %s", len(mixed), mixed[0])
+		}
+		return nil, fmt.Errorf("%d of %d ports have no known profile (no --profile, --plan, port map entry or profile column names it%s): pass --profile ID or --map PORTMAP.yaml rather than judge them on an assumed %s", assumed, len(ds.Series), why, defProf.ID)
 	}
 	if unmapped > 0 {
 		pr.Notef("%d of %d ports are not in the port map %s: judged against profile %s%s", unmapped, len(ds.Series), pm.File, defProf.ID,
 			map[bool]string{true: " and the --plan given", false: " without a plan"}[plan != nil])
+	}
+	if len(mixed) > 0 {
+		pr.Notef("%d ports name two profiles in their rows, so the data does not say which applies, e.g. %s", len(mixed), mixed[0])
+	}
+	if len(overridden) > 0 {
+		pr.Notef("%d ports are judged on another profile than their data names, e.g. %s", len(overridden), overridden[0])
 	}
 	if assumed > 0 {
 		pr.Notef("%d of %d ports judged against the assumed default profile %s: nothing names theirs (pass --profile ID; see 'beatnote profiles')", assumed, len(ds.Series), defProf.ID)
@@ -251,6 +288,34 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	line.Reason(res, rs)
 	a.DS, a.Result, a.ReadErr = ds, res, readErr
 	return a, nil
+}
+
+// profileFromData gives port s the profile its telemetry names (a profile column) when nothing
+// stronger placed it: st is its setup from the port map, --profile and --plan, which win over
+// the data (an operator's statement over what an export says). note says why the data's profile
+// was not taken: the port's rows name two profiles, or st names another. A profile id the
+// profiles do not know is an error naming the file and line where the data names it.
+func profileFromData(s *parse.Series, st diagnose.Setup, profiles []rules.Profile) (diagnose.Setup, string, error) {
+	if len(s.Profiles) == 0 {
+		return st, "", nil
+	}
+	first := s.Profiles[0]
+	if len(s.Profiles) > 1 {
+		second := s.Profiles[1]
+		return st, fmt.Sprintf("port %q: %q (%s line %d) and %q (%s line %d)", s.Port, first.ID, first.File, first.Line, second.ID, second.File, second.Line), nil
+	}
+	if st.ProfileSource != diagnose.ProfileAssumed {
+		if first.ID == st.Profile.ID {
+			return st, "", nil
+		}
+		return st, fmt.Sprintf("port %q: judged on %s (from the %s) while %s line %d names %q", s.Port, st.Profile.ID, st.ProfileSource, first.File, first.Line, first.ID), nil
+	}
+	p, err := rules.ProfileByID(profiles, first.ID)
+	if err != nil {
+		return st, "", fmt.Errorf("%s line %d: the profile column of port %q: %w", first.File, first.Line, s.Port, err)
+	}
+	st.Profile, st.ProfileSource = p, diagnose.ProfileFromColumn
+	return st, "", nil
 }
 
 // gcPercent is the heap growth, in per cent of the live heap, that triggers a collection while
