@@ -67,6 +67,14 @@ func TestCheckExitCodes(t *testing.T) {
 	if code != 1 {
 		t.Errorf("low-power check: exit %d, want 1", code)
 	}
+	// Every field action that touches the fibre carries the laser-safety caution; the OTDR shot
+	// also the warning to disconnect the receiver.
+	for _, want := range []string{"Inspect and clean every connector", "Laser safety: confirm the fibre dark with a power meter",
+		"never look into a fibre end", "local codes and licensed practice prevail", "Disconnect the receiver at the far end before the OTDR shot"} {
+		if !strings.Contains(strings.Join(strings.Fields(out), " "), want) { // lines are wrapped
+			t.Errorf("low-power check text lacks %q", want)
+		}
+	}
 	for _, want := range []string{"rx-power-low", "dBm", "What to do on site", "Criteria", "Plan vs measured"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("low-power check text lacks %q", want)

@@ -370,6 +370,12 @@ func TestReportByCircuitOnDemoSamples(t *testing.T) {
 	if !strings.Contains(s, "qro-frw-ltf-401.yaml") || strings.Contains(s, "qro-osk-ven-402.yaml") {
 		t.Error("QRO-FRW-LTF-401's report should list its own plan and no other circuit's")
 	}
+	low, _ := os.ReadFile(filepath.Join(dir, "QRO-GLM-TLV-403.md"))
+	for _, want := range []string{"- action: Inspect and clean every connector", "*Laser safety: confirm the fibre dark", "before the OTDR shot"} {
+		if !strings.Contains(string(low), want) {
+			t.Errorf("QRO-GLM-TLV-403 report lacks %q beside its actions", want)
+		}
+	}
 	qpsk, _ := os.ReadFile(filepath.Join(dir, "QRO-RSK-MDQ-104.md"))
 	if !strings.Contains(string(qpsk), "100g-dp-qpsk") {
 		t.Error("QRO-RSK-MDQ-104 is not judged on its own profile, 100g-dp-qpsk")
