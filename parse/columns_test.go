@@ -168,3 +168,25 @@ func TestPhysicalBounds(t *testing.T) {
 		})
 	}
 }
+
+// A first block holding thousands of ports one sample time after another sees each port once or
+// twice: every such port is sized to the block's mean rows per port, not twice as much for the
+// ports seen twice; a block of a file sorted by port (a few ports end to end) hints nothing.
+func TestCapacityHintFleetBlock(t *testing.T) {
+	// 3 ports seen twice (rows 0-2 and 4-6 of a 7-row block), one port seen once (row 3).
+	job := &csvJob{names: []string{"a", "b", "c", "d"}, groupEnd: []int32{2, 4, 6, 7},
+		spread: []int32{4, 4, 4, 0}, times: make([]int64, 7)}
+	h := newCapacityHint(job, 100, func(int) int { return 1 })
+	mean := 7.0 / 4
+	want := int(mean*100*1.05) + 16
+	for g, n := range h.rows {
+		if n != want {
+			t.Errorf("port %s: %d rows, want the mean %d", job.names[g], n, want)
+		}
+	}
+	sorted := &csvJob{names: []string{"a", "b"}, groupEnd: []int32{40, 80},
+		spread: []int32{39, 39}, times: make([]int64, 80)}
+	if h := newCapacityHint(sorted, 100, func(int) int { return 1 }); h != nil {
+		t.Errorf("port-sorted block hinted: %v", h.rows)
+	}
+}

@@ -20,21 +20,47 @@ type capacityHint struct {
 }
 
 // newCapacityHint hints the groups of job; cols(g) is the number of columns of group g.
+//
+// A block in which (nearly) every port is spread over the block or seen once holds the fleet's
+// ports one sample time after another; with thousands of ports it sees each only once or twice,
+// too few to scale up port by port (a port seen twice would get twice the room of one seen
+// once), so each port seen fewer than 8 times is expected to have the block's mean rows per port.
 func newCapacityHint(job *csvJob, ratio float64, cols func(g int) int) *capacityHint {
-	h := &capacityHint{rows: make([]int, len(job.names)), off: make([]int, len(job.names)), voff: make([]int, len(job.names))}
-	start, total, nvals := int32(0), 0, 0
+	np := len(job.names)
+	h := &capacityHint{rows: make([]int, np), off: make([]int, np), voff: make([]int, np)}
 	blockRows := len(job.times)
-	for g := range job.names {
-		end := job.groupEnd[g]
-		h.off[g], h.voff[g] = total, nvals
-		if 2*int(job.spread[g]) >= blockRows {
-			// +1 row and 5 %: the first block sees each port a few dozen times, so its
-			// count is easily off by one; capacity never written costs address space.
-			h.rows[g] = int(float64(end-start+1)*ratio*1.05) + 16
-			total += h.rows[g]
-			nvals += h.rows[g] * cols(g)
+	count := func(g int) int32 {
+		if g == 0 {
+			return job.groupEnd[0]
 		}
-		start = end
+		return job.groupEnd[g] - job.groupEnd[g-1]
+	}
+	spreadOrOnce := 0
+	for g := range np {
+		if count(g) == 1 || 2*int(job.spread[g]) >= blockRows {
+			spreadOrOnce++
+		}
+	}
+	timeMajor := spreadOrOnce*10 >= np*9
+	mean := float64(blockRows) / float64(np)
+	total, nvals := 0, 0
+	for g := range np {
+		h.off[g], h.voff[g] = total, nvals
+		var expect float64
+		switch c := count(g); {
+		case timeMajor && c < 8:
+			expect = mean
+		case 2*int(job.spread[g]) >= blockRows:
+			// +1 row: the first block sees each port a few dozen times, so its count is
+			// easily off by one.
+			expect = float64(c + 1)
+		default:
+			continue
+		}
+		// 5 % and 16 rows of slack: capacity never written costs only address space.
+		h.rows[g] = int(expect*ratio*1.05) + 16
+		total += h.rows[g]
+		nvals += h.rows[g] * cols(g)
 	}
 	if total == 0 {
 		return nil
