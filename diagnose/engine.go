@@ -136,6 +136,10 @@ func AnalyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 }
 
 func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules, lazyCorr bool) PortResult {
+	// The stages, in order: derive (per-sample BER, Q, eSNR, dark samples) and findings (steps,
+	// bursts, trends, fits) in newPortCtx; compliance (metrics, criteria, plan vs measured);
+	// evidence, posterior and listing in causes (posterior.go); the SNR budget; risk notes; the
+	// verdict from the criteria.
 	pc := newPortCtx(s, prof, plan, exp, r, lazyCorr)
 	pc.metrics()
 	pc.criteria()
