@@ -12,6 +12,7 @@ import (
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/diagnose/line"
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/report"
 	"github.com/beatnote/beatnote/rules"
 	"github.com/schollz/progressbar/v3"
 )
@@ -273,10 +274,10 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 			map[bool]string{true: " and the --plan given", false: " without a plan"}[plan != nil])
 	}
 	if len(mixed) > 0 {
-		pr.Notef("%d ports name two profiles in their rows, so the data does not say which applies, e.g. %s", len(mixed), mixed[0])
+		pr.Notef("%s two profiles in their rows, so the data does not say which applies, e.g. %s", report.Plural(len(mixed), "port names", "ports name"), mixed[0])
 	}
 	if len(overridden) > 0 {
-		pr.Notef("%d ports are judged on another profile than their data names, e.g. %s", len(overridden), overridden[0])
+		pr.Notef("%s judged on another profile than their data names, e.g. %s", report.Plural(len(overridden), "port is", "ports are"), overridden[0])
 	}
 	if assumed > 0 {
 		pr.Notef("%d of %d ports judged against the assumed default profile %s: nothing names theirs (pass --profile ID; see 'beatnote profiles')", assumed, len(ds.Series), defProf.ID)
@@ -308,7 +309,11 @@ func profileFromData(s *parse.Series, st diagnose.Setup, profiles []rules.Profil
 		if first.ID == st.Profile.ID {
 			return st, "", nil
 		}
-		return st, fmt.Sprintf("port %q: judged on %s (from the %s) while %s line %d names %q", s.Port, st.Profile.ID, st.ProfileSource, first.File, first.Line, first.ID), nil
+		by := "--profile or --plan"
+		if st.ProfileSource == diagnose.ProfileFromMap {
+			by = "the port map"
+		}
+		return st, fmt.Sprintf("port %q: judged on %s (from %s) while %s line %d names %q", s.Port, st.Profile.ID, by, first.File, first.Line, first.ID), nil
 	}
 	p, err := rules.ProfileByID(profiles, first.ID)
 	if err != nil {

@@ -107,7 +107,7 @@ func TestTriageProfileColumn(t *testing.T) {
 	if code != 1 || q.Source != "flag" || q.Profile != "400g-dp-16qam-cfec" || !hasCause(q, "cd-over-limit") {
 		t.Errorf("--profile over the column: exit %d, qpsk-1 %+v; want flag, cd-over-limit on the 400ZR class", code, q)
 	}
-	if !strings.Contains(errw, `port "qpsk-1": judged on 400g-dp-16qam-cfec (from the flag) while `+log+` line 2 names "100g-dp-qpsk"`) {
+	if !strings.Contains(errw, `port "qpsk-1": judged on 400g-dp-16qam-cfec (from --profile or --plan) while `+log+` line 2 names "100g-dp-qpsk"`) {
 		t.Errorf("no note of the overridden column:\n%s", errw)
 	}
 
@@ -140,7 +140,7 @@ func TestTriageProfileColumnRefusals(t *testing.T) {
 	}
 	// check judges it on the assumed default and says so.
 	code, out, errw = runCLI(t, "check", log, "--soak", "1h", "--format", "json")
-	if code == 2 || !strings.Contains(out, `"profile_source": "default"`) || !strings.Contains(errw, "1 ports name two profiles in their rows") {
+	if code == 2 || !strings.Contains(out, `"profile_source": "default"`) || !strings.Contains(errw, "1 port names two profiles in their rows") {
 		t.Errorf("check of a mixed port: exit %d\n%s%s", code, out, errw)
 	}
 
