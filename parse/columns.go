@@ -62,7 +62,7 @@ func buildHeaderTable() map[string]column {
 	for _, n := range []string{"port", "port_name", "port_id", "interface", "channel"} {
 		add(n, column{kind: colPort})
 	}
-	for _, n := range []string{"profile", "profile_id", "module_profile"} {
+	for _, n := range []string{"profile", "profile_id", "module_profile", "module_type"} {
 		add(n, column{kind: colProfile})
 	}
 	db := []unitAlt{{[]string{"db"}, convNone}}

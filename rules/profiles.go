@@ -9,6 +9,7 @@ import (
 	"regexp"
 	"slices"
 	"strings"
+	"unicode"
 
 	"go.yaml.in/yaml/v3"
 )
@@ -113,6 +114,11 @@ func (p Profile) Validate() error {
 	}
 	if !profileIDRE.MatchString(p.ID) {
 		return fieldErr("id", ErrRange, "%q: use lower-case letters, digits and dashes", p.ID)
+	}
+	for _, t := range p.ModuleTypes {
+		if t == "" || len(t) > 64 || strings.ContainsFunc(t, unicode.IsControl) {
+			return fieldErr("module_types", ErrRange, "%q: a module type is a name of 1 to 64 printable bytes", t)
+		}
 	}
 	if _, ok := Modulations[p.Modulation]; !ok {
 		return fieldErr("modulation", ErrRange, "%q is not one of dp-qpsk, dp-8qam, dp-16qam, dp-32qam, dp-64qam", p.Modulation)
@@ -281,7 +287,29 @@ func decodeProfiles(file string, data []byte, base []Profile) ([]Profile, error)
 	if len(out) == 0 {
 		return nil, &FileError{File: file, Line: ix.lineOf("profiles"), Field: "profiles", Err: fmt.Errorf("%w: the file lists no profiles", ErrMissing)}
 	}
+	if err := checkModuleTypes(out); err != nil {
+		return nil, &FileError{File: file, Line: ix.lineOf("profiles"), Field: "module_types", Err: err}
+	}
 	return out, nil
+}
+
+// checkModuleTypes checks that each module type names one profile and is no profile's id
+// (ignoring case), so that ProfileByName has one answer.
+func checkModuleTypes(profiles []Profile) error {
+	owner := map[string]string{}
+	for _, p := range profiles {
+		owner[strings.ToLower(p.ID)] = p.ID
+	}
+	for _, p := range profiles {
+		for _, t := range p.ModuleTypes {
+			k := strings.ToLower(t)
+			if other, dup := owner[k]; dup && other != p.ID {
+				return fmt.Errorf("%w module type %q: profile %s has it too (or as its id)", ErrDuplicate, t, other)
+			}
+			owner[k] = p.ID
+		}
+	}
+	return nil
 }
 
 // profileItems returns the item nodes of the "profiles" list of a profiles document.
@@ -315,6 +343,30 @@ func mentionsSource(m *yaml.Node, key string) bool {
 		}
 	}
 	return false
+}
+
+// ProfileByName finds the profile a telemetry's profile column names: by its id, else by one
+// of its module types (ignoring case). The error lists the ids and module types known.
+func ProfileByName(profiles []Profile, name string) (Profile, error) {
+	var types []string
+	for _, p := range profiles {
+		if p.ID == name {
+			return p, nil
+		}
+	}
+	for _, p := range profiles {
+		for _, t := range p.ModuleTypes {
+			if strings.EqualFold(t, name) {
+				return p, nil
+			}
+			types = append(types, t)
+		}
+	}
+	_, err := ProfileByID(profiles, name)
+	if len(types) > 0 {
+		err = fmt.Errorf("%w; module types: %s", err, strings.Join(types, ", "))
+	}
+	return Profile{}, err
 }
 
 // ProfileByID finds the profile with the given id; the error lists the ids known.

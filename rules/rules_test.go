@@ -604,3 +604,35 @@ func FuzzPortMap(f *testing.F) {
 		}
 	})
 }
+
+// A telemetry's profile column gives an id, or a module type a profile lists (ignoring case).
+func TestProfileByName(t *testing.T) {
+	base := mustBuiltin(t)
+	for _, tc := range []struct{ name, want, errHas string }{
+		{"100g-dp-qpsk", "100g-dp-qpsk", ""},
+		{"400ZR", "400g-dp-16qam-cfec", ""},
+		{"400zr", "400g-dp-16qam-cfec", ""},
+		{"100G-DP-QPSK", "", `unknown profile "100G-DP-QPSK" (known: 100g-dp-qpsk, `},
+		{"zr400", "", "; module types: 400ZR"},
+	} {
+		p, err := ProfileByName(base, tc.name)
+		if tc.errHas != "" {
+			if !errors.Is(err, ErrUnknownProfile) || !strings.Contains(err.Error(), tc.errHas) {
+				t.Errorf("%q: err %v, want ErrUnknownProfile saying %q", tc.name, err, tc.errHas)
+			}
+			continue
+		}
+		if err != nil || p.ID != tc.want {
+			t.Errorf("%q: %q, %v; want %s", tc.name, p.ID, err, tc.want)
+		}
+	}
+	// A module type names one profile: a second profile claiming it, or claiming another's id,
+	// is refused.
+	dir := t.TempDir()
+	for name, types := range map[string]string{"twice.yaml": "[400zr]", "id.yaml": "[100G-DP-QPSK]"} {
+		path := writeFile(t, dir, name, "profiles:\n  - id: 800g-dp-16qam\n    module_types: "+types+"\n")
+		if _, err := LoadProfiles(path); !errors.Is(err, ErrDuplicate) || !strings.Contains(err.Error(), "module type") {
+			t.Errorf("%s: err %v, want a duplicate module type", name, err)
+		}
+	}
+}

@@ -40,6 +40,9 @@ type Profile struct {
 	FrequencyMaxTHz float64 `yaml:"frequency_max_thz" json:"frequency_max_thz,omitempty"`
 	// HazardLevel is the IEC 60825-2 hazard level of the interface, e.g. "1M".
 	HazardLevel string `yaml:"hazard_level" json:"hazard_level"`
+	// ModuleTypes are names of the module class a telemetry's profile column may give instead
+	// of the id, matched ignoring case (e.g. "400ZR"); each names one profile only.
+	ModuleTypes []string `yaml:"module_types" json:"module_types,omitempty"`
 	// Sources names where each figure comes from, keyed by the figure's name.
 	Sources map[string]string `yaml:"sources" json:"sources"`
 }

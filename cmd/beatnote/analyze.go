@@ -306,7 +306,7 @@ func profileFromData(s *parse.Series, st diagnose.Setup, profiles []rules.Profil
 		return st, fmt.Sprintf("port %q: %q (%s line %d) and %q (%s line %d)", s.Port, first.ID, first.File, first.Line, second.ID, second.File, second.Line), nil
 	}
 	if st.ProfileSource != diagnose.ProfileAssumed {
-		if first.ID == st.Profile.ID {
+		if p, err := rules.ProfileByName(profiles, first.ID); err == nil && p.ID == st.Profile.ID {
 			return st, "", nil
 		}
 		by := "--profile or --plan"
@@ -315,7 +315,7 @@ func profileFromData(s *parse.Series, st diagnose.Setup, profiles []rules.Profil
 		}
 		return st, fmt.Sprintf("port %q: judged on %s (from %s) while %s line %d names %q", s.Port, st.Profile.ID, by, first.File, first.Line, first.ID), nil
 	}
-	p, err := rules.ProfileByID(profiles, first.ID)
+	p, err := rules.ProfileByName(profiles, first.ID)
 	if err != nil {
 		return st, "", fmt.Errorf("%s line %d: the profile column of port %q: %w", first.File, first.Line, s.Port, err)
 	}

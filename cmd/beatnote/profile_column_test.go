@@ -146,13 +146,33 @@ func TestTriageProfileColumnRefusals(t *testing.T) {
 
 	// An unknown profile id is an error naming the file, the line and the known ids.
 	bad := filepath.Join(dir, "bad.csv")
-	if err := os.WriteFile(bad, []byte("time,port,profile,q_db\n2026-03-14T08:00:00Z,a,400zr,9\n"), 0o644); err != nil {
+	if err := os.WriteFile(bad, []byte("time,port,profile,q_db\n2026-03-14T08:00:00Z,a,zr400,9\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	for _, cmd := range []string{"triage", "check"} {
 		code, _, errw = runCLI(t, cmd, bad)
-		if code != 2 || !strings.Contains(errw, bad+` line 2: the profile column of port "a": unknown profile "400zr" (known: 100g-dp-qpsk, `) {
+		if code != 2 || !strings.Contains(errw, bad+` line 2: the profile column of port "a": unknown profile "zr400" (known: 100g-dp-qpsk, `) ||
+			!strings.Contains(errw, "module types: 400ZR") {
 			t.Errorf("%s with an unknown profile id: exit %d\n%s", cmd, code, errw)
 		}
+	}
+}
+
+// A module type column naming a profile's module type (ignoring case) picks that profile.
+func TestTriageModuleTypeColumn(t *testing.T) {
+	dir := t.TempDir()
+	log := writeProfiledLog(t, dir, map[string][]string{"zr-1": {"400g-dp-16qam-cfec"}})
+	data, err := os.ReadFile(log)
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := strings.Replace(string(data), "time,port,profile,", "time,port,Module type,", 1)
+	text = strings.ReplaceAll(text, ",zr-1,400g-dp-16qam-cfec,", ",zr-1,400zr,")
+	if err := os.WriteFile(log, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, ports, errw := triagePorts(t, log)
+	if z := ports["zr-1"]; code != 0 || z.Profile != "400g-dp-16qam-cfec" || z.Source != "column" {
+		t.Errorf("module type 400zr: exit %d, zr-1 %+v\n%s", code, z, errw)
 	}
 }
