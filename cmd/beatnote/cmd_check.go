@@ -22,7 +22,7 @@ type CheckCmd struct {
 
 // Help is the long help of the command.
 func (c *CheckCmd) Help() string {
-	return `Prints, per port, the verdict (pass, marginal, fail or no-data), the criteria table
+	return `Prints, per port, the verdict (pass, marginal, fail, incomplete or no-data), the criteria table
 (measured value, limit, margin, verdict and where the limit comes from), the plan's expected
 values next to the measured ones (with --plan), the likely causes with their evidence and what
 to do on site, and what could not be judged and why. docs/diagnosis.md explains the method.
@@ -32,7 +32,12 @@ port's peer, check judges the circuit both ways — each port receives what the 
 says where a fault seen in one direction only lies: on that direction's path. With a map that
 names lines, the line findings come first.
 
-Exit status: 0 every port passes; 1 some port is marginal, failing or could not be judged;
+Acceptance test: the log must cover the test period (--soak, the plan's soak, else 24 h) with
+at least 95 % of its sample slots used, or a port that meets every limit is incomplete, not a
+pass. Error performance (ITU-T G.826 / G.8201) is judged from uncorrected blocks or post-FEC
+BER. --baseline OLD_LOG... compares an earlier period criterion by criterion.
+
+Exit status: 0 every port passes; 1 some port is marginal, failing, incomplete or could not be judged;
 2 the run could not complete.`
 }
 

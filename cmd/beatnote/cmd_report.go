@@ -55,7 +55,8 @@ written beside it, covering the report and every input file; check it with beatn
 See docs/report.md.
 
 Exit status: 0 report written and every port passes; 1 report written and some port is
-marginal or failing; 2 no report (usage, unreadable input, nothing usable).`
+marginal, failing or incomplete (the log shorter or sparser than the test period, --soak);
+2 no report (usage, unreadable input, nothing usable).`
 }
 
 // Run writes the report (and its signature).

@@ -58,7 +58,7 @@ const rootHelp = `beatnote reads the telemetry a coherent transceiver's DSP expo
 CD, DGD, PDL, SOP rate, LO offset, powers), judges it against the module's limits and the link's
 plan, names the likely physical cause with its evidence, and writes signed acceptance reports.
 
-Exit status: 0 completed and every port passes; 1 completed and some port is marginal or failing;
+Exit status: 0 completed and every port passes; 1 completed and some port is marginal, failing or incomplete;
 2 could not complete (usage, unreadable input, nothing usable).`
 
 func main() {
