@@ -182,32 +182,36 @@ func row2(t map[string][2]float64, h string) [2]float64 {
 	return t[""]
 }
 
-// stateProbs lists P(observed state | h) for each known observable of the port (unknown
-// observables are left out: marginalised).
-func (o observables) stateProbs(h string) []float64 {
-	out := make([]float64, 0, 5)
+// stateProbs gives P(observed state | h) for each known observable of the port, k of them
+// (unknown observables are left out: marginalised).
+func (o observables) stateProbs(h string) (p [numObservables]float64, k int) {
 	if o.noise != noiseUnknown {
-		out = append(out, row4(noiseLik, h)[o.noise])
+		p[k], k = row4(noiseLik, h)[o.noise], k+1
 	}
 	if o.power != powerUnknown {
-		out = append(out, row4(powerLik, h)[o.power])
+		p[k], k = row4(powerLik, h)[o.power], k+1
 	}
 	if o.osnr != osnrUnknown {
-		out = append(out, row2(osnrLik, h)[o.osnr])
+		p[k], k = row2(osnrLik, h)[o.osnr], k+1
 	}
 	if o.tx != txUnknown {
-		out = append(out, row2(txLik, h)[o.tx])
+		p[k], k = row2(txLik, h)[o.tx], k+1
 	}
-	return append(out, row2(darkLik, h)[o.dark])
+	p[k], k = row2(darkLik, h)[o.dark], k+1
+	return p, k
 }
+
+// numObservables: noise pattern, received power, OSNR, transmit power, dark samples.
+const numObservables = 5
 
 // symptomLogLik is Σ_k ln P(o_k | h) over the known observables; a pair of causes takes the
 // even mixture of its two rows per observable (either fault may be the one a given observable
 // shows), as posterior computes it.
 func (o observables) symptomLogLik(h string) float64 {
+	p, k := o.stateProbs(h)
 	ll := 0.0
-	for _, p := range o.stateProbs(h) {
-		ll += math.Log(p)
+	for _, x := range p[:k] {
+		ll += math.Log(x)
 	}
 	return ll
 }
@@ -305,20 +309,21 @@ func (pc *portCtx) posterior(o observables, scores map[string]*score) (causes ma
 	}
 	// Per cause: ln prior, Σ LLR, and the probability of each observed state, so that a pair's
 	// mixture is arithmetic on these (no table look-ups in the pair loop).
-	n := len(AllCauses)
-	lp, llr := make([]float64, n), make([]float64, n)
-	q := make([][]float64, n)
+	const n = numCauses
+	var lp, llr [n]float64
+	var q [n][numObservables]float64
+	k := 0
 	for i, id := range AllCauses {
 		lp[i] = lnPrior(id)
 		if s := scores[id]; s != nil {
 			llr[i] = s.sum()
 		}
-		q[i] = o.stateProbs(id)
+		q[i], k = o.stateProbs(id)
 	}
 	pairLL := func(a, b int) float64 {
 		ll := 0.0
-		for k := range q[a] {
-			ll += math.Log((q[a][k] + q[b][k]) / 2)
+		for j := 0; j < k; j++ {
+			ll += math.Log((q[a][j] + q[b][j]) / 2)
 		}
 		return ll
 	}
@@ -326,13 +331,13 @@ func (pc *portCtx) posterior(o observables, scores map[string]*score) (causes ma
 		a, b int // cause indices; b < 0 for a single cause; a < 0: healthy (−1) or unexplained (−2)
 		logw float64
 	}
-	hs := make([]hyp, 0, 2+n+n*(n-1)/2)
+	hs := make([]hyp, 0, 2+n+n*(n-1)/2) // one allocation per port
 	hs = append(hs,
 		hyp{-1, -1, lnPrior(HypHealthy) + o.symptomLogLik(HypHealthy)/T},
 		hyp{-2, -1, lnPrior(HypUnexplained) + o.symptomLogLik(HypUnexplained)/T})
 	for a := 0; a < n; a++ {
 		single := 0.0
-		for _, p := range q[a] {
+		for _, p := range q[a][:k] {
 			single += math.Log(p)
 		}
 		hs = append(hs, hyp{a, -1, lp[a] + (single+llr[a])/T})
@@ -345,14 +350,13 @@ func (pc *portCtx) posterior(o observables, scores map[string]*score) (causes ma
 		top = math.Max(top, h.logw)
 	}
 	total := 0.0
-	w := make([]float64, len(hs))
-	for i, h := range hs {
-		w[i] = math.Exp(h.logw - top)
-		total += w[i]
+	for i := range hs {
+		hs[i].logw = math.Exp(hs[i].logw - top) // from here on the unnormalised weight
+		total += hs[i].logw
 	}
-	marg := make([]float64, n)
-	for i, h := range hs {
-		p := w[i] / total
+	var marg [n]float64
+	for _, h := range hs {
+		p := h.logw / total
 		switch {
 		case h.a == -1:
 			healthy = p

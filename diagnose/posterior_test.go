@@ -10,6 +10,9 @@ import (
 // marginal can exceed what healthy and unexplained leave, the largest single-port mass goes to
 // healthy on a healthy port, and a missing column changes nothing but its own term.
 func TestPosteriorNormalised(t *testing.T) {
+	if len(AllCauses) != numCauses {
+		t.Fatalf("numCauses %d, AllCauses has %d", numCauses, len(AllCauses))
+	}
 	p, r := testSetup(t, "400g-dp-16qam-cfec")
 	for _, c := range []struct {
 		name  string

@@ -67,6 +67,9 @@ const (
 	ProfileAssumed    = "default" // nothing said: the built-in default, an assumption
 )
 
+// numCauses is len(AllCauses) (TestPosteriorNormalised checks it).
+const numCauses = 15
+
 // AllCauses lists every cause id of the design contract, in its order.
 var AllCauses = []string{
 	CauseOSNRLow, CauseRxPowerLow, CauseRxOverload, CauseCDMismatch, CauseCDOverLimit, CausePMD,
