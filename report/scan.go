@@ -35,13 +35,16 @@ type ScanPort struct {
 	// BinExtremes lists the bin minima and maxima of a performance-monitoring export
 	// ("q_db_min", "dgd_ps_max"), which the criteria judge; empty for plain samples.
 	BinExtremes []string `json:"bin_extremes,omitempty"`
+	// Profiles are the module profiles the port's rows name (a profile column), each with
+	// where it is first named; two mean the rows disagree. Not checked against the profiles.
+	Profiles []parse.ProfileMention `json:"profiles,omitempty"`
 }
 
 // SummarizePorts lists every port of ds with its time span, sample interval and quantities.
 func SummarizePorts(ds *parse.Dataset) []ScanPort {
 	out := make([]ScanPort, 0, len(ds.Series))
 	for _, s := range ds.Series {
-		sp := ScanPort{Port: s.Port, Samples: s.Len(), Quantities: []string{}}
+		sp := ScanPort{Port: s.Port, Samples: s.Len(), Quantities: []string{}, Profiles: s.Profiles}
 		if s.Len() > 0 {
 			sp.From = fmtTime(s.TimesMs[0])
 			sp.To = fmtTime(s.TimesMs[s.Len()-1])
@@ -205,6 +208,14 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 			}
 			if len(p.BinExtremes) > 0 {
 				q += "; bins with " + strings.Join(p.BinExtremes, " ")
+			}
+			switch len(p.Profiles) {
+			case 1:
+				q += "; profile " + escape.Visible(p.Profiles[0].ID)
+			case 2:
+				a, b := p.Profiles[0], p.Profiles[1]
+				q += fmt.Sprintf("; rows name two profiles, %s (%s line %d) and %s (%s line %d)",
+					escape.Visible(a.ID), escape.Visible(a.File), a.Line, escape.Visible(b.ID), escape.Visible(b.File), b.Line)
 			}
 			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", escape.Visible(p.Port), group(p.Samples), p.From, p.To, every, q)
 		}

@@ -176,3 +176,20 @@ func TestTriageModuleTypeColumn(t *testing.T) {
 		t.Errorf("module type 400zr: exit %d, zr-1 %+v\n%s", code, z, errw)
 	}
 }
+
+// scan shows what the profile column names per port, and a port whose rows disagree, escaped.
+func TestScanShowsProfiles(t *testing.T) {
+	dir := t.TempDir()
+	p := writeFile(t, dir, "m.csv", "time,port,profile,q_db\n1,a,p1,9\n2,a,p2,9\n1,b,\"x\u202ey\",9\n")
+	out, err := runScan(t, ScanCmd{Paths: []string{p}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(out, "rows name two profiles, p1 ("+p+" line 2) and p2 ("+p+" line 3)") || strings.Contains(out, "\u202e") {
+		t.Errorf("scan text:\n%s", out)
+	}
+	out, err = runScan(t, ScanCmd{Paths: []string{p}, Format: "json"})
+	if err != nil || !strings.Contains(out, `"profiles": [`) {
+		t.Errorf("scan JSON: %v\n%s", err, out)
+	}
+}
