@@ -85,6 +85,41 @@ var ocFECLeaves = []ocLeaf{
 	{"fec-uncorrectable-blocks", column{kind: colQuantity, q: UncorrectedBlocks}},
 }
 
+// leafMembers sets out[i] to d.member(obj, leaves[i].name) for every leaf, in one pass over
+// the object's members.
+func (d *jdoc) leafMembers(obj int, leaves []ocLeaf, out []int) {
+	var prefixed [16]int
+	for i := range out {
+		out[i], prefixed[i] = -1, -1
+	}
+	for c := obj + 1; c < int(d.nodes[obj].end); c = int(d.nodes[c].end) {
+		n := &d.nodes[c]
+		k := d.key(n)
+		base := k
+		if i := lastColon(k); i >= 0 {
+			base = k[i+1:]
+		}
+		for i, l := range leaves {
+			if len(base) != len(l.name) || string(base) != l.name {
+				continue
+			}
+			if len(base) == len(k) {
+				out[i] = c // the last of equal names counts
+			} else if prefixed[i] < 0 {
+				prefixed[i] = c
+			}
+		}
+	}
+	for i := range out {
+		if out[i] < 0 {
+			out[i] = prefixed[i]
+		}
+		if out[i] >= 0 && d.nodes[out[i]].kind == jNull {
+			out[i] = -1
+		}
+	}
+}
+
 // statValue picks the chosen statistic out of an instant/avg/min/max container (falling back
 // to instant), or takes a plain value as is; v is the leaf's node (-1: absent). It returns the
 // value's node, -1 when there is no value.
@@ -146,8 +181,10 @@ func (jp *jsonParser) openConfig(lineNo int) {
 		if state < 0 {
 			return
 		}
-		for _, l := range leaves {
-			val := d.statValue(d.member(state, l.name), jp.stat)
+		var found [16]int
+		d.leafMembers(state, leaves, found[:len(leaves)])
+		for i, l := range leaves {
+			val := d.statValue(found[i], jp.stat)
 			if val < 0 {
 				continue
 			}
