@@ -46,6 +46,7 @@ func TestTimeOptions(t *testing.T) {
 		{"strftime fraction", "%m/%d/%Y %I:%M:%S.%f %p", false, "", "03/14/2026 08:30:15.25 PM", utc(2026, 3, 14, 20, 30, 15) + 250},
 		{"strftime month name, zone", "%d %b %Y %H:%M", false, "Europe/Berlin", "14 Mar 2026 09:30", time.Date(2026, 3, 14, 9, 30, 0, 0, berlin).UnixMilli()},
 		{"Go layout", "2006.01.02 15h04", false, "", "2026.03.14 08h30", utc(2026, 3, 14, 8, 30, 0)},
+		{"Go layout without leading zeros", "2.1.2006 15:04", false, "", "4.3.2026 8:30", utc(2026, 3, 4, 8, 30, 0)},
 		{"layout is exclusive", "%d.%m.%Y %H:%M", false, "", "2026-03-14T08:30:00Z", -1},
 		{"layout, year out of range", "%d.%m.%Y %H:%M", false, "", "14.03.1899 08:30", -1},
 	}
