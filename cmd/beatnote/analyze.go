@@ -302,6 +302,9 @@ func profileFromData(s *parse.Series, st diagnose.Setup, profiles []rules.Profil
 	}
 	first := s.Profiles[0]
 	if len(s.Profiles) > 1 {
+		if st.ProfileSource != diagnose.ProfileAssumed {
+			return st, "", nil // the operator named it: what the rows say does not matter
+		}
 		second := s.Profiles[1]
 		return st, fmt.Sprintf("port %q: %q (%s line %d) and %q (%s line %d)", s.Port, first.ID, first.File, first.Line, second.ID, second.File, second.Line), nil
 	}

@@ -8,7 +8,9 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/rules"
 	"github.com/beatnote/beatnote/samples/synth"
 )
 
@@ -191,5 +193,61 @@ func TestScanShowsProfiles(t *testing.T) {
 	out, err = runScan(t, ScanCmd{Paths: []string{p}, Format: "json"})
 	if err != nil || !strings.Contains(out, `"profiles": [`) {
 		t.Errorf("scan JSON: %v\n%s", err, out)
+	}
+}
+
+// The order of profileFromData: a setup from the map, --profile or --plan stands; the column
+// places a port nothing else named, unless its rows disagree.
+func TestProfileFromDataPrecedence(t *testing.T) {
+	profiles, err := rules.BuiltinProfiles()
+	if err != nil {
+		t.Fatal(err)
+	}
+	byID := func(id string) rules.Profile {
+		p, err := rules.ProfileByID(profiles, id)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return p
+	}
+	assumed := diagnose.Setup{Profile: byID("400g-dp-16qam-cfec"), ProfileSource: diagnose.ProfileAssumed}
+	flag := diagnose.Setup{Profile: byID("200g-dp-16qam"), ProfileSource: diagnose.ProfileFromFlag}
+	mapped := diagnose.Setup{Profile: byID("800g-dp-16qam"), ProfileSource: diagnose.ProfileFromMap}
+	one := []parse.ProfileMention{{ID: "100g-dp-qpsk", File: "f.csv", Line: 2}}
+	same := []parse.ProfileMention{{ID: "200G-DP-16QAM", File: "f.csv", Line: 2}}
+	zr := []parse.ProfileMention{{ID: "400zr", File: "f.csv", Line: 2}}
+	two := []parse.ProfileMention{{ID: "100g-dp-qpsk", File: "f.csv", Line: 2}, {ID: "800g-dp-16qam", File: "g.csv", Line: 9}}
+	for _, tc := range []struct {
+		name              string
+		st                diagnose.Setup
+		named             []parse.ProfileMention
+		profile, source   string
+		noteHas, errorHas string
+	}{
+		{"no column: the setup stands", assumed, nil, "400g-dp-16qam-cfec", "default", "", ""},
+		{"column over the default", assumed, one, "100g-dp-qpsk", "column", "", ""},
+		{"module type over the default", assumed, zr, "400g-dp-16qam-cfec", "column", "", ""},
+		{"flag over the column, noted", flag, one, "200g-dp-16qam", "flag", `judged on 200g-dp-16qam (from --profile or --plan) while f.csv line 2 names "100g-dp-qpsk"`, ""},
+		{"map over the column, noted", mapped, one, "800g-dp-16qam", "map", "(from the port map)", ""},
+		{"rows that disagree: nothing from the data", assumed, two, "400g-dp-16qam-cfec", "default", `"100g-dp-qpsk" (f.csv line 2) and "800g-dp-16qam" (g.csv line 9)`, ""},
+		{"rows that disagree under a flag: no note", flag, two, "200g-dp-16qam", "flag", "", ""},
+		{"unknown id", assumed, same, "", "", "", `f.csv line 2: the profile column of port "p": unknown profile "200G-DP-16QAM" (known: `},
+		{"unknown id under a flag: noted, not an error", flag, same, "200g-dp-16qam", "flag", `names "200G-DP-16QAM"`, ""},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			st, note, err := profileFromData(&parse.Series{Port: "p", Profiles: tc.named}, tc.st, profiles)
+			if tc.errorHas != "" {
+				if err == nil || !strings.Contains(err.Error(), tc.errorHas) {
+					t.Fatalf("err %v, want %q", err, tc.errorHas)
+				}
+				return
+			}
+			if err != nil || st.Profile.ID != tc.profile || st.ProfileSource != tc.source {
+				t.Errorf("%s from %s (%v), want %s from %s", st.Profile.ID, st.ProfileSource, err, tc.profile, tc.source)
+			}
+			if tc.noteHas == "" && note != "" || !strings.Contains(note, tc.noteHas) {
+				t.Errorf("note %q, want %q", note, tc.noteHas)
+			}
+		})
 	}
 }
