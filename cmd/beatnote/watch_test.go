@@ -409,3 +409,30 @@ func TestWatchRefusals(t *testing.T) {
 		t.Fatal("an existing file was overwritten")
 	}
 }
+
+// Stopping watch mid-stream (--for here; Ctrl-C cancels the same way) ends it without an error
+// and leaves a complete recording of the samples that arrived.
+func TestWatchStoppedMidStreamLeavesCompleteRecording(t *testing.T) {
+	dir := t.TempDir()
+	caFile, cert := testPKI(t, dir)
+	tt := &testTarget{series: healthyCircuit(t, 200), interval: 100 * time.Millisecond, faultAt: 1000, user: "tech", pass: "s3cret"}
+	addr := startTarget(t, tt, cert)
+	t.Setenv(passwordEnv, "s3cret")
+	rec := filepath.Join(dir, "stopped.csv")
+	code, _, errw := runWatch(t, addr, "--ca", caFile, "--username", "tech", "--interval", "100ms", "--record", rec,
+		"--profile", "400g-dp-16qam-cfec", "--soak", "15m", "--for", "1500ms")
+	if code == 2 {
+		t.Fatalf("exit 2 after a stop: %s", errw)
+	}
+	raw, err := os.ReadFile(rec)
+	if err != nil || !bytes.HasSuffix(raw, []byte("\n")) {
+		t.Fatalf("recording does not end with a whole row: %v", err)
+	}
+	ds, err := parse.ReadPaths([]string{rec}, parse.Options{})
+	if err != nil || len(ds.Series) != 1 || ds.Inputs[0].RowsRejected != 0 {
+		t.Fatalf("recording after the stop: %v %+v", err, ds.Inputs)
+	}
+	if n := ds.Series[0].Len(); n < 3 || n >= 200 {
+		t.Fatalf("%d samples recorded in 1.5 s at 100 ms, want some and not all", n)
+	}
+}
