@@ -363,6 +363,17 @@ func (db *datasetBuilder) finish(inputs []InputStats, workers int) []*Series {
 	}
 	sort.Slice(ports, func(i, j int) bool { return ports[i].name < ports[j].name })
 	out := make([]*Series, len(ports))
+	// Each series' Inputs is a piece of one slice: absorb added one run per input, in order.
+	fileOf := make([]int, 0, len(ports))
+	for _, p := range ports {
+		for _, r := range p.runs {
+			fileOf = append(fileOf, r.file)
+		}
+	}
+	inputsAt := make([]int, len(ports)+1)
+	for i, p := range ports {
+		inputsAt[i+1] = inputsAt[i] + len(p.runs)
+	}
 	var (
 		mu   sync.Mutex
 		next atomic.Int64
@@ -378,7 +389,7 @@ func (db *datasetBuilder) finish(inputs []InputStats, workers int) []*Series {
 					return
 				}
 				p := ports[i]
-				s := &Series{Port: p.name, TimesMs: p.times}
+				s := &Series{Port: p.name, TimesMs: p.times, Inputs: fileOf[inputsAt[i]:inputsAt[i+1]:inputsAt[i+1]]}
 				for q := Quantity(0); q < NumQuantities; q++ {
 					if p.mask&(1<<q) != 0 {
 						s.Values[q] = p.vals[q].flatten()

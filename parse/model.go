@@ -85,6 +85,9 @@ type Series struct {
 	// input order, each with where it is first named; at most two are kept. Two mean the rows
 	// disagree; Profile gives the port's one profile.
 	Profiles []ProfileMention
+	// Inputs are the inputs the port's rows came from, as indices into Dataset.Inputs in
+	// ascending order: what a report on some ports only lists and signs.
+	Inputs []int
 }
 
 // Bins are the worst-case companions of samples that summarise a bin (a 15-minute or 24-hour

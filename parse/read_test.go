@@ -164,6 +164,34 @@ func TestDuplicatesAcrossFilesLaterFileWins(t *testing.T) {
 	}
 }
 
+// Each series names the inputs its rows came from (indices into Dataset.Inputs, ascending):
+// a port in one file, a port in two (one of them JSON Lines, its row replaced by the later
+// file's), and none for an input whose every row was rejected.
+func TestSeriesInputs(t *testing.T) {
+	dir := t.TempDir()
+	a := filepath.Join(dir, "a.csv")
+	b := filepath.Join(dir, "b.jsonl")
+	c := filepath.Join(dir, "c.csv")
+	os.WriteFile(a, []byte("time,port,osnr_db\n2026-03-14T08:00:00Z,p,20\n2026-03-14T08:00:00Z,q,21\n"), 0o644)
+	os.WriteFile(b, []byte(`{"time":"2026-03-14T08:00:00Z","port":"q","osnr_db":22}`+"\n"+`{"time":"2026-03-14T08:01:00Z","port":"r","osnr_db":23}`+"\n"), 0o644)
+	os.WriteFile(c, []byte("time,port,pre_fec_ber\n2026-03-14T08:00:00Z,s,0.7\n"), 0o644)
+	ds, err := ReadPaths([]string{a, b, c}, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := map[string][]int{}
+	for _, s := range ds.Series {
+		got[s.Port] = s.Inputs
+	}
+	want := map[string][]int{"p": {0}, "q": {0, 1}, "r": {1}}
+	if !reflect.DeepEqual(got, want) {
+		t.Errorf("inputs per port %v, want %v", got, want)
+	}
+	if ds.Inputs[2].RowsRejected != 1 {
+		t.Errorf("c.csv: %d rows rejected, want 1", ds.Inputs[2].RowsRejected)
+	}
+}
+
 // chunkReader returns at most n bytes per Read.
 type chunkReader struct {
 	r io.Reader
