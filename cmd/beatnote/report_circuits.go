@@ -4,20 +4,23 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 
 	"github.com/beatnote/beatnote/diagnose"
+	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/rules"
 )
 
 // splitByCircuit divides a judged folder of circuits into one report input per circuit: the
-// ports that share a link plan (from the port map) make one circuit, judged on that plan and
-// their own profile; a port with no plan is a circuit of its own. Each report goes to
+// ports whose link plans (from the port map) name one circuit make one report — both
+// directions of it when each end has a plan of its own — judged on their plans and their own
+// profile; a port with no plan is a circuit of its own. Each report goes to
 // c.Out/CIRCUIT.ext, the folder made when missing.
 func (c *ReportCmd) splitByCircuit(in *reportInput) ([]*reportInput, []string, error) {
 	type group struct {
 		name  string
-		plan  *rules.Plan
+		plans []*rules.Plan // the first is the report's
 		ports []diagnose.PortResult
 	}
 	var groups []*group
@@ -29,12 +32,18 @@ func (c *ReportCmd) splitByCircuit(in *reportInput) ([]*reportInput, []string, e
 		if p.Analysis != nil && p.Analysis.Plan != nil {
 			plan = p.Analysis.Plan
 			key, name = plan, plan.Circuit
+			if plan.Circuit != "" {
+				key = "circuit " + plan.Circuit
+			}
 		}
 		g := byKey[key]
 		if g == nil {
-			g = &group{name: name, plan: plan}
+			g = &group{name: name}
 			byKey[key] = g
 			groups = append(groups, g)
+		}
+		if plan != nil && !slices.Contains(g.plans, plan) {
+			g.plans = append(g.plans, plan)
 		}
 		g.ports = append(g.ports, p)
 	}
@@ -52,17 +61,44 @@ func (c *ReportCmd) splitByCircuit(in *reportInput) ([]*reportInput, []string, e
 		res := *in.Result
 		res.Ports = g.ports
 		part := *in
-		part.Result, part.Plan, part.Profile = &res, g.plan, nil
-		// The circuit's own plan is listed and signed; the other circuits' plans are not.
-		other := func(path string) bool { p, ok := in.plans[path]; return ok && p != g.plan }
-		part.signed, part.Settings = nil, nil
-		for _, f := range in.signed {
-			if !other(f.Path) {
-				part.signed = append(part.signed, f)
+		part.Result, part.Plan, part.Profile = &res, nil, nil
+		if len(g.plans) > 0 {
+			part.Plan = g.plans[0]
+		}
+		res.Directions = nil
+		for _, d := range in.Result.Directions {
+			if slices.ContainsFunc(d.Directions, func(dir diagnose.Direction) bool {
+				return slices.ContainsFunc(g.ports, func(p diagnose.PortResult) bool { return p.Port == dir.ReceivedAt })
+			}) {
+				res.Directions = append(res.Directions, d)
 			}
 		}
+		// The logs that hold the circuit's ports, and its own plan, are listed and signed; the
+		// other circuits' logs and plans are not.
+		own := circuitInputs(in.Dataset, g.ports, len(in.Result.Inputs))
+		res.Inputs, res.Rejected = nil, []parse.Rejection{}
+		files := map[string]bool{}
+		for i, st := range in.Result.Inputs {
+			if own[i] {
+				res.Inputs = append(res.Inputs, st)
+				files[st.File] = true
+			}
+		}
+		for _, r := range in.Result.Rejected {
+			if files[r.File] {
+				res.Rejected = append(res.Rejected, r)
+			}
+		}
+		other := func(path string) bool { p, ok := in.plans[path]; return ok && !slices.Contains(g.plans, p) }
+		part.signed, part.Settings = nil, nil
+		for i, f := range in.signed {
+			if i < len(in.Result.Inputs) && !own[i] || other(f.Path) {
+				continue
+			}
+			part.signed = append(part.signed, f)
+		}
 		for _, f := range in.Settings {
-			if f.Role != "link plan" || !otherTyped(in, f.File, g.plan) {
+			if f.Role != "link plan" || !otherTyped(in, f.File, g.plans) {
 				part.Settings = append(part.Settings, f)
 			}
 		}
@@ -83,6 +119,43 @@ func (c *ReportCmd) splitByCircuit(in *reportInput) ([]*reportInput, []string, e
 	return parts, outs, nil
 }
 
+// circuitInputs marks the inputs (indices into the n inputs read) that hold rows of the
+// circuit's ports, and those that hold rows of no port at all (every row rejected, or none):
+// whose those are cannot be told, so every circuit lists them. Without a record of a port's
+// inputs (a dataset made elsewhere) every input is marked.
+func circuitInputs(ds *parse.Dataset, ports []diagnose.PortResult, n int) []bool {
+	own, anyPort := make([]bool, n), make([]bool, n)
+	byPort := map[string]*parse.Series{}
+	if ds != nil {
+		for _, s := range ds.Series {
+			byPort[s.Port] = s
+			for _, i := range s.Inputs {
+				if i < n {
+					anyPort[i] = true
+				}
+			}
+		}
+	}
+	for _, p := range ports {
+		s := byPort[p.Port]
+		if s == nil || len(s.Inputs) == 0 {
+			for i := range own {
+				own[i] = true
+			}
+			return own
+		}
+		for _, i := range s.Inputs {
+			if i < n {
+				own[i] = true
+			}
+		}
+	}
+	for i := range own {
+		own[i] = own[i] || !anyPort[i]
+	}
+	return own
+}
+
 // fileName makes a circuit id safe as a file name: letters, digits, '.', '-' and '_' stay,
 // anything else becomes '_' (a leading dot too, so no hidden files).
 func fileName(id string) string {
@@ -100,11 +173,11 @@ func fileName(id string) string {
 	return s
 }
 
-// otherTyped says whether the plan file shown as typed path holds another plan than plan.
-func otherTyped(in *reportInput, typed string, plan *rules.Plan) bool {
+// otherTyped says whether the plan file shown as typed path holds a plan not in plans.
+func otherTyped(in *reportInput, typed string, plans []*rules.Plan) bool {
 	for path, p := range in.plans {
 		if asTyped(path) == typed {
-			return p != plan
+			return !slices.Contains(plans, p)
 		}
 	}
 	return false

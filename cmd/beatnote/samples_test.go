@@ -381,3 +381,64 @@ func TestReportByCircuitOnDemoSamples(t *testing.T) {
 		t.Error("QRO-RSK-MDQ-104 is not judged on its own profile, 100g-dp-qpsk")
 	}
 }
+
+// A signed report per circuit of the demo network lists and signs only that circuit's logs
+// (the line logs that hold its ports: both directions' for a circuit judged both ways), its
+// own plans and the port map; verify passes for each.
+func TestReportByCircuitSignsOwnInputs(t *testing.T) {
+	root := filepath.Join("..", "..", "samples", "network")
+	if _, err := os.Stat(filepath.Join(root, "portmap.yaml")); err != nil {
+		t.Skipf("no demo network: %v", err)
+	}
+	dir := t.TempDir()
+	if code, _, e := runCLI(t, "keygen", "--out", filepath.Join(dir, "tech")); code != 0 {
+		t.Fatalf("keygen: %s", e)
+	}
+	out := filepath.Join(dir, "reports")
+	code, _, errw := runCLI(t, "report", filepath.Join(root, "logs"), "--map", filepath.Join(root, "portmap.yaml"), "--by-circuit",
+		"--format", "markdown", "--out", out, "--soak", "6h", "--time", "2026-03-15T09:00:00Z",
+		"--sign-key", filepath.Join(dir, "tech.key"), "--signer", "A. Technician")
+	if code != 1 {
+		t.Fatalf("exit %d, want 1 (some circuits fail): %s", code, errw)
+	}
+	logsOf := map[string][]string{
+		"QRO-FRW-OSK": {"line-ferrowick-oskelby.csv", "line-oskelby-ferrowick.csv"},
+		"QRO-GLM-TLV": {"line-glimmerby-tollaven.csv"},
+		"QRO-RSK-TLV": {"line-tollaven-ruskhollow-aerial.csv"},
+	}
+	reports, _ := filepath.Glob(filepath.Join(out, "*.md"))
+	if len(reports) != 12 {
+		t.Fatalf("%d reports, want 12 (one per circuit, both directions in one)", len(reports))
+	}
+	for _, rep := range reports {
+		circuit := strings.TrimSuffix(filepath.Base(rep), ".md")
+		var want []string
+		for _, l := range logsOf[circuit[:11]] {
+			want = append(want, "logs/"+l)
+		}
+		plans, _ := filepath.Glob(filepath.Join(root, "plans", strings.ToLower(circuit)+"-*.yaml"))
+		for _, p := range plans {
+			want = append(want, "plans/"+filepath.Base(p))
+		}
+		want = append(want, "portmap.yaml")
+		var got []string
+		for _, in := range readSig(t, rep+".sig").Inputs {
+			path := filepath.ToSlash(in.Path)
+			got = append(got, path[strings.LastIndex(path, "samples/network/")+len("samples/network/"):])
+		}
+		slices.Sort(want)
+		slices.Sort(got)
+		if len(want) < 3 || !slices.Equal(got, want) {
+			t.Errorf("%s signs %v, want %v", circuit, got, want)
+		}
+		md, _ := os.ReadFile(rep)
+		for _, other := range []string{"line-ferrowick-oskelby.csv", "line-glimmerby-tollaven.csv", "line-tollaven-ruskhollow-aerial.csv"} {
+			if listed := strings.Contains(string(md), other); listed != slices.Contains(logsOf[circuit[:11]], other) {
+				t.Errorf("%s: %s listed %v", circuit, other, listed)
+			}
+		}
+		if code, stdout, _ := runCLI(t, "verify", rep, "--pub", filepath.Join(dir, "tech.pub")); code != 0 || !strings.HasPrefix(stdout, "VERIFIED") {
+			t.Errorf("verify %s: exit %d\n%s", circuit, code, stdout)
+		}
+	}
+}
