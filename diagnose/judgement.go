@@ -2,6 +2,7 @@ package diagnose
 
 import (
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"math"
 	"strings"
 
@@ -196,8 +197,8 @@ func (pc *portCtx) gapNotes() (nearDark string) {
 		if !pc.has(parse.RxPowerDBm) {
 			sides = "the log has no received power to tell a loss of light from missed polls; with light present on both sides they are taken as missed polls"
 		}
-		pc.notJudged("telemetry gaps: %d gap(s) of at least %d sample intervals, %s missing in all (%s of the log; the longest from %s to %s, usual interval %s); %s. The port is not judged inside the gaps",
-			gaps, gapFactor, dur(missing), pct(float64(missing)/float64(span)), clock(worstFrom), clock(worstTo), dur(pc.intervalMs), sides)
+		pc.notJudged("telemetry gaps: %s of at least %d sample intervals, %s missing in all (%s of the log; the longest from %s to %s, usual interval %s); %s. The port is not judged inside the gaps",
+			words.Plural(gaps, "gap", "gaps"), gapFactor, dur(missing), pct(float64(missing)/float64(span)), clock(worstFrom), clock(worstTo), dur(pc.intervalMs), sides)
 	}
 	if darkMissing > 0 {
 		return fmt.Sprintf("Next to the samples without light the log also goes silent for %s (the longest silence from %s to %s).", dur(darkMissing), clock(darkFrom), clock(darkTo))

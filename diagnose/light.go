@@ -2,6 +2,7 @@ package diagnose
 
 import (
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"math"
 	"strings"
 
@@ -52,8 +53,8 @@ func (pc *portCtx) signalLoss() *score {
 	}
 	if k := len(dk.lockLost); k > 0 && !pc.lockLossExplained() {
 		i := dk.lockLost[0]
-		pc.notJudged("loss of lock: the receiver decoded nothing (pre-FEC BER ≥ %.2g) in %d sample(s), first at %s, while the received power was normal (%.1f dBm): light was present, so this is not a signal loss, and no measured impairment was out of line at those samples (%s). Check the module's alarm log for that time",
-			noLockBER, k, clock(ts[i]), pc.s.Values[parse.RxPowerDBm][i], pc.impairmentFigures())
+		pc.notJudged("loss of lock: the receiver decoded nothing (pre-FEC BER ≥ %.2g) in %s, first at %s, while the received power was normal (%.1f dBm): light was present, so this is not a signal loss, and no measured impairment was out of line at those samples (%s). Check the module's alarm log for that time",
+			noLockBER, words.Plural(k, "sample", "samples"), clock(ts[i]), pc.s.Values[parse.RxPowerDBm][i], pc.impairmentFigures())
 	}
 	return s
 }

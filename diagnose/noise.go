@@ -2,6 +2,7 @@ package diagnose
 
 import (
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"math"
 
 	"github.com/beatnote/beatnote/diagnose/optics"
@@ -176,7 +177,7 @@ func (pc *portCtx) unmodelledImpairment() string {
 	case pc.has(parse.LOOffsetMHz) && p.LOOffsetRangeMHz > 0 && pc.absSum[parse.LOOffsetMHz].Max >= r.LOOffsetMarginalFraction*p.LOOffsetRangeMHz:
 		return fmt.Sprintf("a carrier offset of up to %.0f MHz, near the ±%.0f MHz capture range", pc.absSum[parse.LOOffsetMHz].Max, p.LOOffsetRangeMHz)
 	case len(pc.an.Coincidences) > 0:
-		return fmt.Sprintf("%d BER or block burst(s) at SOP-rate spikes", len(pc.an.Coincidences))
+		return words.Plural(len(pc.an.Coincidences), "BER or block burst", "BER or block bursts") + " at SOP-rate spikes"
 	}
 	return ""
 }

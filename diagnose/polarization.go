@@ -2,6 +2,7 @@ package diagnose
 
 import (
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"math"
 
 	"github.com/beatnote/beatnote/diagnose/series"
@@ -83,8 +84,8 @@ func (pc *portCtx) sopTransient() *score {
 	ss := pc.sum[parse.SOPRateKradPerS]
 	switch {
 	case ss.Max >= p.SOPTrackingKradS:
-		s.add(llrStrong, "SOP rate peaked at %.0f krad/s, %.1f× the module's %.0f krad/s tracking speed, in %d spike(s) above %.0f krad/s.",
-			ss.Max, ss.Max/p.SOPTrackingKradS, p.SOPTrackingKradS, len(an.SOPSpikes), an.SOPSpikeThresholdKradS)
+		s.add(llrStrong, "SOP rate peaked at %.0f krad/s, %.1f× the module's %.0f krad/s tracking speed, in %s above %.0f krad/s.",
+			ss.Max, ss.Max/p.SOPTrackingKradS, p.SOPTrackingKradS, words.Plural(len(an.SOPSpikes), "spike", "spikes"), an.SOPSpikeThresholdKradS)
 	case ss.Max >= r.SOPRateMarginalFraction*p.SOPTrackingKradS:
 		s.add(llrModerate, "SOP rate peaked at %.0f krad/s, %s of the module's %.0f krad/s tracking speed.", ss.Max, pct(ss.Max/p.SOPTrackingKradS), p.SOPTrackingKradS)
 	}
@@ -121,7 +122,7 @@ func (pc *portCtx) sopTransient() *score {
 		}
 	}
 	if blocks > 0 && kind == "BER bursts" {
-		s.add(llrWeak, "%d burst(s) of uncorrected FEC blocks coincide with SOP-rate spikes.", blocks)
+		s.add(llrWeak, "%s of uncorrected FEC blocks %s with SOP-rate spikes.", words.Plural(blocks, "burst", "bursts"), map[bool]string{true: "coincides", false: "coincide"}[blocks == 1])
 	}
 	return s
 }

@@ -2,6 +2,7 @@ package diagnose
 
 import (
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"math"
 	"sort"
 	"strings"
@@ -406,7 +407,7 @@ func (pc *portCtx) symptomEvidence(id string, o observables) []item {
 	case noiseMarginal:
 		add(row4(noiseLik, id)[o.noise], noiseLik[HypHealthy][o.noise], fmt.Sprintf("The median Q margin of the lit samples is only %.2f dB, inside the %.1f dB marginal band: a steady loss of signal quality.", qm, pc.r.QMarginalMarginDB))
 	case noiseBursts:
-		add(row4(noiseLik, id)[o.noise], noiseLik[HypHealthy][o.noise], fmt.Sprintf("%d BER burst(s) and %d interval(s) with uncorrected blocks on a median Q margin of %.2f dB: the trouble comes in bursts, not as a steady loss.", len(pc.an.BERBursts), pc.litBlockBursts(), qm))
+		add(row4(noiseLik, id)[o.noise], noiseLik[HypHealthy][o.noise], fmt.Sprintf("%s and %s with uncorrected blocks on a median Q margin of %.2f dB: the trouble comes in bursts, not as a steady loss.", words.Plural(len(pc.an.BERBursts), "BER burst", "BER bursts"), words.Plural(pc.litBlockBursts(), "interval", "intervals"), qm))
 	}
 	switch o.power {
 	case powerNormal:

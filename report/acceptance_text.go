@@ -2,6 +2,7 @@ package report
 
 import (
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"strconv"
 	"strings"
 
@@ -24,9 +25,9 @@ func TestPeriodText(c *soak.Coverage) string {
 		s += " at " + soak.Duration(c.IntervalS) + " per sample"
 	}
 	s += fmt.Sprintf("; %s of %s sample slots hold a used row (%.1f %%, at least %.0f %% needed)",
-		group(c.Samples), group(c.Slots), 100*c.Fraction, 100*c.MinCoverage)
+		words.Group(c.Samples), words.Group(c.Slots), 100*c.Fraction, 100*c.MinCoverage)
 	if c.RejectedRows > 0 {
-		s += fmt.Sprintf(", %s counted against it", Plural(c.RejectedRows, "rejected row", "rejected rows"))
+		s += fmt.Sprintf(", %s counted against it", words.Plural(c.RejectedRows, "rejected row", "rejected rows"))
 	}
 	if c.Complete {
 		return s + "."
@@ -58,8 +59,8 @@ func ErrorPerformanceText(ep *diagnose.ErrorPerformance) string {
 	return fmt.Sprintf("Error performance (ITU-T G.826 / G.8201 events from %s over %s): %s, %s, %s, %s unavailable. "+
 		"ESR %s; SESR %s (objective %g); BBER %s (objective %g).",
 		basis, soak.Duration(float64(ep.EvaluatedS)),
-		Plural(int(ep.ES), "errored second", "errored seconds"), Plural(int(ep.SES), "severely errored second", "severely errored seconds"),
-		Plural(int(ep.BBE+0.5), "background block error", "background block errors"), soak.Duration(float64(ep.UnavailableS)),
+		words.Plural(int(ep.ES), "errored second", "errored seconds"), words.Plural(int(ep.SES), "severely errored second", "severely errored seconds"),
+		words.Plural(int(ep.BBE+0.5), "background block error", "background block errors"), soak.Duration(float64(ep.UnavailableS)),
 		ratio(ep.ESR), ratio(ep.SESR), o.SESR, ratio(ep.BBER), o.BBER)
 }
 

@@ -3,6 +3,7 @@ package report
 import (
 	"encoding/json"
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"io"
 	"text/tabwriter"
 
@@ -103,7 +104,7 @@ func num(v float64) *float64 {
 func WriteBaselineText(w io.Writer, b *Baseline) error {
 	fmt.Fprintln(w, "\nCompared with the baseline period")
 	for _, in := range b.Inputs {
-		fmt.Fprintf(w, "  baseline input %s (%s used)\n", in.File, Plural(in.RowsUsed, "row", "rows"))
+		fmt.Fprintf(w, "  baseline input %s (%s used)\n", in.File, words.Plural(in.RowsUsed, "row", "rows"))
 	}
 	for _, p := range b.Ports {
 		fmt.Fprintf(w, "\n  Port %s: %s before, %s now\n", p.Port, verdictWord(p.VerdictBefore), verdictWord(p.VerdictAfter))

@@ -3,6 +3,7 @@ package report
 import (
 	"encoding/csv"
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"io"
 	"math"
 	"slices"
@@ -316,7 +317,7 @@ type TriageRow struct {
 func ImpactText(im diagnose.Impact) string {
 	switch im.Tier {
 	case diagnose.TierDark:
-		return fmt.Sprintf("dark %d samples", im.DarkSamples)
+		return "dark " + words.Plural(im.DarkSamples, "sample", "samples")
 	case diagnose.TierBlocks:
 		if im.UncorrectedBlocks == 1 {
 			return "1 uncorrected block"
@@ -482,7 +483,7 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 		tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		fmt.Fprintln(tw, "  cause\ttop cause of\tlisted on\t")
 		for _, c := range counts {
-			fmt.Fprintf(tw, "  %s\t%s\t%s\t\n", escape.Visible(c.ID), Plural(c.Top, "port", "ports"), Plural(c.Ports, "port", "ports"))
+			fmt.Fprintf(tw, "  %s\t%s\t%s\t\n", escape.Visible(c.ID), words.Plural(c.Top, "port", "ports"), words.Plural(c.Ports, "port", "ports"))
 		}
 		tw.Flush()
 	}
@@ -534,7 +535,7 @@ func WriteTriageMarkdown(w io.Writer, lines []diagnose.LineResult, shown, all []
 		}
 		qm := optValue(r.QMarginDB, "dB", true)
 		if r.Dark > 0 {
-			qm += fmt.Sprintf(" (lit; %d samples dark)", r.Dark)
+			qm += " (lit; " + words.Plural(r.Dark, "sample", "samples") + " dark)"
 		}
 		fmt.Fprintf(w, "| %d | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", r.Rank, escape.Markdown(r.Port), verdictWord(r.Verdict), r.Impact,
 			escape.Markdown(r.Cause), conf, escape.Markdown(strings.Join(r.Others, ", ")), escape.Markdown(strings.Join(r.LineFindings, ", ")), qm, optValue(r.RxPowerDBm, "dBm", false), escape.Markdown(r.Summary))

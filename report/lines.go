@@ -2,6 +2,7 @@ package report
 
 import (
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"io"
 	"strings"
 
@@ -17,7 +18,7 @@ func lineHeadline(l diagnose.LineResult) string {
 	} else if n > 1 {
 		ev = fmt.Sprintf("%d line events", n)
 	}
-	s := fmt.Sprintf("%s · %s · %s", escape.Visible(l.Line), Plural(len(l.Ports), "port", "ports"), ev)
+	s := fmt.Sprintf("%s · %s · %s", escape.Visible(l.Line), words.Plural(len(l.Ports), "port", "ports"), ev)
 	if p := l.PMD; p != nil {
 		s += fmt.Sprintf(" · fibre mean DGD %s from %d channels (%d samples; channel means %s to %s)",
 			FormatValue(p.MeanDGDPs, "ps"), p.Channels, p.Samples, FormatValue(p.ChannelMeanMinPs, "ps"), FormatValue(p.ChannelMeanMaxPs, "ps"))

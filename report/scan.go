@@ -3,6 +3,7 @@ package report
 import (
 	"encoding/json"
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"io"
 	"slices"
 	"strings"
@@ -132,30 +133,6 @@ func WriteScanJSON(w io.Writer, version string, ds *parse.Dataset, ports []ScanP
 	return enc.Encode(doc)
 }
 
-// group writes n with thin grouping for readability: 12345 → "12 345".
-func group(n int) string {
-	s := fmt.Sprint(n)
-	if n < 0 || len(s) <= 4 {
-		return s
-	}
-	var b strings.Builder
-	for i, c := range s {
-		if i > 0 && (len(s)-i)%3 == 0 {
-			b.WriteByte(' ')
-		}
-		b.WriteRune(c)
-	}
-	return b.String()
-}
-
-// Plural writes a count with its noun: "1 row", "12 345 rows".
-func Plural(n int, one, many string) string {
-	if n == 1 {
-		return "1 " + one
-	}
-	return group(n) + " " + many
-}
-
 // WriteScanText writes the scan result for a terminal.
 func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 	var read, used, rejected, dups int
@@ -165,10 +142,10 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 		rejected += in.RowsRejected
 		dups += in.Duplicates
 	}
-	fmt.Fprintf(w, "Read %s: %s, %s used, %s rejected; %s.\n", Plural(len(ds.Inputs), "file", "files"),
-		Plural(read, "row", "rows"), group(used), group(rejected), Plural(len(ports), "port", "ports"))
+	fmt.Fprintf(w, "Read %s: %s, %s used, %s rejected; %s.\n", words.Plural(len(ds.Inputs), "file", "files"),
+		words.Plural(read, "row", "rows"), words.Group(used), words.Group(rejected), words.Plural(len(ports), "port", "ports"))
 	if dups > 0 {
-		fmt.Fprintf(w, "%s repeated an earlier port and time; the later row was kept.\n", Plural(dups, "row", "rows"))
+		fmt.Fprintf(w, "%s repeated an earlier port and time; the later row was kept.\n", words.Plural(dups, "row", "rows"))
 	}
 
 	fmt.Fprintln(w)
@@ -181,7 +158,7 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 		} else if in.RowsRejected > 0 {
 			status = "some rows rejected"
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", escape.Visible(in.File), in.Format, group(in.RowsRead), group(in.RowsUsed), group(in.RowsRejected), status)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", escape.Visible(in.File), in.Format, words.Group(in.RowsRead), words.Group(in.RowsUsed), words.Group(in.RowsRejected), status)
 	}
 	if err := tw.Flush(); err != nil {
 		return err
@@ -217,19 +194,19 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 				q += fmt.Sprintf("; rows name two profiles, %s (%s line %d) and %s (%s line %d)",
 					escape.Visible(a.ID), escape.Visible(a.File), a.Line, escape.Visible(b.ID), escape.Visible(b.File), b.Line)
 			}
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", escape.Visible(p.Port), group(p.Samples), p.From, p.To, every, q)
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", escape.Visible(p.Port), words.Group(p.Samples), p.From, p.To, every, q)
 		}
 		if err := tw.Flush(); err != nil {
 			return err
 		}
 		if len(ports) > maxTextPorts {
-			fmt.Fprintf(w, "… and %s more ports (--format json lists them all)\n", group(len(ports)-maxTextPorts))
+			fmt.Fprintf(w, "… and %s more ports (--format json lists them all)\n", words.Group(len(ports)-maxTextPorts))
 		}
 	}
 
 	if rejected > 0 {
 		shown := min(len(ds.Rejected), maxTextRejections)
-		fmt.Fprintf(w, "\nRejected rows (first %d of %s; --format json lists up to %d):\n", shown, group(rejected), maxJSONRejections)
+		fmt.Fprintf(w, "\nRejected rows (first %d of %s; --format json lists up to %d):\n", shown, words.Group(rejected), maxJSONRejections)
 		for _, r := range ds.Rejected[:shown] {
 			loc := fmt.Sprintf("%s line %d", r.File, r.Line)
 			if r.Column > 0 {
@@ -258,7 +235,7 @@ func WriteScanText(w io.Writer, ds *parse.Dataset, ports []ScanPort) error {
 		}
 	}
 	if len(ds.Skipped) > 0 {
-		fmt.Fprintf(w, "\nSkipped %s in folders (not telemetry):\n", Plural(len(ds.Skipped), "file", "files"))
+		fmt.Fprintf(w, "\nSkipped %s in folders (not telemetry):\n", words.Plural(len(ds.Skipped), "file", "files"))
 		for i, s := range ds.Skipped {
 			if i == 10 {
 				fmt.Fprintf(w, "  … %d more\n", len(ds.Skipped)-10)

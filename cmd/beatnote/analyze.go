@@ -5,6 +5,7 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"os"
 	"runtime/debug"
 	"time"
@@ -12,7 +13,6 @@ import (
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/diagnose/line"
 	"github.com/beatnote/beatnote/parse"
-	"github.com/beatnote/beatnote/report"
 	"github.com/beatnote/beatnote/rules"
 	"github.com/schollz/progressbar/v3"
 )
@@ -274,10 +274,10 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 			map[bool]string{true: " and the --plan given", false: " without a plan"}[plan != nil])
 	}
 	if len(mixed) > 0 {
-		pr.Notef("%s two profiles in their rows, so the data does not say which applies, e.g. %s", report.Plural(len(mixed), "port names", "ports name"), mixed[0])
+		pr.Notef("%s two profiles in their rows, so the data does not say which applies, e.g. %s", words.Plural(len(mixed), "port names", "ports name"), mixed[0])
 	}
 	if len(overridden) > 0 {
-		pr.Notef("%s judged on another profile than their data names, e.g. %s", report.Plural(len(overridden), "port is", "ports are"), overridden[0])
+		pr.Notef("%s judged on another profile than their data names, e.g. %s", words.Plural(len(overridden), "port is", "ports are"), overridden[0])
 	}
 	if assumed > 0 {
 		pr.Notef("%d of %d ports judged against the assumed default profile %s: nothing names theirs (pass --profile ID; see 'beatnote profiles')", assumed, len(ds.Series), defProf.ID)

@@ -6,6 +6,7 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"os"
 	"path/filepath"
 	"strings"
@@ -299,7 +300,7 @@ func (c *ReportCmd) load(pr *printer) (*reportInput, error) {
 			return nil, &exitError{code: 2, err: fmt.Errorf("the inputs hold no sample of the plan's ports %v", in.Plan.Ports)}
 		}
 		if n := len(a.Result.Ports) - len(res.Ports); n > 0 {
-			pr.Notef("note: %d port(s) not listed in the plan are left out of the report", n)
+			pr.Notef("note: %s left out of the report", words.Plural(n, "port not listed in the plan is", "ports not listed in the plan are"))
 		}
 	}
 	diagnose.PairDirections(&res, directionPairs(a))

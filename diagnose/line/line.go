@@ -26,6 +26,7 @@ package line
 
 import (
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"math"
 	"slices"
 	"sort"
@@ -365,8 +366,8 @@ func finding(id string, chans []*channel, clusters []cluster, windowMs, spanMs, 
 			}
 		}
 		f.Evidence = append(f.Evidence,
-			fmt.Sprintf("The SOP rate spiked on several channels in the same window %d times, up to %.0f krad/s: %s; for the clearest, %s.",
-				len(clusters), peak, strings.Join(times, ", "), chanceText(cl)),
+			fmt.Sprintf("The SOP rate spiked on several channels in the same window %s, up to %.0f krad/s: %s; for the clearest, %s.",
+				words.Plural(len(clusters), "time", "times"), peak, strings.Join(times, ", "), chanceText(cl)),
 			"Polarization transients that every channel sees at once come from the fibre itself — an aerial section in wind or near lightning, a cable being handled — not from the transceivers.")
 	}
 	return f

@@ -3,6 +3,7 @@ package acceptance
 import (
 	"bufio"
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"io"
 	"strings"
 
@@ -126,7 +127,7 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 	p("\n")
 
 	if a.Plan != nil {
-		p("## Link plan\n\n%s: %s, %.1f km, %s", escape.Markdown(a.Plan.Circuit), report.Plural(a.Plan.Spans, "span", "spans"), a.Plan.LengthKm, report.Plural(a.Plan.Amplifiers, "amplifier", "amplifiers"))
+		p("## Link plan\n\n%s: %s, %.1f km, %s", escape.Markdown(a.Plan.Circuit), words.Plural(a.Plan.Spans, "span", "spans"), a.Plan.LengthKm, words.Plural(a.Plan.Amplifiers, "amplifier", "amplifiers"))
 		if a.Plan.FrequencyTHz > 0 {
 			p(", channel %.5f THz", a.Plan.FrequencyTHz)
 		}
@@ -167,7 +168,7 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 
 	for _, port := range a.Ports {
 		p("## Port %s — %s\n\n", escape.Markdown(port.Port), VerdictWords(port.Verdict))
-		p("Profile %s; %s from %s to %s.\n\n", escape.Markdown(orBlank(report.ProfileText(&port), "not stated")), report.Plural(port.Samples, "sample", "samples"), port.From, port.To)
+		p("Profile %s; %s from %s to %s.\n\n", escape.Markdown(orBlank(report.ProfileText(&port), "not stated")), words.Plural(port.Samples, "sample", "samples"), port.From, port.To)
 		for _, f := range portFacts(&port) {
 			p("%s\n\n", escape.Markdown(f))
 		}
@@ -258,7 +259,7 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 		p("\n")
 	}
 	if a.Rejected.Total > 0 {
-		p("%s rejected; the first %d:\n\n", report.Plural(a.Rejected.Total, "row", "rows"), len(a.Rejected.First))
+		p("%s rejected; the first %d:\n\n", words.Plural(a.Rejected.Total, "row", "rows"), len(a.Rejected.First))
 		for _, r := range a.Rejected.First {
 			p("- %s\n", escape.Markdown(rejectionLine(r.File, r.Line, r.Field, r.Reason)))
 		}

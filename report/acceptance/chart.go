@@ -3,6 +3,7 @@ package acceptance
 import (
 	"bytes"
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"image/color"
 	"math"
 	"time"
@@ -16,7 +17,6 @@ import (
 
 	"github.com/beatnote/beatnote/diagnose/series"
 	"github.com/beatnote/beatnote/parse"
-	"github.com/beatnote/beatnote/report"
 	"github.com/beatnote/beatnote/report/escape"
 )
 
@@ -152,7 +152,7 @@ func legendRoom(lo, hi float64, n int) float64 {
 // burstsCaption is the caption sentence on the shaded BER bursts.
 func burstsCaption(bursts []TimeSpan) string {
 	if n := len(bursts); n > 0 {
-		return fmt.Sprintf(" Shaded: %s found by the analysis.", report.Plural(n, "pre-FEC BER burst", "pre-FEC BER bursts"))
+		return fmt.Sprintf(" Shaded: %s found by the analysis.", words.Plural(n, "pre-FEC BER burst", "pre-FEC BER bursts"))
 	}
 	return " The analysis found no BER burst."
 }
@@ -448,7 +448,7 @@ func (a *Report) chartQ(s *parse.Series, m ChartMarks) (*Chart, error) {
 		caption = fmt.Sprintf("Pre-FEC BER as reported (log scale); dashed line: the FEC threshold %.3g of profile %s.", limit, a.profile.ID)
 	}
 	if zeros > 0 {
-		caption += fmt.Sprintf(" %d samples with BER 0 cannot be drawn on a log scale and are left out of the chart only.", zeros)
+		caption += fmt.Sprintf(" %s with BER 0 cannot be drawn on a log scale and %s left out of the chart only.", words.Plural(zeros, "sample", "samples"), map[bool]string{true: "is", false: "are"}[zeros == 1])
 	}
 	caption += burstsCaption(m.BERBursts)
 	p.Y.Min, p.Y.Max = lo, hi
@@ -513,7 +513,7 @@ func (a *Report) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error) {
 	}
 	switch n := len(m.RxPowerChanges); {
 	case n > 0:
-		caption += fmt.Sprintf(" Orange vertical lines: %s found by the analysis.", report.Plural(n, "change point", "change points"))
+		caption += fmt.Sprintf(" Orange vertical lines: %s found by the analysis.", words.Plural(n, "change point", "change points"))
 	case vhi-vlo >= 10:
 		caption += fmt.Sprintf(" The fall to %.1f dBm is loss of signal (see the evidence); the analysis looks for steps only while the signal is present and marked none.", vlo)
 	default:
@@ -542,7 +542,7 @@ func (a *Report) chartDGD(s *parse.Series, m ChartMarks) (*Chart, error) {
 	h.LineStyle.Color = colData
 	h.LineStyle.Width = vg.Points(0.5)
 	p.Add(h)
-	addLegend(p, fmt.Sprintf("measured (%d samples)", len(vs)), h)
+	addLegend(p, "measured ("+words.Plural(len(vs), "sample", "samples")+")", h)
 	caption := fmt.Sprintf("Histogram of %d DGD samples, normalised to unit area.", len(vs))
 	if m.DGDFit != nil && m.DGDFit.PDF != nil {
 		_, hi := rangeOf(vs)
@@ -620,7 +620,7 @@ func (a *Report) chartSOP(s *parse.Series, m ChartMarks) (*Chart, error) {
 	}
 	caption += burstsCaption(m.BERBursts)
 	if n := len(m.SOPSpikes); n > 0 {
-		caption += fmt.Sprintf(" Triangles: the start of %s.", report.Plural(n, "SOP-rate spike", "SOP-rate spikes"))
+		caption += fmt.Sprintf(" Triangles: the start of %s.", words.Plural(n, "SOP-rate spike", "SOP-rate spikes"))
 	}
 	p.Y.Min, p.Y.Max = lo, hi
 	return a.renderChart(p, "SOP rate of change over time", caption)

@@ -3,6 +3,7 @@ package acceptance
 import (
 	"bytes"
 	"fmt"
+	"github.com/beatnote/beatnote/report/words"
 	"io"
 	"math"
 	"sort"
@@ -509,7 +510,7 @@ func (pw *pdfWriter) body() error {
 	}
 	var ports []string
 	for _, p := range a.Ports {
-		ports = append(ports, fmt.Sprintf("%s: %s (%d samples)", escape.Visible(p.Port), VerdictWords(p.Verdict), p.Samples))
+		ports = append(ports, fmt.Sprintf("%s: %s (%s)", escape.Visible(p.Port), VerdictWords(p.Verdict), words.Plural(p.Samples, "sample", "samples")))
 	}
 	kv := [][]string{
 		{"Circuit", escape.Visible(a.Circuit)},
@@ -526,7 +527,7 @@ func (pw *pdfWriter) body() error {
 
 	if a.Plan != nil {
 		pw.heading("Link plan", 12)
-		s := fmt.Sprintf("%s: %s, %.1f km of fibre, %s", a.Plan.Circuit, report.Plural(a.Plan.Spans, "span", "spans"), a.Plan.LengthKm, report.Plural(a.Plan.Amplifiers, "amplifier", "amplifiers"))
+		s := fmt.Sprintf("%s: %s, %.1f km of fibre, %s", a.Plan.Circuit, words.Plural(a.Plan.Spans, "span", "spans"), a.Plan.LengthKm, words.Plural(a.Plan.Amplifiers, "amplifier", "amplifiers"))
 		if a.Plan.FrequencyTHz > 0 {
 			s += fmt.Sprintf(", channel at %.5f THz", a.Plan.FrequencyTHz)
 		}
@@ -586,7 +587,7 @@ func (pw *pdfWriter) portSection(port diagnose.PortResult) error {
 	pdf.SetTextColor(0x1f, 0x4e, 0x79)
 	pdf.MultiCell(pw.contentW, 6, pw.text("Port "+port.Port+" — "+VerdictWords(port.Verdict)), "", "L", false)
 	pdf.SetTextColor(0, 0, 0)
-	pw.para(fmt.Sprintf("Profile %s; %s from %s to %s.", orBlank(report.ProfileText(&port), "not stated"), report.Plural(port.Samples, "sample", "samples"), port.From, port.To), "", pdfBodySize)
+	pw.para(fmt.Sprintf("Profile %s; %s from %s to %s.", orBlank(report.ProfileText(&port), "not stated"), words.Plural(port.Samples, "sample", "samples"), port.From, port.To), "", pdfBodySize)
 	for _, f := range portFacts(&port) {
 		pw.para(f, "", pdfBodySize)
 	}
@@ -717,7 +718,7 @@ func (pw *pdfWriter) inputsSection() {
 		pw.para("Every row read was used; none was rejected.", "", pdfBodySize)
 		return
 	}
-	pw.para(fmt.Sprintf("%s rejected and not used. The first %d, with their reasons:", report.Plural(a.Rejected.Total, "row was", "rows were"), len(a.Rejected.First)), "", pdfBodySize)
+	pw.para(fmt.Sprintf("%s rejected and not used. The first %d, with their reasons:", words.Plural(a.Rejected.Total, "row was", "rows were"), len(a.Rejected.First)), "", pdfBodySize)
 	for _, r := range a.Rejected.First {
 		pw.bullet(2, "•", rejectionLine(r.File, r.Line, r.Field, r.Reason))
 	}
@@ -835,7 +836,7 @@ func criteriaTally(a *Report) string {
 	if n == 0 {
 		return ""
 	}
-	return fmt.Sprintf("%s judged on %s: %d pass, %d marginal, %d fail.", report.Plural(n, "criterion", "criteria"), report.Plural(len(a.Ports), "port", "ports"), pass, marg, fail)
+	return fmt.Sprintf("%s judged on %s: %d pass, %d marginal, %d fail.", words.Plural(n, "criterion", "criteria"), words.Plural(len(a.Ports), "port", "ports"), pass, marg, fail)
 }
 
 // marginFraction scales a criterion's margin for its bar: +1 is a full bar of headroom (the
