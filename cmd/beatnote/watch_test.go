@@ -17,6 +17,7 @@ import (
 	"net"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"sync"
 	"sync/atomic"
@@ -290,6 +291,7 @@ func TestWatchShowsInjectedFaultAndRecordsASignableFile(t *testing.T) {
 	tt.mu.Unlock()
 	var passedBefore bool
 	var shown time.Time
+	var shownText string
 	for _, v := range views {
 		if !strings.Contains(v.text, "VERDICT:") {
 			continue
@@ -300,7 +302,7 @@ func TestWatchShowsInjectedFaultAndRecordsASignableFile(t *testing.T) {
 			passedBefore = true
 		}
 		if !v.at.Before(faultSent) && strings.Contains(v.text, "VERDICT: FAIL") && strings.Contains(v.text, "1. rx-power-low") {
-			shown = v.at
+			shown, shownText = v.at, v.text
 			break
 		}
 	}
@@ -310,11 +312,13 @@ func TestWatchShowsInjectedFaultAndRecordsASignableFile(t *testing.T) {
 	if shown.IsZero() {
 		t.Fatalf("no view showed the fault (VERDICT: FAIL, top cause rx-power-low); last view:\n%s", views[len(views)-1].text)
 	}
-	if lag := shown.Sub(faultSent); lag > interval {
-		t.Fatalf("the fault showed %v after it was sent, more than one sample interval (%v)", lag, interval)
-	} else {
-		t.Logf("fault shown %v after it was sent (interval %v)", lag, interval)
+	// "Within one sample interval" is checked by sample count, not by the wall clock (a loaded
+	// machine must not fail the test): the first view that shows the fault was drawn before
+	// the sample after the faulty one had been taken in (the view of the faulty sample itself).
+	if n := viewSamples(shownText); n < 1 || n > tt.faultAt+1 {
+		t.Fatalf("the fault first showed in a view of %d samples; the faulty sample is number %d, so it showed later than one sample interval:\n%s", n, tt.faultAt+1, shownText)
 	}
+	t.Logf("fault shown %v after it was sent (interval %v)", shown.Sub(faultSent), interval)
 	last := views[len(views)-1].text
 	t.Logf("last view:\n%s", last)
 	for _, want := range []string{"24 samples, 24 rows", "Soak FRW-OT1/1/C1: 0:24:00 of 0:15:00 watched, 100.0 % of sample slots used — test period complete", "Recording to " + rec} {
@@ -435,4 +439,22 @@ func TestWatchStoppedMidStreamLeavesCompleteRecording(t *testing.T) {
 	if n := ds.Series[0].Len(); n < 3 || n >= 200 {
 		t.Fatalf("%d samples recorded in 1.5 s at 100 ms, want some and not all", n)
 	}
+}
+
+// viewSamples reads the sample count from a watch view's first line ("… — N samples, M rows"),
+// or -1 when the line is not there.
+func viewSamples(view string) int {
+	_, rest, ok := strings.Cut(view, " — ")
+	if !ok {
+		return -1
+	}
+	n, _, ok := strings.Cut(rest, " samples,")
+	if !ok {
+		return -1
+	}
+	v, err := strconv.Atoi(n)
+	if err != nil {
+		return -1
+	}
+	return v
 }
