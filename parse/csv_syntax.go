@@ -8,7 +8,6 @@ import (
 	"math"
 	"slices"
 	"strings"
-	"unicode/utf8"
 )
 
 // maxLineBytes bounds a CSV line (the header and every row): a real telemetry row is well
@@ -347,8 +346,10 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 		return cp.fieldErr(lineNo, lay.portCol, ErrMissingValue)
 	}
 	pi, known := cp.portIdx[bytesString(pf)]
-	if !known && !utf8.Valid(pf) { // a name seen before in this block was valid then
-		return cp.fieldErr(lineNo, lay.portCol, fmt.Errorf("%w: port name %s", ErrEncoding, quoteShort(pf)))
+	if !known { // a name seen before in this block was valid then
+		if err := CheckPortName(bytesString(pf)); err != nil {
+			return cp.fieldErr(lineNo, lay.portCol, err)
+		}
 	}
 	var prof []byte
 	if fi := lay.profileCol; fi >= 0 && !isMissing(fields[fi]) {

@@ -3,6 +3,7 @@ package parse
 import (
 	"errors"
 	"fmt"
+	"unicode/utf8"
 )
 
 // Sentinel errors wrapped by ParseError.Err; test for them with errors.Is.
@@ -71,4 +72,26 @@ func (e *ParseError) rejection() Rejection {
 		reason = e.Field + ": " + reason
 	}
 	return Rejection{File: e.File, Line: e.Line, Column: e.Column, Field: e.Field, Reason: reason}
+}
+
+// MaxPortNameBytes bounds a port name. Real ones (an interface name, an OpenConfig component
+// path, a store's label) are tens of bytes; a bound keeps one row from carrying a name of
+// megabytes that every port table, report and index would then hold and print, which would
+// break the memory ceiling the row limit sets.
+const MaxPortNameBytes = 256
+
+// CheckPortName returns why name cannot name a port — longer than MaxPortNameBytes, or not
+// UTF-8 (wrapping ErrEncoding) — or nil. Every reader rejects such a row with this reason.
+func CheckPortName(name string) error {
+	short := fmt.Sprintf("%q", name)
+	if len(name) > 40 {
+		short = fmt.Sprintf("%q…", name[:40])
+	}
+	if len(name) > MaxPortNameBytes {
+		return fmt.Errorf("port name of %d bytes %s: longer than the %d-byte limit for a port name", len(name), short, MaxPortNameBytes)
+	}
+	if !utf8.ValidString(name) {
+		return fmt.Errorf("%w: port name %s", ErrEncoding, short)
+	}
+	return nil
 }

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"compress/gzip"
 	"errors"
+	"fmt"
 	"io"
 	"os"
 	"path/filepath"
@@ -85,8 +86,9 @@ func TestRowLimitAcrossInputs(t *testing.T) {
 			t.Fatal(err)
 		}
 	}
-	if _, err := ReadPaths([]string{dir}, Options{MaxRows: 1200}); err != nil {
-		t.Fatalf("1200 rows under a limit of 1200: %v", err)
+	// Each file's port counts as PortRows rows more.
+	if _, err := ReadPaths([]string{dir}, Options{MaxRows: 1200 + 2*PortRows}); err != nil {
+		t.Fatalf("1200 rows and 2 file ports under a limit of %d: %v", 1200+2*PortRows, err)
 	}
 	ds, err := ReadPaths([]string{dir}, Options{MaxRows: 1000})
 	if !errors.Is(err, ErrTooLarge) {
@@ -419,5 +421,66 @@ func TestRowLimitJSON(t *testing.T) {
 	checkAccounting(t, ds)
 	if in := ds.Inputs[0]; in.RowsRead > 100 || !strings.Contains(in.Error, "--max-rows") {
 		t.Errorf("input %+v, want at most 100 rows read and the limit as its error", in)
+	}
+}
+
+// A port name is at most MaxPortNameBytes long in every format: a row naming a port of
+// megabytes (which every table, report and index would then hold and print, beyond the memory
+// ceiling the row limit sets) is rejected with the reason, and the other rows are used.
+func TestLongPortNames(t *testing.T) {
+	long := strings.Repeat("p", 512<<10) // under the 1 MiB line limit of CSV
+	atLimit := strings.Repeat("q", MaxPortNameBytes)
+	inputs := map[string]string{
+		"x.csv": "time,port,q_db\n2026-03-14T00:00:00Z," + long + ",10\n2026-03-14T00:00:00Z," + atLimit + ",10\n",
+		"x.jsonl": `{"time":"2026-03-14T00:00:00Z","port":"` + long + `","q_db":10}` + "\n" +
+			`{"time":"2026-03-14T00:00:00Z","port":"` + atLimit + `","q_db":10}` + "\n",
+		"x.json": strings.Replace(ocSample, `"name": "och-1/1/1"`, `"name": "`+long+`"`, 1),
+	}
+	for name, content := range inputs {
+		t.Run(name, func(t *testing.T) {
+			ds, err := ReadFile(name, strings.NewReader(content), Options{})
+			if err != nil && name != "x.json" {
+				t.Fatalf("err = %v", err)
+			}
+			in := ds.Inputs[0]
+			if in.RowsRejected != 1 || in.RowsRead != in.RowsUsed+in.RowsRejected {
+				t.Fatalf("input %+v, want the long-named row rejected and every row accounted for", in)
+			}
+			if len(ds.Rejected) != 1 || !strings.Contains(ds.Rejected[0].Reason, "longer than the 256-byte limit for a port name") ||
+				len(ds.Rejected[0].Reason) > 200 {
+				t.Fatalf("rejected %.300v, want one short reason naming the port-name limit", ds.Rejected)
+			}
+			for _, s := range ds.Series {
+				if len(s.Port) > MaxPortNameBytes {
+					t.Fatalf("a port of %d bytes was kept", len(s.Port))
+				}
+			}
+			if name != "x.json" && (len(ds.Series) != 1 || ds.Series[0].Port != atLimit) {
+				t.Errorf("%d series, want the port named with exactly %d bytes", len(ds.Series), MaxPortNameBytes)
+			}
+		})
+	}
+}
+
+// Each port counts against the row limit beyond its rows (PortRows), so that a file of one row
+// per port — whose ports cost far more memory than their rows — cannot pass the memory ceiling
+// either: with the limit at 100 one-row ports plus their rows, the 101st port stops the read.
+func TestPortsCountAgainstTheRowLimit(t *testing.T) {
+	var b strings.Builder
+	b.WriteString(bombHeader)
+	for i := range 200 {
+		fmt.Fprintf(&b, "2026-03-14T00:00:00Z,port-%d,1e-3,-8\n", i)
+	}
+	limit := 100 * (1 + PortRows)
+	ds, err := ReadFile("ports.csv", strings.NewReader(b.String()), Options{MaxRows: limit})
+	if !errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), "each port counting as") {
+		t.Fatalf("err = %v, want ErrTooLarge saying ports count", err)
+	}
+	checkAccounting(t, ds)
+	if len(ds.Series) > 100 {
+		t.Errorf("%d ports kept under a limit worth 100 one-row ports", len(ds.Series))
+	}
+	if _, err := ReadFile("ports.csv", strings.NewReader(b.String()), Options{MaxRows: 2 * limit}); err != nil {
+		t.Errorf("200 one-row ports under a limit worth 200: %v", err)
 	}
 }

@@ -552,6 +552,12 @@ func (jp *jsonParser) finishCanonical(lineNo int, haveTime, havePort bool, port 
 	case rec.mask == 0:
 		jp.reject(&ParseError{File: jp.file, Line: lineNo, Err: fmt.Errorf("%w: the record has no measured quantity", ErrMissingColumn)})
 	default:
+		if _, known := jp.portIdx[bytesString(port)]; !known {
+			if err := CheckPortName(bytesString(port)); err != nil {
+				jp.reject(&ParseError{File: jp.file, Line: lineNo, Field: "port", Err: err})
+				return
+			}
+		}
 		jp.use(port, t, rec, lineNo)
 	}
 }

@@ -5,7 +5,6 @@ import (
 	"slices"
 	"strconv"
 	"strings"
-	"unicode/utf8"
 )
 
 // listEntry is one entry of a YANG list, with its key.
@@ -288,19 +287,23 @@ func (jp *jsonParser) openConfig(lineNo int) {
 		}
 		p := r.port
 		job.rowsRead++
+		var nameErr error
+		if _, known := jp.portIdx[p]; !known && p != "" {
+			nameErr = CheckPortName(p)
+		}
 		switch {
 		case timeErr != nil:
 			pe := *timeErr
 			jp.reject(&pe)
 		case r.bad != nil:
 			jp.reject(r.bad)
+		case nameErr != nil: // before the name can appear in any other message
+			jp.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: nameErr})
 		case r.rec.mask == 0:
 			jp.reject(&ParseError{File: file, Line: lineNo, Field: p, Err: ErrNoData})
 		case p == "":
 			// A component or assignment with an empty name names no port.
 			jp.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: empty port name", ErrMissingValue)})
-		case !utf8.ValidString(p):
-			jp.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: port name %q", ErrEncoding, p)})
 		default:
 			jp.use([]byte(p), t, &r.rec, lineNo)
 		}

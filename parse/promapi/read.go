@@ -260,6 +260,10 @@ func (r *reader) series(mm *MetricMap, s series, rows map[string]map[int64]*pend
 		byT = map[int64]*pending{}
 		rows[port] = byT
 	}
+	var portErr error
+	if port != "" {
+		portErr = parse.CheckPortName(port)
+	}
 	nq := len(r.q.Mapping.Metrics)
 	return eachPair(s.Values, func(pt []json.RawMessage) {
 		in.n++
@@ -278,6 +282,8 @@ func (r *reader) series(mm *MetricMap, s series, rows map[string]map[int64]*pend
 			reason = perr.Error()
 		case port == "":
 			reason = fmt.Sprintf("%s: the series has no %s label (no port)", mm.Column, mm.PortLabel)
+		case portErr != nil:
+			reason = fmt.Sprintf("%s: %s label: %v", mm.Column, mm.PortLabel, portErr)
 		case taken && prev != in.idx:
 			reason = fmt.Sprintf("%s: port %q already has this quantity from another series (%s): check the mapping's labels", q.Column(), port, r.order[prev].name)
 		}

@@ -74,3 +74,35 @@ func TestStrictStopsSeriesLikeAFile(t *testing.T) {
 		}
 	}
 }
+
+// A series whose port label is longer than parse.MaxPortNameBytes names no port: its samples are
+// rejected with the reason, as a file's row with such a port name is.
+func TestLongPortLabel(t *testing.T) {
+	long := strings.Repeat("p", 100_000)
+	body := `{"status":"success","data":{"resultType":"matrix","result":[` +
+		`{"metric":{"component_name":"` + long + `"},"values":[[1773446400,"1e-4"],[1773446460,"2e-4"]]},` +
+		`{"metric":{"component_name":"och-1"},"values":[[1773446400,"1e-4"]]}]}}`
+	srv := httptest.NewServer(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		if strings.HasPrefix(r.URL.Path, "/api/v1/label/") {
+			w.Write([]byte(`{"status":"success","data":["och-1"]}`))
+			return
+		}
+		w.Write([]byte(body))
+	}))
+	defer srv.Close()
+	m, err := ParseMapping("m.yaml", []byte("metrics:\n  - {column: pre_fec_ber, metric: b, port_label: component_name}\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	ds, err := Read(context.Background(), Query{URL: srv.URL, Start: time.Unix(1773446400, 0),
+		End: time.Unix(1773446400+600, 0), Step: time.Minute, Mapping: m})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(ds.Series) != 1 || ds.Series[0].Port != "och-1" {
+		t.Fatalf("%d series, want och-1 alone", len(ds.Series))
+	}
+	if len(ds.Rejected) != 2 || !strings.Contains(ds.Rejected[0].Reason, "longer than the 256-byte limit for a port name") {
+		t.Fatalf("rejected %.400v, want both samples of the long-named series", ds.Rejected)
+	}
+}
