@@ -76,6 +76,9 @@ func (c *ScanCmd) Run(g *Globals, pr *printer) error {
 	case readErr != nil:
 		return &exitError{code: 2, err: readErr}
 	case countSamples(ds) == 0:
+		if read, _ := rowCounts(ds); read == 0 {
+			return &exitError{code: 2, err: errors.New("nothing usable was read: the inputs hold no data row")}
+		}
 		return &exitError{code: 2, err: errors.New("nothing usable was read: no row was accepted; see the rejected rows above")}
 	}
 	return nil

@@ -133,3 +133,18 @@ func TestScanExitCodes(t *testing.T) {
 		})
 	}
 }
+
+// When nothing is usable the message says why: rejected rows (listed above it), or no data row
+// at all (a header followed by blank lines), never a pointer to rejections that do not exist.
+func TestScanNothingUsableSaysWhy(t *testing.T) {
+	dir := t.TempDir()
+	for _, c := range []struct{ content, want string }{
+		{"time,port,osnr_db\nnever,p,20\n", "see the rejected rows above"},
+		{"time,port,osnr_db\n\n\n\n", "the inputs hold no data row"},
+	} {
+		_, err := runScan(t, ScanCmd{Paths: []string{writeFile(t, dir, "x.csv", c.content)}})
+		if exitCodeOf(err) != 2 || err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%q: err %v, want exit 2 saying %q", c.content, err, c.want)
+		}
+	}
+}
