@@ -3,7 +3,7 @@ package diagnose
 // actions are the recommended field actions per cause, most useful first. Safety first: every
 // action that opens a connection assumes the fibre is confirmed dark or the work follows the
 // operator's laser-safety procedure (IEC 60825-2).
-var actions = map[string][]string{
+var actions = map[CauseID][]string{
 	CauseOSNRLow: {
 		"Compare each amplifier's input power and gain with the link plan; a span with more loss than designed starves the next amplifier and costs OSNR.",
 		"Check the amplifiers along the path for alarms, a raised noise figure or a failed pump, and the ROADM/mux channel attenuation for this channel.",

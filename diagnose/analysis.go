@@ -51,7 +51,7 @@ type PortAnalysis struct {
 	// DGDFit is the Maxwellian fit of the DGD samples.
 	DGDFit *MaxwellFit
 	// Posterior is the marginal posterior of every cause id (all of them, listed or not).
-	Posterior map[string]float64
+	Posterior map[CauseID]float64
 	// OSNRSteps are change points in the reported OSNR of at least osnr_step_db.
 	OSNRSteps []ChangePoint
 	// LOSteps are change points in the carrier (LO) offset of at least lo_step_fraction of the

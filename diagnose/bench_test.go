@@ -28,7 +28,7 @@ func fleetCases(tb testing.TB, n, samples int) []synth.Case {
 			if c == diagnose.CauseCDOverLimit && sp.ProfileID != "400g-dp-16qam-cfec" {
 				c = diagnose.CausePMD
 			}
-			sp.Causes, sp.Severity = []string{c}, rng.Float64()
+			sp.Causes, sp.Severity = []diagnose.CauseID{c}, rng.Float64()
 		}
 		c, err := synth.Make(sp)
 		if err != nil {

@@ -49,7 +49,7 @@ var loggings = []logging{
 	{"all columns, plan, 15 min", nil, true, 15 * time.Minute, 96},
 }
 
-var calibrationPairs = [][]string{
+var calibrationPairs = [][]diagnose.CauseID{
 	{diagnose.CauseRxPowerLow, diagnose.CauseSOPTransient},
 	{diagnose.CausePDLHigh, diagnose.CauseLOOffset},
 	{diagnose.CausePMD, diagnose.CauseSOPTransient},
@@ -59,7 +59,7 @@ var calibrationPairs = [][]string{
 
 type labelled struct {
 	logging string
-	causes  []string // injected; empty: healthy
+	causes  []diagnose.CauseID // injected; empty: healthy
 	series  *parse.Series
 	prof    rules.Profile
 	plan    *rules.Plan
@@ -69,10 +69,10 @@ type labelled struct {
 // corpus builds one half of the corpus (half 0 for the figures, 1 for fitting).
 func corpus(t testing.TB, half int64) []labelled {
 	var out []labelled
-	var specs [][]string
+	var specs [][]diagnose.CauseID
 	specs = append(specs, nil, nil) // healthy, twice the weight of one cause
 	for _, c := range append(slices.Clone(synth.AllCauses), synth.MoreCauses...) {
-		specs = append(specs, []string{c})
+		specs = append(specs, []diagnose.CauseID{c})
 	}
 	specs = append(specs, calibrationPairs...)
 	for _, profile := range []string{"400g-dp-16qam-cfec", "100g-dp-qpsk"} {
@@ -164,7 +164,10 @@ func score(t testing.TB, ports []labelled, r rules.Rules) calScores {
 		s.byLogging[l.logging] = b
 		key := "healthy"
 		if len(l.causes) > 0 {
-			key = strings.Join(l.causes, "+")
+			key = fmt.Sprint(l.causes[0])
+			for _, c := range l.causes[1:] {
+				key += "+" + string(c)
+			}
 		}
 		if *verboseCal {
 			key += " / " + l.logging

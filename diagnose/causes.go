@@ -57,7 +57,7 @@ type item struct {
 }
 
 type score struct {
-	id    string
+	id    CauseID
 	items []item
 }
 
@@ -85,7 +85,7 @@ func (s *score) supported() bool {
 
 // causes runs every column test, weighs the hypotheses (posterior.go) and lists the causes.
 func (pc *portCtx) causes() {
-	scores := map[string]*score{}
+	scores := map[CauseID]*score{}
 	for _, s := range []*score{
 		pc.signalLoss(),
 		pc.rxPowerLow(),
@@ -124,8 +124,8 @@ func round3(x float64) float64 { return math.Round(x*1000) / 1000 }
 // that cause's own tests found nothing, the breach is added as weak evidence, and the cause is
 // listed whatever its posterior, so a port is never marginal or failing "for no reason". It
 // returns the ids listed by this rule.
-func (pc *portCtx) ownedBreaches(scores map[string]*score) map[string]bool {
-	forced := map[string]bool{}
+func (pc *portCtx) ownedBreaches(scores map[CauseID]*score) map[CauseID]bool {
+	forced := map[CauseID]bool{}
 	for i, c := range pc.res.Criteria {
 		if c.Verdict != Marginal && c.Verdict != Fail {
 			continue
@@ -150,7 +150,7 @@ func (pc *portCtx) has(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
 
 // present reports whether the log has q for the cause's test; when it has not, it notes that the
 // cause is not judged for want of q.
-func (pc *portCtx) present(cause string, q parse.Quantity) bool {
+func (pc *portCtx) present(cause CauseID, q parse.Quantity) bool {
 	if pc.has(q) {
 		return true
 	}

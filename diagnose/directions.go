@@ -20,13 +20,26 @@ type DirectionPair struct {
 // Direction is one direction of a circuit: the port that receives it and its judgement.
 type Direction struct {
 	// ReceivedAt is the port at the receiving end; From is the port whose module transmits.
-	ReceivedAt string   `json:"received_at"`
-	From       string   `json:"from"`
-	Line       string   `json:"line,omitempty"`
-	Verdict    Verdict  `json:"verdict"`
-	Causes     []string `json:"causes"`
+	ReceivedAt string    `json:"received_at"`
+	From       string    `json:"from"`
+	Line       string    `json:"line,omitempty"`
+	Verdict    Verdict   `json:"verdict"`
+	Causes     []CauseID `json:"causes"`
 	// LineFindings are the line findings the receiving port points at.
-	LineFindings []string `json:"line_findings,omitempty"`
+	LineFindings []LineFindingID `json:"line_findings,omitempty"`
+}
+
+// Findings lists the direction's line finding ids, then its cause ids, joined by ", "
+// ("" when there are none).
+func (d Direction) Findings() string {
+	var w []string
+	for _, id := range d.LineFindings {
+		w = append(w, string(id))
+	}
+	for _, id := range d.Causes {
+		w = append(w, string(id))
+	}
+	return strings.Join(w, ", ")
 }
 
 // troubled: a direction with trouble of its own — a listed cause or line finding, or a verdict
@@ -59,7 +72,7 @@ func PairDirections(res *Result, pairs [][2]string) {
 }
 
 func direction(rx, tx *PortResult) Direction {
-	d := Direction{ReceivedAt: rx.Port, From: tx.Port, Line: rx.Line, Verdict: rx.Verdict, Causes: []string{}}
+	d := Direction{ReceivedAt: rx.Port, From: tx.Port, Line: rx.Line, Verdict: rx.Verdict, Causes: []CauseID{}}
 	for _, c := range rx.Causes {
 		d.Causes = append(d.Causes, c.ID)
 	}
@@ -88,11 +101,10 @@ func pointAt(ds []Direction) (oneWay, finding string) {
 		return s + "and the receiver of " + d.ReceivedAt
 	}
 	what := func(d Direction) string {
-		w := append(append([]string{}, d.LineFindings...), d.Causes...)
-		if len(w) == 0 {
-			return strings.ToUpper(string(d.Verdict))
+		if w := d.Findings(); w != "" {
+			return w
 		}
-		return strings.Join(w, ", ")
+		return strings.ToUpper(string(d.Verdict))
 	}
 	switch ta, tb := a.troubled(), b.troubled(); {
 	case ta && !tb:
@@ -100,7 +112,7 @@ func pointAt(ds []Direction) (oneWay, finding string) {
 	case tb && !ta:
 		return b.ReceivedAt, fmt.Sprintf("Seen in one direction only (%s received at %s; the other direction is clean): it lies on %s — not on what both directions share.", what(b), b.ReceivedAt, path(b))
 	case ta && tb:
-		shared := ""
+		var shared CauseID
 		for _, c := range a.Causes {
 			if slices.Contains(b.Causes, c) {
 				shared = c

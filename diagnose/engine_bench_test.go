@@ -10,7 +10,7 @@ import (
 // BenchmarkAnalyzePort measures the per-port cost of the engine on a day of one-minute samples
 // with every column (no plan).
 func BenchmarkAnalyzePort(b *testing.B) {
-	c, err := synth.Make(synth.Spec{Seed: 1, Causes: []string{"sop-transient"}, Severity: 0.5})
+	c, err := synth.Make(synth.Spec{Seed: 1, Causes: []diagnose.CauseID{diagnose.CauseSOPTransient}, Severity: 0.5})
 	if err != nil {
 		b.Fatal(err)
 	}

@@ -56,7 +56,7 @@ func near(t *testing.T, name string, got, want, tol float64) {
 	}
 }
 
-func topCause(p PortResult) string {
+func topCause(p PortResult) CauseID {
 	if len(p.Causes) == 0 {
 		return ""
 	}
@@ -102,10 +102,10 @@ func TestDerivedMetricsFromBER(t *testing.T) {
 	// Q limit is the Q of the FEC threshold 1.22e-2: 7.047 dB (REFERENCES.md).
 	near(t, "q_db limit", *q.Limit, 7.047, 2e-3)
 	near(t, "q_db margin (min statistic)", *q.Margin, q.Min-*q.Limit, 1e-12)
-	for _, want := range []string{CausePMD, CausePDLHigh, CauseSOPTransient, CauseLOOffset, CauseCDOverLimit, CauseCDMismatch} {
+	for _, want := range []CauseID{CausePMD, CausePDLHigh, CauseSOPTransient, CauseLOOffset, CauseCDOverLimit, CauseCDMismatch} {
 		found := false
 		for _, n := range res.NotJudged {
-			found = found || strings.HasPrefix(n, want+":")
+			found = found || strings.HasPrefix(n, string(want)+":")
 		}
 		if !found {
 			t.Errorf("NotJudged lacks %s: %v", want, res.NotJudged)

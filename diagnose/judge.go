@@ -163,7 +163,7 @@ func (pc *portCtx) notJudged(format string, a ...any) {
 
 // addCriterion appends a row judged "higher is better" (margin = measured − limit) or
 // "lower is better" (margin = limit − measured); marginal when the margin is below band.
-func (pc *portCtx) addCriterion(c Criterion, band float64, owner string) {
+func (pc *portCtx) addCriterion(c Criterion, band float64, owner CauseID) {
 	if !finite(c.Measured) || !finite(c.Limit) {
 		return
 	}
@@ -180,7 +180,7 @@ func (pc *portCtx) addCriterion(c Criterion, band float64, owner string) {
 
 // appendCriterion adds a judged row and remembers which cause owns its physics ("" for the
 // noise-family rows — Q, uncorrected blocks, post-FEC BER — that several causes share).
-func (pc *portCtx) appendCriterion(c Criterion, owner string) {
+func (pc *portCtx) appendCriterion(c Criterion, owner CauseID) {
 	pc.res.Criteria = append(pc.res.Criteria, c)
 	pc.critOwner = append(pc.critOwner, owner)
 }
@@ -221,7 +221,7 @@ func (pc *portCtx) criteria() {
 		pc.addCriterion(Criterion{Name: "Transmit power inside the module's range", Metric: parse.TxPowerDBm.Column(), Statistic: "max",
 			Measured: s.Max, Limit: p.TxPowerMaxDBm, Margin: p.TxPowerMaxDBm - s.Max, Unit: "dBm", Source: pc.source("tx_power_max_dbm")}, 0, "")
 	}
-	upper := func(name string, q parse.Quantity, sum series.Summary, st rules.Statistic, limit, frac float64, unit, key, owner string) {
+	upper := func(name string, q parse.Quantity, sum series.Summary, st rules.Statistic, limit, frac float64, unit, key string, owner CauseID) {
 		if limit <= 0 {
 			pc.notJudged("%s: the profile gives no limit", name)
 			return

@@ -90,7 +90,7 @@ func (pc *portCtx) darkKinds() *darkKinds {
 // darkOwner is the cause owning the "samples without signal" criterion: signal-loss when light
 // was really missing, none when the receiver only lost lock with light present (the impairment
 // tests then name what was out of line at those samples).
-func (pc *portCtx) darkOwner() string {
+func (pc *portCtx) darkOwner() CauseID {
 	if len(pc.darkKinds().noLight) > 0 {
 		return CauseSignalLoss
 	}
@@ -100,7 +100,7 @@ func (pc *portCtx) darkOwner() string {
 // powerEdgeOwner is the cause owning a received-power criterion. The criterion judges every
 // sample; when its breach comes only from dark samples (the power floor of a signal loss), the
 // lit power is inside the window and the breach belongs to signal-loss.
-func (pc *portCtx) powerEdgeOwner(cause string) string {
+func (pc *portCtx) powerEdgeOwner(cause CauseID) CauseID {
 	if pc.darkCount == 0 || cause != CauseRxPowerLow {
 		return cause
 	}

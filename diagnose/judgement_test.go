@@ -12,15 +12,15 @@ import (
 	"github.com/beatnote/beatnote/rules"
 )
 
-func causeIDs(p PortResult) []string {
-	var ids []string
+func causeIDs(p PortResult) []CauseID {
+	var ids []CauseID
 	for _, c := range p.Causes {
 		ids = append(ids, c.ID)
 	}
 	return ids
 }
 
-func hasCause(p PortResult, id string) bool {
+func hasCause(p PortResult, id CauseID) bool {
 	for _, c := range p.Causes {
 		if c.ID == id {
 			return true

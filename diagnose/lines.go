@@ -1,12 +1,15 @@
 package diagnose
 
+// LineFindingID is a line finding id of the design contract; its JSON is the id's string.
+type LineFindingID string
+
 // The line finding ids of the design contract: what the channels of one fibre line show
 // together.
 const (
-	LineOutage       = "line-outage"        // light lost on the line's channels at once
-	LineOSNRDrop     = "line-osnr-drop"     // OSNR fell, power held: loss before an amplifier, or amplifier noise
-	LinePowerDrop    = "line-power-drop"    // received power fell: loss after the last amplifier
-	LineSOPTransient = "line-sop-transient" // fast polarization changes in the same minutes
+	LineOutage       LineFindingID = "line-outage"        // light lost on the line's channels at once
+	LineOSNRDrop     LineFindingID = "line-osnr-drop"     // OSNR fell, power held: loss before an amplifier, or amplifier noise
+	LinePowerDrop    LineFindingID = "line-power-drop"    // received power fell: loss after the last amplifier
+	LineSOPTransient LineFindingID = "line-sop-transient" // fast polarization changes in the same minutes
 )
 
 // LineResult is one fibre line: its ports, what they show together, and the fibre's mean DGD
@@ -23,14 +26,14 @@ type LineResult struct {
 // window. Confidence is the probability that the channels did not change together by chance
 // (diagnose/line explains the computation).
 type LineFinding struct {
-	ID            string   `json:"id"`
-	Confidence    float64  `json:"confidence"`
-	From          string   `json:"from"` // RFC 3339, UTC
-	To            string   `json:"to"`
-	PortsAffected []string `json:"ports_affected"`
-	Evidence      []string `json:"evidence"`
+	ID            LineFindingID `json:"id"`
+	Confidence    float64       `json:"confidence"`
+	From          string        `json:"from"` // RFC 3339, UTC
+	To            string        `json:"to"`
+	PortsAffected []string      `json:"ports_affected"`
+	Evidence      []string      `json:"evidence"`
 	// Explains is the port cause the finding stands for on each affected port.
-	Explains string `json:"explains,omitempty"`
+	Explains CauseID `json:"explains,omitempty"`
 }
 
 // LinePMD is the mean DGD of a line's fibre estimated from all its channels: the average over
@@ -51,11 +54,11 @@ type LinePMD struct {
 
 // LineRef points a port at a line finding.
 type LineRef struct {
-	Line string `json:"line"`
-	ID   string `json:"id"`
-	From string `json:"from"`
+	Line string        `json:"line"`
+	ID   LineFindingID `json:"id"`
+	From string        `json:"from"`
 	// Explains is the port cause the finding stands for on this port.
-	Explains string `json:"explains,omitempty"`
+	Explains CauseID `json:"explains,omitempty"`
 }
 
 // ModuleID is a module's identity as the port map gives it.

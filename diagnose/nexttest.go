@@ -17,11 +17,11 @@ func (pc *portCtx) nextTest() string {
 		return ""
 	}
 	top := c[0].ID
-	var second string
+	var second CauseID
 	if len(c) > 1 {
 		second = c[1].ID
 	}
-	pair := func(a, b string) bool { return (top == a && second == b) || (top == b && second == a) }
+	pair := func(a, b CauseID) bool { return (top == a && second == b) || (top == b && second == a) }
 	noise := noiseFamily[top] && (second == "" || noiseFamily[second])
 	switch {
 	case noise && !pc.has(parse.OSNRdB):
@@ -37,7 +37,7 @@ func (pc *portCtx) nextTest() string {
 	case top == CauseSOPTransient && !pc.has(parse.SOPRateKradPerS):
 		return "Export the module's SOP-rate estimate (or compare the burst times with the other ports on the same cable): bursts at SOP spikes confirm sop-transient."
 	}
-	for _, id := range []string{top, second} {
+	for _, id := range []CauseID{top, second} {
 		if q, ok := ownColumn[id]; ok && !pc.has(q) {
 			return fmt.Sprintf("Export the module's %s estimate: it confirms or clears %s.", q.Column(), id)
 		}

@@ -63,7 +63,7 @@ type portCtx struct {
 	berRanks, yRanks []float64
 
 	// critOwner[i] is the cause that owns the physics of res.Criteria[i] ("" when shared).
-	critOwner []string
+	critOwner []CauseID
 
 	// cache holds summaries several evidence tests use.
 	cache struct {

@@ -27,10 +27,10 @@ import (
 // a pair). This is naive Bayes (observables treated as independent given the hypothesis), which
 // is why the temperature is fitted on a labelled corpus rather than assumed to be 1.
 
-// Hypothesis ids beside the cause ids.
+// Hypothesis ids beside the cause ids (typed CauseID so the likelihood tables take both).
 const (
-	HypHealthy     = "healthy"
-	HypUnexplained = "unexplained"
+	HypHealthy     CauseID = "healthy"
+	HypUnexplained CauseID = "unexplained"
 )
 
 // Listing floors (common practice, chosen on the calibration corpus, docs/diagnosis.md).
@@ -113,7 +113,7 @@ type observables struct {
 // about ±0.5 dB (common practice), well inside the 2 dB bands; Q derived from BER over a
 // one-minute count of ~10¹⁰ bits has a negligible counting error above BER 1e-8.
 var (
-	noiseLik = map[string][4]float64{
+	noiseLik = map[CauseID][4]float64{
 		HypHealthy:             {0.975, 0.015, 0.0005, 0.0095},
 		HypUnexplained:         {0.25, 0.25, 0.25, 0.25},
 		CauseOSNRLow:           {0.30, 0.30, 0.35, 0.05},
@@ -132,7 +132,7 @@ var (
 		CauseFiltering:         {0.30, 0.30, 0.35, 0.05},
 		CauseTransceiver:       {0.30, 0.30, 0.30, 0.10},
 	}
-	powerLik = map[string][4]float64{
+	powerLik = map[CauseID][4]float64{
 		HypHealthy:      {0.96, 0.02, 0.01, 0.01},
 		HypUnexplained:  {0.55, 0.20, 0.10, 0.15},
 		CauseRxPowerLow: {0.02, 0.68, 0.005, 0.295},
@@ -142,7 +142,7 @@ var (
 		CauseCDMismatch: {0.75, 0.12, 0.08, 0.05},
 		"":              {0.93, 0.03, 0.02, 0.02},
 	}
-	osnrLik = map[string][2]float64{
+	osnrLik = map[CauseID][2]float64{
 		HypHealthy:      {0.99, 0.01},
 		HypUnexplained:  {0.70, 0.30},
 		CauseOSNRLow:    {0.10, 0.90},
@@ -151,13 +151,13 @@ var (
 		CauseNonlinear:  {0.97, 0.03},
 		"":              {0.95, 0.05},
 	}
-	txLik = map[string][2]float64{
+	txLik = map[CauseID][2]float64{
 		HypHealthy:     {0.99, 0.01},
 		HypUnexplained: {0.80, 0.20},
 		CauseTxPower:   {0.10, 0.90},
 		"":             {0.98, 0.02},
 	}
-	darkLik = map[string][2]float64{
+	darkLik = map[CauseID][2]float64{
 		HypHealthy:        {0.995, 0.005},
 		HypUnexplained:    {0.80, 0.20},
 		CauseSignalLoss:   {0.05, 0.95},
@@ -169,14 +169,14 @@ var (
 	}
 )
 
-func row4(t map[string][4]float64, h string) [4]float64 {
+func row4(t map[CauseID][4]float64, h CauseID) [4]float64 {
 	if r, ok := t[h]; ok {
 		return r
 	}
 	return t[""]
 }
 
-func row2(t map[string][2]float64, h string) [2]float64 {
+func row2(t map[CauseID][2]float64, h CauseID) [2]float64 {
 	if r, ok := t[h]; ok {
 		return r
 	}
@@ -185,7 +185,7 @@ func row2(t map[string][2]float64, h string) [2]float64 {
 
 // stateProbs gives P(observed state | h) for each known observable of the port, k of them
 // (unknown observables are left out: marginalised).
-func (o observables) stateProbs(h string) (p [numObservables]float64, k int) {
+func (o observables) stateProbs(h CauseID) (p [numObservables]float64, k int) {
 	if o.noise != noiseUnknown {
 		p[k], k = row4(noiseLik, h)[o.noise], k+1
 	}
@@ -208,7 +208,7 @@ const numObservables = 5
 // symptomLogLik is Σ_k ln P(o_k | h) over the known observables; a pair of causes takes the
 // even mixture of its two rows per observable (either fault may be the one a given observable
 // shows), as posterior computes it.
-func (o observables) symptomLogLik(h string) float64 {
+func (o observables) symptomLogLik(h CauseID) float64 {
 	p, k := o.stateProbs(h)
 	ll := 0.0
 	for _, x := range p[:k] {
@@ -297,13 +297,13 @@ func (pc *portCtx) litBlockBursts() int {
 
 // posterior weighs every hypothesis and returns the marginal posterior of each cause and the
 // posterior of healthy and of unexplained. scores holds the column tests by cause id.
-func (pc *portCtx) posterior(o observables, scores map[string]*score) (causes map[string]float64, healthy, unexplained float64) {
+func (pc *portCtx) posterior(o observables, scores map[CauseID]*score) (causes map[CauseID]float64, healthy, unexplained float64) {
 	T := pc.r.PosteriorTemperature
 	if !(T > 0) {
 		T = 1
 	}
-	lnPrior := func(id string) float64 {
-		if v, ok := pc.r.Priors.Of(id); ok && v > 0 {
+	lnPrior := func(id CauseID) float64 {
+		if v, ok := pc.r.Priors.Of(string(id)); ok && v > 0 {
 			return math.Log(v)
 		}
 		return math.Log(1e-6)
@@ -370,7 +370,7 @@ func (pc *portCtx) posterior(o observables, scores map[string]*score) (causes ma
 			}
 		}
 	}
-	causes = make(map[string]float64, n)
+	causes = make(map[CauseID]float64, n)
 	for i, id := range AllCauses {
 		causes[id] = marg[i]
 	}
@@ -393,7 +393,7 @@ func (pc *portCtx) inTrouble(o observables) bool {
 
 // symptomEvidence words the observables that argue for (or, "Against:", against) cause id
 // compared with a healthy port, with the port's numbers.
-func (pc *portCtx) symptomEvidence(id string, o observables) []item {
+func (pc *portCtx) symptomEvidence(id CauseID, o observables) []item {
 	var out []item
 	add := func(pc4 float64, ph float64, text string) {
 		if l := math.Log(pc4 / ph); math.Abs(l) >= 0.5 {
@@ -444,8 +444,8 @@ func (pc *portCtx) symptomEvidence(id string, o observables) []item {
 // list turns the posterior into the port's causes: every cause at or above listFloor, every
 // cause a breached criterion owns (forced), and on a port in trouble the top of the
 // differential. Confidence is the marginal posterior.
-func (pc *portCtx) list(o observables, scores map[string]*score, post map[string]float64, forced map[string]bool) {
-	ranked := append([]string(nil), AllCauses...)
+func (pc *portCtx) list(o observables, scores map[CauseID]*score, post map[CauseID]float64, forced map[CauseID]bool) {
+	ranked := append([]CauseID(nil), AllCauses...)
 	sort.SliceStable(ranked, func(i, j int) bool { return post[ranked[i]] > post[ranked[j]] })
 	trouble := pc.inTrouble(o)
 	for rank, id := range ranked {
@@ -460,7 +460,7 @@ func (pc *portCtx) list(o observables, scores map[string]*score, post map[string
 		if s := scores[id]; s != nil {
 			items = append(items, s.items...)
 		} else if q, owned := ownColumn[id]; owned && !pc.has(q) {
-			prior, _ := pc.r.Priors.Of(id)
+			prior, _ := pc.r.Priors.Of(string(id))
 			items = append(items, item{0, fmt.Sprintf("The log has no %s, so %s is weighed on its prior (%.1f %%) and the pattern of the other columns alone.", q.Column(), id, 100*prior)})
 		}
 		items = append(items, pc.symptomEvidence(id, o)...)
@@ -481,11 +481,11 @@ func (pc *portCtx) list(o observables, scores map[string]*score, post map[string
 }
 
 // noiseFamily are the causes that lower the eSNR with the power normal (noise.go).
-var noiseFamily = map[string]bool{CauseOSNRLow: true, CauseNonlinear: true, CauseTransceiver: true, CauseFiltering: true}
+var noiseFamily = map[CauseID]bool{CauseOSNRLow: true, CauseNonlinear: true, CauseTransceiver: true, CauseFiltering: true}
 
 // ownColumn is the column whose estimate a cause's own tests read; a cause whose column is in
 // the log and normal is exonerated (llrExonerated).
-var ownColumn = map[string]parse.Quantity{
+var ownColumn = map[CauseID]parse.Quantity{
 	CausePMD:               parse.DGDps,
 	CausePDLHigh:           parse.PDLdB,
 	CauseSOPTransient:      parse.SOPRateKradPerS,
@@ -497,7 +497,7 @@ var ownColumn = map[string]parse.Quantity{
 
 // exonerate adds the "its own estimate is normal" evidence to every cause whose column is in
 // the log and whose tests found nothing (cd-mismatch and frequency-mismatch only with a plan).
-func (pc *portCtx) exonerate(scores map[string]*score) {
+func (pc *portCtx) exonerate(scores map[CauseID]*score) {
 	for id, q := range ownColumn {
 		if !pc.has(q) {
 			continue

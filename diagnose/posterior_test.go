@@ -43,7 +43,7 @@ func TestPosteriorNormalised(t *testing.T) {
 	o := observables{noise: noiseFailing, power: powerUnknown, osnr: osnrUnknown, tx: txUnknown}
 	full := o
 	full.power = powerNormal
-	for _, id := range []string{HypHealthy, CauseOSNRLow, CauseRxPowerLow} {
+	for _, id := range []CauseID{HypHealthy, CauseOSNRLow, CauseRxPowerLow} {
 		d := full.symptomLogLik(id) - o.symptomLogLik(id)
 		if want := math.Log(row4(powerLik, id)[powerNormal]); math.Abs(d-want) > 1e-12 {
 			t.Errorf("%s: the power term adds %.6f, want ln P(normal | %s) = %.6f", id, d, id, want)

@@ -35,28 +35,31 @@ func (v Verdict) Severity() int {
 	return 0
 }
 
+// CauseID is a cause id of the design contract; its JSON is the id's string.
+type CauseID string
+
 // The cause ids of the design contract.
 const (
-	CauseOSNRLow      = "osnr-low"
-	CauseRxPowerLow   = "rx-power-low"
-	CauseRxOverload   = "rx-overload"
-	CauseCDMismatch   = "cd-mismatch"
-	CauseCDOverLimit  = "cd-over-limit"
-	CausePMD          = "pmd"
-	CauseSOPTransient = "sop-transient"
-	CausePDLHigh      = "pdl-high"
-	CauseLOOffset     = "lo-offset"
-	CauseNonlinear    = "nonlinear"
-	CauseSignalLoss   = "signal-loss"
+	CauseOSNRLow      CauseID = "osnr-low"
+	CauseRxPowerLow   CauseID = "rx-power-low"
+	CauseRxOverload   CauseID = "rx-overload"
+	CauseCDMismatch   CauseID = "cd-mismatch"
+	CauseCDOverLimit  CauseID = "cd-over-limit"
+	CausePMD          CauseID = "pmd"
+	CauseSOPTransient CauseID = "sop-transient"
+	CausePDLHigh      CauseID = "pdl-high"
+	CauseLOOffset     CauseID = "lo-offset"
+	CauseNonlinear    CauseID = "nonlinear"
+	CauseSignalLoss   CauseID = "signal-loss"
 	// CauseTxPower: the transmitter's output out of range or stepped, the received power
 	// following it.
-	CauseTxPower = "tx-power"
+	CauseTxPower CauseID = "tx-power"
 	// CauseFrequencyMismatch: the channel frequency differs from the plan or sits off the grid.
-	CauseFrequencyMismatch = "frequency-mismatch"
+	CauseFrequencyMismatch CauseID = "frequency-mismatch"
 	// CauseFiltering: passband narrowing or an off-centre laser.
-	CauseFiltering = "filtering"
+	CauseFiltering CauseID = "filtering"
 	// CauseTransceiver: an eSNR shortfall the line cannot explain (module floor, ageing, DSP).
-	CauseTransceiver = "transceiver"
+	CauseTransceiver CauseID = "transceiver"
 )
 
 // Where a port's profile came from (PortResult.ProfileSource, Setup.ProfileSource).
@@ -71,7 +74,7 @@ const (
 const numCauses = 15
 
 // AllCauses lists every cause id of the design contract, in its order.
-var AllCauses = []string{
+var AllCauses = []CauseID{
 	CauseOSNRLow, CauseRxPowerLow, CauseRxOverload, CauseCDMismatch, CauseCDOverLimit, CausePMD,
 	CauseSOPTransient, CausePDLHigh, CauseLOOffset, CauseNonlinear, CauseSignalLoss,
 	CauseTxPower, CauseFrequencyMismatch, CauseFiltering, CauseTransceiver,
@@ -148,7 +151,7 @@ type PortResult struct {
 
 // Cause is one likely physical cause with the evidence for it.
 type Cause struct {
-	ID         string   `json:"id"`
+	ID         CauseID  `json:"id"`
 	Confidence float64  `json:"confidence"` // 0…1
 	Evidence   []string `json:"evidence"`
 	Actions    []string `json:"actions,omitempty"`

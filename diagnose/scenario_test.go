@@ -48,8 +48,8 @@ func causeList(p diagnose.PortResult) string {
 	return "[" + strings.Join(s, ", ") + "]"
 }
 
-func ids(p diagnose.PortResult) []string {
-	var s []string
+func ids(p diagnose.PortResult) []diagnose.CauseID {
+	var s []diagnose.CauseID
 	for _, c := range p.Causes {
 		s = append(s, c.ID)
 	}
@@ -82,7 +82,7 @@ var scenarios = []scenario{
 
 // canInject reports whether synth can make the cause on the profile (it refuses cd-over-limit
 // on modules whose CD range no regional route reaches).
-func canInject(cause, profile string) bool {
+func canInject(cause diagnose.CauseID, profile string) bool {
 	return cause != diagnose.CauseCDOverLimit || profile == "400g-dp-16qam-cfec"
 }
 
@@ -114,9 +114,9 @@ func TestEveryCauseIsTopCauseOfItsScenario(t *testing.T) {
 			if !sc.withPlan && (cause == diagnose.CauseCDMismatch || cause == diagnose.CauseNonlinear) {
 				continue
 			}
-			t.Run(cause+"/"+sc.String(), func(t *testing.T) {
+			t.Run(string(cause)+"/"+sc.String(), func(t *testing.T) {
 				for seed := int64(1); seed <= seeds; seed++ {
-					c, err := synth.Make(synth.Spec{Seed: seed, Severity: severity(seed), Causes: []string{cause}, ProfileID: sc.profile, Samples: sc.samples})
+					c, err := synth.Make(synth.Spec{Seed: seed, Severity: severity(seed), Causes: []diagnose.CauseID{cause}, ProfileID: sc.profile, Samples: sc.samples})
 					if err != nil {
 						t.Fatal(err)
 					}
@@ -148,7 +148,7 @@ func TestEveryCauseIsTopCauseOfItsScenario(t *testing.T) {
 // Two troubles on one port: both are listed.
 func TestMixedCausesAreBothListed(t *testing.T) {
 	r := mustRules(t)
-	for _, mix := range [][]string{
+	for _, mix := range [][]diagnose.CauseID{
 		{diagnose.CauseRxPowerLow, diagnose.CauseSOPTransient},
 		{diagnose.CausePDLHigh, diagnose.CauseLOOffset},
 		{diagnose.CausePMD, diagnose.CauseSOPTransient},
@@ -177,7 +177,7 @@ func TestNonlinearWithoutPlanDetectionRate(t *testing.T) {
 	r := mustRules(t)
 	found := 0
 	for seed := int64(1); seed <= seeds; seed++ {
-		c, err := synth.Make(synth.Spec{Seed: seed, Severity: severity(seed), Causes: []string{diagnose.CauseNonlinear}})
+		c, err := synth.Make(synth.Spec{Seed: seed, Severity: severity(seed), Causes: []diagnose.CauseID{diagnose.CauseNonlinear}})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -189,7 +189,7 @@ func TestNonlinearWithoutPlanDetectionRate(t *testing.T) {
 		if slices.Contains(got, diagnose.CauseNonlinear) {
 			found++
 		}
-		if len(got) > 0 && !slices.Contains([]string{diagnose.CauseNonlinear, diagnose.CauseTransceiver, diagnose.CauseFiltering}, got[0]) {
+		if len(got) > 0 && !slices.Contains([]diagnose.CauseID{diagnose.CauseNonlinear, diagnose.CauseTransceiver, diagnose.CauseFiltering}, got[0]) {
 			t.Errorf("seed %d: top cause outside the noise family: %s", seed, causeList(p))
 		}
 	}

@@ -21,7 +21,7 @@ func keepOnly(s *parse.Series, keep ...parse.Quantity) {
 // berPowerOnly are the columns of the common performance-monitoring export.
 var berPowerOnly = []parse.Quantity{parse.PreFECBER, parse.UncorrectedBlocks, parse.RxPowerDBm, parse.TxPowerDBm}
 
-func top3(p diagnose.PortResult) []string {
+func top3(p diagnose.PortResult) []diagnose.CauseID {
 	got := ids(p)
 	if len(got) > 3 {
 		got = got[:3]
@@ -36,18 +36,18 @@ func top3(p diagnose.PortResult) []string {
 // samples/synth from the physics with the fault injected, over its whole severity range.
 func TestBERAndPowerOnlyLogs(t *testing.T) {
 	r := mustRules(t)
-	first := map[string]bool{diagnose.CauseRxPowerLow: true, diagnose.CauseRxOverload: true, diagnose.CauseSignalLoss: true}
-	inTop3 := map[string]bool{diagnose.CauseOSNRLow: true, diagnose.CauseSOPTransient: true}
-	checked := map[string]int{}
+	first := map[diagnose.CauseID]bool{diagnose.CauseRxPowerLow: true, diagnose.CauseRxOverload: true, diagnose.CauseSignalLoss: true}
+	inTop3 := map[diagnose.CauseID]bool{diagnose.CauseOSNRLow: true, diagnose.CauseSOPTransient: true}
+	checked := map[diagnose.CauseID]int{}
 	for _, profile := range []string{"400g-dp-16qam-cfec", "100g-dp-qpsk", "800g-dp-16qam"} {
-		for _, cause := range append([]string{""}, synth.AllCauses...) {
+		for _, cause := range append([]diagnose.CauseID{""}, synth.AllCauses...) {
 			if !canInject(cause, profile) {
 				continue
 			}
 			for seed := int64(1); seed <= seeds; seed += 2 {
 				spec := synth.Spec{Seed: seed, Severity: severity(seed), ProfileID: profile, Samples: 720}
 				if cause != "" {
-					spec.Causes = []string{cause}
+					spec.Causes = []diagnose.CauseID{cause}
 				}
 				c, err := synth.Make(spec)
 				if err != nil {
@@ -82,7 +82,7 @@ func TestBERAndPowerOnlyLogs(t *testing.T) {
 		}
 	}
 	t.Logf("ports checked: %v", checked)
-	for _, k := range []string{diagnose.CauseOSNRLow, diagnose.CauseSOPTransient, diagnose.CauseRxPowerLow, diagnose.CauseSignalLoss, "differential"} {
+	for _, k := range []diagnose.CauseID{diagnose.CauseOSNRLow, diagnose.CauseSOPTransient, diagnose.CauseRxPowerLow, diagnose.CauseSignalLoss, "differential"} {
 		if checked[k] < 10 {
 			t.Errorf("only %d troubled ports checked for %s: the test no longer exercises it", checked[k], k)
 		}

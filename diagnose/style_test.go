@@ -60,7 +60,7 @@ func styleLog(t *testing.T, seed uint64, fault styleFault) *parse.Series {
 func TestStyleScenarios(t *testing.T) {
 	p, r := testSetup(t, "400g-dp-16qam-cfec")
 	cases := []struct {
-		want  string
+		want  CauseID
 		fault styleFault
 	}{
 		{"", nil},
@@ -97,7 +97,7 @@ func TestStyleScenarios(t *testing.T) {
 				got = CauseNonlinear // without a plan: the noise-family differential (TestQShortWithGoodOSNRNamesNonlinear)
 			}
 			if got != c.want {
-				var ids []string
+				var ids []CauseID
 				for _, cs := range res.Causes {
 					ids = append(ids, cs.ID)
 				}

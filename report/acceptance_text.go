@@ -92,7 +92,7 @@ func VerdictSentence(p *diagnose.PortResult) string {
 	word := map[diagnose.Verdict]string{diagnose.Pass: "Passes", diagnose.Marginal: "Marginal", diagnose.Fail: "Fails"}[p.Verdict]
 	if decide == nil {
 		if len(p.Causes) > 0 {
-			return word + ": every limit is met, but the log shows " + p.Causes[0].ID + " (see the likely causes)."
+			return word + ": every limit is met, but the log shows " + string(p.Causes[0].ID) + " (see the likely causes)."
 		}
 		return word + "."
 	}

@@ -186,7 +186,7 @@ func writeCheckPort(w io.Writer, p *diagnose.PortResult) {
 		writeWrapped(w, "  ", "  ", noCauseText(p), 96)
 	}
 	for i, c := range p.Causes {
-		fmt.Fprintf(w, "  %d. %s  (confidence %.2f)\n", i+1, escape.Visible(c.ID), c.Confidence)
+		fmt.Fprintf(w, "  %d. %s  (confidence %.2f)\n", i+1, escape.Visible(string(c.ID)), c.Confidence)
 		for _, e := range c.Evidence {
 			writeWrapped(w, "     - ", "       ", e, 92)
 		}
@@ -300,9 +300,9 @@ type TriageRow struct {
 	// ProfileSource says what chose Profile (map, column, flag or default).
 	ProfileSource string
 	Verdict       diagnose.Verdict
-	Cause         string // top cause id, "" when none
+	Cause         diagnose.CauseID // top cause id, "" when none
 	Confidence    float64
-	Others        []string // further cause ids
+	Others        []diagnose.CauseID // further cause ids
 	QMarginDB     *float64
 	RxPowerDBm    *float64
 	Samples       int
@@ -310,7 +310,7 @@ type TriageRow struct {
 	Summary       string // first evidence sentence of the top cause
 	Impact        string // the service-impact rung and its figure (ImpactText)
 	// LineFindings are the ids of the line findings the port points at.
-	LineFindings []string
+	LineFindings []diagnose.LineFindingID
 }
 
 // ImpactText says in a few words why a port ranks where it does (diagnose.SortByImpact).
@@ -354,7 +354,7 @@ func TriageRows(ports []diagnose.PortResult) []TriageRow {
 				r.LineFindings = append(r.LineFindings, lf.ID)
 			}
 		}
-		if m, ok := p.Metrics["q_db"]; ok {
+		if m, ok := p.Metrics[parse.QdB.Column()]; ok {
 			r.QMarginDB = m.Margin
 		}
 		for _, c := range p.Criteria {
@@ -362,13 +362,22 @@ func TriageRows(ports []diagnose.PortResult) []TriageRow {
 				r.Dark = int(c.Measured)
 			}
 		}
-		if m, ok := p.Metrics["rx_power_dbm"]; ok {
+		if m, ok := p.Metrics[parse.RxPowerDBm.Column()]; ok {
 			v := m.P50
 			r.RxPowerDBm = &v
 		}
 		rows[i] = r
 	}
 	return rows
+}
+
+// JoinIDs joins cause or line finding ids with sep.
+func JoinIDs[ID ~string](ids []ID, sep string) string {
+	s := make([]string, len(ids))
+	for i, id := range ids {
+		s[i] = string(id)
+	}
+	return strings.Join(s, sep)
 }
 
 // CauseCount is how many ports list a cause (anywhere) and how many have it on top.
@@ -385,10 +394,10 @@ func CountCauses(ports []diagnose.PortResult) []CauseCount {
 	m := map[string]*CauseCount{}
 	for _, p := range ports {
 		for i, c := range p.Causes {
-			id := c.ID
+			id := string(c.ID)
 			for _, lf := range p.LineFindings {
 				if lf.Explains == c.ID {
-					id = lf.ID
+					id = string(lf.ID)
 				}
 			}
 			cc := m[id]
@@ -459,9 +468,9 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 	for _, r := range rows {
 		cause, conf := "—", ""
 		if r.Cause != "" {
-			cause, conf = escape.Visible(r.Cause), fmt.Sprintf("%.2f", r.Confidence)
+			cause, conf = escape.Visible(string(r.Cause)), fmt.Sprintf("%.2f", r.Confidence)
 		}
-		also := escape.Visible(strings.Join(r.Others, ", "))
+		also := escape.Visible(JoinIDs(r.Others, ", "))
 		qm, samples := optValue(r.QMarginDB, "dB", true), strconv.Itoa(r.Samples)
 		if r.Dark > 0 {
 			// The Q figures come from the samples with signal: say so, and show the dark time.
@@ -469,7 +478,7 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 			samples += fmt.Sprintf(", %d dark", r.Dark)
 		}
 		if withLines {
-			also += "\t" + escape.Visible(strings.Join(r.LineFindings, ", "))
+			also += "\t" + escape.Visible(JoinIDs(r.LineFindings, ", "))
 		}
 		fmt.Fprintf(tw, "  %d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t\n", r.Rank, escape.Visible(r.Port), verdictWord(r.Verdict), r.Impact, cause, conf, also,
 			qm, optValue(r.RxPowerDBm, "dBm", false), samples)
@@ -512,7 +521,7 @@ func WriteTriageCSV(w io.Writer, shown []diagnose.PortResult) error {
 		}
 		// Text cells through CSVCell; the numbers are this program's own and stay numbers.
 		if err := cw.Write([]string{strconv.Itoa(r.Rank), escape.CSVCell(r.Port), escape.CSVCell(r.Circuit), escape.CSVCell(r.Profile),
-			r.ProfileSource, string(r.Verdict), r.Impact, escape.CSVCell(r.Cause), conf, escape.CSVCell(strings.Join(r.Others, "|")),
+			r.ProfileSource, string(r.Verdict), r.Impact, escape.CSVCell(string(r.Cause)), conf, escape.CSVCell(JoinIDs(r.Others, "|")),
 			f(r.QMarginDB), f(r.RxPowerDBm), strconv.Itoa(r.Samples), escape.CSVCell(r.Summary)}); err != nil {
 			return err
 		}
@@ -538,7 +547,7 @@ func WriteTriageMarkdown(w io.Writer, lines []diagnose.LineResult, shown, all []
 			qm += " (lit; " + words.Plural(r.Dark, "sample", "samples") + " dark)"
 		}
 		fmt.Fprintf(w, "| %d | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", r.Rank, escape.Markdown(r.Port), verdictWord(r.Verdict), r.Impact,
-			escape.Markdown(r.Cause), conf, escape.Markdown(strings.Join(r.Others, ", ")), escape.Markdown(strings.Join(r.LineFindings, ", ")), qm, optValue(r.RxPowerDBm, "dBm", false), escape.Markdown(r.Summary))
+			escape.Markdown(string(r.Cause)), conf, escape.Markdown(JoinIDs(r.Others, ", ")), escape.Markdown(JoinIDs(r.LineFindings, ", ")), qm, optValue(r.RxPowerDBm, "dBm", false), escape.Markdown(r.Summary))
 	}
 	fmt.Fprintln(w, "\n### Ports per cause")
 	fmt.Fprintln(w)

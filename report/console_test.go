@@ -48,8 +48,8 @@ func consolePorts() []diagnose.PortResult {
 
 func TestConsoleCountCauses(t *testing.T) {
 	got := CountCauses(consolePorts())
-	if len(got) != 2 || got[0].ID != diagnose.CauseSOPTransient || got[0].Top != 1 || got[0].Ports != 2 ||
-		got[1].ID != diagnose.CauseRxPowerLow || got[1].Top != 1 || got[1].Ports != 1 {
+	if len(got) != 2 || got[0].ID != string(diagnose.CauseSOPTransient) || got[0].Top != 1 || got[0].Ports != 2 ||
+		got[1].ID != string(diagnose.CauseRxPowerLow) || got[1].Top != 1 || got[1].Ports != 1 {
 		t.Errorf("CountCauses = %+v", got)
 	}
 }

@@ -84,7 +84,7 @@ func writeDirectionsText(w io.Writer, pairs []diagnose.DirectionPair) {
 		}
 		fmt.Fprintf(w, "  %s\n", title)
 		for _, d := range p.Directions {
-			what := strings.Join(append(append([]string{}, d.LineFindings...), d.Causes...), ", ")
+			what := d.Findings()
 			if what == "" {
 				what = "no cause"
 			}

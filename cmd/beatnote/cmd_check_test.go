@@ -8,6 +8,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/samples/synth"
 	"go.yaml.in/yaml/v3"
@@ -54,7 +55,7 @@ func writeCase(t *testing.T, dir, name string, spec synth.Spec) (logPath, planPa
 func TestCheckExitCodes(t *testing.T) {
 	dir := t.TempDir()
 	healthy, healthyPlan := writeCase(t, dir, "ok-1", synth.Spec{Seed: 3, Samples: 300})
-	bad, badPlan := writeCase(t, dir, "low-1", synth.Spec{Seed: 3, Samples: 300, Causes: []string{"rx-power-low"}, Severity: 1})
+	bad, badPlan := writeCase(t, dir, "low-1", synth.Spec{Seed: 3, Samples: 300, Causes: []diagnose.CauseID{"rx-power-low"}, Severity: 1})
 
 	code, out, errw := runCLI(t, "check", healthy, "--plan", healthyPlan, "--soak", "2h")
 	if code != 0 {
@@ -105,8 +106,8 @@ func TestCheckExitCodes(t *testing.T) {
 func TestCheckAndTriageJSONContract(t *testing.T) {
 	dir := t.TempDir()
 	writeCase(t, dir, "ok-1", synth.Spec{Seed: 5, Samples: 200})
-	writeCase(t, dir, "sop-1", synth.Spec{Seed: 5, Samples: 200, Causes: []string{"sop-transient"}, Severity: 1})
-	writeCase(t, dir, "los-1", synth.Spec{Seed: 5, Samples: 200, Causes: []string{"signal-loss"}, Severity: 1})
+	writeCase(t, dir, "sop-1", synth.Spec{Seed: 5, Samples: 200, Causes: []diagnose.CauseID{"sop-transient"}, Severity: 1})
+	writeCase(t, dir, "los-1", synth.Spec{Seed: 5, Samples: 200, Causes: []diagnose.CauseID{"signal-loss"}, Severity: 1})
 	for _, cmd := range []string{"check", "triage"} {
 		args := []string{cmd, dir, "--format", "json", "--profile", "400g-dp-16qam-cfec"}
 		if cmd == "check" {
@@ -160,8 +161,8 @@ func TestCheckAndTriageJSONContract(t *testing.T) {
 func TestTriageFormatsAndFilters(t *testing.T) {
 	dir := t.TempDir()
 	writeCase(t, dir, "ok-1", synth.Spec{Seed: 7, Samples: 200})
-	writeCase(t, dir, "pdl-1", synth.Spec{Seed: 7, Samples: 200, Causes: []string{"pdl-high"}, Severity: 1})
-	writeCase(t, dir, "lo-1", synth.Spec{Seed: 7, Samples: 200, Causes: []string{"lo-offset"}, Severity: 1})
+	writeCase(t, dir, "pdl-1", synth.Spec{Seed: 7, Samples: 200, Causes: []diagnose.CauseID{"pdl-high"}, Severity: 1})
+	writeCase(t, dir, "lo-1", synth.Spec{Seed: 7, Samples: 200, Causes: []diagnose.CauseID{"lo-offset"}, Severity: 1})
 
 	// Nothing names the ports' profile: triage refuses to assume one; check judges on the default
 	// and says so in its output.
@@ -279,7 +280,7 @@ func TestCheckRejectedRowsCannotPass(t *testing.T) {
 // Both ends' logs, one port each, without a map: check pairs them as the two directions.
 func TestCheckBothEndsLogs(t *testing.T) {
 	dir := t.TempDir()
-	a, _ := writeCase(t, dir, "end-a", synth.Spec{Seed: 9, Samples: 200, Causes: []string{"pdl-high"}, Severity: 1})
+	a, _ := writeCase(t, dir, "end-a", synth.Spec{Seed: 9, Samples: 200, Causes: []diagnose.CauseID{"pdl-high"}, Severity: 1})
 	z, _ := writeCase(t, dir, "end-z", synth.Spec{Seed: 10, Samples: 200})
 	code, out, errw := runCLI(t, "check", a, z, "--profile", "400g-dp-16qam-cfec", "--soak", "3h", "--format", "json")
 	if code != 1 {
@@ -307,7 +308,7 @@ func TestCheckBothEndsLogs(t *testing.T) {
 // period before and a healthy one after shows the received-power criterion going from fail to
 // pass, in text and JSON.
 func TestCheckBaseline(t *testing.T) {
-	before, _ := writeCase(t, t.TempDir(), "p-1", synth.Spec{Seed: 3, Samples: 200, Causes: []string{"rx-power-low"}, Severity: 1})
+	before, _ := writeCase(t, t.TempDir(), "p-1", synth.Spec{Seed: 3, Samples: 200, Causes: []diagnose.CauseID{"rx-power-low"}, Severity: 1})
 	after, plan := writeCase(t, t.TempDir(), "p-1", synth.Spec{Seed: 3, Samples: 200})
 	code, out, errw := runCLI(t, "check", after, "--plan", plan, "--soak", "2h", "--baseline", before)
 	if code != 0 || !strings.Contains(out, "Compared with the baseline period") || !strings.Contains(out, "FAIL → PASS") {

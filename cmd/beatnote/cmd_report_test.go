@@ -18,7 +18,7 @@ import (
 func reportFixture(t *testing.T) (dir, log, plan, key string) {
 	t.Helper()
 	dir = t.TempDir()
-	c, err := synth.Make(synth.Spec{Causes: []string{diagnose.CauseRxPowerLow}, Severity: 0.6, Seed: 3, Samples: 240, Circuit: "demo-7", EndA: "hill-hut", EndZ: "lake-pop"})
+	c, err := synth.Make(synth.Spec{Causes: []diagnose.CauseID{diagnose.CauseRxPowerLow}, Severity: 0.6, Seed: 3, Samples: 240, Circuit: "demo-7", EndA: "hill-hut", EndZ: "lake-pop"})
 	if err != nil {
 		t.Fatal(err)
 	}

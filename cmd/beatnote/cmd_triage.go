@@ -2,7 +2,6 @@ package main
 
 import (
 	"slices"
-	"strings"
 
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/report"
@@ -36,12 +35,6 @@ Exit status: 0 every shown port passes; 1 some shown port is marginal, failing o
 judged; 2 the run could not complete.`
 }
 
-var causeIDs = []string{
-	diagnose.CauseOSNRLow, diagnose.CauseRxPowerLow, diagnose.CauseRxOverload, diagnose.CauseCDMismatch,
-	diagnose.CauseCDOverLimit, diagnose.CausePMD, diagnose.CauseSOPTransient, diagnose.CausePDLHigh,
-	diagnose.CauseLOOffset, diagnose.CauseNonlinear, diagnose.CauseSignalLoss,
-}
-
 // validate checks flag values before any input is read.
 func (c *TriageCmd) validate() error {
 	if c.Top < 0 {
@@ -55,8 +48,8 @@ func (c *TriageCmd) validate() error {
 		}
 	}
 	for _, id := range c.Cause {
-		if !slices.Contains(causeIDs, id) {
-			return usageErrorf("--cause %q: unknown cause id (known: %s)", id, strings.Join(causeIDs, ", "))
+		if !slices.Contains(diagnose.AllCauses, diagnose.CauseID(id)) {
+			return usageErrorf("--cause %q: unknown cause id (known: %s)", id, report.JoinIDs(diagnose.AllCauses, ", "))
 		}
 	}
 	return nil
@@ -68,7 +61,7 @@ func (c *TriageCmd) keep(p *diagnose.PortResult) bool {
 	}
 	if len(c.Cause) > 0 {
 		for _, cs := range p.Causes {
-			if slices.Contains(c.Cause, cs.ID) {
+			if slices.Contains(c.Cause, string(cs.ID)) {
 				return true
 			}
 		}

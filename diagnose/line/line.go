@@ -41,7 +41,7 @@ import (
 )
 
 // explains maps each line finding to the port cause it stands for on the affected ports.
-var explains = map[string]string{
+var explains = map[diagnose.LineFindingID]diagnose.CauseID{
 	diagnose.LineOutage:       diagnose.CauseSignalLoss,
 	diagnose.LineOSNRDrop:     diagnose.CauseOSNRLow,
 	diagnose.LinePowerDrop:    diagnose.CauseRxPowerLow,
@@ -65,7 +65,7 @@ type channel struct {
 	s        *parse.Series
 	spanMs   int64
 	stepMs   int64
-	onsets   map[string][]onset
+	onsets   map[diagnose.LineFindingID][]onset
 	osnrHave bool
 }
 
@@ -118,7 +118,7 @@ func analyzeLine(name string, ports []*diagnose.PortResult, r rules.Rules) diagn
 	// Change points are placed to about one sample: the window is at least two intervals.
 	windowMs := max(int64(r.CoincidenceWindowS*1000), 2*steps[len(steps)/2])
 	spanMs := max(toMs-fromMs, windowMs)
-	for _, id := range []string{diagnose.LineOutage, diagnose.LineOSNRDrop, diagnose.LinePowerDrop, diagnose.LineSOPTransient} {
+	for _, id := range []diagnose.LineFindingID{diagnose.LineOutage, diagnose.LineOSNRDrop, diagnose.LinePowerDrop, diagnose.LineSOPTransient} {
 		var clusters []cluster
 		for _, cl := range clusterOnsets(chans, id, windowMs) {
 			cl.chance = chance(chans, id, cl.k(), windowMs, spanMs)
@@ -148,7 +148,7 @@ func newChannel(p *diagnose.PortResult, r rules.Rules) *channel {
 	an := p.Analysis
 	s := an.Series
 	c := &channel{p: p, s: s, spanMs: max(s.TimesMs[s.Len()-1]-s.TimesMs[0], 1), stepMs: max(series.MedianStepMs(s.TimesMs), 1),
-		onsets: map[string][]onset{}}
+		onsets: map[diagnose.LineFindingID][]onset{}}
 	for _, d := range an.DarkRuns {
 		c.onsets[diagnose.LineOutage] = append(c.onsets[diagnose.LineOutage], onset{ms: d.FromMs, end: d.ToMs, size: float64(d.Samples)})
 	}
@@ -207,7 +207,7 @@ func (c cluster) k() int { return len(c.members) }
 
 // clusterOnsets groups the onsets of kind id: each cluster starts at the earliest onset not
 // yet grouped and takes, per channel, the first onset within windowMs of it.
-func clusterOnsets(chans []*channel, id string, windowMs int64) []cluster {
+func clusterOnsets(chans []*channel, id diagnose.LineFindingID, windowMs int64) []cluster {
 	var all []onset
 	for i, c := range chans {
 		for _, o := range c.onsets[id] {
@@ -239,7 +239,7 @@ func clusterOnsets(chans []*channel, id string, windowMs int64) []cluster {
 // chance is the Bonferroni-bounded probability that k or more of the line's channels (those
 // that report the quantity) show an onset of kind id inside some window of windowMs by
 // chance, each at its own rate (see the package comment).
-func chance(chans []*channel, id string, k int, windowMs, spanMs int64) float64 {
+func chance(chans []*channel, id diagnose.LineFindingID, k int, windowMs, spanMs int64) float64 {
 	var p []float64
 	for _, c := range chans {
 		if id == diagnose.LineOSNRDrop && !c.osnrHave {
@@ -278,7 +278,7 @@ func PoissonBinomialTail(p []float64, k int) float64 {
 }
 
 // finding turns the clusters of one kind into a line finding with its evidence.
-func finding(id string, chans []*channel, clusters []cluster, windowMs, spanMs, endMs int64) diagnose.LineFinding {
+func finding(id diagnose.LineFindingID, chans []*channel, clusters []cluster, windowMs, spanMs, endMs int64) diagnose.LineFinding {
 	f := diagnose.LineFinding{ID: id, Explains: explains[id]}
 	affected := map[string]bool{}
 	best := 1.0

@@ -159,7 +159,7 @@ func TestOSNRDropNeedsPowerHeld(t *testing.T) {
 	}
 	for _, c := range []struct {
 		powerStep bool
-		want      string
+		want      diagnose.LineFindingID
 	}{{false, diagnose.LineOSNRDrop}, {true, diagnose.LinePowerDrop}} {
 		res := &diagnose.Result{Ports: []diagnose.PortResult{mk("a", c.powerStep), mk("b", c.powerStep), mk("c", c.powerStep)}}
 		Reason(res, r)

@@ -332,7 +332,7 @@ func newSafetySection(plan *rules.Plan, prof *rules.Profile) SafetySection {
 
 // defaultActions are recommended first steps per cause, used when the engine gives none.
 // Common practice, in our own words.
-var defaultActions = map[string][]string{
+var defaultActions = map[diagnose.CauseID][]string{
 	diagnose.CauseOSNRLow: {
 		"Compare the per-span amplifier gains and input powers with the plan; look for a span with extra loss or a low-gain amplifier.",
 		"Check the channel's launch power against the plan and the mux/demux insertion loss.",
@@ -378,7 +378,7 @@ var defaultActions = map[string][]string{
 }
 
 // DefaultActions are beatnote's recommended first steps for a cause id (nil when unknown).
-func DefaultActions(causeID string) []string {
+func DefaultActions(causeID diagnose.CauseID) []string {
 	return append([]string(nil), defaultActions[causeID]...)
 }
 

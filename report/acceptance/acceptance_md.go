@@ -160,7 +160,7 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 		for _, dp := range a.Directions {
 			for _, d := range dp.Directions {
 				p("| %s | %s | %s | %s | %s |\n", escape.Markdown(d.From), escape.Markdown(d.ReceivedAt), escape.Markdown(orBlank(d.Line, "—")), VerdictWords(d.Verdict),
-					escape.Markdown(orBlank(strings.Join(append(append([]string{}, d.LineFindings...), d.Causes...), ", "), "none")))
+					escape.Markdown(orBlank(d.Findings(), "none")))
 			}
 			p("\n%s\n\n", escape.Markdown(dp.Finding))
 		}
@@ -202,7 +202,7 @@ func (a *Report) WriteMarkdown(w io.Writer) error {
 			p("None: nothing in the telemetry points at a physical fault.\n\n")
 		}
 		for i, c := range port.Causes {
-			p("%d. **%s** (confidence %.0f %%)\n", i+1, escape.Markdown(c.ID), 100*c.Confidence)
+			p("%d. **%s** (confidence %.0f %%)\n", i+1, escape.Markdown(string(c.ID)), 100*c.Confidence)
 			for _, e := range c.Evidence {
 				p("   - evidence: %s\n", escape.Markdown(e))
 			}

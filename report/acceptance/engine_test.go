@@ -19,7 +19,7 @@ import (
 
 // engineAcceptance runs the real engine on a generated port (samples/synth) and builds the
 // report from its result, as the report command does.
-func engineAcceptance(t testing.TB, causes []string, seed int64, signing *Signing, fields SignOff) (*Report, synth.Case) {
+func engineAcceptance(t testing.TB, causes []diagnose.CauseID, seed int64, signing *Signing, fields SignOff) (*Report, synth.Case) {
 	t.Helper()
 	c, err := synth.Make(synth.Spec{Causes: causes, Severity: 0.7, Seed: seed, Circuit: "demo-circuit-7", EndA: "north-hub", EndZ: "river-pop"})
 	if err != nil {
@@ -47,13 +47,13 @@ func engineAcceptance(t testing.TB, causes []string, seed int64, signing *Signin
 func TestEngineReportCarriesTheJudgement(t *testing.T) {
 	for _, tc := range []struct {
 		name   string
-		causes []string
+		causes []diagnose.CauseID
 	}{
 		{"healthy", nil},
-		{"sop", []string{diagnose.CauseSOPTransient}},
-		{"rx-power", []string{diagnose.CauseRxPowerLow}},
-		{"pmd", []string{diagnose.CausePMD}},
-		{"lo", []string{diagnose.CauseLOOffset}},
+		{"sop", []diagnose.CauseID{diagnose.CauseSOPTransient}},
+		{"rx-power", []diagnose.CauseID{diagnose.CauseRxPowerLow}},
+		{"pmd", []diagnose.CauseID{diagnose.CausePMD}},
+		{"lo", []diagnose.CauseID{diagnose.CauseLOOffset}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			signing := &Signing{Signer: "Test Signer", KeyFingerprint: "SHA256:" + strings.Repeat("5a", 32)}
@@ -77,7 +77,7 @@ func TestEngineReportCarriesTheJudgement(t *testing.T) {
 				wants = append(wants, strings.ReplaceAll(report.CriterionMargin(c), " ", ""))
 			}
 			for _, c := range port.Causes {
-				wants = append(wants, c.ID)
+				wants = append(wants, string(c.ID))
 			}
 			for _, w := range wants {
 				if !strings.Contains(squashed, w) {
@@ -108,8 +108,8 @@ func TestEngineSampleFiles(t *testing.T) {
 	if dir == "" {
 		t.Skip("set BEATNOTE_KEEP_PDF to write sample files")
 	}
-	for _, cause := range []string{diagnose.CauseSOPTransient, diagnose.CauseRxPowerLow} {
-		c, err := synth.Make(synth.Spec{Causes: []string{cause}, Severity: 0.7, Seed: 5, Circuit: "demo-" + cause, EndA: "north-hub", EndZ: "river-pop"})
+	for _, cause := range []diagnose.CauseID{diagnose.CauseSOPTransient, diagnose.CauseRxPowerLow} {
+		c, err := synth.Make(synth.Spec{Causes: []diagnose.CauseID{cause}, Severity: 0.7, Seed: 5, Circuit: "demo-" + string(cause), EndA: "north-hub", EndZ: "river-pop"})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -117,18 +117,18 @@ func TestEngineSampleFiles(t *testing.T) {
 		if err := synth.WriteCSV(&buf, []*parse.Series{c.Series}, synth.CSVStyle{}); err != nil {
 			t.Fatal(err)
 		}
-		os.WriteFile(filepath.Join(dir, cause+".csv"), buf.Bytes(), 0o644)
+		os.WriteFile(filepath.Join(dir, string(cause)+".csv"), buf.Bytes(), 0o644)
 		plan := c.Plan
 		plan.Ports = []string{c.Series.Port}
 		pj, _ := json.Marshal(plan) // JSON is valid YAML
-		os.WriteFile(filepath.Join(dir, cause+".plan.yaml"), pj, 0o644)
+		os.WriteFile(filepath.Join(dir, string(cause)+".plan.yaml"), pj, 0o644)
 	}
 }
 
 // BenchmarkWritePDF measures one signed-style report of a day-long, one-minute port with every
 // chart (the turn-up case on a laptop).
 func BenchmarkWritePDF(b *testing.B) {
-	a, _ := engineAcceptance(b, []string{diagnose.CauseSOPTransient}, 11, &Signing{Signer: "B", KeyFingerprint: "SHA256:00"}, SignOff{})
+	a, _ := engineAcceptance(b, []diagnose.CauseID{diagnose.CauseSOPTransient}, 11, &Signing{Signer: "B", KeyFingerprint: "SHA256:00"}, SignOff{})
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		if err := a.WritePDF(io.Discard, PDFOptions{}); err != nil {

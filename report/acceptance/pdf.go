@@ -560,7 +560,7 @@ func (pw *pdfWriter) body() error {
 			var rows [][]string
 			for _, d := range dp.Directions {
 				rows = append(rows, []string{d.From, d.ReceivedAt, orBlank(d.Line, "—"), VerdictWords(d.Verdict),
-					orBlank(strings.Join(append(append([]string{}, d.LineFindings...), d.Causes...), ", "), "none")})
+					orBlank(d.Findings(), "none")})
 			}
 			pw.table([]column{{title: "from", width: 0.16, align: "L"}, {title: "received at", width: 0.16, align: "L"},
 				{title: "line", width: 0.2, align: "L"}, {title: "verdict", width: 0.14, align: "L"}, {title: "causes and line findings", width: 0.34, align: "L"}}, oneLineCells(rows), pdfBodySize)

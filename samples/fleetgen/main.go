@@ -37,11 +37,11 @@ var profiles = []string{"400g-dp-16qam-cfec", "400g-dp-16qam-ofec", "200g-dp-16q
 
 // truth is what fleetgen injected into one troubled port.
 type truth struct {
-	Port     string   `json:"port"`
-	Profile  string   `json:"profile"`
-	Causes   []string `json:"causes"`
-	Severity float64  `json:"severity"`
-	Verdict  string   `json:"verdict"`
+	Port     string             `json:"port"`
+	Profile  string             `json:"profile"`
+	Causes   []diagnose.CauseID `json:"causes"`
+	Severity float64            `json:"severity"`
+	Verdict  string             `json:"verdict"`
 }
 
 func main() {
@@ -79,7 +79,7 @@ func spec(k int, n int, trouble float64, seed int64) synth.Spec {
 	s := synth.Spec{Seed: seed*1_000_003 + int64(k), ProfileID: profiles[k%len(profiles)], Samples: n,
 		Port: fmt.Sprintf("NE%03d-%d/%d/C%d", k/16+1, k%16/4+1, k%4+1, 1), Circuit: fmt.Sprintf("FLT-%05d", k+1)}
 	if rng.Float64() < trouble {
-		pick := func() string {
+		pick := func() diagnose.CauseID {
 			for {
 				c := synth.AllCauses[rng.IntN(len(synth.AllCauses))]
 				if c != diagnose.CauseCDOverLimit || s.ProfileID == "400g-dp-16qam-cfec" {
@@ -87,7 +87,7 @@ func spec(k int, n int, trouble float64, seed int64) synth.Spec {
 				}
 			}
 		}
-		s.Causes = []string{pick()}
+		s.Causes = []diagnose.CauseID{pick()}
 		if rng.IntN(5) == 0 {
 			if c := pick(); c != s.Causes[0] {
 				s.Causes = append(s.Causes, c)

@@ -46,7 +46,7 @@ func TestEngineAgreesWithManifest(t *testing.T) {
 				t.Fatalf("%d ports", len(res.Ports))
 			}
 			p := res.Ports[0]
-			var got []string
+			var got []diagnose.CauseID
 			for _, c := range p.Causes {
 				got = append(got, c.ID)
 			}

@@ -50,7 +50,7 @@ const (
 type circuit struct {
 	id, endA, endZ, port string
 	profile              string
-	causes               []string
+	causes               []diagnose.CauseID
 	seed                 int64
 	format               format
 	file                 string
@@ -64,20 +64,20 @@ type circuit struct {
 // Tollaven, Ruskhollow, Mardle Quay, Cindervale, Pellorin.
 var circuits = []circuit{
 	{id: "QRO-FRW-LTF-401", endA: "Ferrowick", endZ: "Lantry Ford", port: "FRW-OT1/1/C1", profile: "400g-dp-16qam-cfec", seed: 101, format: csvCanonical, file: "ferrowick-lantryford-healthy.csv", samples: 1440}, // a full 24-hour test period
-	{id: "QRO-OSK-VEN-402", endA: "Oskelby", endZ: "Vennermoor", port: "OSK-OT2/1/C1", profile: "400g-dp-16qam-ofec", causes: []string{diagnose.CauseOSNRLow}, seed: 102, format: csvFriendly, file: "oskelby-vennermoor-osnr.csv"},
-	{id: "QRO-GLM-TLV-403", endA: "Glimmerby", endZ: "Tollaven", port: "GLM-OT1/2/C1", profile: "400g-dp-16qam-cfec", causes: []string{diagnose.CauseRxPowerLow}, seed: 103, format: csvSemicolon, file: "glimmerby-tollaven-lowpower.csv"},
-	{id: "QRO-RSK-MDQ-104", endA: "Ruskhollow", endZ: "Mardle Quay", port: "RSK-LC3/4", profile: "100g-dp-qpsk", causes: []string{diagnose.CauseRxOverload}, seed: 104, format: jsonLines, file: "ruskhollow-mardlequay-overload.jsonl"},
-	{id: "QRO-CDV-PLR-205", endA: "Cindervale", endZ: "Pellorin", port: "och-1/1/5", profile: "200g-dp-16qam", causes: []string{diagnose.CauseCDMismatch}, seed: 105, format: openConfigOTN, file: "cindervale-pellorin-patching.json"},
-	{id: "QRO-FRW-OSK-406", endA: "Ferrowick", endZ: "Oskelby", port: "FRW-OT1/3/C1", profile: "400g-dp-16qam-cfec", causes: []string{diagnose.CauseCDOverLimit}, seed: 106, format: csvGzip, file: "ferrowick-oskelby-longroute.csv.gz"},
-	{id: "QRO-VEN-GLM-107", endA: "Vennermoor", endZ: "Glimmerby", port: "VEN-LC1/7", profile: "100g-dp-qpsk", causes: []string{diagnose.CausePMD}, seed: 107, format: csvTab, file: "vennermoor-glimmerby-pmd.tsv"},
-	{id: "QRO-TLV-RSK-408", endA: "Tollaven", endZ: "Ruskhollow", port: "TLV-OT4/1/C1", profile: "400g-dp-16qam-ofec", causes: []string{diagnose.CauseSOPTransient}, seed: 108, format: csvCanonical, file: "tollaven-ruskhollow-aerial-sop.csv"},
-	{id: "QRO-MDQ-CDV-209", endA: "Mardle Quay", endZ: "Cindervale", port: "MDQ-LC2/9", profile: "200g-dp-16qam", causes: []string{diagnose.CausePDLHigh}, seed: 109, format: csvFriendly, file: "mardlequay-cindervale-pdl.csv"},
-	{id: "QRO-PLR-FRW-810", endA: "Pellorin", endZ: "Ferrowick", port: "PLR-OT8/1/C1", profile: "800g-dp-16qam", causes: []string{diagnose.CauseLOOffset}, seed: 110, format: jsonLinesGzip, file: "pellorin-ferrowick-lodrift.jsonl.gz"},
-	{id: "QRO-LTF-TLV-411", endA: "Lantry Ford", endZ: "Tollaven", port: "och-2/1/1", profile: "400g-dp-16qam-ofec", causes: []string{diagnose.CauseNonlinear}, seed: 111, format: openConfigBare, file: "lantryford-tollaven-hotlaunch.json"},
-	{id: "QRO-OSK-MDQ-212", endA: "Oskelby", endZ: "Mardle Quay", port: "OSK-LC5/2", profile: "200g-dp-16qam", causes: []string{diagnose.CauseSignalLoss}, seed: 112, format: csvCanonical, file: "oskelby-mardlequay-cut.csv"},
-	{id: "QRO-TLV-CDV-115", endA: "Tollaven", endZ: "Cindervale", port: "TLV-LC2/5", profile: "100g-dp-qpsk", causes: []string{diagnose.CauseSignalLoss}, seed: 115, format: csvTab, file: "tollaven-cindervale-silent.tsv", gap: true},
-	{id: "QRO-GLM-PLR-413", endA: "Glimmerby", endZ: "Pellorin", port: "GLM-OT1/4/C1", profile: "400g-dp-16qam-cfec", causes: []string{diagnose.CauseRxPowerLow, diagnose.CauseSOPTransient}, seed: 113, format: csvSemicolon, file: "glimmerby-pellorin-lowpower-sop.csv"},
-	{id: "QRO-CDV-VEN-814", endA: "Cindervale", endZ: "Vennermoor", port: "CDV-OT3/1/C1", profile: "800g-dp-16qam", causes: []string{diagnose.CauseLOOffset, diagnose.CausePDLHigh}, seed: 114, format: jsonLines, file: "cindervale-vennermoor-lo-pdl.jsonl"},
+	{id: "QRO-OSK-VEN-402", endA: "Oskelby", endZ: "Vennermoor", port: "OSK-OT2/1/C1", profile: "400g-dp-16qam-ofec", causes: []diagnose.CauseID{diagnose.CauseOSNRLow}, seed: 102, format: csvFriendly, file: "oskelby-vennermoor-osnr.csv"},
+	{id: "QRO-GLM-TLV-403", endA: "Glimmerby", endZ: "Tollaven", port: "GLM-OT1/2/C1", profile: "400g-dp-16qam-cfec", causes: []diagnose.CauseID{diagnose.CauseRxPowerLow}, seed: 103, format: csvSemicolon, file: "glimmerby-tollaven-lowpower.csv"},
+	{id: "QRO-RSK-MDQ-104", endA: "Ruskhollow", endZ: "Mardle Quay", port: "RSK-LC3/4", profile: "100g-dp-qpsk", causes: []diagnose.CauseID{diagnose.CauseRxOverload}, seed: 104, format: jsonLines, file: "ruskhollow-mardlequay-overload.jsonl"},
+	{id: "QRO-CDV-PLR-205", endA: "Cindervale", endZ: "Pellorin", port: "och-1/1/5", profile: "200g-dp-16qam", causes: []diagnose.CauseID{diagnose.CauseCDMismatch}, seed: 105, format: openConfigOTN, file: "cindervale-pellorin-patching.json"},
+	{id: "QRO-FRW-OSK-406", endA: "Ferrowick", endZ: "Oskelby", port: "FRW-OT1/3/C1", profile: "400g-dp-16qam-cfec", causes: []diagnose.CauseID{diagnose.CauseCDOverLimit}, seed: 106, format: csvGzip, file: "ferrowick-oskelby-longroute.csv.gz"},
+	{id: "QRO-VEN-GLM-107", endA: "Vennermoor", endZ: "Glimmerby", port: "VEN-LC1/7", profile: "100g-dp-qpsk", causes: []diagnose.CauseID{diagnose.CausePMD}, seed: 107, format: csvTab, file: "vennermoor-glimmerby-pmd.tsv"},
+	{id: "QRO-TLV-RSK-408", endA: "Tollaven", endZ: "Ruskhollow", port: "TLV-OT4/1/C1", profile: "400g-dp-16qam-ofec", causes: []diagnose.CauseID{diagnose.CauseSOPTransient}, seed: 108, format: csvCanonical, file: "tollaven-ruskhollow-aerial-sop.csv"},
+	{id: "QRO-MDQ-CDV-209", endA: "Mardle Quay", endZ: "Cindervale", port: "MDQ-LC2/9", profile: "200g-dp-16qam", causes: []diagnose.CauseID{diagnose.CausePDLHigh}, seed: 109, format: csvFriendly, file: "mardlequay-cindervale-pdl.csv"},
+	{id: "QRO-PLR-FRW-810", endA: "Pellorin", endZ: "Ferrowick", port: "PLR-OT8/1/C1", profile: "800g-dp-16qam", causes: []diagnose.CauseID{diagnose.CauseLOOffset}, seed: 110, format: jsonLinesGzip, file: "pellorin-ferrowick-lodrift.jsonl.gz"},
+	{id: "QRO-LTF-TLV-411", endA: "Lantry Ford", endZ: "Tollaven", port: "och-2/1/1", profile: "400g-dp-16qam-ofec", causes: []diagnose.CauseID{diagnose.CauseNonlinear}, seed: 111, format: openConfigBare, file: "lantryford-tollaven-hotlaunch.json"},
+	{id: "QRO-OSK-MDQ-212", endA: "Oskelby", endZ: "Mardle Quay", port: "OSK-LC5/2", profile: "200g-dp-16qam", causes: []diagnose.CauseID{diagnose.CauseSignalLoss}, seed: 112, format: csvCanonical, file: "oskelby-mardlequay-cut.csv"},
+	{id: "QRO-TLV-CDV-115", endA: "Tollaven", endZ: "Cindervale", port: "TLV-LC2/5", profile: "100g-dp-qpsk", causes: []diagnose.CauseID{diagnose.CauseSignalLoss}, seed: 115, format: csvTab, file: "tollaven-cindervale-silent.tsv", gap: true},
+	{id: "QRO-GLM-PLR-413", endA: "Glimmerby", endZ: "Pellorin", port: "GLM-OT1/4/C1", profile: "400g-dp-16qam-cfec", causes: []diagnose.CauseID{diagnose.CauseRxPowerLow, diagnose.CauseSOPTransient}, seed: 113, format: csvSemicolon, file: "glimmerby-pellorin-lowpower-sop.csv"},
+	{id: "QRO-CDV-VEN-814", endA: "Cindervale", endZ: "Vennermoor", port: "CDV-OT3/1/C1", profile: "800g-dp-16qam", causes: []diagnose.CauseID{diagnose.CauseLOOffset, diagnose.CausePDLHigh}, seed: 114, format: jsonLines, file: "cindervale-vennermoor-lo-pdl.jsonl"},
 }
 
 const (
@@ -102,21 +102,21 @@ func (ct circuit) spec() synth.Spec {
 
 // manifestEntry describes one sample log for the tests and the README.
 type manifestEntry struct {
-	File       string           `json:"file" yaml:"file"`
-	Format     string           `json:"format" yaml:"format"`
-	Port       string           `json:"port" yaml:"port"`
-	Circuit    string           `json:"circuit" yaml:"circuit"`
-	Plan       string           `json:"plan" yaml:"plan"`
-	Profile    string           `json:"profile" yaml:"profile"`
-	Verdict    diagnose.Verdict `json:"verdict" yaml:"verdict"`
-	Acceptable []string         `json:"acceptable_verdicts" yaml:"acceptable_verdicts"`
-	Causes     []string         `json:"causes" yaml:"causes"`
-	Severity   float64          `json:"severity" yaml:"severity"`
-	Seed       int64            `json:"seed" yaml:"seed"`
-	Samples    int              `json:"samples" yaml:"samples"`
-	Notes      []string         `json:"notes" yaml:"notes"`
-	Design     map[string]any   `json:"design" yaml:"design"`
-	Actual     map[string]any   `json:"actual" yaml:"actual"`
+	File       string             `json:"file" yaml:"file"`
+	Format     string             `json:"format" yaml:"format"`
+	Port       string             `json:"port" yaml:"port"`
+	Circuit    string             `json:"circuit" yaml:"circuit"`
+	Plan       string             `json:"plan" yaml:"plan"`
+	Profile    string             `json:"profile" yaml:"profile"`
+	Verdict    diagnose.Verdict   `json:"verdict" yaml:"verdict"`
+	Acceptable []string           `json:"acceptable_verdicts" yaml:"acceptable_verdicts"`
+	Causes     []diagnose.CauseID `json:"causes" yaml:"causes"`
+	Severity   float64            `json:"severity" yaml:"severity"`
+	Seed       int64              `json:"seed" yaml:"seed"`
+	Samples    int                `json:"samples" yaml:"samples"`
+	Notes      []string           `json:"notes" yaml:"notes"`
+	Design     map[string]any     `json:"design" yaml:"design"`
+	Actual     map[string]any     `json:"actual" yaml:"actual"`
 }
 
 type manifest struct {
@@ -171,7 +171,7 @@ func generate(dir string) error {
 		}
 		causes, notes := c.Causes, c.Notes
 		if causes == nil {
-			causes, notes = []string{}, []string{}
+			causes, notes = []diagnose.CauseID{}, []string{}
 		}
 		man.Logs = append(man.Logs, manifestEntry{File: "logs/" + ct.file, Format: string(ct.format), Port: ct.port,
 			Circuit: ct.id, Plan: planFile, Profile: ct.profile, Verdict: c.Verdict, Acceptable: acc, Causes: causes,

@@ -12,7 +12,7 @@ import (
 // A 400ZR-class port whose receive patch cord loses light, written as canonical CSV.
 func ExampleMake() {
 	c, err := synth.Make(synth.Spec{
-		Causes:   []string{diagnose.CauseRxPowerLow},
+		Causes:   []diagnose.CauseID{diagnose.CauseRxPowerLow},
 		Severity: 0.5,
 		Seed:     42,
 		Samples:  10,

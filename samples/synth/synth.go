@@ -34,7 +34,7 @@ import (
 type Spec struct {
 	// Causes are the cause ids (diagnose.Cause…) to inject, the intended top cause first.
 	// Empty means a healthy link.
-	Causes []string
+	Causes []diagnose.CauseID
 	// Severity runs from 0 (mild but detectable) to 1 (severe).
 	Severity float64
 	// Seed makes the plan, the fault details and every noise sample.
@@ -88,7 +88,7 @@ type Case struct {
 	// CD/DGD/PDL/SOP/offset beyond tolerance, light lost), marginal otherwise. A rule set may judge a marginal case as fail; never as pass.
 	Verdict diagnose.Verdict
 	// Causes are the intended causes, top first (Spec.Causes, de-duplicated).
-	Causes []string
+	Causes []diagnose.CauseID
 	// Notes describe what was injected, one sentence each with numbers and units.
 	Notes []string
 }
@@ -116,7 +116,7 @@ type Link struct {
 }
 
 // AllCauses lists every cause id synth can inject, in the order of the design contract.
-var AllCauses = []string{
+var AllCauses = []diagnose.CauseID{
 	diagnose.CauseOSNRLow, diagnose.CauseRxPowerLow, diagnose.CauseRxOverload,
 	diagnose.CauseCDMismatch, diagnose.CauseCDOverLimit, diagnose.CausePMD,
 	diagnose.CauseSOPTransient, diagnose.CausePDLHigh, diagnose.CauseLOOffset,
@@ -126,7 +126,7 @@ var AllCauses = []string{
 // MoreCauses lists the causes synth injects beyond AllCauses (kept apart so that generators
 // drawing from AllCauses keep their output): tx-power, transceiver, filtering,
 // frequency-mismatch.
-var MoreCauses = []string{diagnose.CauseTxPower, diagnose.CauseTransceiver, diagnose.CauseFiltering, diagnose.CauseFrequencyMismatch}
+var MoreCauses = []diagnose.CauseID{diagnose.CauseTxPower, diagnose.CauseTransceiver, diagnose.CauseFiltering, diagnose.CauseFrequencyMismatch}
 
 // ErrSpec marks a Spec that cannot be made.
 var ErrSpec = errors.New("synth: bad spec")
@@ -146,7 +146,7 @@ func Make(spec Spec) (Case, error) {
 	// with and without a fault shares its plan and its noise.
 	stream := func(k uint64) *rand.Rand { return rand.New(rand.NewPCG(uint64(spec.Seed), 0x62656174+k)) }
 	planRNG, faultRNG, noiseRNG := stream(1), stream(2), stream(3)
-	has := func(c string) bool { return slices.Contains(spec.Causes, c) }
+	has := func(c diagnose.CauseID) bool { return slices.Contains(spec.Causes, c) }
 
 	var plan rules.Plan
 	if spec.Plan != nil {

@@ -37,7 +37,7 @@ func csvBytes(t *testing.T, c Case) []byte {
 }
 
 func TestDeterminism(t *testing.T) {
-	for _, causes := range [][]string{nil, {diagnose.CausePMD}, {diagnose.CauseRxPowerLow, diagnose.CauseSOPTransient}} {
+	for _, causes := range [][]diagnose.CauseID{nil, {diagnose.CausePMD}, {diagnose.CauseRxPowerLow, diagnose.CauseSOPTransient}} {
 		spec := Spec{Causes: causes, Severity: 0.4, Seed: 7, Samples: 300}
 		a, b := csvBytes(t, mustMake(t, spec)), csvBytes(t, mustMake(t, spec))
 		if !bytes.Equal(a, b) {
@@ -83,10 +83,10 @@ func median(v []float64) float64 { return quantile(v, 0.5) }
 // not with the optics package).
 func TestPhysicalRanges(t *testing.T) {
 	for _, prof := range profiles(t) {
-		for _, cause := range append([]string{""}, AllCauses...) {
-			var causes []string
+		for _, cause := range append([]diagnose.CauseID{""}, AllCauses...) {
+			var causes []diagnose.CauseID
 			if cause != "" {
-				causes = []string{cause}
+				causes = []diagnose.CauseID{cause}
 			}
 			for seed := int64(1); seed <= 4; seed++ {
 				spec := Spec{Causes: causes, Severity: float64(seed-1) / 3, Seed: seed, ProfileID: prof.ID, Samples: 240}
@@ -152,7 +152,7 @@ func absAll(v []float64) []float64 {
 // approximation and the 0.1 dB eSNR estimator noise.
 func TestBERFollowsESNR(t *testing.T) {
 	for seed := int64(1); seed <= seeds; seed++ {
-		c := mustMake(t, Spec{Seed: seed, Samples: 200, Causes: []string{diagnose.CauseOSNRLow}, Severity: float64(seed%5) / 4})
+		c := mustMake(t, Spec{Seed: seed, Samples: 200, Causes: []diagnose.CauseID{diagnose.CauseOSNRLow}, Severity: float64(seed%5) / 4})
 		s := c.Series
 		for i := range s.Len() {
 			ber, esnr := s.Values[parse.PreFECBER][i], s.Values[parse.ESNRdB][i]
@@ -210,12 +210,12 @@ func TestEachCause(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, cause := range AllCauses {
-		t.Run(cause, func(t *testing.T) {
+		t.Run(string(cause), func(t *testing.T) {
 			for seed := int64(1); seed <= seeds; seed++ {
 				sev := severities[int(seed)%len(severities)]
 				base := Spec{Seed: seed, Samples: 720, Severity: sev}
 				h := mustMake(t, base)
-				base.Causes = []string{cause}
+				base.Causes = []diagnose.CauseID{cause}
 				c := mustMake(t, base)
 				if c.Verdict == diagnose.Pass {
 					t.Errorf("seed %d sev %.2f: verdict pass", seed, sev)
@@ -351,8 +351,8 @@ func mean(v []float64) float64 {
 // TestMixed: two causes on one port show both signatures.
 func TestMixed(t *testing.T) {
 	for seed := int64(1); seed <= seeds; seed++ {
-		c := mustMake(t, Spec{Seed: seed, Samples: 720, Severity: 0.5, Causes: []string{diagnose.CauseRxPowerLow, diagnose.CauseSOPTransient}})
-		if !slices.Equal(c.Causes, []string{diagnose.CauseRxPowerLow, diagnose.CauseSOPTransient}) {
+		c := mustMake(t, Spec{Seed: seed, Samples: 720, Severity: 0.5, Causes: []diagnose.CauseID{diagnose.CauseRxPowerLow, diagnose.CauseSOPTransient}})
+		if !slices.Equal(c.Causes, []diagnose.CauseID{diagnose.CauseRxPowerLow, diagnose.CauseSOPTransient}) {
 			t.Fatalf("causes %v", c.Causes)
 		}
 		if quantile(present(c.Series, parse.RxPowerDBm), 0.01) > c.Profile.RxPowerMinDBm+2 {
@@ -366,13 +366,13 @@ func TestMixed(t *testing.T) {
 
 func TestBadSpec(t *testing.T) {
 	for _, spec := range []Spec{
-		{Causes: []string{"dirty-fibre"}},
+		{Causes: []diagnose.CauseID{"dirty-fibre"}},
 		{Severity: 1.5},
 		{Severity: math.NaN()},
 		{ProfileID: "no-such-profile"},
 		{Samples: 3},
-		{Causes: []string{diagnose.CauseCDOverLimit}, ProfileID: "200g-dp-16qam"},
-		{Causes: []string{diagnose.CauseOSNRLow}, Plan: &rules.Plan{Circuit: "bare", FrequencyTHz: 193.1,
+		{Causes: []diagnose.CauseID{diagnose.CauseCDOverLimit}, ProfileID: "200g-dp-16qam"},
+		{Causes: []diagnose.CauseID{diagnose.CauseOSNRLow}, Plan: &rules.Plan{Circuit: "bare", FrequencyTHz: 193.1,
 			Spans: []rules.Span{{Name: "s1", LengthKm: 20, Fiber: "g652"}}}},
 		{Plan: &rules.Plan{Circuit: "no-spans", FrequencyTHz: 193.1}},
 	} {
@@ -444,7 +444,7 @@ func TestFaultKeepsPlan(t *testing.T) {
 			if cause == diagnose.CauseCDOverLimit {
 				continue
 			}
-			c := mustMake(t, Spec{Seed: seed, Samples: 20, Causes: []string{cause}, Severity: 0.5})
+			c := mustMake(t, Spec{Seed: seed, Samples: 20, Causes: []diagnose.CauseID{cause}, Severity: 0.5})
 			if fmt.Sprint(c.Plan) != fmt.Sprint(h.Plan) || fmt.Sprint(c.Design) != fmt.Sprint(h.Design) {
 				t.Errorf("seed %d %s: the plan changed", seed, cause)
 			}
