@@ -1,7 +1,10 @@
 package parse
 
 import (
+	"bytes"
+	"encoding/json"
 	"fmt"
+	"io"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -10,11 +13,11 @@ import (
 	"testing"
 )
 
-// The parallel paths (several files at once, several blocks of one large file at once, the
-// sharded merge) give exactly the Dataset of one worker: a folder mixing one large file (more
-// than two blocks, with bad rows), many small files read whole, a gzip-free JSON Lines file,
-// ports split across files, rows of one port and time repeated in a later file (the later one
-// wins and is counted), and rows out of time order.
+// The parallel paths (several files at once, several blocks of one large file at once) give
+// exactly the Dataset of one worker: a folder mixing one large file (more than two blocks, with
+// bad rows), many small files read whole, a gzip-free JSON Lines file, ports split across
+// files, rows of one port and time repeated in a later file (the later one wins and is
+// counted), and rows out of time order.
 func TestParallelReadMatchesOneWorker(t *testing.T) {
 	dir := t.TempDir()
 	write := func(name, content string) {
@@ -117,6 +120,70 @@ func TestSplitFieldsUnquotedMatchesDefinition(t *testing.T) {
 				if string(got[i]) != want[i] {
 					t.Fatalf("%q (delimiter %q): field %d %q, want %q", line, delim, i, got[i], want[i])
 				}
+			}
+		}
+	}
+}
+
+// JSON inputs over several blocks (more than 1 MiB, size hidden from the reader) read on
+// several workers give exactly the Dataset of one worker: JSON Lines with rows carrying
+// different quantities, bad lines and unknown fields; OpenConfig documents pretty-printed one
+// after another and in one array.
+func TestParallelJSONMatchesOneWorker(t *testing.T) {
+	var lines bytes.Buffer
+	qs := []string{"pre_fec_ber", "osnr_db", "rx_power_mw", "q", "pdl_db"}
+	for i := 0; i < 30000; i++ {
+		fmt.Fprintf(&lines, `{"time":%d,"port":"p%02d"`, 1773477000+i/37, i%37)
+		for j, q := range qs {
+			if (i+j)%(3+i%4) != 0 {
+				fmt.Fprintf(&lines, `,"%s":%g`, q, 0.001+float64(i%13)*0.01)
+			}
+		}
+		if i%1013 == 0 {
+			lines.WriteString(`,"extra":1`)
+		}
+		lines.WriteString("}\n")
+		if i%7919 == 0 {
+			lines.WriteString("{bad\n\n")
+		}
+	}
+	var stream, array bytes.Buffer
+	array.WriteString("[\n")
+	for i := 0; i < 250; i++ {
+		var comps []any
+		for p := 0; p < 40; p++ {
+			comps = append(comps, map[string]any{"name": fmt.Sprintf("och-%d", p), "optical-channel": map[string]any{"state": map[string]any{
+				"osnr": map[string]any{"instant": 20 + float64(p%7)}, "input-power": map[string]any{"instant": -5 - float64(i%5)}}}})
+		}
+		doc, _ := json.MarshalIndent(map[string]any{"timestamp": 1773477000000 + int64(i)*60000,
+			"openconfig-platform:components": map[string]any{"component": comps}}, "", "  ")
+		stream.Write(doc)
+		stream.WriteString("\n")
+		if i > 0 {
+			array.WriteString(",\n")
+		}
+		array.Write(doc)
+	}
+	array.WriteString("\n]\n")
+	for name, data := range map[string][]byte{"lines.jsonl": lines.Bytes(), "stream.json": stream.Bytes(), "array.json": array.Bytes()} {
+		if len(data) < 2*chunkSize {
+			t.Fatalf("%s: %d bytes, not more than two blocks", name, len(data))
+		}
+		read := func(workers int) *Dataset {
+			ds, err := ReadFile(name, io.MultiReader(bytes.NewReader(data)), Options{Workers: workers})
+			if err != nil {
+				t.Fatalf("%s: %v", name, err)
+			}
+			checkAccounting(t, ds)
+			return ds
+		}
+		one := read(1)
+		if one.Inputs[0].RowsUsed == 0 {
+			t.Fatalf("%s: nothing read: %+v", name, one.Inputs[0])
+		}
+		for _, workers := range []int{2, 3} {
+			if !sameDataset(read(workers), one) {
+				t.Errorf("%s, %d workers: dataset differs from one worker", name, workers)
 			}
 		}
 	}
