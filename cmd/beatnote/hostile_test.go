@@ -8,6 +8,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -23,6 +24,7 @@ import (
 // inert text.
 type hostileCorpus struct {
 	dir, ports, values, plan string
+	broken                   string   // a YAML file that does not parse, with a hostile name
 	portNames                []string // every port name of ports.jsonl
 }
 
@@ -33,6 +35,10 @@ func newHostileCorpus(t *testing.T) hostileCorpus {
 		ports:  filepath.Join(dir, "ports\x1b[31m\nFORGED-file-name | x |.jsonl"),
 		values: filepath.Join(dir, "=cmd|' -FAKE-file'!A0\u202e.csv"),
 		plan:   filepath.Join(dir, "plan\r\nFORGED-plan-name.yaml"),
+	}
+	c.broken = filepath.Join(dir, "broken\x1b]0;FAKE\a\r\nFORGED-config.yaml")
+	if err := os.WriteFile(c.broken, []byte("circuit: [\n"), 0o644); err != nil {
+		t.Fatal(err)
 	}
 	for src, dst := range map[string]string{"ports.jsonl": c.ports, "values.csv": c.values, "plan.yaml": c.plan} {
 		data, err := os.ReadFile(filepath.Join("testdata", "hostile", src))
@@ -87,12 +93,25 @@ func TestHostileInputTerminal(t *testing.T) {
 		{"report", c.values, "--plan", c.plan, "--format", "markdown", "--out", filepath.Join(c.dir, "r\x1b[2J.md")},
 		{"check", filepath.Join(c.dir, "missing\x1b[2J\nFORGED-missing.csv")},
 		{"check", c.ports, "--port", "\x1b[2J\nFORGED-port-flag"},
+		// Errors that name a hostile file: a configuration file that is not valid, or not a
+		// regular file; a strict read stopped at a hostile row.
+		{"check", c.values, "--plan", c.broken},
+		{"check", c.values, "--rules", c.broken},
+		{"check", c.values, "--profiles", c.broken},
+		{"triage", c.values, "--map", c.broken},
+		{"check", c.values, "--plan", c.dir},
+		{"scan", "--strict", c.ports, c.values},
+		{"check", "--strict", c.ports, c.values},
 	} {
 		code, stdout, stderr := runCLI(t, args...)
 		what := args[0] + " " + strings.Join(args[1:], " ")
+		failing := slices.Contains(args, c.broken) || slices.Contains(args, c.dir) && args[0] == "check" || slices.Contains(args, "--strict")
+		if failing && code != 2 {
+			t.Errorf("%q: exit %d, want 2", what, code)
+		}
 		assertTerminalSafe(t, strconv.Quote(what)+" stdout", stdout)
 		assertTerminalSafe(t, strconv.Quote(what)+" stderr", stderr)
-		if code == 2 && args[0] != "check" || stdout == "" && code != 2 {
+		if code == 2 && args[0] != "check" && !failing || stdout == "" && code != 2 {
 			t.Errorf("%q: exit %d, stdout %q, stderr %q", what, code, stdout, stderr)
 		}
 	}
