@@ -86,6 +86,7 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 		return nil, nil, &ParseError{File: file, Line: lineNo, Err: err}
 	}
 	var notes []string
+	unknown := 0
 	type cellKey struct {
 		kind colKind
 		q    Quantity
@@ -99,7 +100,9 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 		c, st, unitS := lookupHeaderCell(name)
 		lay.cols = append(lay.cols, c)
 		if c.kind == colUnknown {
-			notes = append(notes, fmt.Sprintf("unknown column %d %q ignored", i+1, name))
+			if unknown++; unknown <= MaxUnknownNamesNoted {
+				notes = append(notes, fmt.Sprintf("unknown column %d %s ignored", i+1, quoteShort(f)))
+			}
 			continue
 		}
 		key := cellKey{c.kind, c.q, st}
@@ -129,6 +132,9 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 				lay.qmask |= 1 << c.q
 			}
 		}
+	}
+	if more := unknown - MaxUnknownNamesNoted; more > 0 {
+		notes = append(notes, fmt.Sprintf("%d more unknown columns ignored (the first %d are named)", more, MaxUnknownNamesNoted))
 	}
 	if bl.any() {
 		notes = append(notes, bl.valueFallbacks(lay)...)

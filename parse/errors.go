@@ -95,3 +95,8 @@ func CheckPortName(name string) error {
 	}
 	return nil
 }
+
+// MaxUnknownNamesNoted bounds the notes about unknown columns (CSV) or members (JSON) of one
+// input: the first ones are named, the rest counted in one note, so that an export with
+// hundreds of thousands of unknown names neither floods the output nor grows without bound.
+const MaxUnknownNamesNoted = 20

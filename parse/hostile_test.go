@@ -484,3 +484,28 @@ func TestPortsCountAgainstTheRowLimit(t *testing.T) {
 		t.Errorf("200 one-row ports under a limit worth 200: %v", err)
 	}
 }
+
+// An export with very many unknown columns or members gets the first MaxUnknownNamesNoted
+// named and one note for the rest, not a note each (500 000 of them flooded 22 MB of output).
+func TestManyUnknownNames(t *testing.T) {
+	var csvIn, jsonIn strings.Builder
+	csvIn.WriteString("time,port,q_db")
+	for i := range 100 {
+		fmt.Fprintf(&csvIn, ",extra%d", i)
+		fmt.Fprintf(&jsonIn, `{"time":"2026-03-14T00:%02d:00Z","port":"p","q_db":10,"extra%d":1}`+"\n", i%60, i)
+	}
+	csvIn.WriteString("\n2026-03-14T00:00:00Z,p,10" + strings.Repeat(",1", 100) + "\n")
+	for name, c := range map[string]struct{ in, more string }{
+		"x.csv":   {csvIn.String(), "80 more unknown columns ignored (the first 20 are named)"},
+		"x.jsonl": {jsonIn.String(), "more unknown fields ignored (the first 20 are named)"},
+	} {
+		ds, err := ReadFile(name, strings.NewReader(c.in), Options{})
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		notes := ds.Inputs[0].Notes
+		if len(notes) != MaxUnknownNamesNoted+1 || notes[len(notes)-1] != c.more {
+			t.Errorf("%s: %d notes ending %q, want %d naming one unknown each and %q", name, len(notes), notes[len(notes)-1], MaxUnknownNamesNoted, c.more)
+		}
+	}
+}

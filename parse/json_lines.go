@@ -86,7 +86,10 @@ func readJSON(res *fileResult, r io.Reader, opt Options) {
 		}
 		sort.Strings(names)
 		for _, n := range names {
-			res.stats.Notes = append(res.stats.Notes, fmt.Sprintf("unknown field %q ignored", n))
+			res.stats.Notes = append(res.stats.Notes, fmt.Sprintf("unknown field %s ignored", quoteShort([]byte(n))))
+		}
+		if jr.moreUnknown {
+			res.stats.Notes = append(res.stats.Notes, fmt.Sprintf("more unknown fields ignored (the first %d are named)", MaxUnknownNamesNoted))
 		}
 	}
 	res.stats.Notes = append(res.stats.Notes, jr.notes...)
@@ -160,8 +163,10 @@ type jsonFile struct {
 	opt     Options
 	stat    string
 	mode    jsonMode
-	unknown map[string]bool
-	notes   []string
+	unknown map[string]bool // unknown members met, the first MaxUnknownNamesNoted of them
+	// moreUnknown: other unknown members were met
+	moreUnknown bool
+	notes       []string
 }
 
 // documentTooLong is the read error of a JSON document (or line) longer than maxJSONDocument
@@ -185,7 +190,11 @@ func (jr *jsonFile) account(job *csvJob) bool {
 	}
 	res.takeProfiles(job)
 	for _, u := range job.unknown {
-		jr.unknown[u] = true
+		if len(jr.unknown) < MaxUnknownNamesNoted {
+			jr.unknown[u] = true
+		} else if !jr.unknown[u] {
+			jr.moreUnknown = true
+		}
 	}
 	for _, n := range job.notes {
 		if !slices.Contains(jr.notes, n) {
