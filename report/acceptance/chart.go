@@ -484,12 +484,26 @@ func (a *Report) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error) {
 			extra = append(extra, l.v)
 		}
 	}
-	lo, top := rangeOf(vs, extra...)
-	drawn := 0
-	for _, l := range limits {
-		drawn += count(l.v >= lo && l.v <= top)
+	var lo, top, hi float64
+	// A limit the legend's room above the data would bring onto the axis is drawn too, the
+	// room then made above it: a limit value the axis shows is never said to lie outside.
+	for range 2 {
+		lo, top = rangeOf(vs, extra...)
+		drawn := 0
+		for _, l := range limits {
+			drawn += count(l.v >= lo && l.v <= top)
+		}
+		hi = legendRoom(lo, top, 1+drawn+count(len(m.RxPowerChanges) > 0))
+		more := false
+		for i, l := range limits {
+			if !l.near && l.v > top && l.v <= hi {
+				limits[i].near, extra, more = true, append(extra, l.v), true
+			}
+		}
+		if !more {
+			break
+		}
 	}
-	hi := legendRoom(lo, top, 1+drawn+count(len(m.RxPowerChanges) > 0))
 	if err := addSeries(p, ts, vs, "Rx power"); err != nil {
 		return nil, err
 	}

@@ -42,7 +42,8 @@ func TestRxPowerCaptionMatchesTheChart(t *testing.T) {
 	}{
 		{"near the overload limit", powerSeries(-3, 0), []string{"overload limit, 0.0 dBm, is drawn"}, []string{"0.0 dBm, lies"}},
 		{"far from both limits", powerSeries(-6, 0), []string{"overload limit, 0.0 dBm, lies above", "sensitivity limit, -12.0 dBm, lies below"}, nil},
-		{"a loss of signal", powerSeries(-6, -40), []string{"fall to -40.0 dBm is loss of signal"}, []string{"no step"}},
+		// The legend's room above the trace brings 0 dBm onto the axis: it is drawn, not said to lie above.
+		{"a loss of signal", powerSeries(-6, -40), []string{"fall to -40.0 dBm is loss of signal", "overload limit, 0.0 dBm, is drawn"}, []string{"no step", "0.0 dBm, lies"}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			c, err := a.chartRxPower(tc.s, ChartMarks{})
