@@ -42,7 +42,14 @@ func FormatValue(v float64, unit string) string {
 		return s
 	case "dB", "dBm":
 		s = strconv.FormatFloat(v, 'f', 2, 64)
-	case "ps/nm", "MHz", "blocks", "samples", "km", "s":
+	case "blocks", "samples":
+		// Counts are grouped by thousands for reading: "69 706 560 000 blocks".
+		if r := math.Round(v); math.Abs(r) < 1e15 {
+			s = words.Group(int(r))
+		} else {
+			s = strconv.FormatFloat(v, 'e', 2, 64)
+		}
+	case "ps/nm", "MHz", "km", "s":
 		s = strconv.FormatFloat(v, 'f', 0, 64)
 	case "ps", "krad/s", "h", "decades":
 		s = strconv.FormatFloat(v, 'f', 1, 64)

@@ -5,11 +5,16 @@ package words
 
 import (
 	"fmt"
+	"math"
 	"strings"
 )
 
-// Group writes n with thin grouping for readability: 12345 → "12 345".
+// Group writes n with thin grouping for readability: 12345 → "12 345", -12345 → "-12 345";
+// four digits stay together (1234).
 func Group(n int) string {
+	if n < 0 && n != math.MinInt {
+		return "-" + Group(-n)
+	}
 	s := fmt.Sprint(n)
 	if n < 0 || len(s) <= 4 {
 		return s
