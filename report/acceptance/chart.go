@@ -15,6 +15,7 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
 
+	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/diagnose/series"
 	"github.com/beatnote/beatnote/parse"
 	"github.com/beatnote/beatnote/report/escape"
@@ -50,6 +51,8 @@ type ChartMarks struct {
 	DGDFit         *DensityCurve
 	// QLimitDB is the Q-factor limit (FEC threshold as Q) when the engine knows it.
 	QLimitDB *float64
+	// OSNRChanges are steps in the reported OSNR, Unix ms.
+	OSNRChanges []int64
 }
 
 // Chart is one rendered chart.
@@ -100,6 +103,9 @@ func (a *Report) portCharts(port string, firstIndex int) ([]Chart, error) {
 		return nil, err
 	}
 	if err := add(a.chartRxPower(s, m)); err != nil {
+		return nil, err
+	}
+	if err := add(a.chartOSNR(s, m, a.criterionOf(port, parse.OSNRdB.Column()))); err != nil {
 		return nil, err
 	}
 	if err := add(a.chartDGD(s, m)); err != nil {
@@ -527,7 +533,7 @@ func (a *Report) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error) {
 	}
 	switch n := len(m.RxPowerChanges); {
 	case n > 0:
-		caption += fmt.Sprintf(" Orange vertical lines: %s found by the analysis.", words.Plural(n, "change point", "change points"))
+		caption += markedCaption(n, "change point", "change points")
 	case vhi-vlo >= 10:
 		caption += fmt.Sprintf(" The fall to %.1f dBm is loss of signal (see the evidence); the analysis looks for steps only while the signal is present and marked none.", vlo)
 	default:
@@ -535,6 +541,68 @@ func (a *Report) chartRxPower(s *parse.Series, m ChartMarks) (*Chart, error) {
 	}
 	p.Y.Min, p.Y.Max = lo, hi
 	return a.renderChart(p, "Received power over time", caption)
+}
+
+// markedCaption is the caption sentence on n orange vertical lines marking what one (many) names.
+func markedCaption(n int, one, many string) string {
+	lines := "lines"
+	if n == 1 {
+		lines = "line"
+	}
+	return fmt.Sprintf(" Orange vertical %s: %s found by the analysis.", lines, words.Plural(n, one, many))
+}
+
+// criterionOf is the port's criterion on metric, nil when it has none.
+func (a *Report) criterionOf(port, metric string) *diagnose.Criterion {
+	for i := range a.Ports {
+		if a.Ports[i].Port != port {
+			continue
+		}
+		for j, c := range a.Ports[i].Criteria {
+			if c.Metric == metric {
+				return &a.Ports[i].Criteria[j]
+			}
+		}
+	}
+	return nil
+}
+
+// chartOSNR draws the reported OSNR over time with the required OSNR and the OSNR steps the
+// analysis found. It is drawn only where the OSNR tells part of the story: a step was found or
+// the OSNR criterion is not passed.
+func (a *Report) chartOSNR(s *parse.Series, m ChartMarks, crit *diagnose.Criterion) (*Chart, error) {
+	ts, vs := s.Present(parse.OSNRdB)
+	if len(ts) < 2 || (len(m.OSNRChanges) == 0 && (crit == nil || crit.Verdict == diagnose.Pass)) {
+		return nil, nil
+	}
+	p := newTimePlot("OSNR over time", "OSNR (dB, 0.1 nm)", ts[len(ts)-1]-ts[0])
+	var extra []float64
+	if crit != nil {
+		extra = append(extra, crit.Limit)
+	}
+	lo, top := rangeOf(vs, extra...)
+	hi := legendRoom(lo, top, 1+len(extra)+count(len(m.OSNRChanges) > 0))
+	if err := addSeries(p, ts, vs, "OSNR"); err != nil {
+		return nil, err
+	}
+	caption := "OSNR as the module reports it (0.1 nm reference bandwidth)."
+	if crit != nil {
+		x0, x1 := float64(ts[0])/1000, float64(ts[len(ts)-1])/1000
+		if err := addHLine(p, x0, x1, crit.Limit, colLimit, dashLong, fmt.Sprintf("required OSNR %.2f dB", crit.Limit)); err != nil {
+			return nil, err
+		}
+		caption += fmt.Sprintf(" Dashed line: the required OSNR, %.2f dB (the criterion's limit).", crit.Limit)
+	}
+	if err := addVMarks(p, m.OSNRChanges, lo, top, "OSNR step"); err != nil {
+		return nil, err
+	}
+	if n := len(m.OSNRChanges); n > 0 {
+		caption += markedCaption(n, "OSNR step", "OSNR steps")
+	} else {
+		caption += " The analysis found no OSNR step."
+	}
+	p.Y.Min, p.Y.Max = lo, hi
+	return a.renderChart(p, "OSNR over time", caption)
 }
 
 func (a *Report) chartDGD(s *parse.Series, m ChartMarks) (*Chart, error) {

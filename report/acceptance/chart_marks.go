@@ -22,6 +22,9 @@ func MarksFromAnalysis(an *diagnose.PortAnalysis) ChartMarks {
 	for _, cp := range an.PowerSteps {
 		m.RxPowerChanges = append(m.RxPowerChanges, cp.TimeMs)
 	}
+	for _, cp := range an.OSNRSteps {
+		m.OSNRChanges = append(m.OSNRChanges, cp.TimeMs)
+	}
 	for _, b := range an.BERBursts {
 		m.BERBursts = append(m.BERBursts, TimeSpan{FromMs: b.FromMs, ToMs: b.ToMs})
 	}

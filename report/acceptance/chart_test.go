@@ -64,6 +64,35 @@ func TestRxPowerCaptionMatchesTheChart(t *testing.T) {
 	}
 }
 
+// The OSNR chart is drawn where the OSNR tells part of the story (a step found, or its
+// criterion not passed), with the required OSNR and each step marked; not for a passing port
+// without a step.
+func TestOSNRChartOnlyWhereItMatters(t *testing.T) {
+	s := powerSeries(-6, 0)
+	s.Values[parse.OSNRdB] = s.Values[parse.RxPowerDBm]
+	for i := range s.Values[parse.OSNRdB] {
+		s.Values[parse.OSNRdB][i] = 31.5
+		if i > 40 {
+			s.Values[parse.OSNRdB][i] = 26
+		}
+	}
+	crit := diagnose.Criterion{Metric: "osnr_db", Limit: 24.03, Verdict: diagnose.Marginal}
+	a := &Report{Ports: []diagnose.PortResult{{Port: "p", Criteria: []diagnose.Criterion{crit}}}}
+	c, err := a.chartOSNR(s, ChartMarks{OSNRChanges: []int64{s.TimesMs[41]}}, a.criterionOf("p", "osnr_db"))
+	if err != nil || c == nil {
+		t.Fatalf("no OSNR chart: %v", err)
+	}
+	for _, w := range []string{"required OSNR, 24.03 dB", "Orange vertical line: 1 OSNR step found"} {
+		if !strings.Contains(c.Caption, w) {
+			t.Errorf("caption lacks %q:\n%s", w, c.Caption)
+		}
+	}
+	a.Ports[0].Criteria[0].Verdict = diagnose.Pass
+	if c, _ := a.chartOSNR(s, ChartMarks{}, a.criterionOf("p", "osnr_db")); c != nil {
+		t.Errorf("an OSNR chart for a passing port without a step: %s", c.Caption)
+	}
+}
+
 // A Maxwellian fit is claimed only when the Kolmogorov–Smirnov test does not reject it at 5 %.
 func TestMaxwellianFitClaimedOnlyWhenNotRejected(t *testing.T) {
 	for _, tc := range []struct {
