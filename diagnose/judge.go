@@ -76,6 +76,7 @@ func (pc *portCtx) metrics() {
 		case parse.UncorrectedBlocks:
 			limit, margin = 0, 0-s.Max // 0 − x, not −x: no negative zero
 		case parse.QdB:
+			s = pc.qSummary() // samples with signal only
 			limit = pc.qLimitDB
 			margin = pick(s, r.QStatistic) - limit
 		case parse.ESNRdB:
@@ -126,11 +127,13 @@ func (pc *portCtx) metrics() {
 	}
 }
 
-// windowMargin gives the nearer edge of a power window and the margin to it.
-// qSummary is the summary of the Q series (measured or derived), computed once.
+// qSummary is the summary of the Q series (measured or derived) over the samples with signal,
+// computed once: a dark sample's Q (the clamp of a BER of no lock, or whatever the module
+// reports without light) says nothing of the signal quality, and the dark samples are judged by
+// their own criterion.
 func (pc *portCtx) qSummary() series.Summary {
 	if pc.cache.q == nil {
-		s := pc.summaryOf(pc.qdb, parse.QdB)
+		s := pc.summaryOf(pc.lit(pc.qdb), parse.QdB)
 		if pc.qDerived {
 			pc.widenDerived(&s, true)
 		}
@@ -139,6 +142,7 @@ func (pc *portCtx) qSummary() series.Summary {
 	return *pc.cache.q
 }
 
+// windowMargin gives the nearer edge of a power window and the margin to it.
 func windowMargin(s series.Summary, lo, hi float64, stLo, stHi rules.Statistic) (limit, margin float64) {
 	mLo, mHi := pick(s, stLo)-lo, hi-pick(s, stHi)
 	if lo == 0 && hi == 0 {

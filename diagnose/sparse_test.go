@@ -1,6 +1,7 @@
 package diagnose_test
 
 import (
+	"math"
 	"slices"
 	"testing"
 
@@ -98,4 +99,48 @@ func troubled(p diagnose.PortResult) bool {
 		}
 	}
 	return false
+}
+
+// The Q metric (and the triage column "Q margin (lit)" that shows it) covers the samples with
+// signal only. On a loss of light logged with BER and power alone, Q is derived from the BER,
+// and a dark sample's BER of no lock would otherwise pull the minimum Q to the clamp (about
+// −26 dB of margin). Reference: Q = √2·erfc⁻¹(2·BER), in dB 20·log10 Q (Gaussian-noise
+// relation, common practice), with erfc⁻¹ from Go's math package rather than diagnose/optics,
+// over the samples above the loss-of-signal floor and below the BER of no lock (0.25, common
+// practice, docs/diagnosis.md).
+func TestQMarginOfSignalLossIsLit(t *testing.T) {
+	r := mustRules(t)
+	for seed := int64(1); seed <= 4; seed++ {
+		c, err := synth.Make(synth.Spec{Seed: seed, Severity: severity(seed), Causes: []diagnose.CauseID{diagnose.CauseSignalLoss}, Samples: 720})
+		if err != nil {
+			t.Fatal(err)
+		}
+		keepOnly(c.Series, berPowerOnly...)
+		p := judge(t, c, r, false)
+		if len(p.Causes) == 0 || p.Causes[0].ID != diagnose.CauseSignalLoss {
+			t.Fatalf("seed %d: causes %s, want signal-loss first", seed, causeList(p))
+		}
+		ber, pw := c.Series.Values[parse.PreFECBER], c.Series.Values[parse.RxPowerDBm]
+		minQ, dark := math.Inf(1), 0
+		for i, b := range ber {
+			if math.IsNaN(b) || pw[i] <= r.SignalLossFloorDBm || b >= 0.25 {
+				dark++
+				continue
+			}
+			minQ = math.Min(minQ, 20*math.Log10(math.Sqrt2*math.Erfcinv(2*math.Max(b, 1e-15))))
+		}
+		if dark == 0 {
+			t.Fatalf("seed %d: the generated loss of light has no dark sample", seed)
+		}
+		m, ok := p.Metrics[parse.QdB.Column()]
+		if !ok || m.Margin == nil || m.Limit == nil {
+			t.Fatalf("seed %d: no derived Q metric with a margin: %+v", seed, m)
+		}
+		if math.Abs(m.Min-minQ) > 1e-9 {
+			t.Errorf("seed %d: Q metric min %.4f dB, want %.4f dB, the minimum over the %d lit samples", seed, m.Min, minQ, len(ber)-dark)
+		}
+		if want := minQ - *m.Limit; math.Abs(*m.Margin-want) > 1e-9 {
+			t.Errorf("seed %d: Q margin %.4f dB, want %.4f dB", seed, *m.Margin, want)
+		}
+	}
 }
