@@ -110,6 +110,7 @@ type csvJob struct {
 	gMask      []uint32    // quantities of each port's group
 	gOff       []int32     // start of each group in gVals
 	unknown    []string    // unknown member names met
+	moreNotes  bool        // notes past MaxNotesListed were met (see noteOnce)
 	notes      []string    // notes, each once
 	sawOC      bool        // an OpenConfig document was met
 	stopErr    *ParseError // the input stops here (syntax error, or a strict rejection)

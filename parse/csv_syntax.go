@@ -100,7 +100,7 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 		c, st, unitS := lookupHeaderCell(name)
 		lay.cols = append(lay.cols, c)
 		if c.kind == colUnknown {
-			if unknown++; unknown <= MaxUnknownNamesNoted {
+			if unknown++; unknown <= MaxNotesListed {
 				notes = append(notes, fmt.Sprintf("unknown column %d %s ignored", i+1, quoteShort(f)))
 			}
 			continue
@@ -133,8 +133,8 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 			}
 		}
 	}
-	if more := unknown - MaxUnknownNamesNoted; more > 0 {
-		notes = append(notes, fmt.Sprintf("%d more unknown columns ignored (the first %d are named)", more, MaxUnknownNamesNoted))
+	if more := unknown - MaxNotesListed; more > 0 {
+		notes = append(notes, fmt.Sprintf("%d more unknown columns ignored (the first %d are named)", more, MaxNotesListed))
 	}
 	if bl.any() {
 		notes = append(notes, bl.valueFallbacks(lay)...)

@@ -96,7 +96,8 @@ func CheckPortName(name string) error {
 	return nil
 }
 
-// MaxUnknownNamesNoted bounds the notes about unknown columns (CSV) or members (JSON) of one
-// input: the first ones are named, the rest counted in one note, so that an export with
-// hundreds of thousands of unknown names neither floods the output nor grows without bound.
-const MaxUnknownNamesNoted = 20
+// MaxNotesListed bounds the notes of one kind an input lists — unknown columns (CSV) or members
+// (JSON), logical channels read as ports (OpenConfig): the first ones are listed and the rest
+// summed up in one note, so that an export with hundreds of thousands of them neither floods
+// the output nor takes time or memory without bound.
+const MaxNotesListed = 20

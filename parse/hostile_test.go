@@ -485,7 +485,7 @@ func TestPortsCountAgainstTheRowLimit(t *testing.T) {
 	}
 }
 
-// An export with very many unknown columns or members gets the first MaxUnknownNamesNoted
+// An export with very many unknown columns or members gets the first MaxNotesListed
 // named and one note for the rest, not a note each (500 000 of them flooded 22 MB of output).
 func TestManyUnknownNames(t *testing.T) {
 	var csvIn, jsonIn strings.Builder
@@ -504,8 +504,35 @@ func TestManyUnknownNames(t *testing.T) {
 			t.Fatalf("%s: %v", name, err)
 		}
 		notes := ds.Inputs[0].Notes
-		if len(notes) != MaxUnknownNamesNoted+1 || notes[len(notes)-1] != c.more {
-			t.Errorf("%s: %d notes ending %q, want %d naming one unknown each and %q", name, len(notes), notes[len(notes)-1], MaxUnknownNamesNoted, c.more)
+		if len(notes) != MaxNotesListed+1 || notes[len(notes)-1] != c.more {
+			t.Errorf("%s: %d notes ending %q, want %d naming one unknown each and %q", name, len(notes), notes[len(notes)-1], MaxNotesListed, c.more)
 		}
+	}
+}
+
+// OpenConfig notes are bounded too: a document of many logical channels read as ports lists the
+// first MaxNotesListed and sums up the rest (100 000 of them took 12 s, listing each once by a
+// quadratic search).
+func TestManyOpenConfigNotes(t *testing.T) {
+	var b strings.Builder
+	b.WriteString(`{"timestamp":"2026-03-14T08:30:00Z","openconfig-terminal-device:terminal-device":{"logical-channels":{"channel":[`)
+	for i := range 30 {
+		if i > 0 {
+			b.WriteString(",")
+		}
+		fmt.Fprintf(&b, `{"index":%d,"otn":{"state":{"q-value":{"instant":9.8}}}}`, 100+i)
+	}
+	b.WriteString("]}}}\n")
+	ds, err := ReadFile("oc.json", strings.NewReader(b.String()), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(ds.Series) != 30 {
+		t.Fatalf("%d ports, want the 30 logical channels", len(ds.Series))
+	}
+	notes := ds.Inputs[0].Notes
+	want := "more notes like these not listed (the first 20 are)"
+	if len(notes) != MaxNotesListed+1 || notes[len(notes)-1] != want {
+		t.Errorf("%d notes ending %q, want %d and %q", len(notes), notes[len(notes)-1], MaxNotesListed+1, want)
 	}
 }

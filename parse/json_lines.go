@@ -89,10 +89,13 @@ func readJSON(res *fileResult, r io.Reader, opt Options) {
 			res.stats.Notes = append(res.stats.Notes, fmt.Sprintf("unknown field %s ignored", quoteShort([]byte(n))))
 		}
 		if jr.moreUnknown {
-			res.stats.Notes = append(res.stats.Notes, fmt.Sprintf("more unknown fields ignored (the first %d are named)", MaxUnknownNamesNoted))
+			res.stats.Notes = append(res.stats.Notes, fmt.Sprintf("more unknown fields ignored (the first %d are named)", MaxNotesListed))
 		}
 	}
 	res.stats.Notes = append(res.stats.Notes, jr.notes...)
+	if jr.moreNotes {
+		res.stats.Notes = append(res.stats.Notes, fmt.Sprintf("more notes like these not listed (the first %d are)", MaxNotesListed))
+	}
 }
 
 func firstLine(b []byte) []byte {
@@ -163,10 +166,11 @@ type jsonFile struct {
 	opt     Options
 	stat    string
 	mode    jsonMode
-	unknown map[string]bool // unknown members met, the first MaxUnknownNamesNoted of them
+	unknown map[string]bool // unknown members met, the first MaxNotesListed of them
 	// moreUnknown: other unknown members were met
 	moreUnknown bool
-	notes       []string
+	notes       []string // the input's notes, the first MaxNotesListed of them
+	moreNotes   bool     // some notes were not kept
 }
 
 // documentTooLong is the read error of a JSON document (or line) longer than maxJSONDocument
@@ -190,17 +194,22 @@ func (jr *jsonFile) account(job *csvJob) bool {
 	}
 	res.takeProfiles(job)
 	for _, u := range job.unknown {
-		if len(jr.unknown) < MaxUnknownNamesNoted {
+		if len(jr.unknown) < MaxNotesListed {
 			jr.unknown[u] = true
 		} else if !jr.unknown[u] {
 			jr.moreUnknown = true
 		}
 	}
 	for _, n := range job.notes {
-		if !slices.Contains(jr.notes, n) {
+		switch {
+		case slices.Contains(jr.notes, n):
+		case len(jr.notes) < MaxNotesListed:
 			jr.notes = append(jr.notes, n)
+		default:
+			jr.moreNotes = true
 		}
 	}
+	jr.moreNotes = jr.moreNotes || job.moreNotes
 	res.hintFirst(job, func(g int) int { return bits.OnesCount32(job.gMask[g]) })
 	if job.sawOC && !strings.Contains(res.stats.Format, "openconfig") {
 		res.stats.Format = strings.Replace(strings.Replace(res.stats.Format, "jsonl", "json", 1), "json", "openconfig-json", 1)

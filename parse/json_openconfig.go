@@ -310,9 +310,14 @@ func (jp *jsonParser) openConfig(lineNo int) {
 	}
 }
 
-// noteOnce adds a note to the block unless it has it already.
+// noteOnce adds a note to the block unless it has it already, or already has MaxNotesListed
+// (then it marks the block as having more).
 func (jp *jsonParser) noteOnce(s string) {
-	if !slices.Contains(jp.job.notes, s) {
+	switch {
+	case slices.Contains(jp.job.notes, s):
+	case len(jp.job.notes) < MaxNotesListed:
 		jp.job.notes = append(jp.job.notes, s)
+	default:
+		jp.job.moreNotes = true
 	}
 }
