@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"github.com/beatnote/beatnote/report/words"
 	"math"
+	"strings"
 
 	"github.com/beatnote/beatnote/diagnose/series"
 	"github.com/beatnote/beatnote/parse"
@@ -112,8 +113,12 @@ func (pc *portCtx) sopTransient() *score {
 	if bursts > 0 && matched > 0 {
 		frac := float64(matched) / float64(bursts)
 		chance := series.ChanceCoincidence(toRuns(an.SOPSpikes), int64(an.CoincidenceWindowS*1000), pc.s.TimesMs[0], pc.s.TimesMs[pc.n-1])
-		msg := fmt.Sprintf("%d of %d %s fall within %.0f s of an SOP-rate spike (lag %+.0f…%+.0f s); chance alone would give about %s.",
-			matched, bursts, kind, an.CoincidenceWindowS, lagMin, lagMax, pct(chance))
+		which := fmt.Sprintf("%d of %d %s fall", matched, bursts, kind)
+		if bursts == 1 {
+			which = "The one " + strings.TrimSuffix(kind, "s") + " falls"
+		}
+		msg := fmt.Sprintf("%s within %.0f s of an SOP-rate spike (lag %+.0f…%+.0f s); chance alone would give about %s.",
+			which, an.CoincidenceWindowS, lagMin, lagMax, pct(chance))
 		switch {
 		case matched >= 2 && frac >= coincidentShare && frac > chanceFactorStrong*chance:
 			s.add(llrStrong, "%s", msg)

@@ -5,6 +5,7 @@ import (
 	"go.yaml.in/yaml/v3"
 	"os"
 	"path/filepath"
+	"regexp"
 	"slices"
 	"strings"
 	"testing"
@@ -439,6 +440,30 @@ func TestReportByCircuitSignsOwnInputs(t *testing.T) {
 		}
 		if code, stdout, _ := runCLI(t, "verify", rep, "--pub", filepath.Join(dir, "tech.pub")); code != 0 || !strings.HasPrefix(stdout, "VERIFIED") {
 			t.Errorf("verify %s: exit %d\n%s", circuit, code, stdout)
+		}
+	}
+}
+
+// Every sentence check writes about the demo logs and the demo network counts in proper
+// words: no "burst(s)", no "1 samples" or "1 of 1 BER bursts fall".
+func TestSampleWordingCountsInWords(t *testing.T) {
+	oneMany := regexp.MustCompile(`\b1 ([A-Za-z-]+ ){0,2}(bursts|spikes|samples|intervals|gaps|steps|blocks|ports|channels|rows|files|times|points|seconds|lines|findings)\b`)
+	for _, set := range [][2]string{{"logs", "portmap.yaml"}, {"network/logs", "network/portmap.yaml"}} {
+		root := filepath.Join("..", "..", "samples")
+		for _, format := range []string{"text", "json"} {
+			_, out, errw := runCLI(t, "check", filepath.Join(root, set[0]), "--map", filepath.Join(root, set[1]), "--format", format)
+			if out == "" {
+				t.Fatalf("check %s: no output: %s", set[0], errw)
+			}
+			if strings.Contains(out, "(s)") {
+				i := strings.Index(out, "(s)")
+				t.Errorf("check %s --format %s writes %q", set[0], format, out[max(0, i-60):i+3])
+			}
+			for _, m := range oneMany.FindAllString(out, -1) {
+				if !strings.HasPrefix(m, "1 dB") {
+					t.Errorf("check %s --format %s writes %q", set[0], format, m)
+				}
+			}
 		}
 	}
 }
