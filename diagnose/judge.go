@@ -291,7 +291,7 @@ func (pc *portCtx) criteria() {
 	if pc.darkCount > 0 {
 		pc.addCriterion(Criterion{Name: "Samples without signal", Metric: parse.RxPowerDBm.Column(), Statistic: "count",
 			Measured: float64(pc.darkCount), Limit: 0, Margin: -float64(pc.darkCount), Unit: "samples",
-			Source: fmt.Sprintf("rules signal_loss_floor_dbm %.1f dBm, or pre-FEC BER ≥ %.2g", r.SignalLossFloorDBm, noLockBER)}, 0, pc.darkOwner())
+			Source: fmt.Sprintf("rules signal_loss_floor_dbm %.1f dBm, or pre-FEC BER ≥ %.2g: %s", r.SignalLossFloorDBm, noLockBER, r.Sources["signal_loss_floor_dbm"])}, 0, pc.darkOwner())
 	}
 	if pc.exp != nil && has(parse.CDpsPerNm) {
 		exp := math.Abs(pc.exp.CDPsNm)

@@ -377,6 +377,10 @@ func TestReportByCircuitOnDemoSamples(t *testing.T) {
 			t.Errorf("QRO-GLM-TLV-403 report lacks %q beside its actions", want)
 		}
 	}
+	cut, _ := os.ReadFile(filepath.Join(dir, "QRO-OSK-MDQ-212.md"))
+	if !strings.Contains(string(cut), "| Samples without signal | count | 203 samples | 0 samples | -203 samples | fail | from memory [") {
+		t.Error("QRO-OSK-MDQ-212: the samples-without-signal limit does not show the class of its rules source (from memory)")
+	}
 	qpsk, _ := os.ReadFile(filepath.Join(dir, "QRO-RSK-MDQ-104.md"))
 	if !strings.Contains(string(qpsk), "100g-dp-qpsk") {
 		t.Error("QRO-RSK-MDQ-104 is not judged on its own profile, 100g-dp-qpsk")
