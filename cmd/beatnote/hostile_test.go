@@ -284,3 +284,23 @@ func TestHostileInputAcceptancePDF(t *testing.T) {
 		}
 	}
 }
+
+// Circuit ids become report file names in --by-circuit: no id can climb out of the folder or
+// make two circuits share one file, even ids chosen to collide with an earlier suffixed name or
+// to differ only in case.
+func TestByCircuitFileNamesAreUnique(t *testing.T) {
+	used := map[string]bool{}
+	ids := []string{"A/1", "A_1", "A_1-2", "a_1", "../../etc/passwd", "..", ".hidden", "", "\x1b[2J",
+		strings.Repeat("é", 300), strings.Repeat("x", 300)}
+	seen := map[string]string{}
+	for _, id := range ids {
+		name := uniqueFileName(used, id)
+		if strings.ContainsAny(name, `/\`) || strings.HasPrefix(name, ".") || name == "" || len(name) > 128 {
+			t.Errorf("id %q: file name %q leaves the folder or hides", id, name)
+		}
+		if prev, dup := seen[strings.ToLower(name)]; dup {
+			t.Errorf("ids %q and %q share the file name %q", prev, id, name)
+		}
+		seen[strings.ToLower(name)] = id
+	}
+}

@@ -51,7 +51,7 @@ func (c *ReportCmd) splitByCircuit(in *reportInput) ([]*reportInput, []string, e
 		return nil, nil, &exitError{code: 2, err: fmt.Errorf("--by-circuit: --out %s must be a folder: %w", c.Out, err)}
 	}
 	ext := map[string]string{"pdf": ".pdf", "markdown": ".md", "json": ".json"}[c.Format]
-	used := map[string]int{}
+	used := map[string]bool{}
 	var parts []*reportInput
 	var outs []string
 	for _, g := range groups {
@@ -108,11 +108,7 @@ func (c *ReportCmd) splitByCircuit(in *reportInput) ([]*reportInput, []string, e
 		} else {
 			part.Profile = in.Profile
 		}
-		base := fileName(g.name)
-		used[base]++
-		if n := used[base]; n > 1 {
-			base = fmt.Sprintf("%s-%d", base, n)
-		}
+		base := uniqueFileName(used, g.name)
 		parts = append(parts, &part)
 		outs = append(outs, filepath.Join(c.Out, base+ext))
 	}
@@ -156,8 +152,12 @@ func circuitInputs(ds *parse.Dataset, ports []diagnose.PortResult, n int) []bool
 	return own
 }
 
+// maxFileNameBytes bounds a report file name made from a circuit id (file systems take 255).
+const maxFileNameBytes = 120
+
 // fileName makes a circuit id safe as a file name: letters, digits, '.', '-' and '_' stay,
-// anything else becomes '_' (a leading dot too, so no hidden files).
+// anything else becomes '_', and leading dots and '_' go (no hidden files, no "." or ".."); at
+// most maxFileNameBytes are kept.
 func fileName(id string) string {
 	b := []rune(id)
 	for i, r := range b {
@@ -166,11 +166,25 @@ func fileName(id string) string {
 			b[i] = '_'
 		}
 	}
-	s := strings.Trim(string(b), "_")
+	s := strings.TrimLeft(string(b), "._") // never a hidden file
+	s = strings.TrimRight(s[:min(len(s), maxFileNameBytes)], "_")
 	if s == "" {
 		s = "circuit"
 	}
 	return s
+}
+
+// uniqueFileName is fileName(id), with "-2", "-3"… added until it differs from every name in
+// used, ignoring case (a case-insensitive file system would make "A" and "a" one file); it adds
+// the name to used. Two circuits never share a report file, whatever their ids.
+func uniqueFileName(used map[string]bool, id string) string {
+	base := fileName(id)
+	name := base
+	for n := 2; used[strings.ToLower(name)]; n++ {
+		name = fmt.Sprintf("%s-%d", base, n)
+	}
+	used[strings.ToLower(name)] = true
+	return name
 }
 
 // otherTyped says whether the plan file shown as typed path holds a plan not in plans.
