@@ -84,9 +84,9 @@ func judgeAcceptance(p *PortResult, s *parse.Series, st Setup, r rules.Rules, t 
 // errorPerformance counts the port's error-performance events, or says why it cannot.
 func errorPerformance(s *parse.Series, prof rules.Profile, r rules.Rules) (*ErrorPerformance, string) {
 	ub, pf := s.Values[parse.UncorrectedBlocks], s.Values[parse.PostFECBER]
-	basis := "uncorrected_blocks"
+	basis := parse.UncorrectedBlocks.Column()
 	if ub == nil {
-		basis = "post_fec_ber"
+		basis = parse.PostFECBER.Column()
 	}
 	if ub == nil && pf == nil {
 		return nil, "Error performance (ITU-T G.8201): the log has neither uncorrected FEC blocks nor post-FEC BER."

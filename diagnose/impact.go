@@ -3,6 +3,8 @@ package diagnose
 import (
 	"math"
 	"sort"
+
+	"github.com/beatnote/beatnote/parse"
 )
 
 // ImpactTier is a rung of the service-impact ranking, most urgent first. A port sits on the
@@ -54,14 +56,14 @@ type Impact struct {
 // projected time to the limit is inside the rules' horizon (margin below zero).
 func ImpactOf(p *PortResult) Impact {
 	im := Impact{QMarginDB: math.Inf(1), HoursToLimit: math.Inf(1)}
-	if m, ok := p.Metrics["q_db"]; ok && m.Margin != nil && !math.IsNaN(*m.Margin) {
+	if m, ok := p.Metrics[parse.QdB.Column()]; ok && m.Margin != nil && !math.IsNaN(*m.Margin) {
 		im.QMarginDB = *m.Margin
 	}
 	for _, c := range p.Criteria {
 		switch {
-		case c.Metric == "rx_power_dbm" && c.Statistic == "count" && c.Unit == "samples":
+		case c.Metric == parse.RxPowerDBm.Column() && c.Statistic == "count" && c.Unit == "samples":
 			im.DarkSamples = int(c.Measured)
-		case c.Metric == "uncorrected_blocks" && c.Statistic == "sum":
+		case c.Metric == parse.UncorrectedBlocks.Column() && c.Statistic == "sum":
 			im.UncorrectedBlocks = c.Measured
 		case c.Statistic == "trend" && c.Unit == "h" && c.Margin < 0:
 			im.HoursToLimit = math.Min(im.HoursToLimit, c.Measured)

@@ -247,7 +247,7 @@ func (pc *portCtx) criteria() {
 			if p.MeanDGDTolerancePs > 0 {
 				src += fmt.Sprintf("; the profile's own mean-DGD figure is %.3g ps, which allows a slightly higher outage probability", p.MeanDGDTolerancePs)
 			}
-			pc.addCriterion(Criterion{Name: fmt.Sprintf("Mean DGD for outage ≤ %.2g (from the %.0f ps tolerance)", r.PMDOutageProbability, p.DGDTolerancePs), Metric: "dgd_ps", Statistic: "mean",
+			pc.addCriterion(Criterion{Name: fmt.Sprintf("Mean DGD for outage ≤ %.2g (from the %.0f ps tolerance)", r.PMDOutageProbability, p.DGDTolerancePs), Metric: parse.DGDps.Column(), Statistic: "mean",
 				Measured: f.MeanPs, Limit: allowed, Margin: allowed - f.MeanPs, Unit: "ps",
 				Source: pc.source("dgd_tolerance_ps") + "; " + src},
 				(1-r.DGDMarginalFraction)*allowed, CausePMD)
@@ -315,6 +315,14 @@ func (pc *portCtx) trendSignificant(t *Trend) bool {
 }
 
 // planVsMeasured compares the plan's expectations with the measurements.
+// The PlanComparison quantities that are not telemetry columns (those are named by
+// parse.Quantity.Column).
+const (
+	PlanRouteLengthKm = "route_length_km" // route length implied by the measured |CD|
+	PlanMeanDGDPs     = "mean_dgd_ps"     // mean of the DGD samples
+	PlanImpliedOSNRdB = "osnr_implied_db" // OSNR implied by the median eSNR
+)
+
 func (pc *portCtx) planVsMeasured() {
 	if pc.plan == nil || pc.exp == nil {
 		return
@@ -333,11 +341,11 @@ func (pc *portCtx) planVsMeasured() {
 		}
 		add(parse.CDpsPerNm.Column(), e.CDPsNm, s.P50, "ps/nm", note)
 		if d := math.Abs(e.CDPsNm) / e.RouteLengthKm; finite(d) && d != 0 {
-			add("route_length_km", e.RouteLengthKm, pc.absSum[parse.CDpsPerNm].P50/d, "km", fmt.Sprintf("implied by the measured |CD| at the plan's average %.2f ps/(nm·km)", d))
+			add(PlanRouteLengthKm, e.RouteLengthKm, pc.absSum[parse.CDpsPerNm].P50/d, "km", fmt.Sprintf("implied by the measured |CD| at the plan's average %.2f ps/(nm·km)", d))
 		}
 	}
 	if f := pc.an.DGDFit; f != nil {
-		add("mean_dgd_ps", e.MeanDGDPs, f.MeanPs, "ps", "mean of the DGD samples")
+		add(PlanMeanDGDPs, e.MeanDGDPs, f.MeanPs, "ps", "mean of the DGD samples")
 	}
 	if countFinite(pc.litPower) > 0 {
 		add(parse.RxPowerDBm.Column(), e.RxPowerDBm, pc.litPowerSummary().P50, "dBm", "median while the signal was present")
@@ -350,7 +358,7 @@ func (pc *portCtx) planVsMeasured() {
 		if !finite(ref) {
 			ref = e.ASEOSNRdB
 		}
-		add("osnr_implied_db", ref, v, "dB", "OSNR implied by the median eSNR (after the transceiver ceiling) vs the plan's generalized OSNR")
+		add(PlanImpliedOSNRdB, ref, v, "dB", "OSNR implied by the median eSNR (after the transceiver ceiling) vs the plan's generalized OSNR")
 	}
 	if s, ok := pc.sum[parse.FrequencyTHz]; ok {
 		note := ""

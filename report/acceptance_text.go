@@ -8,6 +8,7 @@ import (
 
 	"github.com/beatnote/beatnote/diagnose"
 	"github.com/beatnote/beatnote/diagnose/soak"
+	"github.com/beatnote/beatnote/parse"
 )
 
 // This file words the acceptance-test parts of a port's judgement — the test period and the
@@ -52,7 +53,7 @@ func ErrorPerformanceText(ep *diagnose.ErrorPerformance) string {
 		return ""
 	}
 	basis := "uncorrected FEC blocks"
-	if ep.Basis == "post_fec_ber" {
+	if ep.Basis == parse.PostFECBER.Column() {
 		basis = "the post-FEC BER"
 	}
 	o := ep.Objectives
@@ -120,13 +121,21 @@ func lowerFirst(s string) string {
 }
 
 // quantityLabels name the canonical columns and derived quantities for people.
-var quantityLabels = map[string]string{
-	"pre_fec_ber": "pre-FEC BER", "post_fec_ber": "post-FEC BER", "uncorrected_blocks": "uncorrected FEC blocks",
-	"q_db": "Q-factor", "esnr_db": "eSNR", "osnr_db": "OSNR", "cd_ps_nm": "CD", "dgd_ps": "DGD", "mean_dgd_ps": "mean DGD",
-	"pdl_db": "PDL", "sop_rate_krad_s": "SOP rate", "lo_offset_mhz": "LO offset", "rx_power_dbm": "Rx power",
-	"tx_power_dbm": "Tx power", "frequency_thz": "channel frequency", "route_length_km": "route length",
-	"osnr_implied_db": "OSNR implied by the eSNR",
-}
+var quantityLabels = func() map[string]string {
+	m := map[string]string{
+		diagnose.PlanMeanDGDPs: "mean DGD", diagnose.PlanRouteLengthKm: "route length",
+		diagnose.PlanImpliedOSNRdB: "OSNR implied by the eSNR",
+	}
+	for q, l := range [parse.NumQuantities]string{
+		parse.PreFECBER: "pre-FEC BER", parse.PostFECBER: "post-FEC BER", parse.UncorrectedBlocks: "uncorrected FEC blocks",
+		parse.QdB: "Q-factor", parse.ESNRdB: "eSNR", parse.OSNRdB: "OSNR", parse.CDpsPerNm: "CD", parse.DGDps: "DGD",
+		parse.PDLdB: "PDL", parse.SOPRateKradPerS: "SOP rate", parse.LOOffsetMHz: "LO offset", parse.RxPowerDBm: "Rx power",
+		parse.TxPowerDBm: "Tx power", parse.FrequencyTHz: "channel frequency",
+	} {
+		m[parse.Quantity(q).Column()] = l
+	}
+	return m
+}()
 
 // QuantityLabel names a quantity key (a canonical column or a derived quantity) for people:
 // "cd_ps_nm" → "CD"; an unknown key with its underscores as spaces.

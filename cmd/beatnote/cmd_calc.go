@@ -9,6 +9,7 @@ import (
 	"github.com/alecthomas/kong"
 
 	"github.com/beatnote/beatnote/diagnose/optics"
+	"github.com/beatnote/beatnote/parse"
 )
 
 // number is a float flag value that may be negative: "--dbm -3" reads -3 instead of taking "-3"
@@ -148,7 +149,7 @@ func (c *CalcQCmd) Run(pr *printer) error {
 	items := []calcItem{
 		{"ber", "pre-FEC BER", "", ber, -1},
 		{"q_linear", "Q-factor (linear)", "", optics.QFromBER(ber), 4},
-		dbItem("q_db", "Q-factor", optics.QdBFromBER(ber)),
+		dbItem(parse.QdB.Column(), "Q-factor", optics.QdBFromBER(ber)),
 	}
 	if c.QdB != nil {
 		items[2].value = float64(*c.QdB) // keep the user's figure exactly
@@ -189,7 +190,7 @@ func (c *CalcBERCmd) Run(pr *printer) error {
 	}
 	if c.QdB != nil {
 		ber := optics.BERFromQdB(float64(*c.QdB))
-		return printCalc(pr, c.Format, []calcItem{dbItem("q_db", "Q-factor", float64(*c.QdB)), {"ber", "pre-FEC BER", "", ber, -1}})
+		return printCalc(pr, c.Format, []calcItem{dbItem(parse.QdB.Column(), "Q-factor", float64(*c.QdB)), {"ber", "pre-FEC BER", "", ber, -1}})
 	}
 	m, err := modulationFlag(c.Modulation)
 	if err != nil {
@@ -197,10 +198,10 @@ func (c *CalcBERCmd) Run(pr *printer) error {
 	}
 	ber := optics.BERFromSNRdB(m, float64(*c.ESNRdB))
 	return printCalc(pr, c.Format, []calcItem{
-		dbItem("esnr_db", "eSNR (Es/N0 per polarization)", float64(*c.ESNRdB)),
+		dbItem(parse.ESNRdB.Column(), "eSNR (Es/N0 per polarization)", float64(*c.ESNRdB)),
 		{"bits_per_symbol", "bits per symbol (" + m.String() + ")", "", float64(m.BitsPerSymbol()), 0},
 		{"ber", "pre-FEC BER (AWGN, Gray)", "", ber, -1},
-		dbItem("q_db", "Q-factor", optics.QdBFromBER(ber)),
+		dbItem(parse.QdB.Column(), "Q-factor", optics.QdBFromBER(ber)),
 	})
 }
 
@@ -252,9 +253,9 @@ func (c *CalcOSNRCmd) Run(pr *printer) error {
 		{"baud_gbd", "symbol rate (" + m.String() + ")", "GBd", c.BaudGBd, 3},
 		dbItem("esnr_theory_db", "eSNR, AWGN theory", theory),
 		dbItem("penalty_db", "implementation penalty", float64(c.PenaltyDB)),
-		dbItem("esnr_db", "eSNR (Es/N0 per polarization)", esnr),
+		dbItem(parse.ESNRdB.Column(), "eSNR (Es/N0 per polarization)", esnr),
 		dbItem("osnr_offset_db", "OSNR − eSNR (12.5 GHz ref.)", offset),
-		dbItem("osnr_db", "OSNR (0.1 nm)", esnr+offset),
+		dbItem(parse.OSNRdB.Column(), "OSNR (0.1 nm)", esnr+offset),
 	}
 	return printCalc(pr, c.Format, items)
 }
@@ -307,8 +308,8 @@ func (c *CalcLengthCmd) Run(pr *printer) error {
 		return usageErrorf("the dispersion coefficient is 0: no length follows from a CD")
 	}
 	return printCalc(pr, c.Format, []calcItem{
-		{"cd_ps_nm", "chromatic dispersion", "ps/nm", float64(c.CDPsNm), 1},
-		{"frequency_thz", "frequency", "THz", thz, 5},
+		{parse.CDpsPerNm.Column(), "chromatic dispersion", "ps/nm", float64(c.CDPsNm), 1},
+		{parse.FrequencyTHz.Column(), "frequency", "THz", thz, 5},
 		{"wavelength_nm", "wavelength", "nm", nm, 3},
 		{"dispersion_ps_nm_km", "D (" + fib.Name + ")", "ps/(nm·km)", d, 3},
 		{"length_km", "implied fibre length", "km", optics.ImpliedLengthKm(float64(c.CDPsNm), fib, nm), 2},
@@ -334,11 +335,11 @@ func (c *CalcCDCmd) Run(pr *printer) error {
 	d := fib.DispersionPsNmKm(nm)
 	return printCalc(pr, c.Format, []calcItem{
 		{"length_km", "fibre length", "km", c.LengthKm, 2},
-		{"frequency_thz", "frequency", "THz", thz, 5},
+		{parse.FrequencyTHz.Column(), "frequency", "THz", thz, 5},
 		{"wavelength_nm", "wavelength", "nm", nm, 3},
 		{"dispersion_ps_nm_km", "D (" + fib.Name + ")", "ps/(nm·km)", d, 3},
 		{"slope_ps_nm2_km", "dispersion slope", "ps/(nm²·km)", fib.SlopePsNm2Km(nm), 4},
-		{"cd_ps_nm", "chromatic dispersion", "ps/nm", d * c.LengthKm, 1},
+		{parse.CDpsPerNm.Column(), "chromatic dispersion", "ps/nm", d * c.LengthKm, 1},
 	})
 }
 
@@ -459,7 +460,7 @@ func (c *CalcGridCmd) Run(pr *printer) error {
 	}
 	g, n := optics.NearestGridTHz(thz, c.GranularityGHz)
 	return printCalc(pr, c.Format, []calcItem{
-		{"frequency_thz", "frequency", "THz", thz, 6},
+		{parse.FrequencyTHz.Column(), "frequency", "THz", thz, 6},
 		{"wavelength_nm", "wavelength", "nm", optics.WavelengthNmFromTHz(thz), 3},
 		{"granularity_ghz", "grid granularity", "GHz", c.GranularityGHz, 2},
 		{"grid_n", "grid index n (193.1 THz + n·step)", "", float64(n), 0},
@@ -496,6 +497,6 @@ func (c *CalcASECmd) Run(pr *printer) error {
 		{"amplifiers", "amplifiers", "", float64(c.Amplifiers), 0},
 		{"photon_noise_dbm", "h·ν·Bref (12.5 GHz)", "dBm", optics.PhotonNoiseDBm(c.FrequencyTHz, optics.ReferenceBandwidthGHz), 3},
 		dbItem("osnr_one_db", "OSNR of one amplifier (0.1 nm)", one),
-		dbItem("osnr_db", "OSNR of the chain (0.1 nm)", one-optics.LinearToDB(float64(c.Amplifiers))),
+		dbItem(parse.OSNRdB.Column(), "OSNR of the chain (0.1 nm)", one-optics.LinearToDB(float64(c.Amplifiers))),
 	})
 }
