@@ -25,7 +25,7 @@ func (pc *portCtx) loOffset() *score {
 		s.add(llrDecisive, "|LO offset| reached %.0f MHz, at or beyond the module's ±%.0f MHz capture range.", a.Max, rng)
 	case a.Max >= r.LOOffsetMarginalFraction*rng:
 		s.add(llrStrong, "|LO offset| reached %.0f MHz, %s of the module's ±%.0f MHz capture range.", a.Max, pct(a.Max/rng), rng)
-	case a.Max >= (r.LOOffsetMarginalFraction-0.2)*rng:
+	case a.Max >= (r.LOOffsetMarginalFraction-loModerateBelowMarginal)*rng:
 		s.add(llrModerate, "|LO offset| reached %.0f MHz, %s of the module's ±%.0f MHz capture range.", a.Max, pct(a.Max/rng), rng)
 	}
 	if n, i := pc.lockLossOver(parse.LOOffsetMHz, rng, true); n > 0 {

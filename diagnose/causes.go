@@ -49,6 +49,31 @@ const (
 	// loDriftShareOfRange: a laser's carrier normally moves by far less than a quarter of the
 	// capture range over a log; a drift that large is a frequency-control fault in itself.
 	loDriftShareOfRange = 0.25
+	// loModerateBelowMarginal: an |LO offset| within this share of the capture range below the
+	// marginal fraction is moderate evidence.
+	loModerateBelowMarginal = 0.2
+	// cdSteadyShare: the CD estimate counts as steady when its half-range is below this share
+	// of the difference from the plan (estimator noise then cannot explain the difference).
+	cdSteadyShare = 1.0 / 3
+	// nonlinearHalfGapShare: a shortfall of this share of nonlinear_snr_gap_db on a noisy port
+	// is moderate evidence of nonlinearity.
+	nonlinearHalfGapShare = 0.5
+	// stepNearIntervals: a power or OSNR step within this many sample intervals of an event is
+	// taken as coincident with it.
+	stepNearIntervals = 2
+	// noESNRGainDB: an eSNR within this of what the plan's OSNR gives is "no better".
+	noESNRGainDB = 0.5
+	// minEvidenceLLR: a symptom observable is told in the evidence when its |LLR| is at least
+	// this (smaller ones move the posterior but say little).
+	minEvidenceLLR = 0.5
+	// unknownPrior is the prior of a hypothesis the rules file does not name.
+	unknownPrior = 1e-6
+	// minTrendSamples: a trend, a change-point search or a rank correlation needs at least
+	// this many samples whatever min_samples_for_trend says.
+	minTrendSamples = 3
+	// coincidenceIntervals: the coincidence window is at least this many sample intervals, so
+	// that a burst and a spike in neighbouring samples coincide.
+	coincidenceIntervals = 1.5
 )
 
 type item struct {

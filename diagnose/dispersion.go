@@ -44,7 +44,7 @@ func (pc *portCtx) cdMismatch() *score {
 		s.add(llrCDMismatch, "Measured CD %.0f ps/nm differs from the planned %.0f ps/nm by %+.0f ps/nm (%s, tolerance ±%.0f ps/nm).%s", meas, exp, diff, pct(rel), tol, implied)
 	}
 	spread := (cs.P99 - cs.Min) / 2
-	if spread < math.Abs(diff)/3 {
+	if spread < cdSteadyShare*math.Abs(diff) {
 		s.add(llrWeak, "The CD estimate is steady (half-range %.0f ps/nm against a %.0f ps/nm difference), so estimator noise does not explain it.", spread, math.Abs(diff))
 	}
 	return s

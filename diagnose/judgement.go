@@ -16,7 +16,7 @@ func decadesBelow(limit, measured float64) float64 {
 	if !(limit > 0) || math.IsNaN(measured) {
 		return math.NaN()
 	}
-	return math.Log10(limit / math.Max(measured, 1e-15))
+	return math.Log10(limit / math.Max(measured, berCountedZero))
 }
 
 // pval prints a p-value for people: "p < 0.001" below a thousandth (the tiny values a long

@@ -201,7 +201,7 @@ func (pc *portCtx) eSNRShortfall() (*forward, float64) {
 	switch gap := pc.r.NonlinearSNRGapDB; {
 	case f.shortfallNoNLIdB >= gap:
 		return f, llrStrong
-	case f.shortfallNoNLIdB >= gap/2 && pc.noisy():
+	case f.shortfallNoNLIdB >= nonlinearHalfGapShare*gap && pc.noisy():
 		return f, llrModerate
 	}
 	return f, 0
@@ -273,7 +273,7 @@ func (pc *portCtx) osnrLow() *score {
 // intervals of t.
 func (pc *portCtx) powerStepNear(t int64) bool {
 	for _, st := range pc.an.PowerSteps {
-		if d := st.TimeMs - t; d >= -2*pc.intervalMs && d <= 2*pc.intervalMs && math.Abs(st.Step) >= pc.r.PowerStepDB {
+		if d := st.TimeMs - t; d >= -stepNearIntervals*pc.intervalMs && d <= stepNearIntervals*pc.intervalMs && math.Abs(st.Step) >= pc.r.PowerStepDB {
 			return true
 		}
 	}
@@ -284,7 +284,7 @@ func (pc *portCtx) powerStepNear(t int64) bool {
 // of t.
 func (pc *portCtx) osnrStepNear(t int64) bool {
 	for _, st := range pc.an.OSNRSteps {
-		if d := st.TimeMs - t; d >= -2*pc.intervalMs && d <= 2*pc.intervalMs {
+		if d := st.TimeMs - t; d >= -stepNearIntervals*pc.intervalMs && d <= stepNearIntervals*pc.intervalMs {
 			return true
 		}
 	}
@@ -336,7 +336,7 @@ func (pc *portCtx) nonlinear() *score {
 		if _, lim, what := pc.planLaunchPSD(); implied > lim {
 			s.add(llrDecisive, "Reported OSNR %.1f dB is %.1f dB above the %.1f dB the plan's amplifier chain gives: the channel runs at about %+.1f dBm (%.1f dBm/GHz) per span, above %s.",
 				pc.sum[parse.OSNRdB].P50, f.hotterDB, pc.exp.ASEOSNRdB, f.launchDBm, implied, what)
-			if f.ok && f.measuredDB-pc.expectedESNRdB(pc.exp.ASEOSNRdB) < 0.5 {
+			if f.ok && f.measuredDB-pc.expectedESNRdB(pc.exp.ASEOSNRdB) < noESNRGainDB {
 				s.add(llrWeak, "Yet the eSNR (%.1f dB) is no better than the plan's OSNR would give (%.1f dB): the extra power buys no signal quality.", f.measuredDB, pc.expectedESNRdB(pc.exp.ASEOSNRdB))
 			}
 		}

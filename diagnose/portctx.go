@@ -25,6 +25,12 @@ const (
 	gapFactor = 5
 	// gridStepGHz: the ITU-T G.694.1 flexible DWDM grid places channel centres on 6.25 GHz steps.
 	gridStepGHz = 6.25
+	// berCountedZero stands for a BER of 0 (no error counted) where a finite Q is needed.
+	berCountedZero = 1e-15
+	// randomBER is the BER of random decisions, where Q is 0 (−∞ dB).
+	randomBER = 0.5
+	// qFloorDB is the lowest Q (dB) a summary holds, so that summaries stay finite.
+	qFloorDB = -20
 )
 
 // portCtx carries one port through the analysis.
@@ -303,19 +309,19 @@ func (pc *portCtx) deriveSeries() {
 // rather than +Inf, and BER 0.5 to Q → −Inf mapped to −20 dB, so summaries stay finite.
 func qdBClamped(ber float64) float64 {
 	switch {
-	case ber <= 1e-15:
-		return optics.QdBFromBER(1e-15)
-	case ber >= 0.5:
-		return -20
+	case ber <= berCountedZero:
+		return optics.QdBFromBER(berCountedZero)
+	case ber >= randomBER:
+		return qFloorDB
 	}
 	q := optics.QdBFromBER(ber)
-	return math.Max(q, -20)
+	return math.Max(q, qFloorDB)
 }
 
 // analyseSeries computes the time-series findings of PortAnalysis.
 func (pc *portCtx) analyseSeries() {
 	s, an, r := pc.s, pc.an, pc.r
-	minN := max(r.MinSamplesForTrend, 3)
+	minN := max(r.MinSamplesForTrend, minTrendSamples)
 
 	// Change points in received power (lit samples only: a signal loss is its own cause).
 	if pc.s.Has(parse.RxPowerDBm) && countFinite(pc.litPower) >= minN {
@@ -383,7 +389,7 @@ func (pc *portCtx) analyseSeries() {
 			an.SOPSpikes = append(an.SOPSpikes, toInterval(run))
 		}
 	}
-	an.CoincidenceWindowS = math.Max(r.CoincidenceWindowS, 1.5*float64(pc.intervalMs)/1000)
+	an.CoincidenceWindowS = math.Max(r.CoincidenceWindowS, coincidenceIntervals*float64(pc.intervalMs)/1000)
 	if len(spikes) > 0 {
 		win := int64(an.CoincidenceWindowS * 1000)
 		for _, kind := range []struct {
@@ -484,14 +490,14 @@ func (pc *portCtx) computeCorrelation(q parse.Quantity) {
 	} else {
 		rho, n, p = series.Spearman(pc.litBER, y)
 	}
-	if n >= max(pc.r.MinSamplesForTrend, 3) && !math.IsNaN(rho) {
+	if n >= max(pc.r.MinSamplesForTrend, minTrendSamples) && !math.IsNaN(rho) {
 		pc.an.Correlations = append(pc.an.Correlations, Correlation{A: parse.PreFECBER.Column(), B: q.Column(), Rho: rho, N: n, P: p})
 	}
 }
 
 // trend fits v over time; limit > 0 projects toward ±limit in the direction of the slope.
 func (pc *portCtx) trend(v []float64, name, unit string, limit float64) *Trend {
-	if countFinite(v) < max(pc.r.MinSamplesForTrend, 3) {
+	if countFinite(v) < max(pc.r.MinSamplesForTrend, minTrendSamples) {
 		return nil
 	}
 	f := series.FitTrendPerHour(pc.s.TimesMs, v)

@@ -306,7 +306,7 @@ func (pc *portCtx) posterior(o observables, scores map[CauseID]*score) (causes m
 		if v, ok := pc.r.Priors.Of(string(id)); ok && v > 0 {
 			return math.Log(v)
 		}
-		return math.Log(1e-6)
+		return math.Log(unknownPrior)
 	}
 	// Per cause: ln prior, Σ LLR, and the probability of each observed state, so that a pair's
 	// mixture is arithmetic on these (no table look-ups in the pair loop).
@@ -396,7 +396,7 @@ func (pc *portCtx) inTrouble(o observables) bool {
 func (pc *portCtx) symptomEvidence(id CauseID, o observables) []item {
 	var out []item
 	add := func(pc4 float64, ph float64, text string) {
-		if l := math.Log(pc4 / ph); math.Abs(l) >= 0.5 {
+		if l := math.Log(pc4 / ph); math.Abs(l) >= minEvidenceLLR {
 			out = append(out, item{l, text})
 		}
 	}

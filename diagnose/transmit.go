@@ -38,7 +38,7 @@ func (pc *portCtx) txChange() *txChangeInfo {
 	s, p, r := pc.sum[parse.TxPowerDBm], pc.prof, pc.r
 	v := pc.s.Values[parse.TxPowerDBm]
 	// A step of power_step_db needs a range at least that wide: skip the search otherwise.
-	if s.Max-s.Min >= r.PowerStepDB && countFinite(v) >= max(r.MinSamplesForTrend, 3) {
+	if s.Max-s.Min >= r.PowerStepDB && countFinite(v) >= max(r.MinSamplesForTrend, minTrendSamples) {
 		for _, st := range series.ChangePoints(v, series.ChangePointOptions{MinStep: r.PowerStepDB}) {
 			if t.step == nil || math.Abs(st.Size()) > math.Abs(t.step.Size()) {
 				st := st
