@@ -149,9 +149,10 @@ func addLegend(p *plot.Plot, label string, thumbs ...plot.Thumbnailer) {
 }
 
 // legendRoom raises hi so a legend of n entries in the top right corner sits above the data:
-// each entry takes about 9 % of the plot's height (8-point text on a 62 mm chart).
+// each entry takes about 10 % of the plot's height (8-point text on a 62 mm chart), plus 5 %
+// clear between the legend and the highest sample.
 func legendRoom(lo, hi float64, n int) float64 {
-	f := 0.09*float64(n) + 0.03
+	f := 0.10*float64(n) + 0.05
 	return hi + f/(1-f)*(hi-lo)
 }
 
