@@ -119,6 +119,9 @@ func (res *fileResult) overRowLimit(job *csvJob) bool {
 	if b == nil {
 		return false
 	}
+	if res.ports == nil {
+		res.ports = map[string]struct{}{}
+	}
 	n := job.rowsRead
 	for _, name := range job.names {
 		if _, seen := res.ports[name]; !seen {
@@ -453,7 +456,7 @@ var gzipMagic = []byte{0x1f, 0x8b}
 // readInput hashes the raw bytes, unpacks gzip, drops a BOM and dispatches on content.
 func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult {
 	res := &fileResult{stats: InputStats{File: name}, fb: newFileBuilder(), sizeHint: size,
-		times: opt.times, budget: opt.budget, ports: map[string]struct{}{}}
+		times: opt.times, budget: opt.budget}
 	h := sha256.New()
 	br := readerPool.Get().(*bufio.Reader)
 	var limited io.Reader = raw
