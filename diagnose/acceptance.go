@@ -21,6 +21,10 @@ type AcceptanceTest struct {
 	// Rejected is the number of rows rejected in the run. A rejected row names no port for
 	// sure, so each counts against the coverage of every port judged.
 	Rejected int
+	// RejectedByPort, when it lists a port, replaces Rejected for that port: the rows rejected
+	// in the inputs its rows came from (parse.Series.Inputs) and in the inputs no port's rows
+	// came from, so a log of another circuit does not count against it.
+	RejectedByPort map[string]int
 }
 
 // ErrorPerformance is a port's error performance in the ITU-T G.826 / G.8201 way
@@ -58,7 +62,11 @@ func judgeAcceptance(p *PortResult, s *parse.Series, st Setup, r rules.Rules, t 
 	if period == 0 {
 		period = time.Duration(a.TestPeriodH * float64(time.Hour))
 	}
-	cov := soak.Assess(s.TimesMs, t.Rejected, period, a.MinCoverage)
+	rejected := t.Rejected
+	if n, ok := t.RejectedByPort[s.Port]; ok {
+		rejected = n
+	}
+	cov := soak.Assess(s.TimesMs, rejected, period, a.MinCoverage)
 	p.TestPeriod = &cov
 
 	if ep, note := errorPerformance(s, st.Profile, r); ep != nil {

@@ -218,7 +218,7 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		pr.Notef("%d of %d rows were rejected and not judged; 'beatnote scan' lists every reason", rejected, read)
 	}
 	if acc != nil {
-		acc.Rejected = rejected
+		acc.Rejected, acc.RejectedByPort = rejected, rejectedByPort(ds)
 		cfg.Acceptance = acc
 	}
 	unmapped, assumed := 0, 0
@@ -289,6 +289,40 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	line.Reason(res, rs)
 	a.DS, a.Result, a.ReadErr = ds, res, readErr
 	return a, nil
+}
+
+// rejectedByPort counts, for each port whose inputs are known, the rows rejected in the inputs
+// its rows came from plus those rejected in inputs that gave no port a row (whose rows those
+// were cannot be told).
+func rejectedByPort(ds *parse.Dataset) map[string]int {
+	claimed := make([]bool, len(ds.Inputs))
+	for _, s := range ds.Series {
+		for _, i := range s.Inputs {
+			if i < len(claimed) {
+				claimed[i] = true
+			}
+		}
+	}
+	unclaimed := 0
+	for i, in := range ds.Inputs {
+		if !claimed[i] {
+			unclaimed += in.RowsRejected
+		}
+	}
+	out := make(map[string]int, len(ds.Series))
+	for _, s := range ds.Series {
+		if len(s.Inputs) == 0 {
+			continue
+		}
+		n := unclaimed
+		for _, i := range s.Inputs {
+			if i < len(ds.Inputs) {
+				n += ds.Inputs[i].RowsRejected
+			}
+		}
+		out[s.Port] = n
+	}
+	return out
 }
 
 // profileFromData gives port s the profile its telemetry names (a profile column) when nothing

@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -251,6 +252,53 @@ func TestCheckShortLogIsIncomplete(t *testing.T) {
 	}
 	if code, _, errw := runCLI(t, "check", healthy, "--soak", "soon"); code != 2 || !strings.Contains(errw, "--soak") {
 		t.Errorf("bad --soak: exit %d, %s", code, errw)
+	}
+}
+
+// Rejected rows count against the coverage of the ports of their own log only: 30 rejected
+// rows in another port's log leave a complete 5-hour log complete (they would make it 91 %).
+func TestCheckRejectedRowsOfAnotherLogDoNotCount(t *testing.T) {
+	dir := t.TempDir()
+	healthy, plan := writeCase(t, dir, "ok-1", synth.Spec{Seed: 3, Samples: 300})
+	var b strings.Builder
+	b.WriteString("time,port,pre_fec_ber\n")
+	for i := range 40 {
+		ber := "1e-3"
+		if i >= 10 {
+			ber = "0.7" // impossible: rejected
+		}
+		fmt.Fprintf(&b, "2026-03-14T%02d:%02d:00Z,other-port,%s\n", i/60, i%60, ber)
+	}
+	other := filepath.Join(dir, "other.csv")
+	if err := os.WriteFile(other, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, out, errw := runCLI(t, "check", healthy, other, "--plan", plan, "--soak", "2h", "--format", "json")
+	var doc struct {
+		Ports []struct {
+			Port       string `json:"port"`
+			Verdict    string `json:"verdict"`
+			TestPeriod struct {
+				RejectedRows int  `json:"rejected_rows"`
+				Complete     bool `json:"complete"`
+			} `json:"test_period"`
+		} `json:"ports"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatalf("%v\n%s%s", err, out, errw)
+	}
+	seen := 0
+	for _, p := range doc.Ports {
+		want := p.Port == "other-port"
+		if p.Port == "other-port" {
+			seen++
+		}
+		if got := p.TestPeriod.RejectedRows == 30; got != want || (p.Port != "other-port" && !p.TestPeriod.Complete) {
+			t.Errorf("%s: %d rejected rows counted, complete %v, verdict %s", p.Port, p.TestPeriod.RejectedRows, p.TestPeriod.Complete, p.Verdict)
+		}
+	}
+	if seen != 1 || len(doc.Ports) != 2 {
+		t.Errorf("ports %+v", doc.Ports)
 	}
 }
 
