@@ -108,9 +108,12 @@ func (s *score) supported() bool {
 	return false
 }
 
-// causes runs every column test, weighs the hypotheses (posterior.go) and lists the causes.
-func (pc *portCtx) causes() {
-	scores := map[CauseID]*score{}
+// evidence runs every column test (the stage between the criteria and the posterior): the
+// scores of the causes that can be judged on this port, with the breached criteria made
+// evidence for the causes that own them (forced: those causes are listed whatever their
+// posterior) and the measured facts that exonerate a cause.
+func (pc *portCtx) evidence(criteria []Criterion, owners []CauseID) (scores map[CauseID]*score, forced map[CauseID]bool) {
+	scores = map[CauseID]*score{}
 	for _, s := range []*score{
 		pc.signalLoss(),
 		pc.rxPowerLow(),
@@ -132,14 +135,9 @@ func (pc *portCtx) causes() {
 			scores[s.id] = s
 		}
 	}
-	forced := pc.ownedBreaches(scores)
+	forced = ownedBreaches(criteria, owners, scores)
 	pc.exonerate(scores)
-	o := pc.observe()
-	post, healthy, unexplained := pc.posterior(o, scores)
-	pc.an.Posterior = post
-	pc.res.Posterior = &Posterior{Healthy: round3(healthy), Unexplained: round3(unexplained)}
-	pc.list(o, scores, post, forced)
-	pc.res.NextTest = pc.nextTest()
+	return scores, forced
 }
 
 func round3(x float64) float64 { return math.Round(x*1000) / 1000 }
@@ -149,13 +147,13 @@ func round3(x float64) float64 { return math.Round(x*1000) / 1000 }
 // that cause's own tests found nothing, the breach is added as weak evidence, and the cause is
 // listed whatever its posterior, so a port is never marginal or failing "for no reason". It
 // returns the ids listed by this rule.
-func (pc *portCtx) ownedBreaches(scores map[CauseID]*score) map[CauseID]bool {
+func ownedBreaches(criteria []Criterion, owners []CauseID, scores map[CauseID]*score) map[CauseID]bool {
 	forced := map[CauseID]bool{}
-	for i, c := range pc.res.Criteria {
+	for i, c := range criteria {
 		if c.Verdict != Marginal && c.Verdict != Fail {
 			continue
 		}
-		owner := pc.critOwner[i]
+		owner := owners[i]
 		if owner == "" || forced[owner] {
 			continue
 		}

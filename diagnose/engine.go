@@ -137,18 +137,26 @@ func AnalyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 
 func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules, lazyCorr bool) PortResult {
 	// The stages, in order: derive (per-sample BER, Q, eSNR, dark samples) and findings (steps,
-	// bursts, trends, fits) in newPortCtx; compliance (metrics, criteria, plan vs measured);
-	// evidence, posterior and listing in causes (posterior.go); the SNR budget; risk notes; the
-	// verdict from the criteria.
+	// bursts, trends, fits) in newPortCtx; compliance (metrics, criteria, plan vs measured),
+	// written into the result; then evidence (the column tests, given the criteria), the
+	// posterior over the hypotheses, the listed causes and the next test, each returned as a
+	// value; the SNR budget; risk notes; the verdict from the criteria and the causes. The
+	// derive, findings and compliance stages still share portCtx's fields.
 	pc := newPortCtx(s, prof, plan, exp, r, lazyCorr)
 	pc.metrics()
 	pc.criteria()
 	pc.noteBinCriteria()
 	pc.planVsMeasured()
-	pc.causes()
+	scores, forced := pc.evidence(pc.res.Criteria, pc.critOwner)
+	o := pc.observe()
+	post, healthy, unexplained := pc.posterior(o, scores)
+	pc.an.Posterior = post
+	pc.res.Posterior = &Posterior{Healthy: round3(healthy), Unexplained: round3(unexplained)}
+	pc.res.Causes = pc.list(o, scores, post, forced)
+	pc.res.NextTest = pc.nextTest(pc.res.Causes)
 	pc.res.Budget = pc.budget()
 	pc.res.Risks = pc.risks()
-	pc.verdict()
+	pc.res.Verdict = verdictOf(pc.res.Criteria, pc.res.Causes)
 	addCautions(pc.res)
 	return *pc.res
 }

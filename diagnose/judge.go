@@ -396,22 +396,22 @@ func (pc *portCtx) impliedOSNRp50() float64 {
 	return pc.impliedOSNRdB(e)
 }
 
-// verdict is the worst criterion; a listed cause makes the port at least marginal; nothing
-// judged is no-data.
-func (pc *portCtx) verdict() {
+// verdictOf is the port's verdict: the worst criterion; a listed cause makes the port at least
+// marginal; nothing judged is no-data.
+func verdictOf(criteria []Criterion, causes []Cause) Verdict {
 	v := Pass
 	judged := false
-	for _, c := range pc.res.Criteria {
+	for _, c := range criteria {
 		judged = true
 		if c.Verdict.Severity() > v.Severity() {
 			v = c.Verdict
 		}
 	}
-	if len(pc.res.Causes) > 0 && v == Pass {
+	if len(causes) > 0 && v == Pass {
 		v = Marginal
 	}
-	if !judged && len(pc.res.Causes) == 0 {
+	if !judged && len(causes) == 0 {
 		v = NoData
 	}
-	pc.res.Verdict = v
+	return v
 }

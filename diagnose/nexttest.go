@@ -11,8 +11,7 @@ import (
 // observes (common practice): an OSA measures the OSNR independently of the module; a loopback
 // isolates the module from the line; the link plan's GN model bounds the NLI; a column the log
 // lacks confirms or clears the cause that owns it.
-func (pc *portCtx) nextTest() string {
-	c := pc.res.Causes
+func (pc *portCtx) nextTest(c []Cause) string {
 	if len(c) == 0 {
 		return ""
 	}

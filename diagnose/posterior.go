@@ -444,7 +444,8 @@ func (pc *portCtx) symptomEvidence(id CauseID, o observables) []item {
 // list turns the posterior into the port's causes: every cause at or above listFloor, every
 // cause a breached criterion owns (forced), and on a port in trouble the top of the
 // differential. Confidence is the marginal posterior.
-func (pc *portCtx) list(o observables, scores map[CauseID]*score, post map[CauseID]float64, forced map[CauseID]bool) {
+func (pc *portCtx) list(o observables, scores map[CauseID]*score, post map[CauseID]float64, forced map[CauseID]bool) []Cause {
+	out := []Cause{}
 	ranked := append([]CauseID(nil), AllCauses...)
 	sort.SliceStable(ranked, func(i, j int) bool { return post[ranked[i]] > post[ranked[j]] })
 	trouble := pc.inTrouble(o)
@@ -475,9 +476,10 @@ func (pc *portCtx) list(o observables, scores map[CauseID]*score, post map[Cause
 				c.Evidence = append(c.Evidence, it.text)
 			}
 		}
-		pc.res.Causes = append(pc.res.Causes, c)
+		out = append(out, c)
 	}
-	sort.SliceStable(pc.res.Causes, func(i, j int) bool { return pc.res.Causes[i].Confidence > pc.res.Causes[j].Confidence })
+	sort.SliceStable(out, func(i, j int) bool { return out[i].Confidence > out[j].Confidence })
+	return out
 }
 
 // noiseFamily are the causes that lower the eSNR with the power normal (noise.go).
