@@ -9,6 +9,25 @@ import (
 	"time"
 )
 
+// serveAnswer serves body to every query_range call, with the port och-1 to the label query,
+// for the life of the test; m maps the pre-FEC BER to metric b with port label component_name.
+func serveAnswer(t *testing.T, body string) (url string, m Mapping) {
+	t.Helper()
+	srv := httptest.NewServer(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		if strings.HasPrefix(r.URL.Path, "/api/v1/label/") {
+			w.Write([]byte(`{"status":"success","data":["och-1"]}`))
+			return
+		}
+		w.Write([]byte(body))
+	}))
+	t.Cleanup(srv.Close)
+	m, err := ParseMapping("m.yaml", []byte("metrics:\n  - {column: pre_fec_ber, metric: b, port_label: component_name}\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return srv.URL, m
+}
+
 // A strict read from the store stops a series at its first rejected sample exactly as a strict
 // file read stops a file at its first rejected row: the samples before it are used, the bad one
 // is counted as read and rejected, nothing after it is counted, the input's Error says where
@@ -18,18 +37,7 @@ func TestStrictStopsSeriesLikeAFile(t *testing.T) {
 	// pre_fec_ber samples: two good, one impossible (BER 0.7 > 0.5), two good.
 	body := `{"status":"success","data":{"resultType":"matrix","result":[{"metric":{"component_name":"och-1"},"values":[` +
 		`[1773446400,"1e-4"],[1773446460,"2e-4"],[1773446520,"0.7"],[1773446580,"3e-4"],[1773446640,"4e-4"]]}]}}`
-	srv := httptest.NewServer(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-		if strings.HasPrefix(r.URL.Path, "/api/v1/label/") {
-			w.Write([]byte(`{"status":"success","data":["och-1"]}`))
-			return
-		}
-		w.Write([]byte(body))
-	}))
-	defer srv.Close()
-	m, err := ParseMapping("m.yaml", []byte("metrics:\n  - {column: pre_fec_ber, metric: b, port_label: component_name}\n"))
-	if err != nil {
-		t.Fatal(err)
-	}
+	url, m := serveAnswer(t, body)
 	for _, c := range []struct {
 		strict                     bool
 		read, used, rejected, kept int
@@ -37,7 +45,7 @@ func TestStrictStopsSeriesLikeAFile(t *testing.T) {
 		{strict: false, read: 5, used: 4, rejected: 1, kept: 4},
 		{strict: true, read: 3, used: 2, rejected: 1, kept: 2},
 	} {
-		ds, err := Read(context.Background(), Query{URL: srv.URL, Start: time.Unix(start, 0),
+		ds, err := Read(context.Background(), Query{URL: url, Start: time.Unix(start, 0),
 			End: time.Unix(start+600, 0), Step: time.Minute, Mapping: m, Strict: c.strict})
 		if ds == nil {
 			t.Fatalf("strict %v: no dataset: %v", c.strict, err)
@@ -82,19 +90,8 @@ func TestLongPortLabel(t *testing.T) {
 	body := `{"status":"success","data":{"resultType":"matrix","result":[` +
 		`{"metric":{"component_name":"` + long + `"},"values":[[1773446400,"1e-4"],[1773446460,"2e-4"]]},` +
 		`{"metric":{"component_name":"och-1"},"values":[[1773446400,"1e-4"]]}]}}`
-	srv := httptest.NewServer(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-		if strings.HasPrefix(r.URL.Path, "/api/v1/label/") {
-			w.Write([]byte(`{"status":"success","data":["och-1"]}`))
-			return
-		}
-		w.Write([]byte(body))
-	}))
-	defer srv.Close()
-	m, err := ParseMapping("m.yaml", []byte("metrics:\n  - {column: pre_fec_ber, metric: b, port_label: component_name}\n"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	ds, err := Read(context.Background(), Query{URL: srv.URL, Start: time.Unix(1773446400, 0),
+	url, m := serveAnswer(t, body)
+	ds, err := Read(context.Background(), Query{URL: url, Start: time.Unix(1773446400, 0),
 		End: time.Unix(1773446400+600, 0), Step: time.Minute, Mapping: m})
 	if err != nil {
 		t.Fatal(err)
