@@ -137,8 +137,27 @@ func newPlot(title string) *plot.Plot {
 	p.Legend.Top = true
 	p.Legend.Left = false
 	p.Legend.Padding = vg.Points(1)
-	p.Add(plotter.NewGrid())
+	p.Add(plotter.NewGrid(), legendBackdrop{})
 	return p
+}
+
+// legendBackdrop clears the ground under the legend (top right) after the grid and before the
+// data are drawn, so that no grid line runs through the legend's text. The size is the
+// legend's own (plot.Legend.Rectangle); its place is the top right corner newPlot puts it in.
+type legendBackdrop struct{}
+
+// Plot implements plot.Plotter.
+func (legendBackdrop) Plot(c draw.Canvas, p *plot.Plot) {
+	r := p.Legend.Rectangle(c)
+	w, h := r.Max.X-r.Min.X, r.Max.Y-r.Min.Y
+	if w <= 0 || h <= 0 {
+		return
+	}
+	pad := vg.Points(3)
+	// The legend's entries start one descent below the top (plot.Legend.Draw).
+	descent := p.Legend.TextStyle.FontExtents().Descent
+	x0, y0, x1, y1 := c.Max.X-w-pad, c.Max.Y-h-descent-pad, c.Max.X+pad, c.Max.Y+pad
+	c.FillPolygon(color.White, []vg.Point{{X: x0, Y: y0}, {X: x1, Y: y0}, {X: x1, Y: y1}, {X: x0, Y: y1}})
 }
 
 // addLegend adds a legend entry. Its text is drawn into the chart image, where a line break
