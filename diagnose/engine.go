@@ -136,12 +136,13 @@ func AnalyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 }
 
 func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules, lazyCorr bool) PortResult {
-	// The stages, in order: derive (per-sample BER, Q, eSNR, dark samples) and findings (steps,
-	// bursts, trends, fits) in newPortCtx; compliance (metrics, criteria, plan vs measured),
-	// written into the result; then evidence (the column tests, given the criteria), the
-	// posterior over the hypotheses, the listed causes and the next test, each returned as a
-	// value; the SNR budget; risk notes; the verdict from the criteria and the causes. The
-	// derive, findings and compliance stages still share portCtx's fields.
+	// The stages, in order, from newPortCtx: the column summaries, derive (per-sample BER, Q,
+	// eSNR, dark samples: a function returning its value) and the findings (steps, bursts,
+	// trends, fits, written into the analysis); compliance (metrics, criteria, plan vs
+	// measured), written into the result; then evidence (the column tests, given the
+	// criteria), the posterior over the hypotheses, the listed causes and the next test, each
+	// returned as a value; the SNR budget; risk notes; the verdict from the criteria and the
+	// causes. The findings and compliance stages still write portCtx's fields.
 	pc := newPortCtx(s, prof, plan, exp, r, lazyCorr)
 	pc.metrics()
 	pc.criteria()

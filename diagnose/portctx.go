@@ -46,17 +46,10 @@ type portCtx struct {
 
 	n          int
 	intervalMs int64
-	// Per-sample derived series (NaN where unknown).
-	ber, qdb, esnr []float64
-	berDerived     bool // ber computed from q_db
-	qDerived       bool
-	esnrDerived    bool
-	dark           []bool // sample without usable light (power at the floor or no lock)
-	darkCount      int
-	litPower       []float64 // rx power on lit samples, NaN elsewhere
-	sum            map[parse.Quantity]series.Summary
-	absSum         map[parse.Quantity]series.Summary // of |x|, for CD and LO offset
-	binJudged      uint32                            // bit q: criteria on q judge bin extremes (applyBins)
+	derived    // the derive stage's value (derive); read, never written, by the later stages
+	sum        map[parse.Quantity]series.Summary
+	absSum     map[parse.Quantity]series.Summary // of |x|, for CD and LO offset
+	binJudged  uint32                            // bit q: criteria on q judge bin extremes (applyBins)
 
 	scratch []float64 // working copy for summaries
 
@@ -122,13 +115,14 @@ func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opti
 	} else {
 		pc.an.RequiredESNRdB = math.NaN()
 	}
-	pc.deriveSeries()
+	pc.summarizeColumns()
+	pc.derived = derive(s, pc.mod, r.SignalLossFloorDBm)
 	pc.analyseSeries()
 	return pc
 }
 
 // summaryOf is the summary of v: when v is the port's own column q (not a derived copy), the
-// one deriveSeries already computed.
+// one summarizeColumns already computed.
 func (pc *portCtx) summaryOf(v []float64, q parse.Quantity) series.Summary {
 	if col := pc.s.Values[q]; len(v) > 0 && len(col) == len(v) && &col[0] == &v[0] {
 		if s, ok := pc.sum[q]; ok {
@@ -224,9 +218,9 @@ func nanSlice(n int) []float64 {
 	return v
 }
 
-// deriveSeries fills BER, Q and eSNR per sample from whichever the port reports, and marks
-// dark samples.
-func (pc *portCtx) deriveSeries() {
+// summarizeColumns summarises every column the port has (and |x| of CD and LO offset), widened
+// to the extremes of binned samples (applyBins).
+func (pc *portCtx) summarizeColumns() {
 	s, n := pc.s, pc.n
 	pc.sum = map[parse.Quantity]series.Summary{}
 	pc.absSum = map[parse.Quantity]series.Summary{}
@@ -251,58 +245,80 @@ func (pc *portCtx) deriveSeries() {
 		}
 	}
 	pc.applyBins()
+}
+
+// derived is the value of the derive stage: per-sample BER, Q and eSNR from whichever the port
+// reports (NaN where unknown), and its dark and lit samples. A measured column is shared with
+// the series, not copied; no later stage writes it.
+type derived struct {
+	ber, qdb, esnr []float64
+	berDerived     bool // ber computed from q_db
+	qDerived       bool
+	esnrDerived    bool
+	dark           []bool // sample without usable light (power at the floor or no lock)
+	darkCount      int
+	litPower       []float64 // rx power on lit samples, NaN elsewhere
+}
+
+// derive fills BER, Q and eSNR per sample from whichever s reports (eSNR from BER needs a
+// valid modulation), and marks as dark the samples with the received power at or below
+// lossFloorDBm or a BER of no lock.
+func derive(s *parse.Series, mod optics.Modulation, lossFloorDBm float64) derived {
+	var d derived
+	n := s.Len()
 	hasBER, hasQ, hasESNR := s.Has(parse.PreFECBER), s.Has(parse.QdB), s.Has(parse.ESNRdB)
 	switch {
 	case hasBER:
-		pc.ber = s.Values[parse.PreFECBER]
+		d.ber = s.Values[parse.PreFECBER]
 	case hasQ:
-		pc.ber, pc.berDerived = nanSlice(n), true
+		d.ber, d.berDerived = nanSlice(n), true
 		for i, q := range s.Values[parse.QdB] {
 			if !math.IsNaN(q) {
-				pc.ber[i] = optics.BERFromQdB(q)
+				d.ber[i] = optics.BERFromQdB(q)
 			}
 		}
 	}
 	switch {
 	case hasQ:
-		pc.qdb = s.Values[parse.QdB]
+		d.qdb = s.Values[parse.QdB]
 	case hasBER:
-		pc.qdb, pc.qDerived = nanSlice(n), true
-		for i, b := range pc.ber {
+		d.qdb, d.qDerived = nanSlice(n), true
+		for i, b := range d.ber {
 			if !math.IsNaN(b) {
-				pc.qdb[i] = qdBClamped(b)
+				d.qdb[i] = qdBClamped(b)
 			}
 		}
 	}
 	switch {
 	case hasESNR:
-		pc.esnr = s.Values[parse.ESNRdB]
-	case pc.ber != nil && pc.mod.Valid():
-		pc.esnr, pc.esnrDerived = nanSlice(n), true
-		for i, b := range pc.ber {
+		d.esnr = s.Values[parse.ESNRdB]
+	case d.ber != nil && mod.Valid():
+		d.esnr, d.esnrDerived = nanSlice(n), true
+		for i, b := range d.ber {
 			if b > 0 && b < noLockBER {
-				pc.esnr[i] = optics.SNRdBFromBER(pc.mod, b)
+				d.esnr[i] = optics.SNRdBFromBER(mod, b)
 			}
 		}
 	}
-	pc.dark = make([]bool, n)
-	pc.litPower = nanSlice(n)
+	d.dark = make([]bool, n)
+	d.litPower = nanSlice(n)
 	pw := s.Values[parse.RxPowerDBm]
 	for i := 0; i < n; i++ {
-		d := false
-		if pw != nil && !math.IsNaN(pw[i]) && pw[i] <= pc.r.SignalLossFloorDBm {
-			d = true
+		dk := false
+		if pw != nil && !math.IsNaN(pw[i]) && pw[i] <= lossFloorDBm {
+			dk = true
 		}
-		if pc.ber != nil && pc.ber[i] >= noLockBER {
-			d = true
+		if d.ber != nil && d.ber[i] >= noLockBER {
+			dk = true
 		}
-		pc.dark[i] = d
-		if d {
-			pc.darkCount++
+		d.dark[i] = dk
+		if dk {
+			d.darkCount++
 		} else if pw != nil {
-			pc.litPower[i] = pw[i]
+			d.litPower[i] = pw[i]
 		}
 	}
+	return d
 }
 
 // qdBClamped is Q in dB from BER, with BER 0 (no errors counted) mapped to the Q of BER 1e-15
