@@ -51,7 +51,8 @@ func TestFormatValueWords(t *testing.T) {
 		v    float64
 		unit string
 		want string
-	}{{1, "blocks", "1 block"}, {-1, "blocks", "-1 block"}, {2, "blocks", "2 blocks"}, {1, "samples", "1 sample"}, {-0.2, "km", "0 km"}, {-0.004, "dB", "0.00 dB"}} {
+	}{{1, "blocks", "1 block"}, {-1, "blocks", "-1 block"}, {2, "blocks", "2 blocks"}, {1, "samples", "1 sample"}, {-0.2, "km", "0 km"}, {-0.004, "dB", "0.00 dB"},
+		{0, "", "0"}, {3.1e-3, "", "3.10e-03"}, {12345678, "blocks", "12 345 678 blocks"}, {-91112, "blocks", "-91 112 blocks"}} {
 		if got := FormatValue(tc.v, tc.unit); got != tc.want {
 			t.Errorf("FormatValue(%g, %q) = %q, want %q", tc.v, tc.unit, got, tc.want)
 		}

@@ -38,6 +38,9 @@ func FormatValue(v float64, unit string) string {
 	var s string
 	switch unit {
 	case "":
+		if v == 0 {
+			return "0" // a ratio of exactly zero (error-free) reads better than "0.00e+00"
+		}
 		s = strconv.FormatFloat(v, 'e', 2, 64)
 		return s
 	case "dB", "dBm":
