@@ -130,12 +130,12 @@ func (pc *portCtx) widenDerived(s *series.Summary, q bool) {
 }
 
 // noteBinCriteria says, in the source of each criterion judged on bin extremes, that it was.
-func (pc *portCtx) noteBinCriteria() {
+func (pc *portCtx) noteBinCriteria(rows []Criterion) {
 	if pc.binJudged == 0 {
 		return
 	}
-	for i := range pc.res.Criteria {
-		c := &pc.res.Criteria[i]
+	for i := range rows {
+		c := &rows[i]
 		q, ok := parse.QuantityByColumn(c.Metric)
 		if !ok || c.Statistic != string(rules.StatMin) && c.Statistic != string(rules.StatMax) {
 			continue

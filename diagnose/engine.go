@@ -139,25 +139,26 @@ func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 	// The stages, in order, from newPortCtx: the column summaries, derive (per-sample BER, Q,
 	// eSNR, dark samples: a function returning its value) and the findings (steps, bursts,
 	// trends, fits, written into the analysis); compliance (metrics, criteria, plan vs
-	// measured), written into the result; then evidence (the column tests, given the
-	// criteria), the posterior over the hypotheses, the listed causes and the next test, each
-	// returned as a value; the SNR budget; risk notes; the verdict from the criteria and the
-	// causes. The findings and compliance stages still write portCtx's fields.
+	// measured): the criteria table returned as a value, the metrics and plan comparison
+	// written into the result; then evidence (the column tests, given the criteria), the
+	// posterior over the hypotheses, the listed causes and the next test, each returned as a
+	// value; the SNR budget; risk notes; the verdict from the criteria and the causes. The
+	// findings stage, the metrics and the plan comparison still write portCtx's fields.
 	pc := newPortCtx(s, prof, plan, exp, r, lazyCorr)
 	pc.metrics()
-	pc.criteria()
-	pc.noteBinCriteria()
+	crit := pc.criteria()
+	pc.res.Criteria = crit.rows
 	pc.planVsMeasured()
-	scores, forced := pc.evidence(pc.res.Criteria, pc.critOwner)
+	scores, forced := pc.evidence(crit.rows, crit.owners)
 	o := pc.observe()
 	post, healthy, unexplained := pc.posterior(o, scores)
 	pc.an.Posterior = post
 	pc.res.Posterior = &Posterior{Healthy: round3(healthy), Unexplained: round3(unexplained)}
-	pc.res.Causes = pc.list(o, scores, post, forced)
+	pc.res.Causes = pc.list(o, crit.rows, scores, post, forced)
 	pc.res.NextTest = pc.nextTest(pc.res.Causes)
 	pc.res.Budget = pc.budget()
 	pc.res.Risks = pc.risks()
-	pc.res.Verdict = verdictOf(pc.res.Criteria, pc.res.Causes)
+	pc.res.Verdict = verdictOf(crit.rows, pc.res.Causes)
 	addCautions(pc.res)
 	return *pc.res
 }

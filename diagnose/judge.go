@@ -165,9 +165,17 @@ func (pc *portCtx) notJudged(format string, a ...any) {
 	pc.res.NotJudged = append(pc.res.NotJudged, fmt.Sprintf(format, a...))
 }
 
-// addCriterion appends a row judged "higher is better" (margin = measured − limit) or
+// criteriaTable is the value of the criteria stage: the judged rows and, for each, the cause
+// that owns its physics ("" for the noise-family rows — Q, uncorrected blocks, post-FEC BER —
+// that several causes share).
+type criteriaTable struct {
+	rows   []Criterion
+	owners []CauseID
+}
+
+// add appends a row judged "higher is better" (margin = measured − limit) or
 // "lower is better" (margin = limit − measured); marginal when the margin is below band.
-func (pc *portCtx) addCriterion(c Criterion, band float64, owner CauseID) {
+func (t *criteriaTable) add(c Criterion, band float64, owner CauseID) {
 	if !finite(c.Measured) || !finite(c.Limit) {
 		return
 	}
@@ -179,25 +187,26 @@ func (pc *portCtx) addCriterion(c Criterion, band float64, owner CauseID) {
 	default:
 		c.Verdict = Pass
 	}
-	pc.appendCriterion(c, owner)
+	t.append(c, owner)
 }
 
-// appendCriterion adds a judged row and remembers which cause owns its physics ("" for the
-// noise-family rows — Q, uncorrected blocks, post-FEC BER — that several causes share).
-func (pc *portCtx) appendCriterion(c Criterion, owner CauseID) {
-	pc.res.Criteria = append(pc.res.Criteria, c)
-	pc.critOwner = append(pc.critOwner, owner)
+// append adds a judged row with the cause that owns it.
+func (t *criteriaTable) append(c Criterion, owner CauseID) {
+	t.rows = append(t.rows, c)
+	t.owners = append(t.owners, owner)
 }
 
-// criteria builds the criteria table from the module limits and the rules' marginal bands.
-func (pc *portCtx) criteria() {
+// criteria builds the criteria table from the module limits and the rules' marginal bands,
+// with the bin note in the source of each row judged on bin extremes.
+func (pc *portCtx) criteria() criteriaTable {
+	var t criteriaTable
 	p, r := pc.prof, pc.r
 	has := func(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
 
 	if pc.qdb != nil && p.FECThresholdBER > 0 {
 		s := pc.qSummary()
 		m := pick(s, r.QStatistic)
-		pc.addCriterion(Criterion{Name: "Q-factor margin to the FEC threshold", Metric: parse.QdB.Column(), Statistic: string(r.QStatistic),
+		t.add(Criterion{Name: "Q-factor margin to the FEC threshold", Metric: parse.QdB.Column(), Statistic: string(r.QStatistic),
 			Measured: m, Limit: pc.qLimitDB, Margin: m - pc.qLimitDB, Unit: "dB",
 			Source: pc.source("fec_threshold_ber") + fmt.Sprintf("; limit = Q of BER %.3g", p.FECThresholdBER)}, r.QMarginalMarginDB, "")
 	} else {
@@ -205,24 +214,24 @@ func (pc *portCtx) criteria() {
 	}
 	if has(parse.OSNRdB) && pc.reqOSNRdB > 0 {
 		m := pick(pc.sum[parse.OSNRdB], r.OSNRStatistic)
-		pc.addCriterion(Criterion{Name: "OSNR margin to the required OSNR", Metric: parse.OSNRdB.Column(), Statistic: string(r.OSNRStatistic),
+		t.add(Criterion{Name: "OSNR margin to the required OSNR", Metric: parse.OSNRdB.Column(), Statistic: string(r.OSNRStatistic),
 			Measured: m, Limit: pc.reqOSNRdB, Margin: m - pc.reqOSNRdB, Unit: "dB", Source: pc.source("required_osnr_db")}, r.OSNRMarginalMarginDB, CauseOSNRLow)
 	}
 	if has(parse.RxPowerDBm) && p.RxPowerMaxDBm > p.RxPowerMinDBm {
 		s := pc.sum[parse.RxPowerDBm]
 		lo, hi := pick(s, r.RxPowerLowStatistic), pick(s, r.RxPowerHighStatistic)
-		pc.addCriterion(Criterion{Name: "Received power above the sensitivity limit", Metric: parse.RxPowerDBm.Column(), Statistic: string(r.RxPowerLowStatistic),
+		t.add(Criterion{Name: "Received power above the sensitivity limit", Metric: parse.RxPowerDBm.Column(), Statistic: string(r.RxPowerLowStatistic),
 			Measured: lo, Limit: p.RxPowerMinDBm, Margin: lo - p.RxPowerMinDBm, Unit: "dBm", Source: pc.source("rx_power_min_dbm")}, r.RxPowerMarginalBandDB, pc.powerEdgeOwner(CauseRxPowerLow))
-		pc.addCriterion(Criterion{Name: "Received power below the overload limit", Metric: parse.RxPowerDBm.Column(), Statistic: string(r.RxPowerHighStatistic),
+		t.add(Criterion{Name: "Received power below the overload limit", Metric: parse.RxPowerDBm.Column(), Statistic: string(r.RxPowerHighStatistic),
 			Measured: hi, Limit: p.RxPowerMaxDBm, Margin: p.RxPowerMaxDBm - hi, Unit: "dBm", Source: pc.source("rx_power_max_dbm")}, r.RxPowerMarginalBandDB, pc.powerEdgeOwner(CauseRxOverload))
 	} else if !has(parse.RxPowerDBm) {
 		pc.notJudged("received power: the log has no rx_power_dbm")
 	}
 	if has(parse.TxPowerDBm) && p.TxPowerMaxDBm > p.TxPowerMinDBm {
 		s := pc.sum[parse.TxPowerDBm]
-		pc.addCriterion(Criterion{Name: "Transmit power inside the module's range", Metric: parse.TxPowerDBm.Column(), Statistic: "min",
+		t.add(Criterion{Name: "Transmit power inside the module's range", Metric: parse.TxPowerDBm.Column(), Statistic: "min",
 			Measured: s.Min, Limit: p.TxPowerMinDBm, Margin: s.Min - p.TxPowerMinDBm, Unit: "dBm", Source: pc.source("tx_power_min_dbm")}, 0, "")
-		pc.addCriterion(Criterion{Name: "Transmit power inside the module's range", Metric: parse.TxPowerDBm.Column(), Statistic: "max",
+		t.add(Criterion{Name: "Transmit power inside the module's range", Metric: parse.TxPowerDBm.Column(), Statistic: "max",
 			Measured: s.Max, Limit: p.TxPowerMaxDBm, Margin: p.TxPowerMaxDBm - s.Max, Unit: "dBm", Source: pc.source("tx_power_max_dbm")}, 0, "")
 	}
 	upper := func(name string, q parse.Quantity, sum series.Summary, st rules.Statistic, limit, frac float64, unit, key string, owner CauseID) {
@@ -231,7 +240,7 @@ func (pc *portCtx) criteria() {
 			return
 		}
 		m := pick(sum, st)
-		pc.addCriterion(Criterion{Name: name, Metric: q.Column(), Statistic: string(st), Measured: m, Limit: limit,
+		t.add(Criterion{Name: name, Metric: q.Column(), Statistic: string(st), Measured: m, Limit: limit,
 			Margin: limit - m, Unit: unit, Source: pc.source(key)}, (1-frac)*limit, owner)
 	}
 	if has(parse.CDpsPerNm) {
@@ -247,7 +256,7 @@ func (pc *portCtx) criteria() {
 			if p.MeanDGDTolerancePs > 0 {
 				src += fmt.Sprintf("; the profile's own mean-DGD figure is %.3g ps, which allows a slightly higher outage probability", p.MeanDGDTolerancePs)
 			}
-			pc.addCriterion(Criterion{Name: fmt.Sprintf("Mean DGD for outage ≤ %.2g (from the %.0f ps tolerance)", r.PMDOutageProbability, p.DGDTolerancePs), Metric: parse.DGDps.Column(), Statistic: "mean",
+			t.add(Criterion{Name: fmt.Sprintf("Mean DGD for outage ≤ %.2g (from the %.0f ps tolerance)", r.PMDOutageProbability, p.DGDTolerancePs), Metric: parse.DGDps.Column(), Statistic: "mean",
 				Measured: f.MeanPs, Limit: allowed, Margin: allowed - f.MeanPs, Unit: "ps",
 				Source: pc.source("dgd_tolerance_ps") + "; " + src},
 				(1-r.DGDMarginalFraction)*allowed, CausePMD)
@@ -261,15 +270,15 @@ func (pc *portCtx) criteria() {
 	}
 	if has(parse.LOOffsetMHz) {
 		upper("|LO offset| inside the capture range", parse.LOOffsetMHz, pc.absSum[parse.LOOffsetMHz], r.LOOffsetStatistic, p.LOOffsetRangeMHz, r.LOOffsetMarginalFraction, "MHz", "lo_offset_range_mhz", CauseLOOffset)
-		if t := pc.an.LOTrend; t != nil && pc.trendSignificant(t) && finite(t.HoursToLimit) && t.HoursToLimit > 0 {
+		if lt := pc.an.LOTrend; lt != nil && pc.trendSignificant(lt) && finite(lt.HoursToLimit) && lt.HoursToLimit > 0 {
 			c := Criterion{Name: "LO offset drift: hours until the capture limit", Metric: parse.LOOffsetMHz.Column(), Statistic: "trend",
-				Measured: t.HoursToLimit, Limit: r.LODriftHorizonH, Margin: t.HoursToLimit - r.LODriftHorizonH, Unit: "h",
+				Measured: lt.HoursToLimit, Limit: r.LODriftHorizonH, Margin: lt.HoursToLimit - r.LODriftHorizonH, Unit: "h",
 				Source: "rules lo_drift_horizon_h: " + r.Sources["lo_drift_horizon_h"]}
 			c.Verdict = Pass
 			if c.Margin < 0 {
 				c.Verdict = Marginal
 			}
-			pc.appendCriterion(c, CauseLOOffset)
+			t.append(c, CauseLOOffset)
 		}
 	}
 	if has(parse.UncorrectedBlocks) {
@@ -279,17 +288,17 @@ func (pc *portCtx) criteria() {
 				total += v
 			}
 		}
-		pc.addCriterion(Criterion{Name: "Uncorrected FEC blocks (total)", Metric: parse.UncorrectedBlocks.Column(), Statistic: "sum",
+		t.add(Criterion{Name: "Uncorrected FEC blocks (total)", Metric: parse.UncorrectedBlocks.Column(), Statistic: "sum",
 			Measured: total, Limit: 0, Margin: 0 - total, Unit: "blocks", Source: "common practice: error-free after FEC"}, 0, "")
 	}
 	if has(parse.PostFECBER) {
 		m := pc.sum[parse.PostFECBER].Max
-		pc.addCriterion(Criterion{Name: "Post-FEC BER (margin in decades)", Metric: parse.PostFECBER.Column(), Statistic: "max",
+		t.add(Criterion{Name: "Post-FEC BER (margin in decades)", Metric: parse.PostFECBER.Column(), Statistic: "max",
 			Measured: m, Limit: postFECLimitBER, Margin: decadesBelow(postFECLimitBER, m), Unit: "", MarginUnit: "decades",
 			Source: "common practice: 1e-12, the error-free reference of FEC specifications such as ITU-T G.975; margin = log10(limit / measured), a measured 0 taken as 1e-15"}, 0, "")
 	}
 	if pc.darkCount > 0 {
-		pc.addCriterion(Criterion{Name: "Samples without signal", Metric: parse.RxPowerDBm.Column(), Statistic: "count",
+		t.add(Criterion{Name: "Samples without signal", Metric: parse.RxPowerDBm.Column(), Statistic: "count",
 			Measured: float64(pc.darkCount), Limit: 0, Margin: -float64(pc.darkCount), Unit: "samples",
 			Source: fmt.Sprintf("rules signal_loss_floor_dbm %.1f dBm, or pre-FEC BER ≥ %.2g: %s", r.SignalLossFloorDBm, noLockBER, r.Sources["signal_loss_floor_dbm"])}, 0, pc.darkOwner())
 	}
@@ -305,9 +314,11 @@ func (pc *portCtx) criteria() {
 			c.Verdict = Marginal
 		}
 		if finite(c.Measured) && finite(c.Limit) {
-			pc.appendCriterion(c, CauseCDMismatch)
+			t.append(c, CauseCDMismatch)
 		}
 	}
+	pc.noteBinCriteria(t.rows)
+	return t
 }
 
 func (pc *portCtx) trendSignificant(t *Trend) bool {

@@ -61,9 +61,6 @@ type portCtx struct {
 	litBER           []float64
 	berRanks, yRanks []float64
 
-	// critOwner[i] is the cause that owns the physics of res.Criteria[i] ("" when shared).
-	critOwner []CauseID
-
 	// cache holds summaries several evidence tests use.
 	cache struct {
 		litPower, q         *series.Summary

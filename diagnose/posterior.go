@@ -379,11 +379,11 @@ func (pc *portCtx) posterior(o observables, scores map[CauseID]*score) (causes m
 
 // inTrouble: the port's signal shows trouble (Q short or bursty, uncorrected blocks on lit
 // samples, samples without light) or a criterion is marginal or failing.
-func (pc *portCtx) inTrouble(o observables) bool {
+func (pc *portCtx) inTrouble(o observables, criteria []Criterion) bool {
 	if o.noise == noiseMarginal || o.noise == noiseFailing || o.noise == noiseBursts || o.dark == darkSome || pc.litBlockBursts() > 0 {
 		return true
 	}
-	for _, c := range pc.res.Criteria {
+	for _, c := range criteria {
 		if c.Verdict == Marginal || c.Verdict == Fail {
 			return true
 		}
@@ -444,11 +444,11 @@ func (pc *portCtx) symptomEvidence(id CauseID, o observables) []item {
 // list turns the posterior into the port's causes: every cause at or above listFloor, every
 // cause a breached criterion owns (forced), and on a port in trouble the top of the
 // differential. Confidence is the marginal posterior.
-func (pc *portCtx) list(o observables, scores map[CauseID]*score, post map[CauseID]float64, forced map[CauseID]bool) []Cause {
+func (pc *portCtx) list(o observables, criteria []Criterion, scores map[CauseID]*score, post map[CauseID]float64, forced map[CauseID]bool) []Cause {
 	out := []Cause{}
 	ranked := append([]CauseID(nil), AllCauses...)
 	sort.SliceStable(ranked, func(i, j int) bool { return post[ranked[i]] > post[ranked[j]] })
-	trouble := pc.inTrouble(o)
+	trouble := pc.inTrouble(o, criteria)
 	for rank, id := range ranked {
 		p := post[id]
 		ok := p >= listFloor || forced[id] ||
