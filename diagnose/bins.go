@@ -41,36 +41,53 @@ func widen(lo, hi *float64, a, b float64) {
 	}
 }
 
-// binExtremes is the lowest bin minimum and the highest bin maximum of q (NaN where the bins
-// give none).
-func (pc *portCtx) binExtremes(q parse.Quantity) (lo, hi float64) {
-	b := pc.s.Bins
+// binExtremes is the lowest bin minimum and the highest bin maximum of q in b (NaN where b is
+// nil or gives none).
+func binExtremes(b *parse.Bins, q parse.Quantity) (lo, hi float64) {
 	if b == nil {
 		return math.NaN(), math.NaN()
 	}
 	return extreme(b.Low[q], false), extreme(b.High[q], true)
 }
 
-// applyBins widens the summaries with the bins' extremes and makes the criteria judge the
-// extremes on the sides the bins give (pc.r is the port's own copy of the rules). It records
-// which quantities were judged so in pc.binJudged.
-func (pc *portCtx) applyBins() {
-	if pc.s.Bins == nil {
+// widenWithBins widens the column summaries sum (and absSum, of |x|) with the bins' extremes.
+func widenWithBins(b *parse.Bins, sum, absSum map[parse.Quantity]series.Summary) {
+	if b == nil {
 		return
 	}
-	for q, s := range pc.sum {
-		lo, hi := pc.binExtremes(q)
+	for q, s := range sum {
+		lo, hi := binExtremes(b, q)
 		widen(&s.Min, &s.Max, lo, hi)
-		pc.sum[q] = s
-		if a, ok := pc.absSum[q]; ok {
+		sum[q] = s
+		if a, ok := absSum[q]; ok {
 			m := math.Max(math.Abs(lo), math.Abs(hi)) // NaN when neither is given
 			widen(&a.Min, &a.Max, a.Min, m)
-			pc.absSum[q] = a
+			absSum[q] = a
 		}
 	}
-	r := &pc.r
+}
+
+// statChoice is which statistic each criterion judges on one port: the rules' choice, or the
+// bin extreme on the sides a binned port's bins give (chooseStatistics). The rules themselves
+// are never changed.
+type statChoice struct {
+	q, osnr, rxLow, rxHigh, cd, dgd, pdl, sop, lo rules.Statistic
+	binJudged                                     uint32 // bit q: criteria on q judge bin extremes
+}
+
+// chooseStatistics is the statistics of r, with each one whose worse side the bins of s give
+// replaced by that extreme (min or max; for CD and LO offset the max of |x|), and the
+// quantities so judged marked in binJudged. A Q derived from BER (no q_db column) is judged on
+// its minimum when the bins give the highest BER.
+func chooseStatistics(s *parse.Series, r rules.Rules) statChoice {
+	c := statChoice{q: r.QStatistic, osnr: r.OSNRStatistic, rxLow: r.RxPowerLowStatistic, rxHigh: r.RxPowerHighStatistic,
+		cd: r.CDStatistic, dgd: r.DGDStatistic, pdl: r.PDLStatistic, sop: r.SOPRateStatistic, lo: r.LOOffsetStatistic}
+	b := s.Bins
+	if b == nil {
+		return c
+	}
 	judge := func(st *rules.Statistic, q parse.Quantity, high bool) {
-		lo, hi := pc.binExtremes(q)
+		lo, hi := binExtremes(b, q)
 		switch {
 		case high && !math.IsNaN(hi):
 			*st = rules.StatMax
@@ -79,39 +96,40 @@ func (pc *portCtx) applyBins() {
 		default:
 			return
 		}
-		pc.binJudged |= 1 << q
+		c.binJudged |= 1 << q
 	}
-	judge(&r.QStatistic, parse.QdB, false)
-	if _, hasQ := pc.sum[parse.QdB]; !hasQ {
+	judge(&c.q, parse.QdB, false)
+	if !s.Has(parse.QdB) {
 		// Q derived from BER: the highest bin BER is the lowest Q (qSummary widens its Min).
-		if _, hi := pc.binExtremes(parse.PreFECBER); !math.IsNaN(hi) {
-			r.QStatistic = rules.StatMin
-			pc.binJudged |= 1 << parse.PreFECBER
+		if _, hi := binExtremes(b, parse.PreFECBER); !math.IsNaN(hi) {
+			c.q = rules.StatMin
+			c.binJudged |= 1 << parse.PreFECBER
 		}
 	}
-	judge(&r.OSNRStatistic, parse.OSNRdB, false)
-	judge(&r.RxPowerLowStatistic, parse.RxPowerDBm, false)
-	judge(&r.RxPowerHighStatistic, parse.RxPowerDBm, true)
+	judge(&c.osnr, parse.OSNRdB, false)
+	judge(&c.rxLow, parse.RxPowerDBm, false)
+	judge(&c.rxHigh, parse.RxPowerDBm, true)
 	for _, q := range []parse.Quantity{parse.CDpsPerNm, parse.LOOffsetMHz} {
-		st := &r.CDStatistic
+		st := &c.cd
 		if q == parse.LOOffsetMHz {
-			st = &r.LOOffsetStatistic
+			st = &c.lo
 		}
-		if lo, hi := pc.binExtremes(q); !math.IsNaN(lo) || !math.IsNaN(hi) {
+		if lo, hi := binExtremes(b, q); !math.IsNaN(lo) || !math.IsNaN(hi) {
 			*st = rules.StatMax // of |x|: absSum's Max covers both extremes
-			pc.binJudged |= 1 << q
+			c.binJudged |= 1 << q
 		}
 	}
-	judge(&r.DGDStatistic, parse.DGDps, true)
-	judge(&r.PDLStatistic, parse.PDLdB, true)
-	judge(&r.SOPRateStatistic, parse.SOPRateKradPerS, true)
+	judge(&c.dgd, parse.DGDps, true)
+	judge(&c.pdl, parse.PDLdB, true)
+	judge(&c.sop, parse.SOPRateKradPerS, true)
+	return c
 }
 
 // widenDerived widens the summary of a Q derived from BER (q true) or of a BER derived from Q
 // with the bin extreme of the measured one, through the same conversion as the samples.
 func (pc *portCtx) widenDerived(s *series.Summary, q bool) {
 	if q {
-		lo, hi := pc.binExtremes(parse.PreFECBER)
+		lo, hi := binExtremes(pc.s.Bins, parse.PreFECBER)
 		if !math.IsNaN(hi) {
 			widen(&s.Min, &s.Max, qdBClamped(hi), s.Max)
 		}
@@ -120,7 +138,7 @@ func (pc *portCtx) widenDerived(s *series.Summary, q bool) {
 		}
 		return
 	}
-	lo, hi := pc.binExtremes(parse.QdB)
+	lo, hi := binExtremes(pc.s.Bins, parse.QdB)
 	if !math.IsNaN(lo) {
 		widen(&s.Min, &s.Max, s.Min, optics.BERFromQdB(lo))
 	}
@@ -129,9 +147,10 @@ func (pc *portCtx) widenDerived(s *series.Summary, q bool) {
 	}
 }
 
-// noteBinCriteria says, in the source of each criterion judged on bin extremes, that it was.
-func (pc *portCtx) noteBinCriteria(rows []Criterion) {
-	if pc.binJudged == 0 {
+// noteBinCriteria says, in the source of each criterion judged on bin extremes (binJudged, of
+// statChoice), that it was.
+func noteBinCriteria(rows []Criterion, binJudged uint32) {
+	if binJudged == 0 {
 		return
 	}
 	for i := range rows {
@@ -140,7 +159,7 @@ func (pc *portCtx) noteBinCriteria(rows []Criterion) {
 		if !ok || c.Statistic != string(rules.StatMin) && c.Statistic != string(rules.StatMax) {
 			continue
 		}
-		if pc.binJudged&(1<<q) != 0 || q == parse.QdB && pc.binJudged&(1<<parse.PreFECBER) != 0 {
+		if binJudged&(1<<q) != 0 || q == parse.QdB && binJudged&(1<<parse.PreFECBER) != 0 {
 			c.Source += binNote
 		}
 	}

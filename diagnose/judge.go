@@ -59,7 +59,7 @@ func (pc *portCtx) metric(key, unit string, s series.Summary, derived bool, limi
 // metrics summarises every quantity the port has, measured or derived, with limit and margin
 // where a limit applies (margin positive inside the limit).
 func (pc *portCtx) metrics() {
-	p, r := pc.prof, pc.r
+	p := pc.prof
 	nan := math.NaN()
 	for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
 		s, ok := pc.sum[q]
@@ -70,7 +70,7 @@ func (pc *portCtx) metrics() {
 		switch q {
 		case parse.PreFECBER:
 			limit = p.FECThresholdBER
-			margin = limit - mirror(s, r.QStatistic)
+			margin = limit - mirror(s, pc.stat.q)
 		case parse.PostFECBER:
 			limit, margin = postFECLimitBER, decadesBelow(postFECLimitBER, s.Max)
 		case parse.UncorrectedBlocks:
@@ -78,30 +78,30 @@ func (pc *portCtx) metrics() {
 		case parse.QdB:
 			s = pc.qSummary() // samples with signal only
 			limit = pc.qLimitDB
-			margin = pick(s, r.QStatistic) - limit
+			margin = pick(s, pc.stat.q) - limit
 		case parse.ESNRdB:
 			limit = pc.snrThDB
-			margin = pick(s, r.QStatistic) - limit
+			margin = pick(s, pc.stat.q) - limit
 		case parse.OSNRdB:
 			limit = pc.reqOSNRdB
-			margin = pick(s, r.OSNRStatistic) - limit
+			margin = pick(s, pc.stat.osnr) - limit
 		case parse.CDpsPerNm:
 			limit = p.CDTolerancePsNm
-			margin = limit - pick(pc.absSum[q], r.CDStatistic)
+			margin = limit - pick(pc.absSum[q], pc.stat.cd)
 		case parse.DGDps:
 			limit = p.DGDTolerancePs
-			margin = limit - pick(s, r.DGDStatistic)
+			margin = limit - pick(s, pc.stat.dgd)
 		case parse.PDLdB:
 			limit = p.PDLTolerancedB
-			margin = limit - pick(s, r.PDLStatistic)
+			margin = limit - pick(s, pc.stat.pdl)
 		case parse.SOPRateKradPerS:
 			limit = p.SOPTrackingKradS
-			margin = limit - pick(s, r.SOPRateStatistic)
+			margin = limit - pick(s, pc.stat.sop)
 		case parse.LOOffsetMHz:
 			limit = p.LOOffsetRangeMHz
-			margin = limit - pick(pc.absSum[q], r.LOOffsetStatistic)
+			margin = limit - pick(pc.absSum[q], pc.stat.lo)
 		case parse.RxPowerDBm:
-			limit, margin = windowMargin(s, p.RxPowerMinDBm, p.RxPowerMaxDBm, r.RxPowerLowStatistic, r.RxPowerHighStatistic)
+			limit, margin = windowMargin(s, p.RxPowerMinDBm, p.RxPowerMaxDBm, pc.stat.rxLow, pc.stat.rxHigh)
 		case parse.TxPowerDBm:
 			if p.TxPowerMaxDBm > p.TxPowerMinDBm {
 				limit, margin = windowMargin(s, p.TxPowerMinDBm, p.TxPowerMaxDBm, rules.StatMin, rules.StatMax)
@@ -115,15 +115,15 @@ func (pc *portCtx) metrics() {
 	if pc.berDerived {
 		s := pc.summarize(pc.ber)
 		pc.widenDerived(&s, false)
-		pc.metric(parse.PreFECBER.Column(), "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, r.QStatistic))
+		pc.metric(parse.PreFECBER.Column(), "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, pc.stat.q))
 	}
 	if pc.qDerived {
 		s := pc.qSummary()
-		pc.metric(parse.QdB.Column(), "dB", s, true, pc.qLimitDB, pick(s, r.QStatistic)-pc.qLimitDB)
+		pc.metric(parse.QdB.Column(), "dB", s, true, pc.qLimitDB, pick(s, pc.stat.q)-pc.qLimitDB)
 	}
 	if pc.esnrDerived {
 		s := pc.summarize(pc.esnr)
-		pc.metric(parse.ESNRdB.Column(), "dB", s, true, pc.snrThDB, pick(s, r.QStatistic)-pc.snrThDB)
+		pc.metric(parse.ESNRdB.Column(), "dB", s, true, pc.snrThDB, pick(s, pc.stat.q)-pc.snrThDB)
 	}
 }
 
@@ -205,24 +205,24 @@ func (pc *portCtx) criteria() criteriaTable {
 
 	if pc.qdb != nil && p.FECThresholdBER > 0 {
 		s := pc.qSummary()
-		m := pick(s, r.QStatistic)
-		t.add(Criterion{Name: "Q-factor margin to the FEC threshold", Metric: parse.QdB.Column(), Statistic: string(r.QStatistic),
+		m := pick(s, pc.stat.q)
+		t.add(Criterion{Name: "Q-factor margin to the FEC threshold", Metric: parse.QdB.Column(), Statistic: string(pc.stat.q),
 			Measured: m, Limit: pc.qLimitDB, Margin: m - pc.qLimitDB, Unit: "dB",
 			Source: pc.source("fec_threshold_ber") + fmt.Sprintf("; limit = Q of BER %.3g", p.FECThresholdBER)}, r.QMarginalMarginDB, "")
 	} else {
 		pc.notJudged("Q-factor: the log has neither pre_fec_ber nor q_db")
 	}
 	if has(parse.OSNRdB) && pc.reqOSNRdB > 0 {
-		m := pick(pc.sum[parse.OSNRdB], r.OSNRStatistic)
-		t.add(Criterion{Name: "OSNR margin to the required OSNR", Metric: parse.OSNRdB.Column(), Statistic: string(r.OSNRStatistic),
+		m := pick(pc.sum[parse.OSNRdB], pc.stat.osnr)
+		t.add(Criterion{Name: "OSNR margin to the required OSNR", Metric: parse.OSNRdB.Column(), Statistic: string(pc.stat.osnr),
 			Measured: m, Limit: pc.reqOSNRdB, Margin: m - pc.reqOSNRdB, Unit: "dB", Source: pc.source("required_osnr_db")}, r.OSNRMarginalMarginDB, CauseOSNRLow)
 	}
 	if has(parse.RxPowerDBm) && p.RxPowerMaxDBm > p.RxPowerMinDBm {
 		s := pc.sum[parse.RxPowerDBm]
-		lo, hi := pick(s, r.RxPowerLowStatistic), pick(s, r.RxPowerHighStatistic)
-		t.add(Criterion{Name: "Received power above the sensitivity limit", Metric: parse.RxPowerDBm.Column(), Statistic: string(r.RxPowerLowStatistic),
+		lo, hi := pick(s, pc.stat.rxLow), pick(s, pc.stat.rxHigh)
+		t.add(Criterion{Name: "Received power above the sensitivity limit", Metric: parse.RxPowerDBm.Column(), Statistic: string(pc.stat.rxLow),
 			Measured: lo, Limit: p.RxPowerMinDBm, Margin: lo - p.RxPowerMinDBm, Unit: "dBm", Source: pc.source("rx_power_min_dbm")}, r.RxPowerMarginalBandDB, pc.powerEdgeOwner(CauseRxPowerLow))
-		t.add(Criterion{Name: "Received power below the overload limit", Metric: parse.RxPowerDBm.Column(), Statistic: string(r.RxPowerHighStatistic),
+		t.add(Criterion{Name: "Received power below the overload limit", Metric: parse.RxPowerDBm.Column(), Statistic: string(pc.stat.rxHigh),
 			Measured: hi, Limit: p.RxPowerMaxDBm, Margin: p.RxPowerMaxDBm - hi, Unit: "dBm", Source: pc.source("rx_power_max_dbm")}, r.RxPowerMarginalBandDB, pc.powerEdgeOwner(CauseRxOverload))
 	} else if !has(parse.RxPowerDBm) {
 		pc.notJudged("received power: the log has no rx_power_dbm")
@@ -244,10 +244,10 @@ func (pc *portCtx) criteria() criteriaTable {
 			Margin: limit - m, Unit: unit, Source: pc.source(key)}, (1-frac)*limit, owner)
 	}
 	if has(parse.CDpsPerNm) {
-		upper("|CD| inside the compensation range", parse.CDpsPerNm, pc.absSum[parse.CDpsPerNm], r.CDStatistic, p.CDTolerancePsNm, r.CDMarginalFraction, "ps/nm", "cd_tolerance_ps_nm", CauseCDOverLimit)
+		upper("|CD| inside the compensation range", parse.CDpsPerNm, pc.absSum[parse.CDpsPerNm], pc.stat.cd, p.CDTolerancePsNm, r.CDMarginalFraction, "ps/nm", "cd_tolerance_ps_nm", CauseCDOverLimit)
 	}
 	if has(parse.DGDps) {
-		upper("DGD inside the instantaneous tolerance", parse.DGDps, pc.sum[parse.DGDps], r.DGDStatistic, p.DGDTolerancePs, r.DGDMarginalFraction, "ps", "dgd_tolerance_ps", CausePMD)
+		upper("DGD inside the instantaneous tolerance", parse.DGDps, pc.sum[parse.DGDps], pc.stat.dgd, p.DGDTolerancePs, r.DGDMarginalFraction, "ps", "dgd_tolerance_ps", CausePMD)
 		if f := pc.an.DGDFit; f != nil && p.DGDTolerancePs > 0 && r.PMDOutageProbability > 0 {
 			ratio := optics.MaxwellQuantile(r.PMDOutageProbability, 1)
 			allowed := p.DGDTolerancePs / ratio
@@ -263,13 +263,13 @@ func (pc *portCtx) criteria() criteriaTable {
 		}
 	}
 	if has(parse.PDLdB) {
-		upper("PDL inside the tolerance", parse.PDLdB, pc.sum[parse.PDLdB], r.PDLStatistic, p.PDLTolerancedB, r.PDLMarginalFraction, "dB", "pdl_tolerance_db", CausePDLHigh)
+		upper("PDL inside the tolerance", parse.PDLdB, pc.sum[parse.PDLdB], pc.stat.pdl, p.PDLTolerancedB, r.PDLMarginalFraction, "dB", "pdl_tolerance_db", CausePDLHigh)
 	}
 	if has(parse.SOPRateKradPerS) {
-		upper("SOP rate inside the tracking speed", parse.SOPRateKradPerS, pc.sum[parse.SOPRateKradPerS], r.SOPRateStatistic, p.SOPTrackingKradS, r.SOPRateMarginalFraction, "krad/s", "sop_tracking_krad_s", CauseSOPTransient)
+		upper("SOP rate inside the tracking speed", parse.SOPRateKradPerS, pc.sum[parse.SOPRateKradPerS], pc.stat.sop, p.SOPTrackingKradS, r.SOPRateMarginalFraction, "krad/s", "sop_tracking_krad_s", CauseSOPTransient)
 	}
 	if has(parse.LOOffsetMHz) {
-		upper("|LO offset| inside the capture range", parse.LOOffsetMHz, pc.absSum[parse.LOOffsetMHz], r.LOOffsetStatistic, p.LOOffsetRangeMHz, r.LOOffsetMarginalFraction, "MHz", "lo_offset_range_mhz", CauseLOOffset)
+		upper("|LO offset| inside the capture range", parse.LOOffsetMHz, pc.absSum[parse.LOOffsetMHz], pc.stat.lo, p.LOOffsetRangeMHz, r.LOOffsetMarginalFraction, "MHz", "lo_offset_range_mhz", CauseLOOffset)
 		if lt := pc.an.LOTrend; lt != nil && pc.trendSignificant(lt) && finite(lt.HoursToLimit) && lt.HoursToLimit > 0 {
 			c := Criterion{Name: "LO offset drift: hours until the capture limit", Metric: parse.LOOffsetMHz.Column(), Statistic: "trend",
 				Measured: lt.HoursToLimit, Limit: r.LODriftHorizonH, Margin: lt.HoursToLimit - r.LODriftHorizonH, Unit: "h",
@@ -317,7 +317,7 @@ func (pc *portCtx) criteria() criteriaTable {
 			t.append(c, CauseCDMismatch)
 		}
 	}
-	pc.noteBinCriteria(t.rows)
+	noteBinCriteria(t.rows, pc.stat.binJudged)
 	return t
 }
 

@@ -234,8 +234,8 @@ func (pc *portCtx) osnrLow() *score {
 	s := &score{id: CauseOSNRLow}
 	r := pc.r
 	if pc.has(parse.OSNRdB) && pc.reqOSNRdB > 0 {
-		if v := pick(pc.sum[parse.OSNRdB], r.OSNRStatistic); v < pc.reqOSNRdB {
-			s.add(llrModerate, "Reported OSNR %.1f dB (%s) is %.1f dB below the %.1f dB the module needs at the FEC threshold.", v, r.OSNRStatistic, pc.reqOSNRdB-v, pc.reqOSNRdB)
+		if v := pick(pc.sum[parse.OSNRdB], pc.stat.osnr); v < pc.reqOSNRdB {
+			s.add(llrModerate, "Reported OSNR %.1f dB (%s) is %.1f dB below the %.1f dB the module needs at the FEC threshold.", v, pc.stat.osnr, pc.reqOSNRdB-v, pc.reqOSNRdB)
 		}
 	}
 	if pc.exp != nil && finite(pc.exp.ASEOSNRdB) {

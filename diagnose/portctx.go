@@ -49,7 +49,7 @@ type portCtx struct {
 	derived    // the derive stage's value (derive); read, never written, by the later stages
 	sum        map[parse.Quantity]series.Summary
 	absSum     map[parse.Quantity]series.Summary // of |x|, for CD and LO offset
-	binJudged  uint32                            // bit q: criteria on q judge bin extremes (applyBins)
+	stat       statChoice                        // the statistic each criterion judges (chooseStatistics); read-only
 
 	scratch []float64 // working copy for summaries
 
@@ -113,6 +113,7 @@ func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opti
 		pc.an.RequiredESNRdB = math.NaN()
 	}
 	pc.summarizeColumns()
+	pc.stat = chooseStatistics(s, r)
 	pc.derived = derive(s, pc.mod, r.SignalLossFloorDBm)
 	pc.analyseSeries()
 	return pc
@@ -216,7 +217,7 @@ func nanSlice(n int) []float64 {
 }
 
 // summarizeColumns summarises every column the port has (and |x| of CD and LO offset), widened
-// to the extremes of binned samples (applyBins).
+// to the extremes of binned samples (widenWithBins).
 func (pc *portCtx) summarizeColumns() {
 	s, n := pc.s, pc.n
 	pc.sum = map[parse.Quantity]series.Summary{}
@@ -241,7 +242,7 @@ func (pc *portCtx) summarizeColumns() {
 			pc.absSum[q] = pc.summarize(a)
 		}
 	}
-	pc.applyBins()
+	widenWithBins(s.Bins, pc.sum, pc.absSum)
 }
 
 // derived is the value of the derive stage: per-sample BER, Q and eSNR from whichever the port

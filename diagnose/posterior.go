@@ -229,7 +229,7 @@ func (pc *portCtx) observe() observables {
 			o.noise = noiseMarginal
 		case len(pc.an.BERBursts) > 0 || pc.litBlockBursts() > 0:
 			o.noise = noiseBursts
-		case pick(pc.summaryOf(pc.lit(pc.qdb), parse.QdB), r.QStatistic)-pc.qLimitDB < r.QMarginalMarginDB:
+		case pick(pc.summaryOf(pc.lit(pc.qdb), parse.QdB), pc.stat.q)-pc.qLimitDB < r.QMarginalMarginDB:
 			o.noise = noiseMarginal // the judged statistic (min by default) is inside the band
 		default:
 			o.noise = noiseClean
@@ -251,7 +251,7 @@ func (pc *portCtx) observe() observables {
 	}
 	if pc.has(parse.OSNRdB) && pc.reqOSNRdB > 0 {
 		o.osnr = osnrOK
-		if pick(pc.sum[parse.OSNRdB], r.OSNRStatistic) < pc.reqOSNRdB+r.OSNRMarginalMarginDB {
+		if pick(pc.sum[parse.OSNRdB], pc.stat.osnr) < pc.reqOSNRdB+r.OSNRMarginalMarginDB {
 			o.osnr = osnrLow
 		}
 	}
@@ -420,16 +420,16 @@ func (pc *portCtx) symptomEvidence(id CauseID, o observables) []item {
 		add(row4(powerLik, id)[o.power], powerLik[HypHealthy][o.power], fmt.Sprintf("Received power moved by %.1f dB or more during the log (median %.1f dBm).", pc.r.PowerStepDB, lp.P50))
 	}
 	if o.osnr != osnrUnknown {
-		v := pick(pc.sum[parse.OSNRdB], pc.r.OSNRStatistic)
-		text := fmt.Sprintf("Reported OSNR %.1f dB (%s) is %.1f dB above the %.1f dB the module needs.", v, pc.r.OSNRStatistic, v-pc.reqOSNRdB, pc.reqOSNRdB)
+		v := pick(pc.sum[parse.OSNRdB], pc.stat.osnr)
+		text := fmt.Sprintf("Reported OSNR %.1f dB (%s) is %.1f dB above the %.1f dB the module needs.", v, pc.stat.osnr, v-pc.reqOSNRdB, pc.reqOSNRdB)
 		switch {
 		case o.osnr == osnrLow && v < pc.reqOSNRdB:
-			text = fmt.Sprintf("Reported OSNR %.1f dB (%s) is below the %.1f dB the module needs.", v, pc.r.OSNRStatistic, pc.reqOSNRdB)
+			text = fmt.Sprintf("Reported OSNR %.1f dB (%s) is below the %.1f dB the module needs.", v, pc.stat.osnr, pc.reqOSNRdB)
 			if id == CauseOSNRLow {
 				text = "" // osnr-low's own test says it with the shortfall
 			}
 		case o.osnr == osnrLow:
-			text = fmt.Sprintf("Reported OSNR %.1f dB (%s) leaves only %.1f dB over the %.1f dB the module needs.", v, pc.r.OSNRStatistic, v-pc.reqOSNRdB, pc.reqOSNRdB)
+			text = fmt.Sprintf("Reported OSNR %.1f dB (%s) leaves only %.1f dB over the %.1f dB the module needs.", v, pc.stat.osnr, v-pc.reqOSNRdB, pc.reqOSNRdB)
 		}
 		if text != "" {
 			add(row2(osnrLik, id)[o.osnr], osnrLik[HypHealthy][o.osnr], text)

@@ -31,9 +31,9 @@ func (pc *portCtx) risks() []string {
 		}
 	}
 	if pc.has(parse.OSNRdB) && pc.reqOSNRdB > 0 {
-		if v := pick(pc.sum[parse.OSNRdB], r.OSNRStatistic); v >= pc.reqOSNRdB && v < pc.reqOSNRdB+r.OSNRMarginalMarginDB {
+		if v := pick(pc.sum[parse.OSNRdB], pc.stat.osnr); v >= pc.reqOSNRdB && v < pc.reqOSNRdB+r.OSNRMarginalMarginDB {
 			out = append(out, fmt.Sprintf("Reported OSNR %.1f dB (%s) leaves only %.1f dB over the %.1f dB the module needs, while the median Q margin is still %.1f dB: amplifier ageing or one more span loss would use it up.",
-				v, r.OSNRStatistic, v-pc.reqOSNRdB, pc.reqOSNRdB, qm))
+				v, pc.stat.osnr, v-pc.reqOSNRdB, pc.reqOSNRdB, qm))
 		}
 	}
 	if t := pc.an.LOTrend; t != nil && pc.trendSignificant(t) && t.HoursToLimit > r.LODriftHorizonH && t.HoursToLimit <= riskHorizonFactor*r.LODriftHorizonH {
