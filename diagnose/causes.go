@@ -245,16 +245,6 @@ func dur(ms int64) string {
 	return fmt.Sprintf("%.1f h", sec/3600)
 }
 
-func (pc *portCtx) correlation(q parse.Quantity) *Correlation {
-	pc.computeCorrelation(q) // no-op when already computed
-	for i := range pc.an.Correlations {
-		if pc.an.Correlations[i].B == q.Column() {
-			return &pc.an.Correlations[i]
-		}
-	}
-	return nil
-}
-
 // launchDBm is the plan's per-channel launch power into the spans: the highest span launch
 // power the link model computes (amplifiers included), else the plan's launch or tx power.
 func (pc *portCtx) launchDBm() float64 {

@@ -136,14 +136,16 @@ func AnalyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 }
 
 func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules, lazyCorr bool) PortResult {
-	// The stages, in order, from newPortCtx: the column summaries, derive (per-sample BER, Q,
-	// eSNR, dark samples: a function returning its value) and the findings (steps, bursts,
-	// trends, fits, written into the analysis); compliance (metrics, criteria, plan vs
-	// measured): the criteria table returned as a value, the metrics and plan comparison
-	// written into the result; then evidence (the column tests, given the criteria), the
-	// posterior over the hypotheses, the listed causes and the next test, each returned as a
-	// value; the SNR budget; risk notes; the verdict from the criteria and the causes. The
-	// findings stage, the metrics and the plan comparison still write portCtx's fields.
+	// The stages, in order, from newPortCtx: the column summaries, the statistic choice
+	// (chooseStatistics: which statistic each criterion judges, a value), derive (per-sample
+	// BER, Q, eSNR, dark samples) and the findings (steps, bursts, trends, fits, and the memo of
+	// rank correlations), each a function returning its value; compliance (metrics, criteria,
+	// plan vs measured): the criteria table returned as a value, the metrics and plan
+	// comparison written into the result; then evidence (the column tests, given the
+	// criteria), the posterior over the hypotheses, the listed causes and the next test, each
+	// returned as a value; the SNR budget; risk notes; the verdict from the criteria and the
+	// causes; last the correlations computed on the way. The metrics, the plan comparison and
+	// the "not judged" notes (criteria, telemetry checks, cause tests) still write the result.
 	pc := newPortCtx(s, prof, plan, exp, r, lazyCorr)
 	pc.metrics()
 	crit := pc.criteria()
@@ -159,6 +161,7 @@ func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 	pc.res.Budget = pc.budget()
 	pc.res.Risks = pc.risks()
 	pc.res.Verdict = verdictOf(crit.rows, pc.res.Causes)
+	pc.an.Correlations = pc.corr.list
 	addCautions(pc.res)
 	return *pc.res
 }

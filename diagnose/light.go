@@ -132,7 +132,7 @@ func (pc *portCtx) rxPowerLow() *score {
 		s.add(llrAgainstSome, "The measured CD says the route is about %.0f %% longer than planned, which by itself adds loss.", 100*(rr-1))
 	}
 	if s.supported() {
-		if c := pc.correlation(parse.RxPowerDBm); c != nil && c.Rho <= -r.CorrelationMinSpearman && c.P < corrMaxP {
+		if c := pc.corr.of(parse.RxPowerDBm); c != nil && c.Rho <= -r.CorrelationMinSpearman && c.P < corrMaxP {
 			s.add(llrWeak, "Pre-FEC BER rises as power falls (Spearman ρ = %.2f over %d samples).", c.Rho, c.N)
 		}
 		if qm := pc.qMarginP50(); finite(qm) && qm < r.QMarginalMarginDB {
@@ -172,7 +172,7 @@ func (pc *portCtx) rxOverload() *score {
 		s.add(llrAgainstSome, "The measured CD says the route is about %.0f %% shorter than planned, which by itself leaves less loss.", 100*(1-rr))
 	}
 	if s.supported() {
-		if c := pc.correlation(parse.RxPowerDBm); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < corrMaxP {
+		if c := pc.corr.of(parse.RxPowerDBm); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < corrMaxP {
 			s.add(llrWeak, "Pre-FEC BER rises with power (Spearman ρ = %.2f over %d samples), as receiver saturation would make it.", c.Rho, c.N)
 		}
 	}

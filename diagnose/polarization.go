@@ -59,7 +59,7 @@ func (pc *portCtx) pmd() *score {
 			s.add(llrAgainstTiny, "The DGD spread is not Maxwellian-shaped (Kolmogorov–Smirnov D = %.3f, %s), which fibre PMD alone would give.", f.KS, pval(f.KSPValue))
 		}
 	}
-	if c := pc.correlation(parse.DGDps); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < corrMaxP {
+	if c := pc.corr.of(parse.DGDps); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < corrMaxP {
 		s.add(llrModerate, "Pre-FEC BER follows the DGD (Spearman ρ = %.2f over %d samples, %s).", c.Rho, c.N, pval(c.P))
 	}
 	if pc.exp != nil && f != nil && pc.exp.MeanDGDPs > 0 && f.MeanPs > planDGDFactor*pc.exp.MeanDGDPs {
@@ -159,7 +159,7 @@ func (pc *portCtx) pdlHigh() *score {
 	if ps.P50 >= r.PDLMarginalFraction*tol {
 		s.add(llrWeak, "PDL stays high: its median is %.2f dB.", ps.P50)
 	}
-	if c := pc.correlation(parse.PDLdB); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < corrMaxP {
+	if c := pc.corr.of(parse.PDLdB); c != nil && c.Rho >= r.CorrelationMinSpearman && c.P < corrMaxP {
 		s.add(llrModerate, "Pre-FEC BER follows the PDL (Spearman ρ = %.2f over %d samples, %s).", c.Rho, c.N, pval(c.P))
 	}
 	return s

@@ -53,13 +53,8 @@ type portCtx struct {
 
 	scratch []float64 // working copy for summaries
 
-	// Rank correlations (computeCorrelation): lazyCorr computes each only when a cause test
-	// asks for it (Config.CorrelationsOnDemand); corrDone marks the quantities done.
-	lazyCorr         bool
-	corrDone         uint32
-	corrInit         bool
-	litBER           []float64
-	berRanks, yRanks []float64
+	// corr is the findings' rank correlations, each computed on first request (corrMemo).
+	corr *corrMemo
 
 	// cache holds summaries several evidence tests use.
 	cache struct {
@@ -80,7 +75,7 @@ type portCtx struct {
 }
 
 func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules, lazyCorr bool) *portCtx {
-	pc := &portCtx{s: s, prof: prof, plan: plan, exp: exp, r: r, n: s.Len(), lazyCorr: lazyCorr}
+	pc := &portCtx{s: s, prof: prof, plan: plan, exp: exp, r: r, n: s.Len()}
 	pc.res = &PortResult{
 		Port: s.Port, Profile: prof.ID, Samples: s.Len(),
 		Causes: []Cause{}, Metrics: map[string]Metric{},
@@ -91,8 +86,6 @@ func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opti
 	if pc.n > 0 {
 		pc.res.From, pc.res.To = rfc3339(s.TimesMs[0]), rfc3339(s.TimesMs[pc.n-1])
 	}
-	pc.an = &PortAnalysis{Series: s, Profile: prof, Plan: plan, Expected: exp}
-	pc.res.Analysis = pc.an
 	pc.intervalMs = medianInterval(s.TimesMs)
 
 	m, err := optics.ParseModulation(prof.Modulation)
@@ -100,22 +93,22 @@ func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opti
 		pc.mod = m
 	}
 	pc.qLimitDB = optics.QdBFromBER(prof.FECThresholdBER)
-	pc.an.FECLimitQdB = pc.qLimitDB
 	pc.snrThDB, pc.snrTrxDB, pc.reqOSNRdB = math.NaN(), math.Inf(1), prof.RequiredOSNRdB
 	if pc.mod.Valid() && prof.FECThresholdBER > 0 {
 		pc.snrThDB = optics.SNRdBFromBER(pc.mod, prof.FECThresholdBER)
-		pc.an.RequiredESNRdB = pc.snrThDB
 		pc.snrTrxDB, pc.trxAssumption = transceiverSNRdB(prof, pc.snrThDB)
 		if !(pc.reqOSNRdB > 0) && prof.BaudGBd > 0 {
 			pc.reqOSNRdB = optics.RequiredOSNRdB(pc.mod, prof.BaudGBd, prof.PolarizationCount(), prof.FECThresholdBER, prof.ImplementationPenaltyDB)
 		}
-	} else {
-		pc.an.RequiredESNRdB = math.NaN()
 	}
 	pc.summarizeColumns()
 	pc.stat = chooseStatistics(s, r)
 	pc.derived = derive(s, pc.mod, r.SignalLossFloorDBm)
-	pc.analyseSeries()
+	an, corr := pc.findings(lazyCorr)
+	an.Series, an.Profile, an.Plan, an.Expected = s, prof, plan, exp
+	an.FECLimitQdB, an.RequiredESNRdB = pc.qLimitDB, pc.snrThDB
+	pc.an, pc.corr = &an, corr
+	pc.res.Analysis = pc.an
 	return pc
 }
 
@@ -131,14 +124,14 @@ func (pc *portCtx) summaryOf(v []float64, q parse.Quantity) series.Summary {
 }
 
 // lit is v with the dark samples set to NaN: v itself when no sample is dark.
-func (pc *portCtx) lit(v []float64) []float64 {
-	if pc.darkCount == 0 {
+func (d *derived) lit(v []float64) []float64 {
+	if d.darkCount == 0 {
 		return v
 	}
 	out := make([]float64, len(v))
 	for i, x := range v {
 		out[i] = x
-		if pc.dark[i] {
+		if d.dark[i] {
 			out[i] = math.NaN()
 		}
 	}
@@ -332,9 +325,15 @@ func qdBClamped(ber float64) float64 {
 	return math.Max(q, qFloorDB)
 }
 
-// analyseSeries computes the time-series findings of PortAnalysis.
-func (pc *portCtx) analyseSeries() {
-	s, an, r := pc.s, pc.an, pc.r
+// findings is the findings stage: the time-series findings of PortAnalysis (steps, bursts,
+// runs without signal, SOP spikes and their coincidences, trends, the Maxwellian DGD fit),
+// returned as a value from the series, the rules, the column summaries and the derive stage's
+// value; it writes no field of pc (the summaries' scratch buffer aside). The rank correlations
+// are the returned corrMemo's: all of them computed here, or with lazyCorr each on its first
+// request (corrMemo.of); analyzePort puts the memo's list into the analysis at the end.
+func (pc *portCtx) findings(lazyCorr bool) (PortAnalysis, *corrMemo) {
+	var an PortAnalysis
+	s, r := pc.s, pc.r
 	minN := max(r.MinSamplesForTrend, minTrendSamples)
 
 	// Change points in received power (lit samples only: a signal loss is its own cause).
@@ -457,55 +456,81 @@ func (pc *portCtx) analyseSeries() {
 			an.DGDFit = mf
 		}
 	}
-	if !pc.lazyCorr {
+	corr := &corrMemo{s: s, d: &pc.derived, minN: minN}
+	if !lazyCorr {
 		for _, q := range corrQuantities {
-			pc.computeCorrelation(q)
+			corr.of(q)
 		}
 	}
+	return an, corr
 }
 
 // corrQuantities are the quantities pre-FEC BER is rank-correlated with, in the order of
 // PortAnalysis.Correlations when all are computed.
 var corrQuantities = [...]parse.Quantity{parse.DGDps, parse.PDLdB, parse.RxPowerDBm, parse.SOPRateKradPerS}
 
-// computeCorrelation appends to the analysis the Spearman rank correlation of pre-FEC BER (lit
-// samples) with q (lit received power for q = rx power), once per q, when the port has both and
-// at least MinSamplesForTrend (≥ 3) usable pairs. When BER has no gaps its ranks are computed
-// once and reused; a q without gaps is then ranked alone, otherwise the pairs are ranked
-// together (series.Spearman). The value of one correlation does not depend on which others
-// were computed before it.
-func (pc *portCtx) computeCorrelation(q parse.Quantity) {
-	if pc.ber == nil || pc.corrDone&(1<<q) != 0 {
-		return
+// corrMemo holds the Spearman rank correlations of pre-FEC BER (lit samples) with the other
+// quantities of one port (lit received power for rx power), each computed on its first request
+// (of) and kept in list in the order asked. It belongs to the findings value; its inputs (the
+// series and the derive stage's value) are read-only.
+type corrMemo struct {
+	s    *parse.Series
+	d    *derived
+	minN int // fewest usable pairs for a correlation
+
+	done             uint32 // bit q: the correlation with q was computed (or cannot be)
+	init             bool
+	litBER           []float64
+	berRanks, yRanks []float64
+	list             []Correlation
+}
+
+// of is the correlation of pre-FEC BER with q, computed on the first request; nil when the port
+// lacks BER or q, or has fewer than minN usable pairs. When BER has no gaps its ranks are
+// computed once and reused; a q without gaps is then ranked alone, otherwise the pairs are
+// ranked together (series.Spearman). The value of one correlation does not depend on which
+// others were computed before it.
+func (m *corrMemo) of(q parse.Quantity) *Correlation {
+	if m.d.ber != nil && m.done&(1<<q) == 0 {
+		m.done |= 1 << q
+		m.compute(q)
 	}
-	pc.corrDone |= 1 << q
-	s := pc.s
+	for i := range m.list {
+		if m.list[i].B == q.Column() {
+			return &m.list[i]
+		}
+	}
+	return nil
+}
+
+func (m *corrMemo) compute(q parse.Quantity) {
+	s, n := m.s, m.s.Len()
 	if !s.Has(q) {
 		return
 	}
-	if !pc.corrInit {
-		pc.corrInit = true
-		pc.litBER = pc.lit(pc.ber)
+	if !m.init {
+		m.init = true
+		m.litBER = m.d.lit(m.d.ber)
 		// Rank BER once when it has no gaps; pair-wise ranking otherwise.
-		if countFinite(pc.litBER) == pc.n {
-			pc.berRanks = series.Ranks(pc.litBER)
+		if countFinite(m.litBER) == n {
+			m.berRanks = series.Ranks(m.litBER)
 		}
 	}
 	y := s.Values[q]
 	if q == parse.RxPowerDBm {
-		y = pc.litPower
+		y = m.d.litPower
 	}
 	var rho, p float64
-	var n int
-	if pc.berRanks != nil && countFinite(y) == pc.n {
-		pc.yRanks = series.RanksInto(y, pc.yRanks)
-		rho, p = series.RankCorrelation(pc.berRanks, pc.yRanks)
-		n = pc.n
+	var k int
+	if m.berRanks != nil && countFinite(y) == n {
+		m.yRanks = series.RanksInto(y, m.yRanks)
+		rho, p = series.RankCorrelation(m.berRanks, m.yRanks)
+		k = n
 	} else {
-		rho, n, p = series.Spearman(pc.litBER, y)
+		rho, k, p = series.Spearman(m.litBER, y)
 	}
-	if n >= max(pc.r.MinSamplesForTrend, minTrendSamples) && !math.IsNaN(rho) {
-		pc.an.Correlations = append(pc.an.Correlations, Correlation{A: parse.PreFECBER.Column(), B: q.Column(), Rho: rho, N: n, P: p})
+	if k >= m.minN && !math.IsNaN(rho) {
+		m.list = append(m.list, Correlation{A: parse.PreFECBER.Column(), B: q.Column(), Rho: rho, N: k, P: p})
 	}
 }
 
