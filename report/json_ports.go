@@ -5,85 +5,113 @@ import (
 	"bytes"
 	"encoding/json"
 	"io"
-	"runtime"
-	"sync"
 
 	"github.com/beatnote/beatnote/diagnose"
 )
 
 // WriteResultJSON writes res, the result of check or triage, as the JSON object of the design
-// contract: exactly as json.Encoder with SetIndent("", "  ") does, but it encodes
-// the ports — nearly all of the bytes of a fleet triage — on several goroutines. A port at
-// depth 2 of the indented document is json.MarshalIndent(port, "    ", "  ") after four spaces
-// of indentation, so the pieces join into the same bytes (a test compares them). Nothing is
-// written when any part fails to encode, as with the Encoder.
+// contract, byte for byte what json.Encoder with SetIndent("", "  ") writes for it (a test
+// compares them), but streamed: the members in the order of diagnose.Result's fields, and the
+// elements of each list one by one, go through one bounded buffer to w, so the document is
+// never held whole (a fleet's JSON is tens to hundreds of MB). A value at depth d of the
+// indented document is json.MarshalIndent(value, prefix, "  ") with a prefix of 2d spaces,
+// written after that prefix.
+//
+// An element that cannot be encoded (a NaN, say) stops the write with the error; what was
+// written before it stays written, so the output is then not a whole JSON document and the
+// caller must fail.
 func WriteResultJSON(w io.Writer, res *diagnose.Result) error {
-	const small = 64 // below this many ports the plain Encoder is as fast
-	if len(res.Ports) < small {
-		enc := json.NewEncoder(w)
-		enc.SetIndent("", "  ")
-		return enc.Encode(res)
+	jw := jsonStream{bw: bufio.NewWriterSize(w, 64<<10)}
+	jw.bw.WriteString("{\n")
+	jw.member("tool", res.Tool, false)
+	jw.member("version", res.Version, false)
+	writeList(&jw, "inputs", res.Inputs, false)
+	writeList(&jw, "ports", res.Ports, false)
+	writeList(&jw, "rejected", res.Rejected, len(res.Lines) == 0 && len(res.Directions) == 0)
+	if len(res.Lines) > 0 { // omitempty
+		writeList(&jw, "lines", res.Lines, len(res.Directions) == 0)
 	}
-	// The document without ports, then the ports spliced in where "ports": [] stands. The
-	// marker can only be the top-level member: strings never hold a raw newline.
-	shell := *res
-	shell.Ports = []diagnose.PortResult{}
-	var head bytes.Buffer
-	enc := json.NewEncoder(&head)
-	enc.SetIndent("", "  ")
-	if err := enc.Encode(&shell); err != nil {
-		return err
+	if len(res.Directions) > 0 { // omitempty
+		writeList(&jw, "directions", res.Directions, true)
 	}
-	marker := []byte("\n  \"ports\": [],\n")
-	at := bytes.Index(head.Bytes(), marker)
-	if at < 0 {
-		enc := json.NewEncoder(w) // not the layout expected: leave it to the Encoder
-		enc.SetIndent("", "  ")
-		return enc.Encode(res)
+	if jw.err != nil {
+		return jw.err
 	}
-	// One exactly sized piece per port (no buffer doubling: a fleet's JSON is tens of MB).
-	workers := min(runtime.GOMAXPROCS(0), len(res.Ports))
-	parts := make([][]byte, len(res.Ports))
-	errs := make([]error, workers)
-	var wg sync.WaitGroup
-	for k := range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			// An Encoder keeps its indentation buffer from port to port; its output is
-			// json.MarshalIndent's plus a newline.
-			var buf bytes.Buffer
-			enc := json.NewEncoder(&buf)
-			enc.SetIndent("    ", "  ")
-			for i := k; i < len(res.Ports); i += workers {
-				buf.Reset()
-				if err := enc.Encode(&res.Ports[i]); err != nil {
-					errs[k] = err
-					return
-				}
-				parts[i] = bytes.Clone(bytes.TrimSuffix(buf.Bytes(), []byte("\n")))
-			}
-		}()
+	jw.bw.WriteString("}\n")
+	return jw.bw.Flush() // a bufio.Writer keeps its first write error and returns it here
+}
+
+// jsonStream writes the members of the top-level object; the first encoding error is kept and
+// stops the rest.
+type jsonStream struct {
+	bw  *bufio.Writer
+	err error
+	buf bytes.Buffer
+	enc *json.Encoder // indented for depth 2 (a list's elements), reused element to element
+}
+
+// member writes `  "name": value` at depth 1, then "," unless last, then a newline.
+func (j *jsonStream) member(name string, v any, last bool) {
+	if j.err != nil {
+		return
 	}
-	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			return err
+	js, err := json.MarshalIndent(v, "  ", "  ")
+	if err != nil {
+		j.err = err
+		return
+	}
+	j.key(name)
+	j.bw.Write(js)
+	j.end(last)
+}
+
+func (j *jsonStream) key(name string) {
+	j.bw.WriteString(`  "`)
+	j.bw.WriteString(name) // the contract's member names: plain ASCII, nothing to escape
+	j.bw.WriteString(`": `)
+}
+
+func (j *jsonStream) end(last bool) {
+	if !last {
+		j.bw.WriteByte(',')
+	}
+	j.bw.WriteByte('\n')
+}
+
+// writeList writes the member name: list at depth 1, its elements one at a time: null for a
+// nil slice and [] for an empty one, as encoding/json does.
+func writeList[T any](j *jsonStream, name string, list []T, last bool) {
+	if j.err != nil {
+		return
+	}
+	if len(list) == 0 {
+		j.key(name)
+		if list == nil {
+			j.bw.WriteString("null")
+		} else {
+			j.bw.WriteString("[]")
 		}
+		j.end(last)
+		return
 	}
-	out := head.Bytes()
-	bw := bufio.NewWriterSize(w, 256<<10)
-	bw.Write(out[:at])
-	bw.WriteString("\n  \"ports\": [\n")
-	for i, js := range parts {
+	if j.enc == nil {
+		j.enc = json.NewEncoder(&j.buf)
+		j.enc.SetIndent("    ", "  ")
+	}
+	j.key(name)
+	j.bw.WriteString("[\n")
+	for i := range list {
+		j.buf.Reset()
+		if err := j.enc.Encode(&list[i]); err != nil {
+			j.err = err
+			return
+		}
 		if i > 0 {
-			bw.WriteString(",\n")
+			j.bw.WriteString(",\n")
 		}
-		bw.WriteString("    ")
-		bw.Write(js)
-		parts[i] = nil // let it go once written
+		j.bw.WriteString("    ")
+		j.bw.Write(bytes.TrimSuffix(j.buf.Bytes(), []byte("\n"))) // the Encoder ends each value with a newline
 	}
-	bw.WriteString("\n  ],\n")
-	bw.Write(out[at+len(marker):])
-	return bw.Flush() // a bufio.Writer keeps its first error and returns it here
+	j.bw.WriteString("\n  ]")
+	j.end(last)
 }

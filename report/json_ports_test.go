@@ -5,6 +5,9 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"reflect"
+	"slices"
+	"strings"
 	"testing"
 
 	"github.com/beatnote/beatnote/diagnose"
@@ -42,11 +45,26 @@ func manyPorts(n int) *diagnose.Result {
 	return res
 }
 
-// The parallel writer produces the Encoder's bytes exactly, for port counts below, at and
-// above the cut-over and not a multiple of the worker count.
+// The streamed writer produces the Encoder's bytes exactly: with no ports, one and many, with
+// nil and empty lists, and with the optional members present or not.
 func TestWriteResultJSONMatchesEncoder(t *testing.T) {
-	for _, n := range []int{0, 1, 63, 64, 65, 201} {
-		res := manyPorts(n)
+	cases := map[string]*diagnose.Result{}
+	for _, n := range []int{0, 1, 64, 201} {
+		cases[fmt.Sprintf("%d ports", n)] = manyPorts(n)
+	}
+	cases["nil lists"] = &diagnose.Result{Tool: "beatnote"}
+	withLines := manyPorts(3)
+	withLines.Lines = []diagnose.LineResult{{}, {}}
+	cases["lines"] = withLines
+	withDirections := manyPorts(2)
+	withDirections.Directions = []diagnose.DirectionPair{{}}
+	cases["directions"] = withDirections
+	both := manyPorts(5)
+	both.Lines = []diagnose.LineResult{{}}
+	both.Directions = []diagnose.DirectionPair{{}, {}}
+	both.Rejected = nil
+	cases["lines and directions"] = both
+	for name, res := range cases {
 		want, err := encoderJSON(res)
 		if err != nil {
 			t.Fatal(err)
@@ -56,20 +74,37 @@ func TestWriteResultJSONMatchesEncoder(t *testing.T) {
 			t.Fatal(err)
 		}
 		if !bytes.Equal(got.Bytes(), want) {
-			t.Errorf("%d ports: output differs from json.Encoder (%d vs %d bytes)", n, got.Len(), len(want))
+			t.Errorf("%s: output differs from json.Encoder (%d vs %d bytes)", name, got.Len(), len(want))
 		}
 	}
 }
 
-// A value JSON cannot hold fails the write, as with the Encoder, and writes nothing.
-func TestWriteResultJSONError(t *testing.T) {
-	res := manyPorts(100)
-	res.Ports[77].Metrics["bad"] = diagnose.Metric{Min: math.NaN()}
-	if _, err := encoderJSON(res); err == nil {
-		t.Fatal("the Encoder accepted NaN")
+// The writer names each member of diagnose.Result itself: a member added to the type must be
+// added to the writer (and to the cases above).
+func TestWriteResultJSONKnowsEveryMember(t *testing.T) {
+	written := []string{"tool", "version", "inputs", "ports", "rejected", "lines", "directions"}
+	typ := reflect.TypeFor[diagnose.Result]()
+	var names []string
+	for i := range typ.NumField() {
+		names = append(names, strings.Split(typ.Field(i).Tag.Get("json"), ",")[0])
 	}
-	var got bytes.Buffer
-	if err := WriteResultJSON(&got, res); err == nil || got.Len() != 0 {
-		t.Fatalf("err %v, %d bytes written", err, got.Len())
+	if !slices.Equal(names, written) {
+		t.Errorf("diagnose.Result's members are %v, the writer writes %v", names, written)
+	}
+}
+
+// A value JSON cannot hold fails the write, as with the Encoder; what reached the writer before
+// it is not a whole JSON document, for a small result (nothing past the buffer) and a large one.
+func TestWriteResultJSONError(t *testing.T) {
+	for _, n := range []int{100, 2000} {
+		res := manyPorts(n)
+		res.Ports[n*3/4].Metrics["bad"] = diagnose.Metric{Min: math.NaN()}
+		if _, err := encoderJSON(res); err == nil {
+			t.Fatal("the Encoder accepted NaN")
+		}
+		var got bytes.Buffer
+		if err := WriteResultJSON(&got, res); err == nil || json.Valid(got.Bytes()) {
+			t.Fatalf("%d ports: err %v, %d bytes written, valid JSON %v", n, err, got.Len(), json.Valid(got.Bytes()))
+		}
 	}
 }
