@@ -10,9 +10,9 @@ import (
 // stepping).
 
 // loOffset: carrier offset near the capture range, or drifting to reach it within the horizon.
-func (pc *portCtx) loOffset() *score {
+func (pc *portCtx) loOffset(nj *notes) *score {
 	s := &score{id: CauseLOOffset}
-	if !pc.present(CauseLOOffset, parse.LOOffsetMHz) {
+	if !pc.present(nj, CauseLOOffset, parse.LOOffsetMHz) {
 		return nil
 	}
 	rng, r := pc.prof.LOOffsetRangeMHz, pc.r

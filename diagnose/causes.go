@@ -111,22 +111,23 @@ func (s *score) supported() bool {
 // evidence runs every column test (the stage between the criteria and the posterior): the
 // scores of the causes that can be judged on this port, with the breached criteria made
 // evidence for the causes that own them (forced: those causes are listed whatever their
-// posterior) and the measured facts that exonerate a cause.
-func (pc *portCtx) evidence(criteria []Criterion, owners []CauseID) (scores map[CauseID]*score, forced map[CauseID]bool) {
+// posterior) and the measured facts that exonerate a cause; nj is what the tests could not
+// judge (a missing column, no plan, telemetry gaps, a loss of lock), in the order of the tests.
+func (pc *portCtx) evidence(criteria []Criterion, owners []CauseID) (scores map[CauseID]*score, forced map[CauseID]bool, nj notes) {
 	scores = map[CauseID]*score{}
 	for _, s := range []*score{
-		pc.signalLoss(),
-		pc.rxPowerLow(),
+		pc.signalLoss(&nj),
+		pc.rxPowerLow(&nj),
 		pc.rxOverload(),
-		pc.cdMismatch(),
-		pc.cdOverLimit(),
-		pc.pmd(),
-		pc.sopTransient(),
-		pc.pdlHigh(),
-		pc.loOffset(),
+		pc.cdMismatch(&nj),
+		pc.cdOverLimit(&nj),
+		pc.pmd(&nj),
+		pc.sopTransient(&nj),
+		pc.pdlHigh(&nj),
+		pc.loOffset(&nj),
 		pc.osnrLow(),
-		pc.nonlinear(),
-		pc.txPower(),
+		pc.nonlinear(&nj),
+		pc.txPower(&nj),
 		pc.frequencyMismatch(),
 		pc.filtering(),
 		pc.transceiver(),
@@ -137,7 +138,7 @@ func (pc *portCtx) evidence(criteria []Criterion, owners []CauseID) (scores map[
 	}
 	forced = ownedBreaches(criteria, owners, scores)
 	pc.exonerate(scores)
-	return scores, forced
+	return scores, forced, nj
 }
 
 func round3(x float64) float64 { return math.Round(x*1000) / 1000 }
@@ -171,13 +172,13 @@ func ownedBreaches(criteria []Criterion, owners []CauseID, scores map[CauseID]*s
 
 func (pc *portCtx) has(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
 
-// present reports whether the log has q for the cause's test; when it has not, it notes that the
-// cause is not judged for want of q.
-func (pc *portCtx) present(cause CauseID, q parse.Quantity) bool {
+// present reports whether the log has q for the cause's test; when it has not, it adds to nj
+// that the cause is not judged for want of q.
+func (pc *portCtx) present(nj *notes, cause CauseID, q parse.Quantity) bool {
 	if pc.has(q) {
 		return true
 	}
-	pc.notJudged("%s: no %s in the log", cause, q.Column())
+	nj.add("%s: no %s in the log", cause, q.Column())
 	return false
 }
 

@@ -11,13 +11,13 @@ import (
 // cd-over-limit (CD beyond the module's compensation range).
 
 // cdMismatch: measured CD disagrees with the plan; the implied route length says by how much.
-func (pc *portCtx) cdMismatch() *score {
+func (pc *portCtx) cdMismatch(nj *notes) *score {
 	s := &score{id: CauseCDMismatch}
 	if pc.exp == nil {
-		pc.notJudged("%s: no link plan, so there is no expected CD to compare with", CauseCDMismatch)
+		nj.add("%s: no link plan, so there is no expected CD to compare with", CauseCDMismatch)
 		return nil
 	}
-	if !pc.present(CauseCDMismatch, parse.CDpsPerNm) {
+	if !pc.present(nj, CauseCDMismatch, parse.CDpsPerNm) {
 		return nil
 	}
 	// Magnitudes are compared: DSPs differ in the sign they report CD with.
@@ -51,9 +51,9 @@ func (pc *portCtx) cdMismatch() *score {
 }
 
 // cdOverLimit: |CD| beyond the module's compensation range.
-func (pc *portCtx) cdOverLimit() *score {
+func (pc *portCtx) cdOverLimit(nj *notes) *score {
 	s := &score{id: CauseCDOverLimit}
-	if !pc.present(CauseCDOverLimit, parse.CDpsPerNm) {
+	if !pc.present(nj, CauseCDOverLimit, parse.CDpsPerNm) {
 		return nil
 	}
 	tol := pc.prof.CDTolerancePsNm

@@ -144,14 +144,16 @@ func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 	// comparison written into the result; then evidence (the column tests, given the
 	// criteria), the posterior over the hypotheses, the listed causes and the next test, each
 	// returned as a value; the SNR budget; risk notes; the verdict from the criteria and the
-	// causes; last the correlations computed on the way. The metrics, the plan comparison and
-	// the "not judged" notes (criteria, telemetry checks, cause tests) still write the result.
+	// causes; last the correlations computed on the way. The criteria and the evidence return
+	// their "not judged" notes with their values. The metrics and the plan comparison still
+	// write the result.
 	pc := newPortCtx(s, prof, plan, exp, r, lazyCorr)
 	pc.metrics()
 	crit := pc.criteria()
 	pc.res.Criteria = crit.rows
 	pc.planVsMeasured()
-	scores, forced := pc.evidence(crit.rows, crit.owners)
+	scores, forced, evNotes := pc.evidence(crit.rows, crit.owners)
+	pc.res.NotJudged = append(crit.notes, evNotes...)
 	o := pc.observe()
 	post, healthy, unexplained := pc.posterior(o, scores)
 	pc.an.Posterior = post

@@ -161,16 +161,21 @@ func (pc *portCtx) source(key string) string {
 	return "profile " + pc.prof.ID
 }
 
-func (pc *portCtx) notJudged(format string, a ...any) {
-	pc.res.NotJudged = append(pc.res.NotJudged, fmt.Sprintf(format, a...))
+// notes are "not judged" notes: what a stage could not judge and why. Each stage that has some
+// returns them as part of its value, and analyzePort puts them into the result in stage order.
+type notes []string
+
+func (n *notes) add(format string, a ...any) {
+	*n = append(*n, fmt.Sprintf(format, a...))
 }
 
 // criteriaTable is the value of the criteria stage: the judged rows and, for each, the cause
 // that owns its physics ("" for the noise-family rows — Q, uncorrected blocks, post-FEC BER —
-// that several causes share).
+// that several causes share), and the quantities it could not judge.
 type criteriaTable struct {
 	rows   []Criterion
 	owners []CauseID
+	notes  notes
 }
 
 // add appends a row judged "higher is better" (margin = measured − limit) or
@@ -210,7 +215,7 @@ func (pc *portCtx) criteria() criteriaTable {
 			Measured: m, Limit: pc.qLimitDB, Margin: m - pc.qLimitDB, Unit: "dB",
 			Source: pc.source("fec_threshold_ber") + fmt.Sprintf("; limit = Q of BER %.3g", p.FECThresholdBER)}, r.QMarginalMarginDB, "")
 	} else {
-		pc.notJudged("Q-factor: the log has neither pre_fec_ber nor q_db")
+		t.notes.add("Q-factor: the log has neither pre_fec_ber nor q_db")
 	}
 	if has(parse.OSNRdB) && pc.reqOSNRdB > 0 {
 		m := pick(pc.sum[parse.OSNRdB], pc.stat.osnr)
@@ -225,7 +230,7 @@ func (pc *portCtx) criteria() criteriaTable {
 		t.add(Criterion{Name: "Received power below the overload limit", Metric: parse.RxPowerDBm.Column(), Statistic: string(pc.stat.rxHigh),
 			Measured: hi, Limit: p.RxPowerMaxDBm, Margin: p.RxPowerMaxDBm - hi, Unit: "dBm", Source: pc.source("rx_power_max_dbm")}, r.RxPowerMarginalBandDB, pc.powerEdgeOwner(CauseRxOverload))
 	} else if !has(parse.RxPowerDBm) {
-		pc.notJudged("received power: the log has no rx_power_dbm")
+		t.notes.add("received power: the log has no rx_power_dbm")
 	}
 	if has(parse.TxPowerDBm) && p.TxPowerMaxDBm > p.TxPowerMinDBm {
 		s := pc.sum[parse.TxPowerDBm]
@@ -236,7 +241,7 @@ func (pc *portCtx) criteria() criteriaTable {
 	}
 	upper := func(name string, q parse.Quantity, sum series.Summary, st rules.Statistic, limit, frac float64, unit, key string, owner CauseID) {
 		if limit <= 0 {
-			pc.notJudged("%s: the profile gives no limit", name)
+			t.notes.add("%s: the profile gives no limit", name)
 			return
 		}
 		m := pick(sum, st)

@@ -148,7 +148,7 @@ func (pc *portCtx) lockLossText(i, n int) string {
 // gapNotes reports telemetry gaps and rows without any reading. They are not evidence of a loss
 // of light: a collector that misses polls leaves the same holes (common practice). A gap next
 // to samples without light is returned as supporting evidence for signal-loss instead.
-func (pc *portCtx) gapNotes() (nearDark string) {
+func (pc *portCtx) gapNotes(nj *notes) (nearDark string) {
 	ts := pc.s.TimesMs
 	empty := 0
 	for i := 0; i < pc.n; i++ {
@@ -161,7 +161,7 @@ func (pc *portCtx) gapNotes() (nearDark string) {
 		}
 	}
 	if empty > 0 {
-		pc.notJudged("telemetry: %d of %d sample times carry no reading at all (missed polls); they are left out, and are not taken as a loss of light", empty, pc.n)
+		nj.add("telemetry: %d of %d sample times carry no reading at all (missed polls); they are left out, and are not taken as a loss of light", empty, pc.n)
 	}
 	if pc.intervalMs <= 0 || pc.n < 3 {
 		return ""
@@ -197,7 +197,7 @@ func (pc *portCtx) gapNotes() (nearDark string) {
 		if !pc.has(parse.RxPowerDBm) {
 			sides = "the log has no received power to tell a loss of light from missed polls; with light present on both sides they are taken as missed polls"
 		}
-		pc.notJudged("telemetry gaps: %s of at least %d sample intervals, %s missing in all (%s of the log; the longest from %s to %s, usual interval %s); %s. The port is not judged inside the gaps",
+		nj.add("telemetry gaps: %s of at least %d sample intervals, %s missing in all (%s of the log; the longest from %s to %s, usual interval %s); %s. The port is not judged inside the gaps",
 			words.Plural(gaps, "gap", "gaps"), gapFactor, dur(missing), pct(float64(missing)/float64(span)), clock(worstFrom), clock(worstTo), dur(pc.intervalMs), sides)
 	}
 	if darkMissing > 0 {

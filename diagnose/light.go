@@ -15,11 +15,11 @@ import (
 // signalLoss: samples without light — power at the loss-of-signal floor, or nothing decoded with
 // the power dropped or unreported. Telemetry gaps and rows without readings are not evidence of
 // it (missed polls leave the same holes); they become notes, or support a loss they border.
-func (pc *portCtx) signalLoss() *score {
+func (pc *portCtx) signalLoss(nj *notes) *score {
 	s := &score{id: CauseSignalLoss}
 	ts := pc.s.TimesMs
 	dk := pc.darkKinds()
-	nearDark := pc.gapNotes()
+	nearDark := pc.gapNotes(nj)
 	if n := len(dk.noLight); n > 0 {
 		var why []string
 		if dk.floor > 0 {
@@ -53,7 +53,7 @@ func (pc *portCtx) signalLoss() *score {
 	}
 	if k := len(dk.lockLost); k > 0 && !pc.lockLossExplained() {
 		i := dk.lockLost[0]
-		pc.notJudged("loss of lock: the receiver decoded nothing (pre-FEC BER ≥ %.2g) in %s, first at %s, while the received power was normal (%.1f dBm): light was present, so this is not a signal loss, and no measured impairment was out of line at those samples (%s). Check the module's alarm log for that time",
+		nj.add("loss of lock: the receiver decoded nothing (pre-FEC BER ≥ %.2g) in %s, first at %s, while the received power was normal (%.1f dBm): light was present, so this is not a signal loss, and no measured impairment was out of line at those samples (%s). Check the module's alarm log for that time",
 			noLockBER, words.Plural(k, "sample", "samples"), clock(ts[i]), pc.s.Values[parse.RxPowerDBm][i], pc.impairmentFigures())
 	}
 	return s
@@ -85,9 +85,9 @@ func (pc *portCtx) lockLossExplained() bool {
 }
 
 // rxPowerLow: lit power below the window or near it, a step loss, below the plan.
-func (pc *portCtx) rxPowerLow() *score {
+func (pc *portCtx) rxPowerLow(nj *notes) *score {
 	s := &score{id: CauseRxPowerLow}
-	if !pc.present(CauseRxPowerLow, parse.RxPowerDBm) {
+	if !pc.present(nj, CauseRxPowerLow, parse.RxPowerDBm) {
 		return nil
 	}
 	p, r := pc.prof, pc.r

@@ -311,11 +311,11 @@ func (pc *portCtx) planLaunchPSD() (psd, limit float64, what string) {
 
 // nonlinear: an eSNR shortfall the plan's NLI can explain, a channel running hotter than the
 // GN-model optimum, or a plan that launches too much power density.
-func (pc *portCtx) nonlinear() *score {
+func (pc *portCtx) nonlinear(nj *notes) *score {
 	s := &score{id: CauseNonlinear}
 	f, w := pc.eSNRShortfall()
 	if !f.ok {
-		pc.notJudged("%s: needs the eSNR (or BER) and an OSNR, reported or from a link plan", CauseNonlinear)
+		nj.add("%s: needs the eSNR (or BER) and an OSNR, reported or from a link plan", CauseNonlinear)
 	}
 	if w > 0 {
 		switch explains, withPlan := f.nliExplains(); {

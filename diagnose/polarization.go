@@ -14,9 +14,9 @@ import (
 // spikes with BER bursts) and pdl-high.
 
 // pmd: DGD near the tolerance, Maxwellian outage, Maxwellian-shaped spread, BER following DGD.
-func (pc *portCtx) pmd() *score {
+func (pc *portCtx) pmd(nj *notes) *score {
 	s := &score{id: CausePMD}
-	if !pc.present(CausePMD, parse.DGDps) {
+	if !pc.present(nj, CausePMD, parse.DGDps) {
 		return nil
 	}
 	p, r := pc.prof, pc.r
@@ -70,10 +70,10 @@ func (pc *portCtx) pmd() *score {
 
 // sopTransient: SOP-rate spikes near or above the tracking speed that coincide with BER bursts
 // or uncorrected blocks.
-func (pc *portCtx) sopTransient() *score {
+func (pc *portCtx) sopTransient(nj *notes) *score {
 	s := &score{id: CauseSOPTransient}
 	an, p, r := pc.an, pc.prof, pc.r
-	if !pc.present(CauseSOPTransient, parse.SOPRateKradPerS) {
+	if !pc.present(nj, CauseSOPTransient, parse.SOPRateKradPerS) {
 		if n := len(an.BERBursts) + len(an.BlockBursts); n > 0 {
 			s.add(llrWeak, "The log shows %d BER or uncorrected-block bursts on an otherwise steady link, the pattern of polarization transients, but has no SOP rate to confirm it.", n)
 		}
@@ -133,9 +133,9 @@ func (pc *portCtx) sopTransient() *score {
 }
 
 // pdlHigh: PDL near or above the tolerance; BER following PDL.
-func (pc *portCtx) pdlHigh() *score {
+func (pc *portCtx) pdlHigh(nj *notes) *score {
 	s := &score{id: CausePDLHigh}
-	if !pc.present(CausePDLHigh, parse.PDLdB) {
+	if !pc.present(nj, CausePDLHigh, parse.PDLdB) {
 		return nil
 	}
 	tol, r := pc.prof.PDLTolerancedB, pc.r

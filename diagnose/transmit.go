@@ -84,9 +84,9 @@ func (pc *portCtx) rxFollowsTx() (ChangePoint, bool) {
 const txRxStepAgreementDB = 1.0
 
 // txPower: the transmitter's output out of range or stepped, the received power following it.
-func (pc *portCtx) txPower() *score {
+func (pc *portCtx) txPower(nj *notes) *score {
 	s := &score{id: CauseTxPower}
-	if !pc.present(CauseTxPower, parse.TxPowerDBm) {
+	if !pc.present(nj, CauseTxPower, parse.TxPowerDBm) {
 		return nil
 	}
 	t := pc.txChange()
