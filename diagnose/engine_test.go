@@ -81,7 +81,7 @@ func TestTransceiverCeilingAndImpliedOSNR(t *testing.T) {
 }
 
 // A log with pre-FEC BER only: Q and eSNR are derived (marked derived). Q of BER 1e-3 is
-// 9.800 dB and the 16QAM Es/N0 at BER 1.791e-3 is 16.000 dB (REFERENCES.md, computed values).
+// 9.800 dB and the 16QAM Es/N0 at BER 1.791e-3 is 16.000 dB (computed independently with Python's math library).
 func TestDerivedMetricsFromBER(t *testing.T) {
 	p, r := testSetup(t, "400g-dp-16qam-cfec")
 	s := newSeries(100, 60_000, map[parse.Quantity]func(int) float64{
@@ -99,7 +99,7 @@ func TestDerivedMetricsFromBER(t *testing.T) {
 		t.Error("esnr_db not marked derived")
 	}
 	near(t, "esnr_db min (BER 1.791e-3)", e.Min, 16.000, 2e-3)
-	// Q limit is the Q of the FEC threshold 1.22e-2: 7.047 dB (REFERENCES.md).
+	// Q limit is the Q of the FEC threshold 1.22e-2: 7.047 dB (computed with Python's math.erfc; OIF-400ZR-01.0 threshold, from memory).
 	near(t, "q_db limit", *q.Limit, 7.047, 2e-3)
 	near(t, "q_db margin (min statistic)", *q.Margin, q.Min-*q.Limit, 1e-12)
 	for _, want := range []CauseID{CausePMD, CausePDLHigh, CauseSOPTransient, CauseLOOffset, CauseCDOverLimit, CauseCDMismatch} {
@@ -236,7 +236,7 @@ func TestSOPCoincidence(t *testing.T) {
 
 // Maxwellian DGD with a mean of 12 ps against the 28 ps tolerance of the 400ZR class, BER
 // rising with DGD: pmd. The outage probability reported is the Maxwellian tail at the fitted
-// mean (REFERENCES.md: P(τ > 2.5·mean) = 1.180e-3 — checked here at mean 11.2 ps exactly).
+// mean (Karlsson 2001 Maxwellian tail, computed with Python's math.erfc: P(τ > 2.5·mean) = 1.180e-3 — checked here at mean 11.2 ps exactly).
 func TestPMD(t *testing.T) {
 	p, r := testSetup(t, "400g-dp-16qam-cfec")
 	rng := rand.New(rand.NewPCG(7, 7))

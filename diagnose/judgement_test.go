@@ -30,7 +30,7 @@ func hasCause(p PortResult, id CauseID) bool {
 }
 
 // A marginal or failing verdict always names a cause when a criterion says which physics is at
-// fault (issue 4 follow-up). Mean DGD 7.5 ps on the 400ZR class: the Maxwellian ratio of the DGD
+// fault. Mean DGD 7.5 ps on the 400ZR class: the Maxwellian ratio of the DGD
 // exceeded with probability 4.2e-5 to the mean is 3.000 (bisection on the Maxwellian tail
 // P(τ > x) = erfc(x/(a√2)) + √(2/π)(x/a)e^(−x²/2a²), a = mean·√(π/8), M. Karlsson, JLT 19(3),
 // 2001; computed with Python's math library), so the mean-DGD limit is 28/3.000 = 9.333 ps and

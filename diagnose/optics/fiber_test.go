@@ -8,7 +8,7 @@ import (
 func TestG652UpperBound(t *testing.T) {
 	// D(λ) = S0/4·(λ − λ0⁴/λ³) at the ITU-T G.652.D bound λ0 = 1300 nm, S0 = 0.092 ps/(nm²·km)
 	// (G.652 11/2016, from memory); values computed with Python from that closed form
-	// (REFERENCES.md). Tolerance 1e-3 ps/(nm·km).
+	// (computed with Python from the ITU-T G.652 formula). Tolerance 1e-3 ps/(nm·km).
 	cases := []struct{ nm, d float64 }{
 		{1530, 16.849}, {1550, 18.010}, {1565, 18.857}, {1625, 22.066},
 	}

@@ -7,7 +7,7 @@ import (
 
 func TestGridConversions(t *testing.T) {
 	// ITU-T G.694.1 grid anchored at 193.1 THz; λ = c/f with c = 299 792 458 m/s. Wavelengths
-	// computed with Python (299792458/f), REFERENCES.md; tolerance 1e-3 nm.
+	// computed with Python (299792458/f); tolerance 1e-3 nm.
 	cases := []struct{ thz, nm float64 }{
 		{196.1, 1528.773}, {193.1, 1552.524}, {193.10625, 1552.474}, {191.3, 1567.133},
 	}

@@ -8,7 +8,7 @@ import (
 func TestOSNRFromSNR(t *testing.T) {
 	// OSNR = p·Rs/(2·Bref)·SNR, Bref = 12.5 GHz (Essiambre et al., J. Lightwave Technol. 28(4),
 	// 2010; exact form from memory). Offsets for p = 2 computed with Python 10*log10(Rs/12.5):
-	// REFERENCES.md. Tolerance 1e-3 dB.
+	// computed with Python's math library. Tolerance 1e-3 dB.
 	cases := []struct{ baud, off float64 }{
 		{32, 4.082}, {59.84375, 6.801}, {63.139, 7.034}, {118.2, 9.757},
 	}
@@ -33,7 +33,7 @@ func TestOSNRFromSNR(t *testing.T) {
 }
 
 func TestRequiredOSNR400ZRExample(t *testing.T) {
-	// REFERENCES.md: a 400ZR-class link (59.84375 GBd DP-16QAM, from memory) at BER 1.22e-2 needs
+	// Worked example computed with Python: a 400ZR-class link (59.84375 GBd DP-16QAM, from memory) at BER 1.22e-2 needs
 	// 13.589 + 6.801 = 20.39 dB OSNR in theory; against the 26 dB specification (secondary source)
 	// that leaves about 5.6 dB.
 	got := RequiredOSNRdB(DP16QAM, 59.84375, 2, 1.22e-2, 0)
@@ -49,7 +49,7 @@ func TestRequiredOSNR400ZRExample(t *testing.T) {
 }
 
 func TestQMargin(t *testing.T) {
-	// REFERENCES.md computed values: Q_dB(1e-3) = 9.800, Q_dB(3.8e-3) = 8.528 → margin 1.272 dB.
+	// Computed with Python's math.erfc: Q_dB(1e-3) = 9.800, Q_dB(3.8e-3) = 8.528 → margin 1.272 dB.
 	if m := QMarginDB(1e-3, 3.8e-3); !near(m, 9.800-8.528, 2e-3) {
 		t.Errorf("QMarginDB = %.4f, want 1.272", m)
 	}

@@ -10,7 +10,7 @@ import (
 
 func TestMaxwellTail(t *testing.T) {
 	// P(τ > k·mean) = erfc(u/√2) + √(2/π)·u·exp(−u²/2), u = x/a (Karlsson, J. Lightwave Technol.
-	// 19(3), 2001); values computed with Python's math.erfc (REFERENCES.md). Relative 1e-3.
+	// 19(3), 2001); values computed with Python's math.erfc. Relative 1e-3.
 	cases := []struct{ k, p float64 }{
 		{2, 1.705e-2}, {2.5, 1.180e-3}, {3, 4.200e-5}, {3.5, 7.736e-7}, {4, 7.411e-9},
 	}
@@ -27,7 +27,7 @@ func TestMaxwellTail(t *testing.T) {
 	if p := MaxwellExceedProbability(15, 5); !(p > 4.1e-5 && p < 4.3e-5) {
 		t.Errorf("P(>3×mean) = %g", p)
 	}
-	// REFERENCES.md: a 28 ps limit on a 10 ps mean is exceeded with probability 1.7e-4.
+	// Computed with Python's math.erfc (Karlsson 2001 tail): a 28 ps limit on a 10 ps mean is exceeded with probability 1.7e-4.
 	if p := MaxwellExceedProbability(28, 10); !relNear(p, 1.7e-4, 0.03) {
 		t.Errorf("P(>28 ps | 10 ps) = %g, want 1.7e-4", p)
 	}
@@ -35,7 +35,7 @@ func TestMaxwellTail(t *testing.T) {
 
 func TestMaxwellQuantile(t *testing.T) {
 	// Max/mean ratio for a given exceedance probability (Python bisection on the tail formula,
-	// REFERENCES.md). Tolerance 1e-3.
+	// computed with Python's math library). Tolerance 1e-3.
 	cases := []struct{ p, ratio float64 }{
 		{1e-3, 2.527}, {1e-4, 2.879}, {1e-5, 3.189}, {1e-6, 3.470}, {1e-9, 4.196},
 	}
@@ -55,7 +55,7 @@ func TestMaxwellQuantile(t *testing.T) {
 }
 
 func TestMaxwellPDFIntegrates(t *testing.T) {
-	// ∫f = 1, ∫τ·f = mean and ∫τ²·f = mean²·3π/8 (rms/mean = √(3π/8) = 1.085, REFERENCES.md),
+	// ∫f = 1, ∫τ·f = mean and ∫τ²·f = mean²·3π/8 (rms/mean = √(3π/8) = 1.085, Karlsson 2001),
 	// integrated with gonum's Gauss–Legendre quadrature over 0…12·mean (the tail beyond is
 	// below 1e-30).
 	const mean = 7.5

@@ -48,7 +48,7 @@ func TestReproducesCommittedFiles(t *testing.T) {
 }
 
 // TestPlansLoad: every plan and the port map load with the rules package's loaders, and the
-// manifest names files that exist; the logs stay under 2 MB in all (issue 2).
+// manifest names files that exist; the logs stay under 2 MB in all.
 func TestPlansLoad(t *testing.T) {
 	profs, err := rules.BuiltinProfiles()
 	if err != nil {

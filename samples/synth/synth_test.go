@@ -13,7 +13,7 @@ import (
 	"github.com/beatnote/beatnote/rules"
 )
 
-// seeds is the number of generator seeds every property is checked on (issue 4 asks for ≥ 20).
+// seeds is the number of generator seeds every property is checked on (at least 20).
 const seeds = 20
 
 var severities = []float64{0, 0.25, 0.5, 0.75, 1}
@@ -147,7 +147,7 @@ func absAll(v []float64) []float64 {
 }
 
 // TestBERFollowsESNR checks the BER against the reported eSNR with the nearest-neighbour 16QAM
-// form Pb ≈ (3/8)·erfc(√(Es/N0/10)) (Proakis, square M-QAM with M = 16; REFERENCES.md), an
+// form Pb ≈ (3/8)·erfc(√(Es/N0/10)) (Proakis, square M-QAM with M = 16), an
 // expression independent of the exact form synth uses, so a tolerance of a factor 1.5 covers the
 // approximation and the 0.1 dB eSNR estimator noise.
 func TestBERFollowsESNR(t *testing.T) {
