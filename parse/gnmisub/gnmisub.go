@@ -185,7 +185,9 @@ func Follow(ctx context.Context, conn *grpc.ClientConn, o Options, onSample func
 		case r := <-ch:
 			if r.err != nil {
 				ferr := flush()
-				if errors.Is(r.err, io.EOF) || status.Code(r.err) == codes.Canceled && ctx.Err() != nil {
+				// Our own context ending (Ctrl-C, or the --for deadline) is a stop, not a failure,
+				// whichever status the stream ends with (Canceled or DeadlineExceeded).
+				if errors.Is(r.err, io.EOF) || ctx.Err() != nil {
 					return ferr
 				}
 				return errors.Join(sessionError(o.Target, r.err), ferr)
