@@ -145,13 +145,12 @@ func analyzePort(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opt
 	// criteria), the posterior over the hypotheses, the listed causes and the next test, each
 	// returned as a value; the SNR budget; risk notes; the verdict from the criteria and the
 	// causes; last the correlations computed on the way. The criteria and the evidence return
-	// their "not judged" notes with their values. The metrics and the plan comparison still
-	// write the result.
+	// their "not judged" notes with their values.
 	pc := newPortCtx(s, prof, plan, exp, r, lazyCorr)
-	pc.metrics()
+	pc.res.Metrics = pc.metrics()
 	crit := pc.criteria()
 	pc.res.Criteria = crit.rows
-	pc.planVsMeasured()
+	pc.res.PlanVsMeasured = pc.planVsMeasured()
 	scores, forced, evNotes := pc.evidence(crit.rows, crit.owners)
 	pc.res.NotJudged = append(crit.notes, evNotes...)
 	o := pc.observe()

@@ -48,18 +48,19 @@ func ptr(x float64) *float64 {
 	return &x
 }
 
-func (pc *portCtx) metric(key, unit string, s series.Summary, derived bool, limit, margin float64) {
+// putMetric sets m[key] to the summary s with its limit and margin; nothing when s is empty.
+func putMetric(m map[string]Metric, key, unit string, s series.Summary, derived bool, limit, margin float64) {
 	if s.N == 0 {
 		return
 	}
-	pc.res.Metrics[key] = Metric{Min: s.Min, P50: s.P50, P99: s.P99, Max: s.Max,
+	m[key] = Metric{Min: s.Min, P50: s.P50, P99: s.P99, Max: s.Max,
 		Limit: ptr(limit), Margin: ptr(margin), Unit: unit, Derived: derived}
 }
 
 // metrics summarises every quantity the port has, measured or derived, with limit and margin
 // where a limit applies (margin positive inside the limit).
-func (pc *portCtx) metrics() {
-	p := pc.prof
+func (pc *portCtx) metrics() map[string]Metric {
+	m, p := map[string]Metric{}, pc.prof
 	nan := math.NaN()
 	for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
 		s, ok := pc.sum[q]
@@ -110,21 +111,22 @@ func (pc *portCtx) metrics() {
 		if limit == 0 && q != parse.UncorrectedBlocks && q != parse.RxPowerDBm && q != parse.TxPowerDBm {
 			limit, margin = nan, nan // the profile does not give this limit (a 0 dBm power edge is a real limit)
 		}
-		pc.metric(q.Column(), q.Unit(), s, false, limit, margin)
+		putMetric(m, q.Column(), q.Unit(), s, false, limit, margin)
 	}
 	if pc.berDerived {
 		s := pc.summarize(pc.ber)
 		pc.widenDerived(&s, false)
-		pc.metric(parse.PreFECBER.Column(), "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, pc.stat.q))
+		putMetric(m, parse.PreFECBER.Column(), "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, pc.stat.q))
 	}
 	if pc.qDerived {
 		s := pc.qSummary()
-		pc.metric(parse.QdB.Column(), "dB", s, true, pc.qLimitDB, pick(s, pc.stat.q)-pc.qLimitDB)
+		putMetric(m, parse.QdB.Column(), "dB", s, true, pc.qLimitDB, pick(s, pc.stat.q)-pc.qLimitDB)
 	}
 	if pc.esnrDerived {
 		s := pc.summarize(pc.esnr)
-		pc.metric(parse.ESNRdB.Column(), "dB", s, true, pc.snrThDB, pick(s, pc.stat.q)-pc.snrThDB)
+		putMetric(m, parse.ESNRdB.Column(), "dB", s, true, pc.snrThDB, pick(s, pc.stat.q)-pc.snrThDB)
 	}
+	return m
 }
 
 // qSummary is the summary of the Q series (measured or derived) over the samples with signal,
@@ -339,16 +341,16 @@ const (
 	PlanImpliedOSNRdB = "osnr_implied_db" // OSNR implied by the median eSNR
 )
 
-func (pc *portCtx) planVsMeasured() {
+func (pc *portCtx) planVsMeasured() (rows []PlanComparison) {
 	if pc.plan == nil || pc.exp == nil {
-		return
+		return nil
 	}
 	e := pc.exp
 	add := func(q string, exp, meas float64, unit, note string) {
 		if !finite(exp) || !finite(meas) {
 			return
 		}
-		pc.res.PlanVsMeasured = append(pc.res.PlanVsMeasured, PlanComparison{Quantity: q, Expected: exp, Measured: meas, Unit: unit, Note: note})
+		rows = append(rows, PlanComparison{Quantity: q, Expected: exp, Measured: meas, Unit: unit, Note: note})
 	}
 	if s, ok := pc.sum[parse.CDpsPerNm]; ok {
 		note := "median of the DSP estimate"
@@ -389,6 +391,7 @@ func (pc *portCtx) planVsMeasured() {
 	if s, ok := pc.sum[parse.TxPowerDBm]; ok && pc.plan.TxPowerDBm != 0 {
 		add(parse.TxPowerDBm.Column(), pc.plan.TxPowerDBm, s.P50, "dBm", "")
 	}
+	return rows
 }
 
 // esnrP50 is the median eSNR of lit samples (measured or BER-implied); NaN when unknown.

@@ -78,7 +78,7 @@ func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opti
 	pc := &portCtx{s: s, prof: prof, plan: plan, exp: exp, r: r, n: s.Len()}
 	pc.res = &PortResult{
 		Port: s.Port, Profile: prof.ID, Samples: s.Len(),
-		Causes: []Cause{}, Metrics: map[string]Metric{},
+		Causes: []Cause{},
 	}
 	if plan != nil {
 		pc.res.Circuit = plan.Circuit
