@@ -54,6 +54,10 @@ type testTarget struct {
 	faultSent time.Time
 	setCalls  atomic.Int32
 	getCalls  atomic.Int32
+	// sawDeadline is set when a Subscribe call arrived with a deadline: watch must send none,
+	// or the target may end the stream DeadlineExceeded just before watch's own --for timer
+	// fires, and a planned stop reads as a failed session.
+	sawDeadline atomic.Bool
 }
 
 func (tt *testTarget) Set(_ context.Context, _ *gpb.SetRequest) (*gpb.SetResponse, error) {
@@ -62,6 +66,9 @@ func (tt *testTarget) Set(_ context.Context, _ *gpb.SetRequest) (*gpb.SetRespons
 }
 
 func (tt *testTarget) Subscribe(stream gpb.GNMI_SubscribeServer) error {
+	if _, ok := stream.Context().Deadline(); ok {
+		tt.sawDeadline.Store(true)
+	}
 	md, _ := metadata.FromIncomingContext(stream.Context())
 	if first(md["username"]) != tt.user || first(md["password"]) != tt.pass {
 		return status.Error(codes.Unauthenticated, "bad user name or password")
@@ -427,6 +434,9 @@ func TestWatchStoppedMidStreamLeavesCompleteRecording(t *testing.T) {
 		"--profile", "400g-dp-16qam-cfec", "--soak", "15m", "--for", "3s")
 	if code == 2 {
 		t.Fatalf("exit 2 after a stop: %s", errw)
+	}
+	if tt.sawDeadline.Load() {
+		t.Fatal("watch --for sent its deadline to the target (the target may then end the stream first, and the stop reads as a failure)")
 	}
 	raw, err := os.ReadFile(rec)
 	if err != nil || !bytes.HasSuffix(raw, []byte("\n")) {

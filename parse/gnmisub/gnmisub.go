@@ -122,14 +122,20 @@ func Follow(ctx context.Context, conn *grpc.ClientConn, o Options, onSample func
 	if o.Interval <= 0 {
 		o.Interval = 10 * time.Second
 	}
-	ctx, cancel := context.WithCancel(ctx)
+	// The stream gets a context without the caller's deadline, cancelled once the caller's
+	// context ends: with the deadline, gRPC sends it to the target, which may end the stream
+	// (DeadlineExceeded) a moment before the caller's own timer fires, and a stop by --for
+	// would read as a failed session. So the stream only ever ends by our cancel, after
+	// ctx.Err() is set.
+	sctx, cancel := context.WithCancel(context.WithoutCancel(ctx))
 	defer cancel()
+	defer context.AfterFunc(ctx, cancel)()
 	sl := &gpb.SubscriptionList{Mode: gpb.SubscriptionList_STREAM, Encoding: gpb.Encoding_JSON_IETF}
 	for _, p := range Paths {
 		sl.Subscription = append(sl.Subscription, &gpb.Subscription{Path: StringPath(p), Mode: gpb.SubscriptionMode_SAMPLE,
 			SampleInterval: uint64(o.Interval.Nanoseconds())})
 	}
-	stream, err := gpb.NewGNMIClient(conn).Subscribe(ctx)
+	stream, err := gpb.NewGNMIClient(conn).Subscribe(sctx)
 	if err != nil {
 		return sessionError(o.Target, err)
 	}
@@ -149,7 +155,7 @@ func Follow(ctx context.Context, conn *grpc.ClientConn, o Options, onSample func
 			r, err := stream.Recv()
 			select {
 			case ch <- recv{r, err}:
-			case <-ctx.Done():
+			case <-sctx.Done():
 				return
 			}
 			if err != nil {
