@@ -10,7 +10,8 @@ import (
 // that chart them. It is not part of the JSON contract (PortResult.Analysis is tagged json:"-").
 // Times are Unix milliseconds, UTC. Fields are nil or empty when the port lacks the quantity.
 type PortAnalysis struct {
-	// Series is the port's telemetry as analysed (shared with the Dataset: do not modify).
+	// Series is the port's telemetry as analysed (shared with the Dataset: do not modify; its
+	// columns may be in parse's compact store: see parse.Series.Decoded).
 	Series *parse.Series
 	// Profile is the module profile the port was judged against.
 	Profile rules.Profile

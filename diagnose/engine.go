@@ -98,10 +98,16 @@ func Analyze(ds *parse.Dataset, cfg Config) (*Result, error) {
 			defer wg.Done()
 			for i := range next {
 				st := setups[i]
-				res.Ports[i] = analyzePort(ds.Series[i], st.Profile, st.Plan, expects[st.Plan], cfg.Rules, cfg.CorrelationsOnDemand)
+				// The port's columns are decoded for its judging only; the result points at
+				// the stored series (see parse.Series.Decoded).
+				s := ds.Series[i].Decoded()
+				res.Ports[i] = analyzePort(s, st.Profile, st.Plan, expects[st.Plan], cfg.Rules, cfg.CorrelationsOnDemand)
 				res.Ports[i].ProfileSource, res.Ports[i].Line, res.Ports[i].Peer, res.Ports[i].Module = st.ProfileSource, st.Line, st.Peer, st.Module
 				if cfg.Acceptance != nil {
-					judgeAcceptance(&res.Ports[i], ds.Series[i], st, cfg.Rules, *cfg.Acceptance)
+					judgeAcceptance(&res.Ports[i], s, st, cfg.Rules, *cfg.Acceptance)
+				}
+				if an := res.Ports[i].Analysis; an != nil {
+					an.Series = ds.Series[i]
 				}
 			}
 		}()

@@ -219,7 +219,8 @@ func attachBins(series []*Series, files []*binRows) {
 			}
 			return c[q]
 		}
-		inferred := dseries.MedianStepMs(s.TimesMs)
+		times := s.Decoded().TimesMs
+		inferred := dseries.MedianStepMs(times)
 		if inferred > maxBinMs {
 			inferred = 0 // no bin is that long: unknown
 		}
@@ -228,10 +229,10 @@ func attachBins(series []*Series, files []*binRows) {
 			if j+1 < len(rows) && rows[j+1].t == r.t {
 				continue // a later row of the same time wins
 			}
-			for k < n && s.TimesMs[k] < r.t {
+			for k < n && times[k] < r.t {
 				k++
 			}
-			if k == n || s.TimesMs[k] != r.t {
+			if k == n || times[k] != r.t {
 				continue
 			}
 			br := files[r.f]

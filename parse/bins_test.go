@@ -68,7 +68,7 @@ func TestPMBins15Min(t *testing.T) {
 	if in := ds.Inputs[0]; in.RowsUsed != 3 || in.RowsRejected != 1 || !strings.Contains(ds.Rejected[0].Reason, "bin length") {
 		t.Fatalf("inputs %+v rejected %+v", in, ds.Rejected)
 	}
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	b := s.Bins
 	if b == nil {
 		t.Fatal("no bins")
@@ -113,7 +113,7 @@ func TestPMBinsInferredAndMerged(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	for _, l := range s.Bins.LengthMs {
 		if l != 86400000 {
 			t.Fatalf("bin lengths %v, want 24 h from the spacing", s.Bins.LengthMs)
@@ -135,7 +135,7 @@ func TestPMBinsInferredAndMerged(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	s = ds.Series[0]
+	s = ds.Series[0].Decoded()
 	if s.Len() != 3 || s.Values[QdB][2] != 9.9 || s.Bins.Low[QdB][2] != 8.5 || !math.IsNaN(s.Bins.Low[QdB][1]) || s.Bins.LengthMs[1] != 0 {
 		t.Errorf("times %v values %v low %v lengths %v", s.TimesMs, s.Values[QdB], s.Bins.Low[QdB], s.Bins.LengthMs)
 	}
@@ -154,7 +154,7 @@ func TestPMBinErrors(t *testing.T) {
 	if len(ds.Rejected) != 1 || ds.Rejected[0].Line != 2 || !strings.Contains(ds.Rejected[0].Reason, "outside 0…0.5") {
 		t.Errorf("rejected %+v", ds.Rejected)
 	}
-	if s := ds.Series[0]; s.Len() != 1 || s.Bins.Low[PreFECBER][0] != 1e-4 {
+	if s := ds.Series[0].Decoded(); s.Len() != 1 || s.Bins.Low[PreFECBER][0] != 1e-4 {
 		t.Errorf("series %+v bins %+v", s, s.Bins)
 	}
 }
@@ -189,7 +189,7 @@ func TestPMBinsExportRoundTrip(t *testing.T) {
 		return true
 	}
 	for i, s := range ds.Series {
-		b := back.Series[i]
+		b := back.Series[i].Decoded()
 		if (s.Bins == nil) != (b.Bins == nil) {
 			t.Fatalf("port %s: bins %v, read back %v", s.Port, s.Bins, b.Bins)
 		}

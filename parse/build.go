@@ -8,100 +8,10 @@ import (
 	"sync/atomic"
 )
 
-// colBuf is a column of values growing in segments, so that appending never copies what is
-// already stored; flatten makes the one contiguous slice at the end. Segments start small (a
-// port with few rows costs little) and grow to maxSeg values.
-type colBuf struct {
-	segs [][]float64
-	n    int
-	hint int // expected length: the size of the first segment when > 0
-}
-
-func (c *colBuf) newSeg(k int) []float64 { return make([]float64, 0, c.segSize(k)) }
-
-// segSize is the capacity of segment number k.
-func (c *colBuf) segSize(k int) int {
-	if k == 0 && c.hint > 0 {
-		return c.hint
-	}
-	size := maxSeg
-	if k < 10 {
-		size = min(minSeg<<k, maxSeg)
-	}
-	return max(size, c.hint/8)
-}
-
-const (
-	minSeg = 16
-	maxSeg = 8192
-)
-
-func (c *colBuf) push(v float64) {
-	k := len(c.segs)
-	if k == 0 || len(c.segs[k-1]) == cap(c.segs[k-1]) {
-		c.segs = append(c.segs, c.newSeg(k))
-		k++
-	}
-	c.segs[k-1] = append(c.segs[k-1], v)
-	c.n++
-}
-
-// pushSlice appends vs, filling the last segment and adding segments as needed.
-func (c *colBuf) pushSlice(vs []float64) {
-	for len(vs) > 0 {
-		k := len(c.segs)
-		if k == 0 || len(c.segs[k-1]) == cap(c.segs[k-1]) {
-			c.segs = append(c.segs, c.newSeg(k))
-			k++
-		}
-		last := c.segs[k-1]
-		m := min(cap(last)-len(last), len(vs))
-		c.segs[k-1] = append(last, vs[:m]...)
-		c.n += m
-		vs = vs[m:]
-	}
-}
-
-func (c *colBuf) pushNaN(n int) {
-	nan := math.NaN()
-	for range n {
-		c.push(nan)
-	}
-}
-
-// set overwrites value number i, looking from the newest segment (a repeat is usually recent).
-func (c *colBuf) set(i int, v float64) {
-	end := c.n
-	for k := len(c.segs) - 1; k >= 0; k-- {
-		start := end - len(c.segs[k])
-		if i >= start {
-			c.segs[k][i-start] = v
-			return
-		}
-		end = start
-	}
-}
-
-// flatten returns the values as one slice and empties c.
-func (c *colBuf) flatten() []float64 {
-	if len(c.segs) == 1 {
-		out := c.segs[0]
-		c.segs, c.n = nil, 0
-		return out
-	}
-	out := make([]float64, 0, c.n)
-	for i, sg := range c.segs {
-		out = append(out, sg...)
-		c.segs[i] = nil // let the segment go as soon as it is copied
-	}
-	c.segs, c.n = nil, 0
-	return out
-}
-
 // portBuf collects one port's rows in arrival order before sorting.
 type portBuf struct {
 	name     string
-	times    []int64
+	times    timeCol
 	vals     [NumQuantities]*colBuf // nil until the port has a column for q
 	mask     uint32                 // bit q set when vals[q] != nil
 	hint     int                    // expected row count, 0 when unknown
@@ -122,7 +32,7 @@ type fileRun struct {
 }
 
 func (p *portBuf) noteTime(t int64) {
-	if len(p.times) > 0 {
+	if p.times.n > 0 {
 		if t < p.last {
 			p.unsorted = true
 		} else if t == p.last {
@@ -137,11 +47,8 @@ func (p *portBuf) ensure(q Quantity) {
 	if p.mask&(1<<q) != 0 {
 		return
 	}
-	col := &colBuf{hint: p.hint}
-	nan := math.NaN()
-	for range len(p.times) {
-		col.push(nan)
-	}
+	col := newColBuf(p.hint)
+	col.pushNaN(p.times.n)
 	p.vals[q] = col
 	p.mask |= 1 << q
 }
@@ -166,7 +73,7 @@ func (p *portBuf) replaceRow(i int, qs []Quantity, vals []float64, qmask uint32)
 // repeatOf returns the row that already holds time t, if any: the last row when t is the last
 // time; otherwise, once times have gone backwards, through rowOf (built on first need).
 func (p *portBuf) repeatOf(t int64) (int, bool) {
-	n := len(p.times)
+	n := p.times.n
 	switch {
 	case n == 0:
 		return 0, false
@@ -177,7 +84,7 @@ func (p *portBuf) repeatOf(t int64) (int, bool) {
 	}
 	if p.rowOf == nil {
 		p.rowOf = make(map[int64]int32, n)
-		for i, x := range p.times {
+		for i, x := range p.times.decode(make([]int64, 0, n)) {
 			p.rowOf[x] = int32(i) // a time can appear once only: repeats were merged
 		}
 	}
@@ -194,7 +101,7 @@ func (p *portBuf) addDense(t int64, qs []Quantity, vals []float64, qmask uint32)
 		return
 	}
 	if p.rowOf != nil {
-		p.rowOf[t] = int32(len(p.times))
+		p.rowOf[t] = int32(p.times.n)
 	}
 	p.noteTime(t)
 	if p.mask&^qmask != 0 || qmask&^p.mask != 0 {
@@ -207,17 +114,19 @@ func (p *portBuf) addDense(t int64, qs []Quantity, vals []float64, qmask uint32)
 			}
 		}
 	}
-	p.times = append(p.times, t)
+	p.times.push(t)
 	for j, q := range qs {
 		p.vals[q].push(vals[j])
 	}
 }
 
 // addBlock appends a run of rows: times[i] with, for quantity qs[j], the value
-// vals[j*len(times)+i] (column after column). Quantities the port has that qs lacks get NaN.
-func (p *portBuf) addBlock(times []int64, qs []Quantity, vals []float64, qmask uint32) {
+// vals[j*len(times)+i] (column after column). codes, when not nil, holds the same values as
+// codes at the same places, but for the columns j whose bit is set in wide (values without a
+// code). Quantities the port has that qs lacks get NaN.
+func (p *portBuf) addBlock(times []int64, qs []Quantity, vals []float64, codes []uint32, wide uint32, qmask uint32) {
 	n := len(times)
-	prev, have := p.last, len(p.times) > 0
+	prev, have := p.last, p.times.n > 0
 	for i, t := range times {
 		if have && t <= prev || p.rowOf != nil {
 			// A row repeats or goes back in time: merge row by row from here on.
@@ -226,21 +135,26 @@ func (p *portBuf) addBlock(times []int64, qs []Quantity, vals []float64, qmask u
 		}
 		prev, have = t, true
 	}
-	for _, t := range times {
-		p.noteTime(t)
-		p.times = append(p.times, t)
+	if n > 0 {
+		p.noteTime(times[0])
+		p.last = times[n-1]
 	}
+	p.times.pushSlice(times)
 	if qmask&^p.mask != 0 {
 		for _, q := range qs {
 			if p.mask&(1<<q) == 0 {
-				p.vals[q] = &colBuf{hint: p.hint}
-				p.vals[q].pushNaN(len(p.times) - n)
+				p.vals[q] = newColBuf(p.hint)
+				p.vals[q].pushNaN(p.times.n - n)
 				p.mask |= 1 << q
 			}
 		}
 	}
 	for j, q := range qs {
-		p.vals[q].pushSlice(vals[j*n : (j+1)*n])
+		if codes != nil && wide&(1<<j) == 0 {
+			p.vals[q].pushCodes(codes[j*n : (j+1)*n])
+		} else {
+			p.vals[q].pushSlice(vals[j*n : (j+1)*n])
+		}
 	}
 	if p.mask&^qmask != 0 {
 		for q := Quantity(0); q < NumQuantities; q++ {
@@ -261,7 +175,7 @@ func (p *portBuf) addBlockRows(times []int64, i int, qs []Quantity, vals []float
 		for j := range qs {
 			copy(head[j*i:(j+1)*i], vals[j*n:j*n+i])
 		}
-		p.addBlock(times[:i], qs, head, qmask)
+		p.addBlock(times[:i], qs, head, nil, 0, qmask)
 	}
 	row := make([]float64, len(qs))
 	for ; i < n; i++ {
@@ -313,17 +227,17 @@ func (db *datasetBuilder) absorb(fb *fileBuilder, fileIdx int) (merged int) {
 			db.ports[p.name] = p
 			continue
 		}
-		g.runs = append(g.runs, fileRun{len(g.times), fileIdx})
-		if len(p.times) > 0 && len(g.times) > 0 {
-			if p.times[0] < g.last {
+		g.runs = append(g.runs, fileRun{g.times.n, fileIdx})
+		if p.times.n > 0 && g.times.n > 0 {
+			if first := p.times.first(); first < g.last {
 				g.unsorted = true
-			} else if p.times[0] == g.last {
+			} else if first == g.last {
 				g.ties = true
 			}
 		}
 		g.unsorted = g.unsorted || p.unsorted
 		g.ties = g.ties || p.ties
-		if len(p.times) > 0 {
+		if p.times.n > 0 {
 			g.last = p.last
 		}
 		for q := Quantity(0); q < NumQuantities; q++ {
@@ -331,22 +245,16 @@ func (db *datasetBuilder) absorb(fb *fileBuilder, fileIdx int) (merged int) {
 				g.ensure(q)
 			}
 		}
-		g.times = append(g.times, p.times...)
+		g.times.append(&p.times)
 		for q := Quantity(0); q < NumQuantities; q++ {
 			if g.mask&(1<<q) == 0 {
 				continue
 			}
 			if p.mask&(1<<q) != 0 {
-				for _, sg := range p.vals[q].segs {
-					for _, v := range sg {
-						g.vals[q].push(v)
-					}
-				}
+				g.vals[q].appendCol(p.vals[q])
 				p.vals[q] = nil
 			} else {
-				for range len(p.times) {
-					g.vals[q].push(math.NaN())
-				}
+				g.vals[q].pushNaN(p.times.n)
 			}
 		}
 	}
@@ -389,21 +297,29 @@ func (db *datasetBuilder) finish(inputs []InputStats, workers int) []*Series {
 					return
 				}
 				p := ports[i]
-				s := &Series{Port: p.name, TimesMs: p.times, Inputs: fileOf[inputsAt[i]:inputsAt[i+1]:inputsAt[i+1]]}
+				s := &Series{Port: p.name, Inputs: fileOf[inputsAt[i]:inputsAt[i+1]:inputsAt[i+1]]}
+				ps := &packedSeries{times: p.times, has: p.mask}
 				for q := Quantity(0); q < NumQuantities; q++ {
 					if p.mask&(1<<q) != 0 {
-						s.Values[q] = p.vals[q].flatten()
+						ps.cols[q] = p.vals[q].finish()
 						p.vals[q] = nil
 					}
 				}
+				p.times = timeCol{}
 				if p.unsorted || p.ties {
-					dups := sortDedupe(s, p.runs, p.unsorted)
+					dups := sortDedupe(ps, p.runs, p.unsorted)
 					mu.Lock()
 					for f, c := range dups {
 						inputs[f].Duplicates += c
 					}
 					mu.Unlock()
 				}
+				for q := Quantity(0); q < NumQuantities; q++ {
+					if p.mask&(1<<q) != 0 && ps.cols[q].anyFinite() {
+						ps.finite |= 1 << q
+					}
+				}
+				s.packed = ps
 				out[i] = s
 			}
 		}()
@@ -414,20 +330,17 @@ func (db *datasetBuilder) finish(inputs []InputStats, workers int) []*Series {
 
 // sortDedupe sorts s by time (stably) and keeps the last of each run of equal times; runs say
 // which input each arrival-order row came from, to charge it the replaced rows.
-func sortDedupe(s *Series, runs []fileRun, unsorted bool) (dupsByFile map[int]int) {
+func sortDedupe(s *packedSeries, runs []fileRun, unsorted bool) (dupsByFile map[int]int) {
 	dupsByFile = map[int]int{}
-	p := struct {
-		times []int64
-		runs  []fileRun
-	}{s.TimesMs, runs}
-	n := len(p.times)
+	times := s.times.decode(make([]int64, 0, s.times.n))
+	n := len(times)
 	perm := make([]int32, n)
 	for i := range perm {
 		perm[i] = int32(i)
 	}
 	if unsorted {
 		slices.SortStableFunc(perm, func(a, b int32) int {
-			ta, tb := p.times[a], p.times[b]
+			ta, tb := times[a], times[b]
 			switch {
 			case ta < tb:
 				return -1
@@ -438,37 +351,32 @@ func sortDedupe(s *Series, runs []fileRun, unsorted bool) (dupsByFile map[int]in
 		})
 	}
 	fileOf := func(row int32) int {
-		k := sort.Search(len(p.runs), func(i int) bool { return p.runs[i].start > int(row) }) - 1
+		k := sort.Search(len(runs), func(i int) bool { return runs[i].start > int(row) }) - 1
 		if k < 0 {
 			k = 0
 		}
-		return p.runs[k].file
+		return runs[k].file
 	}
 	keep := make([]int32, 0, n)
 	for i := 0; i < n; i++ {
-		if i+1 < n && p.times[perm[i+1]] == p.times[perm[i]] {
+		if i+1 < n && times[perm[i+1]] == times[perm[i]] {
 			// perm[i] is replaced by the later row perm[i+1].
-			if len(p.runs) > 0 {
+			if len(runs) > 0 {
 				dupsByFile[fileOf(perm[i+1])]++
 			}
 			continue
 		}
 		keep = append(keep, perm[i])
 	}
-	times := make([]int64, len(keep))
+	kept := make([]int64, len(keep))
 	for i, r := range keep {
-		times[i] = p.times[r]
+		kept[i] = times[r]
 	}
-	s.TimesMs = times
+	s.times = timesOf(kept)
 	for q := Quantity(0); q < NumQuantities; q++ {
-		if s.Values[q] == nil {
-			continue
+		if s.has&(1<<q) != 0 {
+			s.cols[q] = s.cols[q].pick(keep)
 		}
-		col := make([]float64, len(keep))
-		for i, r := range keep {
-			col[i] = s.Values[q][r]
-		}
-		s.Values[q] = col
 	}
 	return dupsByFile
 }

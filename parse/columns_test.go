@@ -103,10 +103,10 @@ func TestUnitConversions(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if len(ds.Series) != 1 || ds.Series[0].Values[tc.q] == nil {
+			if len(ds.Series) != 1 || ds.Series[0].Decoded().Values[tc.q] == nil {
 				t.Fatalf("no %v value read; rejected %v", tc.q, ds.Rejected)
 			}
-			got := ds.Series[0].Values[tc.q][0]
+			got := ds.Series[0].Decoded().Values[tc.q][0]
 			if math.Abs(got-tc.want) > tc.tol {
 				t.Errorf("%s %s = %.10g %s, want %.10g ± %g (%s)", tc.raw, tc.header, got, tc.q.Unit(), tc.want, tc.tol, tc.source)
 			}

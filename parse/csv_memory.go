@@ -6,17 +6,16 @@ import "sync"
 // input's size is known: a port with c rows in a first block of b bytes is expected to have
 // about c·size/b rows in all. Regular telemetry (every port every interval) then fills exactly
 // one allocation per column, which finish hands over without copying; a wrong guess only
-// costs extra segments. All the hinted columns are cut from two slabs.
+// costs extra segments. All the hinted columns (value codes, see packValue) are cut from one
+// slab; times need none (see timeCol).
 //
 // Only ports whose rows are spread over most of the block are hinted: in a file sorted by
 // port the first block holds a few ports end to end, and scaling their counts up would
 // reserve far too much.
 type capacityHint struct {
-	rows  []int // expected rows of each group (port) of the block; 0: not hinted
-	off   []int // first row of each group in the slabs
-	voff  []int // first value of each group in vals
-	times []int64
-	vals  []float64 // group g, column j: vals[voff[g] + j*rows[g] : … + rows[g]]
+	rows  []int    // expected rows of each group (port) of the block; 0: not hinted
+	voff  []int    // first value of each group in codes
+	codes []uint32 // group g, column j: codes[voff[g] + j*rows[g] : … + rows[g]]
 }
 
 // newCapacityHint hints the groups of job; cols(g) is the number of columns of group g.
@@ -27,7 +26,7 @@ type capacityHint struct {
 // once), so each port seen fewer than 8 times is expected to have the block's mean rows per port.
 func newCapacityHint(job *csvJob, ratio float64, cols func(g int) int) *capacityHint {
 	np := len(job.names)
-	h := &capacityHint{rows: make([]int, np), off: make([]int, np), voff: make([]int, np)}
+	h := &capacityHint{rows: make([]int, np), voff: make([]int, np)}
 	blockRows := len(job.times)
 	count := func(g int) int32 {
 		if g == 0 {
@@ -45,7 +44,7 @@ func newCapacityHint(job *csvJob, ratio float64, cols func(g int) int) *capacity
 	mean := float64(blockRows) / float64(np)
 	total, nvals := 0, 0
 	for g := range np {
-		h.off[g], h.voff[g] = total, nvals
+		h.voff[g] = nvals
 		var expect float64
 		switch c := count(g); {
 		case timeMajor && c < 8:
@@ -65,8 +64,7 @@ func newCapacityHint(job *csvJob, ratio float64, cols func(g int) int) *capacity
 	if total == 0 {
 		return nil
 	}
-	h.times = make([]int64, total)
-	h.vals = make([]float64, nvals)
+	h.codes = make([]uint32, nvals)
 	return h
 }
 
@@ -77,15 +75,15 @@ func exactHint(job *csvJob, k int, arena *slabArena) *capacityHint {
 	if len(job.names) == 0 {
 		return nil
 	}
-	h := &capacityHint{rows: make([]int, len(job.names)), off: make([]int, len(job.names)), voff: make([]int, len(job.names))}
+	h := &capacityHint{rows: make([]int, len(job.names)), voff: make([]int, len(job.names))}
 	start, total := int32(0), 0
 	for g := range job.names {
 		end := job.groupEnd[g]
-		h.off[g], h.voff[g], h.rows[g] = total, total*k, int(end-start)
+		h.voff[g], h.rows[g] = total*k, int(end-start)
 		total += h.rows[g]
 		start = end
 	}
-	h.times, h.vals = arena.times(total), arena.floats(total*k)
+	h.codes = arena.codes(total * k)
 	return h
 }
 
@@ -94,54 +92,38 @@ func exactHint(job *csvJob, k int, arena *slabArena) *capacityHint {
 // A nil arena allocates plainly. Safe for concurrent use.
 type slabArena struct {
 	mu sync.Mutex
-	f  []float64
-	t  []int64
+	c  []uint32
 }
 
-// arenaChunk is the number of values in one chunk (8 MiB).
+// arenaChunk is the number of codes in one chunk (4 MiB).
 const arenaChunk = 1 << 20
 
-func (a *slabArena) floats(n int) []float64 {
-	if a == nil {
-		return make([]float64, n)
+// codes cuts n codes from the current chunk, starting a new chunk when it is full; requests
+// above a quarter chunk get their own allocation.
+func (a *slabArena) codes(n int) []uint32 {
+	if a == nil || n > arenaChunk/4 {
+		return make([]uint32, n)
 	}
-	return carve(&a.mu, &a.f, n)
-}
-
-func (a *slabArena) times(n int) []int64 {
-	if a == nil {
-		return make([]int64, n)
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	if cap(a.c)-len(a.c) < n {
+		a.c = make([]uint32, 0, arenaChunk)
 	}
-	return carve(&a.mu, &a.t, n)
-}
-
-// carve cuts n values from the arena chunk *chunk, starting a new chunk when the current one
-// is full; requests above a quarter chunk get their own allocation.
-func carve[T float64 | int64](mu *sync.Mutex, chunk *[]T, n int) []T {
-	if n > arenaChunk/4 {
-		return make([]T, n)
-	}
-	mu.Lock()
-	defer mu.Unlock()
-	if cap(*chunk)-len(*chunk) < n {
-		*chunk = make([]T, 0, arenaChunk)
-	}
-	m := len(*chunk)
-	*chunk = (*chunk)[:m+n]
-	return (*chunk)[m : m+n : m+n]
+	m := len(a.c)
+	a.c = a.c[:m+n]
+	return a.c[m : m+n : m+n]
 }
 
 // apply gives port p (group g of the hinted block) its pre-sized columns.
 func (h *capacityHint) apply(p *portBuf, g int, qs []Quantity) {
-	n, o := h.rows[g], h.off[g]
+	n := h.rows[g]
 	if n == 0 {
 		return
 	}
 	p.hint = n
-	p.times = h.times[o : o : o+n]
 	for j, q := range qs {
 		a := h.voff[g] + j*n
-		p.vals[q] = &colBuf{hint: n, segs: [][]float64{h.vals[a : a : a+n]}}
+		p.vals[q] = &colBuf{codes: segs[uint32]{hint: n, s: [][]uint32{h.codes[a : a : a+n]}}}
 		p.mask |= 1 << q
 	}
 }

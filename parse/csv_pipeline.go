@@ -57,6 +57,7 @@ func (r *recycler) job(bp *[]byte, firstLine int) *csvJob {
 	*j = csvJob{buf: bp, firstLine: firstLine, done: make(chan struct{}),
 		names: j.names[:0], rowPort: j.rowPort[:0], times: j.times[:0], vals: j.vals[:0],
 		groupEnd: j.groupEnd[:0], spread: j.spread[:0], gTimes: j.gTimes[:0], gVals: j.gVals[:0],
+		gCodes: j.gCodes[:0], gWide: j.gWide[:0],
 		rowMask: j.rowMask[:0], gMask: j.gMask[:0], gOff: j.gOff[:0]}
 	return j
 }
@@ -96,6 +97,8 @@ type csvJob struct {
 	spread   []int32   // rows between each port's first and last row in the block
 	gTimes   []int64   // times, port group after port group, arrival order inside a group
 	gVals    []float64 // per group: len(qs) columns of the group's length, one after the other
+	gCodes   []uint32  // gVals as value codes (see packValue), but for the columns in gWide
+	gWide    []uint32  // per group: bit j set when column j has a value without a code
 
 	// Profile names of the accepted rows (see markProfile); empty without a profile column.
 	profMarks []profileMark
@@ -162,6 +165,36 @@ func (job *csvJob) group(k int) {
 	}
 	for i := range counts {
 		counts[i] = starts[i] + sizes[i]
+	}
+	job.packGroups(func(g int) int { return k })
+}
+
+// packGroups fills gCodes and gWide from gVals, on the worker, so that the merge copies codes;
+// cols(g) is the number of columns of group g.
+func (job *csvJob) packGroups(cols func(g int) int) {
+	np := len(job.names)
+	job.gCodes = slices.Grow(job.gCodes[:0], len(job.gVals))[:len(job.gVals)]
+	job.gWide = slices.Grow(job.gWide[:0], np)[:np]
+	start, off := int32(0), 0
+	for g := range np {
+		n := int(job.groupEnd[g] - start)
+		start = job.groupEnd[g]
+		var wide uint32
+		for j := range cols(g) {
+			col := job.gVals[off : off+n]
+			codes := job.gCodes[off : off+n]
+			var hint int8
+			for i, v := range col {
+				c, ok := packValue(v, &hint)
+				if !ok {
+					wide |= 1 << j
+					break
+				}
+				codes[i] = c
+			}
+			off += n
+		}
+		job.gWide[g] = wide
 	}
 }
 
@@ -368,7 +401,8 @@ func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line 
 	defer wholePool.Put(w)
 	job := &w.job
 	*job = csvJob{data: b, firstLine: line,
-		names: job.names[:0], groupEnd: job.groupEnd[:0], spread: job.spread[:0], gTimes: job.gTimes[:0], gVals: job.gVals[:0]}
+		names: job.names[:0], groupEnd: job.groupEnd[:0], spread: job.spread[:0], gTimes: job.gTimes[:0], gVals: job.gVals[:0],
+		gCodes: job.gCodes[:0], gWide: job.gWide[:0]}
 	job.cutTail = readErr != nil && len(b) > 0 && b[len(b)-1] != '\n'
 	lines := bytes.Count(b, []byte{'\n'})
 	line += lines
@@ -447,10 +481,11 @@ func applyCSV(fb *fileBuilder, lay *csvLayout, job *csvJob) {
 	for g, name := range job.names {
 		end := job.groupEnd[g]
 		p := fb.port([]byte(name))
-		if job.hint != nil && len(p.times) == 0 && p.mask == 0 {
+		if job.hint != nil && p.times.n == 0 && p.mask == 0 {
 			job.hint.apply(p, g, lay.qs)
 		}
-		p.addBlock(job.gTimes[start:end], lay.qs, job.gVals[int(start)*k:int(end)*k], lay.qmask)
+		a, b := int(start)*k, int(end)*k
+		p.addBlock(job.gTimes[start:end], lay.qs, job.gVals[a:b], job.gCodes[a:b], job.gWide[g], lay.qmask)
 		start = end
 	}
 }

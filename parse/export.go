@@ -23,7 +23,7 @@ func WriteCanonicalCSV(w io.Writer, ds *Dataset) error {
 	var low, high [NumQuantities]bool
 	for _, s := range ds.Series {
 		for q := Quantity(0); q < NumQuantities; q++ {
-			if s.Values[q] != nil {
+			if s.HasColumn(q) {
 				present[q] = true
 			}
 			if b := s.Bins; b != nil {
@@ -74,6 +74,7 @@ func WriteCanonicalCSV(w io.Writer, ds *Dataset) error {
 				port += csvQuote(p)
 			}
 		}
+		s := s.Decoded()
 		for i := range s.TimesMs {
 			line = appendCanonicalRow(line[:0], s, i, port, qs, bc)
 			if _, err := bw.Write(line); err != nil {
@@ -149,6 +150,7 @@ func NewCSVRecorder(w io.Writer) (*CSVRecorder, error) {
 func (r *CSVRecorder) WriteSeries(s *Series) error {
 	r.line = r.line[:0]
 	port := csvQuote(s.Port)
+	s = s.Decoded()
 	for i := range s.TimesMs {
 		r.line = appendCanonicalRow(r.line, s, i, port, r.qs, nil)
 	}

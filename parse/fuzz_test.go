@@ -21,6 +21,7 @@ func fuzzRead(t *testing.T, name string, data []byte) {
 		}
 	}
 	for _, s := range ds.Series {
+		s := s.Decoded()
 		for i := 1; i < len(s.TimesMs); i++ {
 			if s.TimesMs[i] <= s.TimesMs[i-1] {
 				t.Fatalf("port %q: times not ascending", s.Port)

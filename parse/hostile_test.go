@@ -56,7 +56,7 @@ func TestGzipOfRepeatedRows(t *testing.T) {
 		if len(ds.Series) != 1 || ds.Series[0].Len() != 1 {
 			t.Fatalf("series %+v, want one port with one sample", ds.Series)
 		}
-		s := ds.Series[0]
+		s := ds.Series[0].Decoded()
 		if s.Values[PreFECBER][0] != 2.5e-3 || s.Values[RxPowerDBm][0] != -9.5 {
 			t.Errorf("the last row must win: BER %g, Rx %g", s.Values[PreFECBER][0], s.Values[RxPowerDBm][0])
 		}
@@ -220,7 +220,7 @@ func TestPreambleAndDayFirst(t *testing.T) {
 			t.Errorf("notes %q lack %q", note, w)
 		}
 	}
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	want := time.Date(2026, 3, 14, 8, 30, 0, 0, time.UTC).UnixMilli()
 	if s.TimesMs[0] != want || s.Values[PreFECBER][0] != 1.2e-3 || s.Values[RxPowerDBm][1] != -8.2 {
 		t.Errorf("got %v %v %v", s.TimesMs, s.Values[PreFECBER], s.Values[RxPowerDBm])
@@ -233,8 +233,8 @@ func TestPreambleAndDayFirst(t *testing.T) {
 	}
 	// With the zone the same civil times are an hour earlier in UTC (CET, UTC+1 in March).
 	ds, err = ReadPaths([]string{path}, Options{DayFirst: true, TimeZone: "Europe/Berlin"})
-	if err != nil || ds.Series[0].TimesMs[0] != want-3600000 {
-		t.Errorf("with Europe/Berlin: %v, %v", ds.Series[0].TimesMs, err)
+	if err != nil || ds.Series[0].Decoded().TimesMs[0] != want-3600000 {
+		t.Errorf("with Europe/Berlin: %v, %v", ds.Series[0].Decoded().TimesMs, err)
 	}
 }
 
@@ -264,7 +264,7 @@ func TestQuotedDecimalComma(t *testing.T) {
 	if in.RowsUsed != 2 || in.RowsRejected != 2 {
 		t.Fatalf("used %d rejected %d, want 2 and 2", in.RowsUsed, in.RowsRejected)
 	}
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	if s.Values[PreFECBER][0] != 0.0012 || s.Values[RxPowerDBm][0] != -8.15 || s.Values[CDpsPerNm][0] != 1702.5 {
 		t.Errorf("values %v %v %v", s.Values[PreFECBER], s.Values[RxPowerDBm], s.Values[CDpsPerNm])
 	}
@@ -290,7 +290,7 @@ func TestTimeOptionsThroughTheReader(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if got, want := ds.Series[0].TimesMs[0], time.Date(2026, 3, 14, 20, 30, 15, 0, time.UTC).UnixMilli(); got != want {
+	if got, want := ds.Series[0].Decoded().TimesMs[0], time.Date(2026, 3, 14, 20, 30, 15, 0, time.UTC).UnixMilli(); got != want {
 		t.Errorf("time %d, want %d", got, want)
 	}
 	path := filepath.Join("testdata", "messy", "t_without_zone.csv")
@@ -299,7 +299,7 @@ func TestTimeOptionsThroughTheReader(t *testing.T) {
 		t.Errorf("rejections %+v", ds.Rejected)
 	}
 	ds, err = ReadPaths([]string{path}, Options{TimeZone: "+02:00"})
-	if err != nil || ds.Series[0].TimesMs[0] != time.Date(2026, 3, 14, 6, 30, 0, 0, time.UTC).UnixMilli() {
+	if err != nil || ds.Series[0].Decoded().TimesMs[0] != time.Date(2026, 3, 14, 6, 30, 0, 0, time.UTC).UnixMilli() {
 		t.Errorf("with +02:00: %v, %v", ds.Series, err)
 	}
 	if _, err := ReadPaths([]string{path}, Options{TimeFormat: "%Y"}); err == nil {
@@ -348,7 +348,7 @@ func TestFolderSkipsNonLogs(t *testing.T) {
 func TestJSONTimeOptions(t *testing.T) {
 	in := `{"time": "14.03.2026 08:30", "port": "p", "osnr_db": 25}` + "\n"
 	ds, err := ReadFile("a.jsonl", strings.NewReader(in), Options{DayFirst: true})
-	if err != nil || ds.Series[0].TimesMs[0] != time.Date(2026, 3, 14, 8, 30, 0, 0, time.UTC).UnixMilli() {
+	if err != nil || ds.Series[0].Decoded().TimesMs[0] != time.Date(2026, 3, 14, 8, 30, 0, 0, time.UTC).UnixMilli() {
 		t.Fatalf("%v %v", ds.Series, err)
 	}
 	ds, _ = ReadFile("a.jsonl", strings.NewReader(in), Options{})
@@ -402,6 +402,7 @@ func TestRepeatedBlocksMergeAsTheyArrive(t *testing.T) {
 		t.Errorf("duplicates %d, want %d", d, 20000*6)
 	}
 	for _, s := range ds.Series {
+		s := s.Decoded()
 		if s.Len() != 3 || s.Values[PreFECBER][0] != 2e-3 || s.Values[PreFECBER][2] != 2e-3 {
 			t.Errorf("port %s: %v %v; want 3 samples with the last copy's BER", s.Port, s.TimesMs, s.Values[PreFECBER])
 		}

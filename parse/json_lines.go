@@ -738,6 +738,7 @@ func (job *csvJob) groupSparse() {
 			j++
 		}
 	}
+	job.packGroups(func(g int) int { return bits.OnesCount32(job.gMask[g]) })
 }
 
 // applySparse appends the rows of a block grouped by groupSparse.
@@ -752,10 +753,11 @@ func applySparse(fb *fileBuilder, job *csvJob) {
 		}
 		n, off := int(end-start), int(job.gOff[g])
 		p := fb.port([]byte(name))
-		if job.hint != nil && len(p.times) == 0 && p.mask == 0 {
+		if job.hint != nil && p.times.n == 0 && p.mask == 0 {
 			job.hint.apply(p, g, qs)
 		}
-		p.addBlock(job.gTimes[start:end], qs, job.gVals[off:off+n*len(qs)], job.gMask[g])
+		a, b := off, off+n*len(qs)
+		p.addBlock(job.gTimes[start:end], qs, job.gVals[a:b], job.gCodes[a:b], job.gWide[g], job.gMask[g])
 		start = end
 	}
 }

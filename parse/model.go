@@ -75,6 +75,9 @@ func QuantityByColumn(name string) (Quantity, bool) {
 // Series is the time-ordered telemetry of one port. TimesMs holds Unix milliseconds (UTC),
 // strictly ascending. Values[q] is nil when the port never reported q, otherwise it has the
 // length of TimesMs with NaN where a sample lacks q.
+//
+// A series read by this package keeps its times and values in a compact store instead, with
+// TimesMs and Values nil: Decoded gives them. Len, Has and Present work on both.
 type Series struct {
 	Port    string
 	TimesMs []int64
@@ -88,6 +91,8 @@ type Series struct {
 	// Inputs are the inputs the port's rows came from, as indices into Dataset.Inputs in
 	// ascending order: what a report on some ports only lists and signs.
 	Inputs []int
+
+	packed *packedSeries // the compact store of a series read from input; nil otherwise
 }
 
 // Bins are the worst-case companions of samples that summarise a bin (a 15-minute or 24-hour
@@ -103,10 +108,18 @@ type Bins struct {
 }
 
 // Len is the number of sample times.
-func (s *Series) Len() int { return len(s.TimesMs) }
+func (s *Series) Len() int {
+	if s.packed != nil {
+		return s.packed.times.n
+	}
+	return len(s.TimesMs)
+}
 
 // Has reports whether the port has at least one finite value of q.
 func (s *Series) Has(q Quantity) bool {
+	if s.packed != nil {
+		return s.packed.finite&(1<<q) != 0
+	}
 	for _, v := range s.Values[q] {
 		if !math.IsNaN(v) {
 			return true
@@ -115,8 +128,18 @@ func (s *Series) Has(q Quantity) bool {
 	return false
 }
 
+// HasColumn reports whether the port has a column for q (Values[q] not nil once decoded), even
+// one with no finite value.
+func (s *Series) HasColumn(q Quantity) bool {
+	if s.packed != nil {
+		return s.packed.has&(1<<q) != 0
+	}
+	return s.Values[q] != nil
+}
+
 // Present returns the finite values of q, in time order, with their times.
 func (s *Series) Present(q Quantity) (timesMs []int64, values []float64) {
+	s = s.Decoded()
 	for i, v := range s.Values[q] {
 		if !math.IsNaN(v) {
 			timesMs = append(timesMs, s.TimesMs[i])

@@ -72,7 +72,7 @@ func TestMissingSpellings(t *testing.T) {
 			if in0.RowsUsed != 1 || len(ds.Series) != 1 {
 				t.Fatalf("row not used: %+v %v", in0, ds.Rejected)
 			}
-			if v := ds.Series[0].Values[OSNRdB][0]; !math.IsNaN(v) {
+			if v := ds.Series[0].Decoded().Values[OSNRdB][0]; !math.IsNaN(v) {
 				t.Errorf("%q read as %g, want missing (NaN)", in, v)
 			}
 		})
@@ -114,6 +114,7 @@ func TestBERSpellingsEqual(t *testing.T) {
 		t.Fatalf("want 3 ports, got %d", len(ds.Series))
 	}
 	for _, s := range ds.Series {
+		s := s.Decoded()
 		if v := s.Values[PreFECBER][0]; v != 0.001 {
 			t.Errorf("port %s: BER %v, want exactly 0.001", s.Port, v)
 		}

@@ -66,7 +66,7 @@ func TestOpenConfigDocument(t *testing.T) {
 	if len(ds.Series) != 1 || ds.Series[0].Port != "och-1/1/1" {
 		t.Fatalf("ports %v", ds.Series)
 	}
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	want := map[Quantity]float64{
 		PreFECBER: 0.00091, PostFECBER: 0, UncorrectedBlocks: 0, QdB: 9.85, ESNRdB: 16.6, OSNRdB: 27.4,
 		CDpsPerNm: 1702.5, DGDps: 3.2, PDLdB: 0.6, SOPRateKradPerS: 12.5, LOOffsetMHz: 512,
@@ -87,7 +87,7 @@ func TestOpenConfigStatistic(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	if s.Values[PreFECBER][0] != 0.00088 || s.Values[QdB][0] != 9.9 {
 		t.Errorf("avg: BER %v Q %v, want 0.00088 and 9.9", s.Values[PreFECBER], s.Values[QdB])
 	}
@@ -131,7 +131,7 @@ func TestOpenConfigVariants(t *testing.T) {
 	var och *Series
 	for _, s := range ds.Series {
 		if s.Port == "Ethernet4/1-Optical0" {
-			och = s
+			och = s.Decoded()
 		}
 	}
 	if och == nil || len(ds.Series) != 2 {
@@ -196,11 +196,11 @@ func TestJSONLinesCanonical(t *testing.T) {
 	if len(in.Notes) != 1 || !strings.Contains(in.Notes[0], "vendor") {
 		t.Errorf("notes %v", in.Notes)
 	}
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	if math.Abs(s.Values[RxPowerDBm][0]-(-3.0103)) > 1e-4 || !math.IsNaN(s.Values[RxPowerDBm][1]) || !math.IsNaN(s.Values[PreFECBER][1]) {
 		t.Errorf("rx %v ber %v", s.Values[RxPowerDBm], s.Values[PreFECBER])
 	}
-	if ds.Series[1].Port != "7" || ds.Series[1].Values[OSNRdB][0] != 21.5 {
+	if ds.Series[1].Port != "7" || ds.Series[1].Decoded().Values[OSNRdB][0] != 21.5 {
 		t.Errorf("numeric port / string value: %+v", ds.Series[1])
 	}
 	// the OpenConfig sample is valid JSON: sanity check of the test input itself

@@ -117,7 +117,7 @@ func TestTruncatedGzipKeepsRowsBefore(t *testing.T) {
 		t.Errorf("want the cut last line rejected as truncated, got %v", ds.Rejected)
 	}
 	// Rows that were used are whole rows of the original file, in order, 1 min apart.
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	for i := 1; i < s.Len(); i++ {
 		if s.TimesMs[i]-s.TimesMs[i-1] != 60000 {
 			t.Fatalf("times not 1 min apart at %d", i)
@@ -130,7 +130,7 @@ func TestOutOfOrderSortedLastWins(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	want := []float64{4e-3, 2e-3, 3e-3} // 08:00 twice: the later row (4e-3) wins
 	if !reflect.DeepEqual(s.Values[PreFECBER], want) {
 		t.Errorf("BER %v, want %v", s.Values[PreFECBER], want)
@@ -152,7 +152,7 @@ func TestDuplicatesAcrossFilesLaterFileWins(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	if !reflect.DeepEqual(s.Values[OSNRdB], []float64{20, 25}) {
 		t.Errorf("OSNR %v, want [20 25]", s.Values[OSNRdB])
 	}
@@ -273,7 +273,7 @@ func sameDataset(a, b *Dataset) bool {
 		return false
 	}
 	for i := range a.Series {
-		x, y := a.Series[i], b.Series[i]
+		x, y := a.Series[i].Decoded(), b.Series[i].Decoded()
 		if x.Port != y.Port || !reflect.DeepEqual(x.TimesMs, y.TimesMs) || x.Profile() != y.Profile() {
 			return false
 		}

@@ -45,6 +45,7 @@ type ScanPort struct {
 func SummarizePorts(ds *parse.Dataset) []ScanPort {
 	out := make([]ScanPort, 0, len(ds.Series))
 	for _, s := range ds.Series {
+		s := s.Decoded()
 		sp := ScanPort{Port: s.Port, Samples: s.Len(), Quantities: []string{}, Profiles: s.Profiles}
 		if s.Len() > 0 {
 			sp.From = fmtTime(s.TimesMs[0])

@@ -194,6 +194,7 @@ func (ws *watchSession) sample(s gnmisub.Sample) error {
 		ws.lastRej = ds.Rejected[len(ds.Rejected)-1].Reason
 	}
 	for _, sr := range ds.Series {
+		sr := sr.Decoded()
 		if err := ws.rec.WriteSeries(sr); err != nil {
 			return fmt.Errorf("--record: %w", err)
 		}

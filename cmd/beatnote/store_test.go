@@ -156,6 +156,7 @@ func writeOpenMetrics(name string, ds *parse.Dataset, m promapi.Mapping) error {
 		}
 		fmt.Fprintf(w, "# TYPE %s gauge\n", mm.Metric)
 		for _, s := range ds.Series {
+			s := s.Decoded()
 			for i, v := range s.Values[q] {
 				if math.IsNaN(v) {
 					continue
@@ -252,6 +253,7 @@ func TestTriageFromPrometheusMatchesFiles(t *testing.T) {
 	}
 	present := 0
 	for _, s := range ds.Series {
+		s := s.Decoded()
 		for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
 			for _, v := range s.Values[q] {
 				if !math.IsNaN(v) {
@@ -390,7 +392,7 @@ func TestPrometheusBatchesAndChunksMatchFiles(t *testing.T) {
 		t.Fatalf("%d ports, want %d", len(got.Series), len(want.Series))
 	}
 	for i, g := range got.Series {
-		w := want.Series[i]
+		w := want.Series[i].Decoded()
 		n := 0
 		for n < w.Len() && w.TimesMs[n] <= end.UnixMilli() {
 			n++

@@ -265,7 +265,7 @@ func healthyCircuit(t *testing.T, n int) *parse.Series {
 	if err != nil {
 		t.Fatal(err)
 	}
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	cut := &parse.Series{Port: s.Port, TimesMs: s.TimesMs[:n]}
 	for q := range s.Values {
 		if s.Values[q] != nil {
@@ -339,7 +339,7 @@ func TestWatchShowsInjectedFaultAndRecordsASignableFile(t *testing.T) {
 	if err != nil || len(ds.Series) != 1 || ds.Series[0].Len() != 24 || ds.Inputs[0].RowsRejected != 0 {
 		t.Fatalf("recorded file: %v %+v", err, ds.Inputs)
 	}
-	got, want := ds.Series[0], tt.series
+	got, want := ds.Series[0].Decoded(), tt.series
 	for _, q := range []parse.Quantity{parse.RxPowerDBm, parse.CDpsPerNm, parse.OSNRdB, parse.ESNRdB, parse.FrequencyTHz} {
 		if math.Abs(got.Values[q][0]-want.Values[q][0]) > 1e-9*math.Abs(want.Values[q][0]) {
 			t.Errorf("%s recorded %g, sent %g", q, got.Values[q][0], want.Values[q][0])

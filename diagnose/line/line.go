@@ -146,7 +146,7 @@ func analyzeLine(name string, ports []*diagnose.PortResult, r rules.Rules) diagn
 // newChannel collects a port's onsets of every kind.
 func newChannel(p *diagnose.PortResult, r rules.Rules) *channel {
 	an := p.Analysis
-	s := an.Series
+	s := an.Series.Decoded()
 	c := &channel{p: p, s: s, spanMs: max(s.TimesMs[s.Len()-1]-s.TimesMs[0], 1), stepMs: max(series.MedianStepMs(s.TimesMs), 1),
 		onsets: map[diagnose.LineFindingID][]onset{}}
 	for _, d := range an.DarkRuns {

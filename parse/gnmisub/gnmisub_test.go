@@ -45,7 +45,7 @@ func TestDocumentReadsAsOpenConfig(t *testing.T) {
 	if err != nil || len(ds.Series) != 1 {
 		t.Fatalf("%v %+v\n%s", err, ds.Inputs, doc)
 	}
-	s := ds.Series[0]
+	s := ds.Series[0].Decoded()
 	want := map[parse.Quantity]float64{parse.RxPowerDBm: -8.15, parse.CDpsPerNm: 1702.5, parse.FrequencyTHz: 193.1, parse.PreFECBER: 0.00091}
 	for q, w := range want {
 		if s.Values[q] == nil || s.Values[q][0] != w {

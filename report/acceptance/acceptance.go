@@ -264,7 +264,7 @@ func New(in Input) (*Report, error) {
 
 	if in.Dataset != nil {
 		for _, s := range in.Dataset.Series {
-			a.series[s.Port] = s
+			a.series[s.Port] = s.Decoded()
 		}
 	}
 	for _, pr := range in.Result.Ports {
@@ -272,7 +272,7 @@ func New(in Input) (*Report, error) {
 			continue
 		}
 		if a.series[pr.Port] == nil && pr.Analysis.Series != nil {
-			a.series[pr.Port] = pr.Analysis.Series
+			a.series[pr.Port] = pr.Analysis.Series.Decoded()
 		}
 		a.marks[pr.Port] = MarksFromAnalysis(pr.Analysis)
 	}

@@ -98,7 +98,7 @@ func TestLogsReadBack(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			got, want := ds.Series[0], c.Series
+			got, want := ds.Series[0].Decoded(), c.Series
 			if !slices.Equal(got.TimesMs, want.TimesMs) {
 				t.Fatalf("times differ: %d vs %d samples", got.Len(), want.Len())
 			}

@@ -1,0 +1,483 @@
+package parse
+
+import "math"
+
+// The compact column store. A series read by this package keeps its columns packed until a
+// consumer asks for them (Series.Decoded), so that a fleet's rows cost about 4 bytes per value
+// instead of 8, and regular sample times cost nothing per row:
+//
+//   - A value is stored as a 32-bit code m·10^-k, with m a signed 27-bit integer and
+//     k ∈ [-8, 22], whenever decoding gives back exactly the float64 read. Decoding is one
+//     correctly rounded IEEE 754 operation on two exact operands (m and 10^|k| are both exact
+//     in float64 for |m| < 2^53, |k| ≤ 22), the fast path of Clinger (1990) that parseFloat
+//     also takes: the decoded value is the same float64, bit for bit, not an approximation.
+//     Telemetry exports write at most 7 significant digits (a BER as 1.25E-03, a power as
+//     -5.04, a frequency as 191.7125), which always fit. A port's column holding a value
+//     that has no code (more digits, or a value computed by a unit conversion such as mW →
+//     dBm) is stored as plain float64 instead, for that port only.
+//   - Times are stored as runs of equal steps (start, step, count): a port sampled every
+//     interval is one run whatever its length. A port whose times are irregular (more than
+//     one run per three rows) keeps plain int64 milliseconds.
+
+const (
+	codeKBias    = 8         // k is stored as k + codeKBias in the low 5 bits
+	codeKMask    = 1<<5 - 1  // the k field
+	codeKSpecial = codeKMask // the k field of the NaN code
+	codeMaxMant  = 1<<26 - 1 // |m| ≤ codeMaxMant
+	codeMaxK     = 22        // 10^22 is the largest power of ten exact in float64
+	codeMinK     = -codeKBias
+	nanCode      = uint32(codeKSpecial) // the code of NaN (a missing value)
+)
+
+// unpackValue decodes a value code.
+func unpackValue(c uint32) float64 {
+	kf := c & codeKMask
+	if kf == codeKSpecial {
+		return math.NaN()
+	}
+	m := float64(int32(c) >> 5)
+	k := int(kf) - codeKBias
+	if k >= 0 {
+		return m / exactPow10[k]
+	}
+	return m * exactPow10[-k]
+}
+
+// codeOf is the code of m·10^-k (|m| ≤ codeMaxMant, k in range).
+func codeOf(m int32, k int) uint32 { return uint32(m)<<5 | uint32(k+codeKBias) }
+
+// packValue returns the code of v when one decodes to exactly v; hint is the k to try first
+// (the column's previous one) and is updated to the k found. NaN packs; -0 does not (its sign
+// would be lost).
+//
+// Any k at which v has a code will do; the one tried after the hint is the largest k at which
+// |m| still fits, which has a code whenever any k has: a decimal d·10^-j read correctly rounded
+// is m·10^-k exactly for every k ≥ j, and the rounding of v·10^k to m is off by far less than
+// one half for |m| < 2^26.
+func packValue(v float64, hint *int8) (uint32, bool) {
+	if v != v {
+		return nanCode, true
+	}
+	if v == 0 {
+		if math.Signbit(v) {
+			return 0, false
+		}
+		return codeOf(0, 0), true
+	}
+	if c, ok := tryCode(v, int(*hint)); ok {
+		return c, true
+	}
+	a := math.Abs(v)
+	// a is in [2^e, 2^(e+1)): a·10^k ≤ 2^26 - 1 for k about (25 - e)·log10(2).
+	e := int(math.Float64bits(a)>>52&0x7ff) - 1023
+	k := min(max(int(math.Floor(float64(25-e)*math.Log10(2))), codeMinK), codeMaxK)
+	for k < codeMaxK && scale10(a, k+1) <= codeMaxMant {
+		k++
+	}
+	for k > codeMinK && scale10(a, k) > codeMaxMant {
+		k--
+	}
+	c, ok := tryCode(v, k)
+	if ok {
+		*hint = int8(k)
+	}
+	return c, ok
+}
+
+// scale10 is a·10^k, rounded (for a comparison of magnitudes only).
+func scale10(a float64, k int) float64 {
+	if k >= 0 {
+		return a * exactPow10[k]
+	}
+	return a / exactPow10[-k]
+}
+
+// tryCode returns the code of v at exponent k when that code decodes to exactly v.
+func tryCode(v float64, k int) (uint32, bool) {
+	if k < codeMinK || k > codeMaxK {
+		return 0, false
+	}
+	var m float64
+	if k >= 0 {
+		m = math.Round(v * exactPow10[k])
+	} else {
+		m = math.Round(v / exactPow10[-k])
+	}
+	if !(math.Abs(m) <= codeMaxMant) {
+		return 0, false
+	}
+	c := codeOf(int32(m), k)
+	if unpackValue(c) != v {
+		return 0, false
+	}
+	return c, true
+}
+
+// segs is a column growing in segments, so that appending never copies what is already
+// stored; flatten makes the one contiguous slice at the end. Segments start small (a port with
+// few rows costs little) and grow to maxSeg values; the first has hint values when hint > 0.
+type segs[T uint32 | float64] struct {
+	s    [][]T
+	n    int
+	hint int
+}
+
+// segSize is the capacity of segment number k.
+func (c *segs[T]) segSize(k int) int {
+	if k == 0 && c.hint > 0 {
+		return c.hint
+	}
+	size := maxSeg
+	if k < 10 {
+		size = min(minSeg<<k, maxSeg)
+	}
+	return max(size, c.hint/8)
+}
+
+const (
+	minSeg = 16
+	maxSeg = 8192
+)
+
+func (c *segs[T]) push(v T) {
+	k := len(c.s)
+	if k == 0 || len(c.s[k-1]) == cap(c.s[k-1]) {
+		c.s = append(c.s, make([]T, 0, c.segSize(k)))
+		k++
+	}
+	c.s[k-1] = append(c.s[k-1], v)
+	c.n++
+}
+
+// pushSlice appends vs, filling the last segment and adding segments as needed.
+func (c *segs[T]) pushSlice(vs []T) {
+	for len(vs) > 0 {
+		k := len(c.s)
+		if k == 0 || len(c.s[k-1]) == cap(c.s[k-1]) {
+			c.s = append(c.s, make([]T, 0, c.segSize(k)))
+			k++
+		}
+		last := c.s[k-1]
+		m := min(cap(last)-len(last), len(vs))
+		c.s[k-1] = append(last, vs[:m]...)
+		c.n += m
+		vs = vs[m:]
+	}
+}
+
+// set overwrites value number i, looking from the newest segment (a repeat is usually recent).
+func (c *segs[T]) set(i int, v T) {
+	end := c.n
+	for k := len(c.s) - 1; k >= 0; k-- {
+		start := end - len(c.s[k])
+		if i >= start {
+			c.s[k][i-start] = v
+			return
+		}
+		end = start
+	}
+}
+
+// flatten returns the values as one slice and empties c.
+func (c *segs[T]) flatten() []T {
+	if len(c.s) == 1 {
+		out := c.s[0]
+		c.s, c.n = nil, 0
+		return out
+	}
+	out := make([]T, 0, c.n)
+	for i, sg := range c.s {
+		out = append(out, sg...)
+		c.s[i] = nil // let the segment go as soon as it is copied
+	}
+	c.s, c.n = nil, 0
+	return out
+}
+
+// colBuf is one quantity's column of a port while it is read: value codes, or plain float64
+// once a value without a code arrives (see packValue).
+type colBuf struct {
+	codes segs[uint32]
+	wide  *segs[float64] // non-nil once the column is plain; codes is empty then
+	k     int8           // the exponent of the last value packed: the first one tried next
+}
+
+func newColBuf(hint int) *colBuf { return &colBuf{codes: segs[uint32]{hint: hint}} }
+
+func (c *colBuf) len() int {
+	if c.wide != nil {
+		return c.wide.n
+	}
+	return c.codes.n
+}
+
+// widen turns the column into plain float64 values.
+func (c *colBuf) widen() {
+	w := &segs[float64]{hint: max(c.codes.hint, c.codes.n)}
+	for _, sg := range c.codes.s {
+		for _, code := range sg {
+			w.push(unpackValue(code))
+		}
+	}
+	c.wide, c.codes = w, segs[uint32]{}
+}
+
+func (c *colBuf) push(v float64) {
+	if c.wide == nil {
+		if code, ok := packValue(v, &c.k); ok {
+			c.codes.push(code)
+			return
+		}
+		c.widen()
+	}
+	c.wide.push(v)
+}
+
+func (c *colBuf) pushSlice(vs []float64) {
+	for _, v := range vs {
+		c.push(v)
+	}
+}
+
+// pushCodes appends values given as codes.
+func (c *colBuf) pushCodes(cs []uint32) {
+	if c.wide == nil {
+		c.codes.pushSlice(cs)
+		return
+	}
+	for _, code := range cs {
+		c.wide.push(unpackValue(code))
+	}
+}
+
+func (c *colBuf) pushNaN(n int) {
+	for range n {
+		if c.wide == nil {
+			c.codes.push(nanCode)
+		} else {
+			c.wide.push(math.NaN())
+		}
+	}
+}
+
+// set overwrites value number i.
+func (c *colBuf) set(i int, v float64) {
+	if c.wide == nil {
+		if code, ok := packValue(v, &c.k); ok {
+			c.codes.set(i, code)
+			return
+		}
+		c.widen()
+	}
+	c.wide.set(i, v)
+}
+
+// appendCol appends the values of o (emptied).
+func (c *colBuf) appendCol(o *colBuf) {
+	if o.wide != nil {
+		for _, sg := range o.wide.s {
+			c.pushSlice(sg)
+		}
+	} else {
+		for _, sg := range o.codes.s {
+			c.pushCodes(sg)
+		}
+	}
+	*o = colBuf{}
+}
+
+// finish returns the column as stored in a series, emptying c.
+func (c *colBuf) finish() packedCol {
+	if c.wide != nil {
+		return packedCol{wide: c.wide.flatten()}
+	}
+	return packedCol{codes: c.codes.flatten()}
+}
+
+// packedCol is one quantity's column of a stored series: codes, or wide when nil.
+type packedCol struct {
+	codes []uint32
+	wide  []float64
+}
+
+// decode writes the column's values into dst (of the column's length).
+func (c packedCol) decode(dst []float64) {
+	if c.wide != nil {
+		copy(dst, c.wide)
+		return
+	}
+	for i, code := range c.codes {
+		dst[i] = unpackValue(code)
+	}
+}
+
+// pick returns the column holding rows rows of c, in that order.
+func (c packedCol) pick(rows []int32) packedCol {
+	if c.wide != nil {
+		out := make([]float64, len(rows))
+		for i, r := range rows {
+			out[i] = c.wide[r]
+		}
+		return packedCol{wide: out}
+	}
+	out := make([]uint32, len(rows))
+	for i, r := range rows {
+		out[i] = c.codes[r]
+	}
+	return packedCol{codes: out}
+}
+
+// anyFinite reports whether some value of the column is finite.
+func (c packedCol) anyFinite() bool {
+	if c.wide != nil {
+		for _, v := range c.wide {
+			if !math.IsNaN(v) {
+				return true
+			}
+		}
+		return false
+	}
+	for _, code := range c.codes {
+		if code != nanCode {
+			return true
+		}
+	}
+	return false
+}
+
+// timeCol is a port's sample times (Unix ms) in arrival order: runs of equal steps while
+// they are few, plain values once there would be more than one run per three rows.
+type timeCol struct {
+	runs []timeRun
+	raw  []int64 // non-nil once the times are plain; runs is nil then
+	n    int
+}
+
+// timeRun is n times start, start+step, …, start+(n-1)·step.
+type timeRun struct {
+	start, step int64
+	n           int
+}
+
+func (t *timeCol) push(x int64) {
+	t.n++
+	if t.raw != nil {
+		t.raw = append(t.raw, x)
+		return
+	}
+	if k := len(t.runs); k > 0 {
+		r := &t.runs[k-1]
+		if r.n == 1 {
+			r.step, r.n = x-r.start, 2
+			return
+		}
+		if x == r.start+r.step*int64(r.n) {
+			r.n++
+			return
+		}
+		if 3*(k+1) > t.n && k >= 4 {
+			t.raw = t.decode(make([]int64, 0, 2*t.n))[:t.n-1]
+			t.raw = append(t.raw, x)
+			t.runs = nil
+			return
+		}
+	}
+	t.runs = append(t.runs, timeRun{start: x, n: 1})
+}
+
+func (t *timeCol) pushSlice(xs []int64) {
+	for _, x := range xs {
+		t.push(x)
+	}
+}
+
+// decode appends the times to dst.
+func (t *timeCol) decode(dst []int64) []int64 {
+	if t.raw != nil {
+		return append(dst, t.raw...)
+	}
+	for _, r := range t.runs {
+		for i := range r.n {
+			dst = append(dst, r.start+int64(i)*r.step)
+		}
+	}
+	return dst
+}
+
+// last is the newest time; t must not be empty.
+func (t *timeCol) last() int64 {
+	if t.raw != nil {
+		return t.raw[len(t.raw)-1]
+	}
+	r := t.runs[len(t.runs)-1]
+	return r.start + int64(r.n-1)*r.step
+}
+
+// timesOf is a time column holding xs.
+func timesOf(xs []int64) timeCol {
+	var t timeCol
+	t.pushSlice(xs)
+	return t
+}
+
+// packedSeries is the compact store of a series read by this package (see Series.Decoded).
+type packedSeries struct {
+	times  timeCol
+	cols   [NumQuantities]packedCol
+	has    uint32 // bit q: the port has a column for q
+	finite uint32 // bit q: the column has a finite value
+}
+
+// Decoded returns the series with its times and values in TimesMs and Values: s itself when
+// it holds them, else a new Series decoded from the compact store that this package keeps a
+// series read from input in (the caller may keep it, change it or let it go; s is unchanged).
+// Everything but TimesMs and Values is shared with s.
+func (s *Series) Decoded() *Series {
+	p := s.packed
+	if p == nil {
+		return s
+	}
+	d := &Series{Port: s.Port, Bins: s.Bins, Profiles: s.Profiles, Inputs: s.Inputs}
+	n := p.times.n
+	d.TimesMs = p.times.decode(make([]int64, 0, n))
+	vals := make([]float64, n*popcount(p.has))
+	for q := Quantity(0); q < NumQuantities; q++ {
+		if p.has&(1<<q) == 0 {
+			continue
+		}
+		col := vals[:n:n]
+		vals = vals[n:]
+		p.cols[q].decode(col)
+		d.Values[q] = col
+	}
+	return d
+}
+
+func popcount(m uint32) int {
+	n := 0
+	for ; m != 0; m &= m - 1 {
+		n++
+	}
+	return n
+}
+
+// first is the oldest-arrived time; t must not be empty.
+func (t *timeCol) first() int64 {
+	if t.raw != nil {
+		return t.raw[0]
+	}
+	return t.runs[0].start
+}
+
+// append appends the times of o.
+func (t *timeCol) append(o *timeCol) {
+	if o.raw != nil {
+		t.pushSlice(o.raw)
+		return
+	}
+	for _, r := range o.runs {
+		for i := range r.n {
+			t.push(r.start + int64(i)*r.step)
+		}
+	}
+}

@@ -1,0 +1,121 @@
+package parse
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+	"strconv"
+	"testing"
+)
+
+// Every decimal of at most 7 significant digits that telemetry writes (BER, dB, dBm, ps/nm, …)
+// has a code, and the code decodes to the same float64 as strconv.ParseFloat (the correctly
+// rounded reading, IEEE 754 round to nearest) of its text, bit for bit.
+func TestPackedValuesMatchStrconv(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	for range 200000 {
+		digits := 1 + rng.IntN(7)
+		m := rng.Int64N(int64(math.Pow10(digits)))
+		e := rng.IntN(24) - 20 // 1e-20 … 1e3 scale: BER down to 1e-20, powers, CD
+		text := fmt.Sprintf("%de%d", m, e)
+		if rng.IntN(2) == 0 {
+			text = "-" + text
+		}
+		v, err := strconv.ParseFloat(text, 64)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var hint int8
+		c, ok := packValue(v, &hint)
+		if v == 0 && math.Signbit(v) {
+			if ok {
+				t.Fatalf("%s: -0 packed", text)
+			}
+			continue
+		}
+		if !ok {
+			t.Fatalf("%s (%v): no code", text, v)
+		}
+		if got := unpackValue(c); math.Float64bits(got) != math.Float64bits(v) {
+			t.Fatalf("%s: decoded %v, want %v", text, got, v)
+		}
+	}
+}
+
+// A value with no code is refused, never approximated: whatever float64 goes in, a code that
+// comes out decodes to it exactly.
+func TestPackedValuesNeverApproximate(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	refused := 0
+	for range 200000 {
+		v := math.Float64frombits(rng.Uint64())
+		if rng.IntN(2) == 0 {
+			v = 10 * math.Log10(rng.Float64()) // a converted power: irrational in general
+		}
+		var hint int8
+		c, ok := packValue(v, &hint)
+		if !ok {
+			refused++
+			continue
+		}
+		if got := unpackValue(c); !(math.Float64bits(got) == math.Float64bits(v) || math.IsNaN(v) && math.IsNaN(got)) {
+			t.Fatalf("%v (%x): decoded %v", v, math.Float64bits(v), got)
+		}
+	}
+	if refused == 0 {
+		t.Fatal("no value refused: random doubles and logarithms must mostly have no short code")
+	}
+}
+
+func FuzzPackValue(f *testing.F) {
+	for _, s := range []string{"0.00125", "-5.04", "191.7125", "1.7e12", "1e-22", "0", "67108863", "67108864"} {
+		v, _ := strconv.ParseFloat(s, 64)
+		f.Add(math.Float64bits(v), int8(0))
+	}
+	f.Fuzz(func(t *testing.T, bits uint64, hint int8) {
+		v := math.Float64frombits(bits)
+		c, ok := packValue(v, &hint)
+		if !ok {
+			return
+		}
+		if got := unpackValue(c); !(math.Float64bits(got) == bits || math.IsNaN(v) && math.IsNaN(got)) {
+			t.Fatalf("%v: decoded %v", v, got)
+		}
+	})
+}
+
+// Times go back out as they came in, whatever their spacing; a regular port keeps one run.
+func TestTimeColumn(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	cases := map[string][]int64{"regular": {}, "jittered": {}, "backwards": {}, "gap": {}}
+	for i := range int64(1000) {
+		cases["regular"] = append(cases["regular"], 1773446400000+60000*i)
+		cases["jittered"] = append(cases["jittered"], 1773446400000+60000*i+rng.Int64N(50))
+		cases["backwards"] = append(cases["backwards"], 1773446400000-1000*i)
+		g := 1773446400000 + 900000*i
+		if i >= 500 {
+			g += 7200000
+		}
+		cases["gap"] = append(cases["gap"], g)
+	}
+	for name, xs := range cases {
+		tc := timesOf(xs)
+		if got := tc.decode(nil); !slices.Equal(got, xs) || tc.n != len(xs) || tc.first() != xs[0] || tc.last() != xs[len(xs)-1] {
+			t.Errorf("%s: times changed in the column", name)
+		}
+		var joined timeCol
+		half := timesOf(xs[500:])
+		joined.pushSlice(xs[:500])
+		joined.append(&half)
+		if !slices.Equal(joined.decode(nil), xs) {
+			t.Errorf("%s: appended column differs", name)
+		}
+	}
+	if r := timesOf(cases["regular"]); len(r.runs) != 1 || r.raw != nil {
+		t.Errorf("regular times: %d runs, raw %v; want one run", len(r.runs), r.raw != nil)
+	}
+	if j := timesOf(cases["jittered"]); j.raw == nil {
+		t.Error("jittered times kept as runs")
+	}
+}
