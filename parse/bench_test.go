@@ -7,6 +7,7 @@ import (
 	"io"
 	"strconv"
 	"sync"
+	"syscall"
 	"testing"
 	"time"
 )
@@ -144,4 +145,74 @@ func BenchmarkParseTime(b *testing.B) {
 	for b.Loop() {
 		parseTime(in)
 	}
+}
+
+// benchOpenConfig writes docs OpenConfig documents of ports optical channels each, one document
+// per line, shaped as an export of components and terminal-device state (every leaf in an
+// instant container, the FEC leaves on the logical channel the optical channel is assigned).
+func benchOpenConfig(docs, ports int) []byte {
+	var b bytes.Buffer
+	t0 := time.Date(2026, 3, 14, 0, 0, 0, 0, time.UTC)
+	for d := range docs {
+		b.WriteString(`{"openconfig-platform:components":{"component":[`)
+		for p := range ports {
+			if p > 0 {
+				b.WriteByte(',')
+			}
+			i := d*ports + p
+			fmt.Fprintf(&b, `{"name":"NE%03d-1/%d/C1","optical-channel":{"state":{"carrier-frequency-offset":{"instant":%d},`+
+				`"chromatic-dispersion":{"instant":%d},"frequency":"%d","input-power":{"instant":%.2f},"osnr":{"instant":%.1f},`+
+				`"output-power":{"instant":%.2f},"polarization-dependent-loss":{"instant":%.1f},"polarization-mode-dispersion":{"instant":%.1f},`+
+				`"sop-roc":{"instant":%.1f}}},"state":{"name":"NE%03d-1/%d/C1","type":"openconfig-platform-types:OPTICAL_CHANNEL"}}`,
+				p/4, p%4, i%500-250, 1000+i%3000, 191700000+50000*(p%80), -9+float64(i%50)/10, 25+float64(i%130)/10,
+				-7.5+float64(i%40)/10, 0.3+float64(i%4)/10, 0.2+float64(i%20)/10, 0.1+float64(i%5)/10, p/4, p%4)
+		}
+		b.WriteString(`]},"openconfig-terminal-device:terminal-device":{"logical-channels":{"channel":[`)
+		for p := range ports {
+			if p > 0 {
+				b.WriteByte(',')
+			}
+			i := d*ports + p
+			fmt.Fprintf(&b, `{"index":%d,"logical-channel-assignments":{"assignment":[{"index":1,"state":{"assignment-type":"OPTICAL_CHANNEL",`+
+				`"index":1,"optical-channel":"NE%03d-1/%d/C1"}}]},"otn":{"state":{"esnr":{"instant":%.2f},"fec-uncorrectable-blocks":"%d",`+
+				`"post-fec-ber":{"instant":"0"},"pre-fec-ber":{"instant":"%.3g"},"q-value":{"instant":%.2f}}},`+
+				`"state":{"description":"line NE%03d-1/%d/C1","index":%d,"logical-channel-type":"openconfig-transport-types:PROT_OTN"}}`,
+				p+1, p/4, p%4, 15+float64(i%400)/100, i%3, 1e-3+float64(i%97)*1e-5, 9+float64(i%300)/100, p/4, p%4, p+1)
+		}
+		fmt.Fprintf(&b, "]}},\"timestamp\":%q}\n", t0.Add(time.Duration(d)*time.Minute).Format(time.RFC3339))
+	}
+	return b.Bytes()
+}
+
+var benchOCData = sync.OnceValue(func() []byte { return benchOpenConfig(50, 700) })
+
+// BenchmarkParseOpenConfig is one worker's parse of a block of OpenConfig documents (no
+// reading, hashing or merging): the scanner and the OpenConfig reading alone. cpu-ns/op is the
+// process's CPU time per parse, steadier than the wall time on a shared machine.
+func BenchmarkParseOpenConfig(b *testing.B) {
+	data := benchOCData()
+	b.SetBytes(int64(len(data)))
+	b.ReportAllocs()
+	jp := &jsonParser{file: "bench.json", stat: "instant", mode: jsonModeLines}
+	job := new(csvJob)
+	cpu0 := cpuTime()
+	for b.Loop() {
+		*job = csvJob{data: data, firstLine: 1, names: job.names[:0], rowPort: job.rowPort[:0], times: job.times[:0],
+			vals: job.vals[:0], rowMask: job.rowMask[:0], groupEnd: job.groupEnd[:0], spread: job.spread[:0],
+			gTimes: job.gTimes[:0], gVals: job.gVals[:0], gMask: job.gMask[:0], gOff: job.gOff[:0]}
+		jp.parse(job)
+		if job.nReject != 0 || len(job.times) != 50*700 {
+			b.Fatalf("%d rejected, %d rows", job.nReject, len(job.times))
+		}
+	}
+	b.ReportMetric(float64(cpuTime()-cpu0)/float64(b.N), "cpu-ns/op")
+}
+
+// cpuTime is the CPU time (user and system) the process has used, in nanoseconds.
+func cpuTime() int64 {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return 0
+	}
+	return ru.Utime.Nano() + ru.Stime.Nano()
 }

@@ -238,9 +238,16 @@ type jsonParser struct {
 	members []canonMember
 	unknown []string
 	seenU   map[string]bool
-	ocIdx   map[string]int // port → index of its record in the current OpenConfig document
-	job     *csvJob
-	stopped bool
+	// OpenConfig documents (see openConfig): the port names met, the current document's number
+	// and records, the logical channels components name, and the lists being read.
+	ocPorts  map[string]*ocPort
+	ocDoc    uint32
+	ocRecs   []ocRecord
+	ocLC     map[string][]byte
+	ocList   []listEntry
+	ocAssign []listEntry
+	job      *csvJob
+	stopped  bool
 }
 
 // keySlot remembers the member name met at one position of the previous record and its
@@ -427,13 +434,17 @@ func (rec *record) set(q Quantity, v float64) {
 	rec.mask |= 1 << q
 }
 
-// use adds an accepted row, of the record at line lineNo, to the block.
-func (jp *jsonParser) use(port []byte, t int64, rec *record, lineNo int) {
+// use adds an accepted row, of the record at line lineNo, to the block. The port's name is
+// kept as it is when keep says that it is not the bytes of the input.
+func (jp *jsonParser) use(port string, keep bool, t int64, rec *record, lineNo int) {
 	job := jp.job
-	pi, known := jp.portIdx[bytesString(port)]
+	pi, known := jp.portIdx[port]
 	if !known {
 		pi = int32(len(job.names))
-		name := string(port)
+		name := port
+		if !keep {
+			name = strings.Clone(port)
+		}
 		job.names = append(job.names, name)
 		jp.portIdx[name] = pi
 	}
@@ -576,7 +587,7 @@ func (jp *jsonParser) finishCanonical(lineNo int, haveTime, havePort bool, port 
 				return
 			}
 		}
-		jp.use(port, t, rec, lineNo)
+		jp.use(bytesString(port), false, t, rec, lineNo)
 	}
 }
 

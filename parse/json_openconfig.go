@@ -1,41 +1,52 @@
 package parse
 
 import (
+	"bytes"
 	"fmt"
 	"slices"
 	"strconv"
-	"strings"
 )
 
-// listEntry is one entry of a YANG list, with its key.
+// listEntry is one entry of a YANG list, with its key (bytes of the document, or decoded).
 type listEntry struct {
-	key string
+	key []byte
 	obj int // node of the entry's object
 }
 
-// listEntries reads a YANG list given as a JSON array of entries (RFC 7951) or as an object
-// keyed by the list key (v: its node, -1 when absent). keyLeaf is "index" or "name".
-func (d *jdoc) listEntries(v int, keyLeaf string) []listEntry {
+// listEntries appends to out the entries of a YANG list given as a JSON array of entries (RFC
+// 7951) or as an object keyed by the list key (v: its node, -1 when absent). keyLeaf is
+// "index" or "name".
+func (d *jdoc) listEntries(v int, keyLeaf string, out []listEntry) []listEntry {
 	if v < 0 {
-		return nil
+		return out
 	}
-	keyOf := func(obj int, fallback string) string {
-		for _, src := range [3]int{obj, d.memberObj(obj, "state"), d.memberObj(obj, "config")} {
+	keyOf := func(obj int) ([]byte, bool) {
+		for i := range 3 {
+			src := obj
+			switch i {
+			case 1:
+				src = d.memberObj(obj, "state")
+			case 2:
+				src = d.memberObj(obj, "config")
+			}
 			if m := d.member(src, keyLeaf); m >= 0 {
 				if b, missing := d.scalar(m); !missing {
-					return string(b)
+					return b, true
 				}
 			}
 		}
-		return fallback
+		return nil, false
 	}
-	var out []listEntry
 	switch d.nodes[v].kind {
 	case jArray:
 		i := 0
 		for c := v + 1; c < int(d.nodes[v].end); c = int(d.nodes[c].end) {
 			if d.nodes[c].kind == jObject {
-				out = append(out, listEntry{keyOf(c, strconv.Itoa(i)), c})
+				k, ok := keyOf(c)
+				if !ok {
+					k = strconv.AppendInt(nil, int64(i), 10)
+				}
+				out = append(out, listEntry{k, c})
 			}
 			i++
 		}
@@ -43,15 +54,19 @@ func (d *jdoc) listEntries(v int, keyLeaf string) []listEntry {
 		// Sorted by member name, the last of equal names counting, as decoded into a map.
 		var ms []listEntry
 		for c := v + 1; c < int(d.nodes[v].end); c = int(d.nodes[c].end) {
-			ms = append(ms, listEntry{string(d.key(&d.nodes[c])), c})
+			ms = append(ms, listEntry{d.key(&d.nodes[c]), c})
 		}
-		slices.SortStableFunc(ms, func(a, b listEntry) int { return strings.Compare(a.key, b.key) })
+		slices.SortStableFunc(ms, func(a, b listEntry) int { return bytes.Compare(a.key, b.key) })
 		for i, m := range ms {
-			if i+1 < len(ms) && ms[i+1].key == m.key {
+			if i+1 < len(ms) && bytes.Equal(ms[i+1].key, m.key) {
 				continue
 			}
 			if d.nodes[m.obj].kind == jObject {
-				out = append(out, listEntry{keyOf(m.obj, m.key), m.obj})
+				k, ok := keyOf(m.obj)
+				if !ok {
+					k = m.key
+				}
+				out = append(out, listEntry{k, m.obj})
 			}
 		}
 	}
@@ -150,11 +165,71 @@ func (d *jdoc) field(obj int, name string) int {
 	return f
 }
 
+// ocPort is a port name met in OpenConfig documents, kept by the worker from document to
+// document so that the name is copied and checked once, not in every document.
+type ocPort struct {
+	name string
+	err  error  // CheckPortName(name); nil for the empty name
+	doc  uint32 // the document (jp.ocDoc) in which rec is this port's record
+	rec  int32
+}
+
+// maxOCPorts bounds the port names a worker keeps between documents.
+const maxOCPorts = 1 << 16
+
 // ocRecord is one port's values from one document, with the first bad leaf if any.
 type ocRecord struct {
-	port string
+	port *ocPort
 	rec  record
 	bad  *ParseError
+}
+
+// ocPort returns the record of port name in the current document, added (in order of first
+// mention) when it has none yet.
+func (jp *jsonParser) ocRecord(name []byte) int {
+	p := jp.ocPorts[bytesString(name)]
+	if p == nil {
+		p = &ocPort{name: string(name)}
+		if p.name != "" {
+			p.err = CheckPortName(p.name)
+		}
+		jp.ocPorts[p.name] = p
+	}
+	if p.doc != jp.ocDoc {
+		p.doc, p.rec = jp.ocDoc, int32(len(jp.ocRecs))
+		jp.ocRecs = append(jp.ocRecs, ocRecord{port: p})
+	}
+	return int(p.rec)
+}
+
+// ocLeaves reads the leaves of object state (-1: none) into record r; the path of a bad leaf
+// is pre + key + post + "/" + the leaf's name. Without overwrite, a quantity the record has
+// already is kept.
+func (jp *jsonParser) ocLeaves(r int, state int, leaves []ocLeaf, lineNo int, pre string, key []byte, post string, overwrite bool) {
+	if state < 0 {
+		return
+	}
+	d := &jp.doc
+	var found [16]int
+	d.leafMembers(state, leaves, found[:len(leaves)])
+	for i, l := range leaves {
+		val := d.statValue(found[i], jp.stat)
+		if val < 0 {
+			continue
+		}
+		rec := &jp.ocRecs[r]
+		if !overwrite && rec.rec.mask&(1<<l.col.q) != 0 {
+			continue
+		}
+		v, err := d.quantity(val, l.col)
+		if err != nil {
+			if rec.bad == nil {
+				rec.bad = &ParseError{File: jp.file, Line: lineNo, Field: pre + string(key) + post + "/" + l.name, Err: err}
+			}
+			continue
+		}
+		rec.rec.set(l.col.q, v)
+	}
 }
 
 // openConfig reads the OpenConfig-shaped document in jp.doc: one record per optical channel
@@ -162,91 +237,74 @@ type ocRecord struct {
 func (jp *jsonParser) openConfig(lineNo int) {
 	d := &jp.doc
 	file := jp.file
-	var recs []*ocRecord
-	if jp.ocIdx == nil {
-		jp.ocIdx = map[string]int{}
+	if jp.ocPorts == nil || len(jp.ocPorts) > maxOCPorts {
+		jp.ocPorts = map[string]*ocPort{}
 	}
-	clear(jp.ocIdx)
-	get := func(port string) *ocRecord {
-		if i, ok := jp.ocIdx[port]; ok {
-			return recs[i]
-		}
-		r := &ocRecord{port: port}
-		jp.ocIdx[port] = len(recs)
-		recs = append(recs, r)
-		return r
+	jp.ocDoc++
+	if jp.ocDoc == 0 { // wrapped: no port may think it has a record in this document
+		clear(jp.ocPorts)
+		jp.ocDoc = 1
 	}
-	readLeaves := func(r *ocRecord, state int, leaves []ocLeaf, path string, overwrite bool) {
-		if state < 0 {
-			return
-		}
-		var found [16]int
-		d.leafMembers(state, leaves, found[:len(leaves)])
-		for i, l := range leaves {
-			val := d.statValue(found[i], jp.stat)
-			if val < 0 {
-				continue
-			}
-			if !overwrite && r.rec.mask&(1<<l.col.q) != 0 {
-				continue
-			}
-			v, err := d.quantity(val, l.col)
-			if err != nil {
-				if r.bad == nil {
-					r.bad = &ParseError{File: file, Line: lineNo, Field: path + "/" + l.name, Err: err}
-				}
-				continue
-			}
-			r.rec.set(l.col.q, v)
-		}
-	}
-	lcToPort := map[string]string{}
+	jp.ocRecs = jp.ocRecs[:0]
+	clear(jp.ocLC)
 	if comps := d.memberObj(0, "components"); comps >= 0 {
-		for _, e := range d.listEntries(d.member(comps, "component"), "name") {
+		jp.ocList = d.listEntries(d.member(comps, "component"), "name", jp.ocList[:0])
+		for _, e := range jp.ocList {
 			och := d.memberObj(e.obj, "optical-channel")
 			if och < 0 {
 				continue
 			}
 			state := d.memberObj(och, "state")
-			r := get(e.key)
-			path := "components/component[" + e.key + "]/optical-channel/state"
-			readLeaves(r, state, ocOpticalLeaves, path, true)
-			readLeaves(r, state, ocFECLeaves, path, true)
-			readLeaves(r, e.obj, ocFECLeaves[4:], "components/component["+e.key+"]", false)
+			r := jp.ocRecord(e.key)
+			jp.ocLeaves(r, state, ocOpticalLeaves, lineNo, "components/component[", e.key, "]/optical-channel/state", true)
+			jp.ocLeaves(r, state, ocFECLeaves, lineNo, "components/component[", e.key, "]/optical-channel/state", true)
+			jp.ocLeaves(r, e.obj, ocFECLeaves[4:], lineNo, "components/component[", e.key, "]", false)
 			if a := d.member(state, "logical-channel-assignment"); a >= 0 {
 				if b, missing := d.scalar(a); !missing {
-					lcToPort[string(b)] = e.key
+					if jp.ocLC == nil {
+						jp.ocLC = map[string][]byte{}
+					}
+					jp.ocLC[string(b)] = e.key
 				}
 			}
 		}
 	}
 	if td := d.memberObj(0, "terminal-device"); td >= 0 {
-		for _, e := range d.listEntries(d.member(d.memberObj(td, "logical-channels"), "channel"), "index") {
+		jp.ocList = d.listEntries(d.member(d.memberObj(td, "logical-channels"), "channel"), "index", jp.ocList[:0])
+		for _, e := range jp.ocList {
 			state := d.memberObj(d.memberObj(e.obj, "otn"), "state")
 			if state < 0 {
 				continue
 			}
-			port := ""
-			for _, a := range d.listEntries(d.member(d.memberObj(e.obj, "logical-channel-assignments"), "assignment"), "index") {
-				for _, src := range [2]int{d.memberObj(a.obj, "state"), d.memberObj(a.obj, "config")} {
-					if src < 0 || port != "" {
+			var port []byte
+			jp.ocAssign = d.listEntries(d.member(d.memberObj(e.obj, "logical-channel-assignments"), "assignment"), "index", jp.ocAssign[:0])
+			for _, a := range jp.ocAssign {
+				for i := range 2 {
+					if len(port) != 0 {
 						continue
 					}
-					at := ""
-					if n := d.member(src, "assignment-type"); n >= 0 && d.nodes[n].kind == jString {
-						at = string(d.text(&d.nodes[n]))
+					src := d.memberObj(a.obj, "state")
+					if i == 1 {
+						src = d.memberObj(a.obj, "config")
 					}
-					if och := d.member(src, "optical-channel"); och >= 0 && (at == "" || strings.HasSuffix(at, "OPTICAL_CHANNEL")) {
+					if src < 0 {
+						continue
+					}
+					var at []byte
+					if n := d.member(src, "assignment-type"); n >= 0 && d.nodes[n].kind == jString {
+						at = d.text(&d.nodes[n])
+					}
+					if och := d.member(src, "optical-channel"); och >= 0 && (len(at) == 0 || bytes.HasSuffix(at, []byte("OPTICAL_CHANNEL"))) {
 						if b, missing := d.scalar(och); !missing {
-							port = string(b)
+							port = b
 						}
 					}
 				}
 			}
-			if port == "" {
-				port = lcToPort[e.key]
+			if len(port) == 0 {
+				port = jp.ocLC[bytesString(e.key)]
 			}
-			if port == "" {
+			if len(port) == 0 {
 				hasData := false
 				for _, l := range ocFECLeaves {
 					if d.member(state, l.name) >= 0 {
@@ -256,14 +314,15 @@ func (jp *jsonParser) openConfig(lineNo int) {
 				if !hasData {
 					continue
 				}
-				port = "logical-channel-" + e.key
-				jp.noteOnce(fmt.Sprintf("logical channel %s has OTN data but no optical-channel assignment; read as port %q", e.key, port))
+				name := "logical-channel-" + string(e.key)
+				port = []byte(name)
+				jp.noteOnce(fmt.Sprintf("logical channel %s has OTN data but no optical-channel assignment; read as port %q", e.key, name))
 			}
-			readLeaves(get(port), state, ocFECLeaves, "terminal-device/logical-channels/channel["+e.key+"]/otn/state", false)
+			jp.ocLeaves(jp.ocRecord(port), state, ocFECLeaves, lineNo, "terminal-device/logical-channels/channel[", e.key, "]/otn/state", false)
 		}
 	}
 	job := jp.job
-	if len(recs) == 0 {
+	if len(jp.ocRecs) == 0 {
 		job.rowsRead++
 		jp.reject(&ParseError{File: file, Line: lineNo, Err: ErrNoData})
 		return
@@ -281,31 +340,28 @@ func (jp *jsonParser) openConfig(lineNo int) {
 	} else {
 		t = ms
 	}
-	for _, r := range recs {
+	for i := range jp.ocRecs {
 		if jp.stopped {
 			return
 		}
-		p := r.port
+		r := &jp.ocRecs[i]
+		p := r.port.name
 		job.rowsRead++
-		var nameErr error
-		if _, known := jp.portIdx[p]; !known && p != "" {
-			nameErr = CheckPortName(p)
-		}
 		switch {
 		case timeErr != nil:
 			pe := *timeErr
 			jp.reject(&pe)
 		case r.bad != nil:
 			jp.reject(r.bad)
-		case nameErr != nil: // before the name can appear in any other message
-			jp.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: nameErr})
+		case r.port.err != nil: // before the name can appear in any other message
+			jp.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: r.port.err})
 		case r.rec.mask == 0:
 			jp.reject(&ParseError{File: file, Line: lineNo, Field: p, Err: ErrNoData})
 		case p == "":
 			// A component or assignment with an empty name names no port.
 			jp.reject(&ParseError{File: file, Line: lineNo, Field: "name", Err: fmt.Errorf("%w: empty port name", ErrMissingValue)})
 		default:
-			jp.use([]byte(p), t, &r.rec, lineNo)
+			jp.use(p, true, t, &r.rec, lineNo)
 		}
 	}
 }
