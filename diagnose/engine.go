@@ -52,7 +52,20 @@ type Config struct {
 // Analyze judges every port of ds and returns the Result of the design contract, ports sorted
 // by service impact (SortByImpact). It fails only when a link plan cannot be modelled (the error names the plan).
 func Analyze(ds *parse.Dataset, cfg Config) (*Result, error) {
-	res := &Result{Tool: "beatnote", Version: cfg.Version, Inputs: ds.Inputs, Rejected: ds.Rejected}
+	res := NewResult(ds, cfg.Version)
+	res.Ports = make([]PortResult, len(ds.Series))
+	err := NewJudge(cfg).Each(ds.Series, func(i int, p *PortResult) { res.Ports[i] = *p })
+	if err != nil {
+		return nil, err
+	}
+	SortByImpact(res.Ports)
+	return res, nil
+}
+
+// NewResult is the Result of ds without its ports: the tool, version, inputs and the first 1000
+// rejections.
+func NewResult(ds *parse.Dataset, version string) *Result {
+	res := &Result{Tool: "beatnote", Version: version, Inputs: ds.Inputs, Rejected: ds.Rejected}
 	if res.Inputs == nil {
 		res.Inputs = []parse.InputStats{}
 	}
@@ -62,63 +75,108 @@ func Analyze(ds *parse.Dataset, cfg Config) (*Result, error) {
 	if res.Rejected == nil {
 		res.Rejected = []parse.Rejection{}
 	}
-	setups := make([]Setup, len(ds.Series))
-	expects := map[*rules.Plan]*optics.LinkExpectation{}
-	for i, s := range ds.Series {
-		setups[i] = cfg.Default
-		if cfg.Lookup != nil {
-			if st, ok := cfg.Lookup(s.Port); ok {
-				setups[i] = st
-			}
-		}
-		if p := setups[i].Plan; p != nil {
-			if _, done := expects[p]; !done {
-				e, err := optics.ExpectLink(*p, setups[i].Profile)
-				if err != nil {
-					name := p.Circuit
-					if name == "" {
-						name = "(unnamed circuit)"
-					}
-					return nil, fmt.Errorf("link plan %s: %w", name, err)
-				}
-				expects[p] = &e
-			}
+	return res
+}
+
+// Judge judges ports one at a time or a batch at once, with one Config: each port's setup
+// (Config.Lookup, else Config.Default) and, per link plan, the plan's expectation
+// (optics.ExpectLink), modelled once for all the ports that share the plan.
+type Judge struct {
+	cfg     Config
+	mu      sync.Mutex
+	expects map[*rules.Plan]*optics.LinkExpectation
+}
+
+// NewJudge prepares the judging of ports with cfg.
+func NewJudge(cfg Config) *Judge {
+	return &Judge{cfg: cfg, expects: map[*rules.Plan]*optics.LinkExpectation{}}
+}
+
+// Setup is the setup port is judged against.
+func (j *Judge) Setup(port string) Setup {
+	if j.cfg.Lookup != nil {
+		if st, ok := j.cfg.Lookup(port); ok {
+			return st
 		}
 	}
-	res.Ports = make([]PortResult, len(ds.Series))
-	workers := cfg.Workers
+	return j.cfg.Default
+}
+
+// expect models plan p once; the error names the plan.
+func (j *Judge) expect(p *rules.Plan, prof rules.Profile) (*optics.LinkExpectation, error) {
+	if p == nil {
+		return nil, nil
+	}
+	j.mu.Lock()
+	defer j.mu.Unlock()
+	if e, done := j.expects[p]; done {
+		return e, nil
+	}
+	e, err := optics.ExpectLink(*p, prof)
+	if err != nil {
+		name := p.Circuit
+		if name == "" {
+			name = "(unnamed circuit)"
+		}
+		return nil, fmt.Errorf("link plan %s: %w", name, err)
+	}
+	j.expects[p] = &e
+	return &e, nil
+}
+
+// Each judges every port of series on Config.Workers goroutines and hands each result to fn
+// with the port's index, from the goroutine that judged it (fn must be safe for concurrent
+// use; the result is fn's to keep). The plans of all the ports are modelled first, in order:
+// the first that cannot be modelled is the error, and nothing is judged.
+func (j *Judge) Each(series []*parse.Series, fn func(i int, p *PortResult)) error {
+	setups := make([]Setup, len(series))
+	for i, s := range series {
+		setups[i] = j.Setup(s.Port)
+		if _, err := j.expect(setups[i].Plan, setups[i].Profile); err != nil {
+			return err
+		}
+	}
+	workers := j.cfg.Workers
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
 	var wg sync.WaitGroup
 	next := make(chan int)
-	for w := 0; w < workers; w++ {
+	for w := 0; w < min(workers, len(series)); w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
 			for i := range next {
-				st := setups[i]
-				// The port's columns are decoded for its judging only; the result points at
-				// the stored series (see parse.Series.Decoded).
-				s := ds.Series[i].Decoded()
-				res.Ports[i] = analyzePort(s, st.Profile, st.Plan, expects[st.Plan], cfg.Rules, cfg.CorrelationsOnDemand)
-				res.Ports[i].ProfileSource, res.Ports[i].Line, res.Ports[i].Peer, res.Ports[i].Module = st.ProfileSource, st.Line, st.Peer, st.Module
-				if cfg.Acceptance != nil {
-					judgeAcceptance(&res.Ports[i], s, st, cfg.Rules, *cfg.Acceptance)
-				}
-				if an := res.Ports[i].Analysis; an != nil {
-					an.Series = ds.Series[i]
-				}
+				p := j.port(series[i], setups[i])
+				fn(i, &p)
 			}
 		}()
 	}
-	for i := range ds.Series {
+	for i := range series {
 		next <- i
 	}
 	close(next)
 	wg.Wait()
-	SortByImpact(res.Ports)
-	return res, nil
+	return nil
+}
+
+// port judges one port whose plan is already modelled.
+func (j *Judge) port(s *parse.Series, st Setup) PortResult {
+	j.mu.Lock()
+	exp := j.expects[st.Plan]
+	j.mu.Unlock()
+	// The port's columns are decoded for its judging only; the result points at the stored
+	// series (see parse.Series.Decoded).
+	d := s.Decoded()
+	p := analyzePort(d, st.Profile, st.Plan, exp, j.cfg.Rules, j.cfg.CorrelationsOnDemand)
+	p.ProfileSource, p.Line, p.Peer, p.Module = st.ProfileSource, st.Line, st.Peer, st.Module
+	if j.cfg.Acceptance != nil {
+		judgeAcceptance(&p, d, st, j.cfg.Rules, *j.cfg.Acceptance)
+	}
+	if p.Analysis != nil {
+		p.Analysis.Series = s
+	}
+	return p
 }
 
 func topConfidence(p *PortResult) float64 {

@@ -114,30 +114,54 @@ func (a Impact) less(b Impact) (less, decided bool) {
 	return false, false
 }
 
+// RankKey is what places a port in the orders of SortByImpact and SortByMargin, read from its
+// judgement: a port can be ranked from its key alone, without its result.
+type RankKey struct {
+	Port          string
+	Impact        Impact
+	TopConfidence float64 // the top cause's confidence, 0 without causes
+	QMargin       float64 // the Q margin to the FEC threshold, 1e9 when unknown
+}
+
+// RankKeyOf reads p's rank key.
+func RankKeyOf(p *PortResult) RankKey {
+	return RankKey{Port: p.Port, Impact: ImpactOf(p), TopConfidence: topConfidence(p), QMargin: qMargin(p)}
+}
+
+// ImpactBefore reports whether a comes before b in the service-impact order (SortByImpact).
+func ImpactBefore(a, b *RankKey) bool {
+	if l, ok := a.Impact.less(b.Impact); ok {
+		return l
+	}
+	if a.TopConfidence != b.TopConfidence {
+		return a.TopConfidence > b.TopConfidence
+	}
+	return a.Port < b.Port
+}
+
+// MarginBefore reports whether a comes before b in the Q-margin order (SortByMargin).
+func MarginBefore(a, b *RankKey) bool {
+	if a.QMargin != b.QMargin {
+		return a.QMargin < b.QMargin
+	}
+	return a.Port < b.Port
+}
+
 // SortByImpact orders ports by service impact: dark (loss of signal or of frame) first, most
 // dark samples first; then uncorrected FEC blocks, most first; then Q below the FEC threshold,
 // most negative margin first; then trends forecast to reach a limit within the horizon,
 // soonest first; then the other failing ports, the marginal ones, those with no data and the
 // passing ones. Ties go to the confidence of the top cause, then the port id.
 func SortByImpact(ports []PortResult) {
-	keys := make([]Impact, len(ports))
+	keys := make([]RankKey, len(ports))
 	for i := range ports {
-		keys[i] = ImpactOf(&ports[i])
+		keys[i] = RankKeyOf(&ports[i])
 	}
 	idx := make([]int, len(ports))
 	for i := range idx {
 		idx[i] = i
 	}
-	sort.SliceStable(idx, func(i, j int) bool {
-		a, b := idx[i], idx[j]
-		if l, ok := keys[a].less(keys[b]); ok {
-			return l
-		}
-		if ca, cb := topConfidence(&ports[a]), topConfidence(&ports[b]); ca != cb {
-			return ca > cb
-		}
-		return ports[a].Port < ports[b].Port
-	})
+	sort.SliceStable(idx, func(i, j int) bool { return ImpactBefore(&keys[idx[i]], &keys[idx[j]]) })
 	permute(ports, idx)
 }
 
@@ -145,11 +169,8 @@ func SortByImpact(ports []PortResult) {
 // Q figure last; ties by port id.
 func SortByMargin(ports []PortResult) {
 	sort.SliceStable(ports, func(i, j int) bool {
-		qa, qb := qMargin(&ports[i]), qMargin(&ports[j])
-		if qa != qb {
-			return qa < qb
-		}
-		return ports[i].Port < ports[j].Port
+		a, b := RankKey{Port: ports[i].Port, QMargin: qMargin(&ports[i])}, RankKey{Port: ports[j].Port, QMargin: qMargin(&ports[j])}
+		return MarginBefore(&a, &b)
 	})
 }
 

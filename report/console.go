@@ -319,8 +319,10 @@ type TriageRow struct {
 	Dark          int    // samples without signal (their Q and power are left out of the figures)
 	Summary       string // first evidence sentence of the top cause
 	Impact        string // the service-impact rung and its figure (ImpactText)
-	// LineFindings are the ids of the line findings the port points at.
+	// LineFindings are the ids of the line findings the port points at; LineRefs the pointers
+	// themselves (SetLineRefs sets both).
 	LineFindings []diagnose.LineFindingID
+	LineRefs     []diagnose.LineRef
 }
 
 // ImpactText says in a few words why a port ranks where it does (diagnose.SortByImpact).
@@ -344,41 +346,62 @@ func ImpactText(im diagnose.Impact) string {
 	return im.Tier.String()
 }
 
-// TriageRows turns ranked ports into table rows.
+// TriageRows turns ranked ports into table rows, ranked 1, 2, … in their order.
 func TriageRows(ports []diagnose.PortResult) []TriageRow {
 	rows := make([]TriageRow, len(ports))
-	for i, p := range ports {
-		r := TriageRow{Rank: i + 1, Port: p.Port, Circuit: p.Circuit, Profile: p.Profile, ProfileSource: p.ProfileSource, Verdict: p.Verdict, Samples: p.Samples,
-			Impact: ImpactText(diagnose.ImpactOf(&ports[i]))}
-		if len(p.Causes) > 0 {
-			r.Cause, r.Confidence = p.Causes[0].ID, p.Causes[0].Confidence
-			if len(p.Causes[0].Evidence) > 0 {
-				r.Summary = p.Causes[0].Evidence[0]
-			}
-			for _, c := range p.Causes[1:] {
-				r.Others = append(r.Others, c.ID)
-			}
-		}
-		for _, lf := range p.LineFindings {
-			if !slices.Contains(r.LineFindings, lf.ID) {
-				r.LineFindings = append(r.LineFindings, lf.ID)
-			}
-		}
-		if m, ok := p.Metrics[parse.QdB.Column()]; ok {
-			r.QMarginDB = m.Margin
-		}
-		for _, c := range p.Criteria {
-			if c.Statistic == "count" && c.Unit == "samples" {
-				r.Dark = int(c.Measured)
-			}
-		}
-		if m, ok := p.Metrics[parse.RxPowerDBm.Column()]; ok {
-			v := m.P50
-			r.RxPowerDBm = &v
-		}
-		rows[i] = r
+	for i := range ports {
+		rows[i] = TriageRowOf(&ports[i])
+		rows[i].Rank = i + 1
 	}
 	return rows
+}
+
+// TriageRowOf is port p's row of the triage table, without its rank: everything the triage
+// table, its CSV and Markdown, the count per cause and the filters need of the port.
+func TriageRowOf(p *diagnose.PortResult) TriageRow {
+	r := TriageRow{Port: p.Port, Circuit: p.Circuit, Profile: p.Profile, ProfileSource: p.ProfileSource, Verdict: p.Verdict, Samples: p.Samples,
+		Impact: ImpactText(diagnose.ImpactOf(p))}
+	if len(p.Causes) > 0 {
+		r.Cause, r.Confidence = p.Causes[0].ID, p.Causes[0].Confidence
+		if len(p.Causes[0].Evidence) > 0 {
+			r.Summary = p.Causes[0].Evidence[0]
+		}
+		for _, c := range p.Causes[1:] {
+			r.Others = append(r.Others, c.ID)
+		}
+	}
+	r.SetLineRefs(p.LineFindings)
+	if m, ok := p.Metrics[parse.QdB.Column()]; ok {
+		r.QMarginDB = m.Margin
+	}
+	for _, c := range p.Criteria {
+		if c.Statistic == "count" && c.Unit == "samples" {
+			r.Dark = int(c.Measured)
+		}
+	}
+	if m, ok := p.Metrics[parse.RxPowerDBm.Column()]; ok {
+		v := m.P50
+		r.RxPowerDBm = &v
+	}
+	return r
+}
+
+// SetLineRefs gives the row the port's pointers to line findings (PortResult.LineFindings).
+func (r *TriageRow) SetLineRefs(refs []diagnose.LineRef) {
+	r.LineRefs, r.LineFindings = refs, nil
+	for _, lf := range refs {
+		if !slices.Contains(r.LineFindings, lf.ID) {
+			r.LineFindings = append(r.LineFindings, lf.ID)
+		}
+	}
+}
+
+// Causes are the ids of every cause the port lists, the top one first.
+func (r *TriageRow) Causes() []diagnose.CauseID {
+	if r.Cause == "" {
+		return nil
+	}
+	return append([]diagnose.CauseID{r.Cause}, r.Others...)
 }
 
 // JoinIDs joins cause or line finding ids with sep.
@@ -397,16 +420,17 @@ type CauseCount struct {
 	Ports int    `json:"ports"`
 }
 
-// CountCauses counts each cause over ports, most frequent on top first. A cause that a line
-// finding explains on the port is counted under the line finding's id: one line event, not N
-// port causes.
-func CountCauses(ports []diagnose.PortResult) []CauseCount {
+// CountCauses counts each cause over the ports' rows, most frequent on top first. A cause that
+// a line finding explains on the port is counted under the line finding's id: one line event,
+// not N port causes.
+func CountCauses(rows []TriageRow) []CauseCount {
 	m := map[string]*CauseCount{}
-	for _, p := range ports {
-		for i, c := range p.Causes {
-			id := string(c.ID)
-			for _, lf := range p.LineFindings {
-				if lf.Explains == c.ID {
+	for k := range rows {
+		r := &rows[k]
+		for i, c := range r.Causes() {
+			id := string(c)
+			for _, lf := range r.LineRefs {
+				if lf.Explains == c {
 					id = string(lf.ID)
 				}
 			}
@@ -448,17 +472,18 @@ func optValue(v *float64, unit string, signed bool) string {
 }
 
 // TriageSummary counts ports per verdict.
-func TriageSummary(ports []diagnose.PortResult) map[diagnose.Verdict]int {
+func TriageSummary(rows []TriageRow) map[diagnose.Verdict]int {
 	m := map[diagnose.Verdict]int{}
-	for _, p := range ports {
-		m[p.Verdict]++
+	for i := range rows {
+		m[rows[i].Verdict]++
 	}
 	return m
 }
 
-// WriteTriageText writes the ranked table of shown (already filtered and cut to
-// the top N), the count per cause over all (the filtered set before the cut), and the inputs.
-func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.PortResult) error {
+// WriteTriageText writes the ranked table of shown (already filtered, ranked and cut to the top
+// N), the count per cause over all (the filtered set before the cut), and the lines, inputs and
+// rejections of res (its Ports are not read).
+func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []TriageRow) error {
 	v := TriageSummary(all)
 	fmt.Fprintf(w, "%d ports: %d fail, %d marginal, %d pass, %d no data", len(all), v[diagnose.Fail], v[diagnose.Marginal], v[diagnose.Pass], v[diagnose.NoData])
 	if len(shown) < len(all) {
@@ -467,7 +492,7 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 	fmt.Fprintln(w)
 	fmt.Fprintln(w)
 	writeLinesText(w, res.Lines)
-	rows := TriageRows(shown)
+	rows := shown
 	withLines := slices.ContainsFunc(rows, func(r TriageRow) bool { return len(r.LineFindings) > 0 })
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	lineHead := ""
@@ -515,7 +540,7 @@ func WriteTriageText(w io.Writer, res *diagnose.Result, shown, all []diagnose.Po
 // verdict, impact,
 // top cause, confidence, other causes (separated by "|"), Q margin (dB), median rx power (dBm),
 // samples, and the top cause's first evidence sentence.
-func WriteTriageCSV(w io.Writer, shown []diagnose.PortResult) error {
+func WriteTriageCSV(w io.Writer, shown []TriageRow) error {
 	cw := csv.NewWriter(w)
 	_ = cw.Write([]string{"rank", "port", "circuit", "profile", "profile_source", "verdict", "impact", "top_cause", "confidence", "other_causes", "q_margin_db", "rx_power_p50_dbm", "samples", "evidence"})
 	f := func(v *float64) string {
@@ -524,7 +549,7 @@ func WriteTriageCSV(w io.Writer, shown []diagnose.PortResult) error {
 		}
 		return strconv.FormatFloat(*v, 'f', 2, 64)
 	}
-	for _, r := range TriageRows(shown) {
+	for _, r := range shown {
 		conf := ""
 		if r.Cause != "" {
 			conf = strconv.FormatFloat(r.Confidence, 'f', 3, 64)
@@ -541,13 +566,13 @@ func WriteTriageCSV(w io.Writer, shown []diagnose.PortResult) error {
 }
 
 // WriteTriageMarkdown writes the ranked table and the count per cause as Markdown, for tickets.
-func WriteTriageMarkdown(w io.Writer, lines []diagnose.LineResult, shown, all []diagnose.PortResult) error {
+func WriteTriageMarkdown(w io.Writer, lines []diagnose.LineResult, shown, all []TriageRow) error {
 	v := TriageSummary(all)
 	fmt.Fprintf(w, "## Triage: %d ports — %d fail, %d marginal, %d pass, %d no data\n\n", len(all), v[diagnose.Fail], v[diagnose.Marginal], v[diagnose.Pass], v[diagnose.NoData])
 	writeLinesMarkdown(w, lines)
 	fmt.Fprintln(w, "| # | port | verdict | impact | top cause | confidence | also | line finding | Q margin | rx power (p50) | evidence |")
 	fmt.Fprintln(w, "|---:|---|---|---|---|---:|---|---|---:|---:|---|")
-	for _, r := range TriageRows(shown) {
+	for _, r := range shown {
 		conf := ""
 		if r.Cause != "" {
 			conf = fmt.Sprintf("%.2f", r.Confidence)

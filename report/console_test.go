@@ -47,7 +47,7 @@ func consolePorts() []diagnose.PortResult {
 }
 
 func TestConsoleCountCauses(t *testing.T) {
-	got := CountCauses(consolePorts())
+	got := CountCauses(TriageRows(consolePorts()))
 	if len(got) != 2 || got[0].ID != string(diagnose.CauseSOPTransient) || got[0].Top != 1 || got[0].Ports != 2 ||
 		got[1].ID != string(diagnose.CauseRxPowerLow) || got[1].Top != 1 || got[1].Ports != 1 {
 		t.Errorf("CountCauses = %+v", got)
@@ -56,7 +56,7 @@ func TestConsoleCountCauses(t *testing.T) {
 
 func TestConsoleTriageCSVAndMarkdown(t *testing.T) {
 	var b bytes.Buffer
-	if err := WriteTriageCSV(&b, consolePorts()); err != nil {
+	if err := WriteTriageCSV(&b, TriageRows(consolePorts())); err != nil {
 		t.Fatal(err)
 	}
 	rows, err := csv.NewReader(&b).ReadAll()
@@ -67,7 +67,7 @@ func TestConsoleTriageCSVAndMarkdown(t *testing.T) {
 		t.Errorf("CSV rows = %q", rows)
 	}
 	b.Reset()
-	WriteTriageMarkdown(&b, nil, consolePorts()[:1], consolePorts())
+	WriteTriageMarkdown(&b, nil, TriageRows(consolePorts()[:1]), TriageRows(consolePorts()))
 	md := b.String()
 	if !strings.Contains(md, `a\|1`) || !strings.Contains(md, "3 ports — 1 fail, 1 marginal, 1 pass") {
 		t.Errorf("markdown:\n%s", md)
@@ -101,7 +101,7 @@ func TestConsoleDarkSamplesAndNoCause(t *testing.T) {
 		Criteria: []diagnose.Criterion{{Name: "Samples without signal", Metric: "rx_power_dbm", Statistic: "count", Measured: 164, Unit: "samples", Verdict: diagnose.Fail}}}}
 	var b bytes.Buffer
 	res := &diagnose.Result{Ports: ports}
-	if err := WriteTriageText(&b, res, ports, ports); err != nil {
+	if err := WriteTriageText(&b, res, TriageRows(ports), TriageRows(ports)); err != nil {
 		t.Fatal(err)
 	}
 	if out := b.String(); !strings.Contains(out, "+3.38 dB (lit)") || !strings.Contains(out, "1018, 164 dark") {

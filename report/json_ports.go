@@ -21,12 +21,71 @@ import (
 // written before it stays written, so the output is then not a whole JSON document and the
 // caller must fail.
 func WriteResultJSON(w io.Writer, res *diagnose.Result) error {
+	return writeResultJSON(w, res, func(jw *jsonStream) { writeList(jw, "ports", res.Ports, false) })
+}
+
+// PortJSON is port p as json.Marshal encodes it, but without its line findings: what
+// WriteResultJSONPorts takes back, with the line findings found later.
+func PortJSON(p *diagnose.PortResult) ([]byte, error) {
+	q := *p
+	q.LineFindings = nil
+	return json.Marshal(&q)
+}
+
+// WriteResultJSONPorts writes what WriteResultJSON writes for res with n ports (res.Ports is not
+// read): the i-th port (i < n) is given by port as its PortJSON bytes and its line findings.
+// Each port is held only while it is written.
+func WriteResultJSONPorts(w io.Writer, res *diagnose.Result, n int, port func(i int) (compact []byte, lf []diagnose.LineRef, err error)) error {
+	return writeResultJSON(w, res, func(j *jsonStream) {
+		j.key("ports")
+		if n == 0 {
+			j.bw.WriteString("[]")
+			j.end(false)
+			return
+		}
+		j.bw.WriteString("[\n")
+		var spliced []byte
+		for i := 0; i < n; i++ {
+			compact, lf, err := port(i)
+			if err == nil && len(lf) > 0 {
+				// line_findings is the last member of a port (PortResult's last field):
+				// json.Marshal of the port with them is the port without them, less its
+				// closing brace, then the member.
+				var js []byte
+				if js, err = json.Marshal(lf); err == nil && len(compact) > 0 && compact[len(compact)-1] == '}' {
+					spliced = append(append(append(spliced[:0], compact[:len(compact)-1]...), `,"line_findings":`...), js...)
+					compact = append(spliced, '}')
+				}
+			}
+			if err == nil {
+				j.buf.Reset()
+				err = json.Indent(&j.buf, compact, "    ", "  ")
+			}
+			if err != nil {
+				j.err = err
+				return
+			}
+			if i > 0 {
+				j.bw.WriteString(",\n")
+			}
+			j.bw.WriteString("    ")
+			j.bw.Write(j.buf.Bytes())
+		}
+		j.bw.WriteString("\n  ]")
+		j.end(false)
+	})
+}
+
+// writeResultJSON writes the members of res in order, the ports by ports.
+func writeResultJSON(w io.Writer, res *diagnose.Result, ports func(*jsonStream)) error {
 	jw := jsonStream{bw: bufio.NewWriterSize(w, 64<<10)}
 	jw.bw.WriteString("{\n")
 	jw.member("tool", res.Tool, false)
 	jw.member("version", res.Version, false)
 	writeList(&jw, "inputs", res.Inputs, false)
-	writeList(&jw, "ports", res.Ports, false)
+	if jw.err == nil {
+		ports(&jw)
+	}
 	writeList(&jw, "rejected", res.Rejected, len(res.Lines) == 0 && len(res.Directions) == 0)
 	if len(res.Lines) > 0 { // omitempty
 		writeList(&jw, "lines", res.Lines, len(res.Directions) == 0)

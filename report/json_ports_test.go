@@ -108,3 +108,42 @@ func TestWriteResultJSONError(t *testing.T) {
 		}
 	}
 }
+
+// The ports given back as their PortJSON bytes and line findings give the Encoder's bytes of the
+// whole result: with no ports, and with ports with and without line findings (the splice of the
+// line findings holds only while they are a port's last member).
+func TestWriteResultJSONPortsMatchesEncoder(t *testing.T) {
+	for _, n := range []int{0, 1, 7, 64} {
+		res := manyPorts(n)
+		res.Ports = slices.Clip(res.Ports)
+		if res.Ports == nil {
+			res.Ports = []diagnose.PortResult{}
+		}
+		for i := range res.Ports {
+			if i%2 == 1 {
+				res.Ports[i].Line = "L<1>"
+				res.Ports[i].LineFindings = []diagnose.LineRef{{Line: "L<1>", ID: diagnose.LineOSNRDrop, From: "t", Explains: diagnose.CauseOSNRLow}}
+				if i%4 == 3 {
+					res.Ports[i].LineFindings = append(res.Ports[i].LineFindings, diagnose.LineRef{Line: "L<1>", ID: diagnose.LineOutage})
+				}
+			}
+		}
+		res.Lines = []diagnose.LineResult{{Line: "L<1>", Ports: []string{"a"}}}
+		want, err := encoderJSON(res)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var got bytes.Buffer
+		err = WriteResultJSONPorts(&got, &diagnose.Result{Tool: res.Tool, Version: res.Version, Inputs: res.Inputs, Rejected: res.Rejected, Lines: res.Lines},
+			len(res.Ports), func(i int) ([]byte, []diagnose.LineRef, error) {
+				js, err := PortJSON(&res.Ports[i])
+				return js, res.Ports[i].LineFindings, err
+			})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !bytes.Equal(got.Bytes(), want) {
+			t.Errorf("%d ports: output differs from json.Encoder (%d vs %d bytes)", n, got.Len(), len(want))
+		}
+	}
+}

@@ -103,8 +103,50 @@ func (a *analysis) readConfig(role, path string) ([]byte, error) {
 // port's test period and error performance are judged too (check and report).
 // Errors it returns are usage or input errors (exit 2).
 func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool, acc *diagnose.AcceptanceTest, pr *printer) (*analysis, error) {
+	a, cfg, err := prepare(paths, jf, mapFile, requireProfile, acc, pr)
+	if err != nil {
+		return nil, err
+	}
+	res, err := diagnose.Analyze(a.DS, cfg)
+	if err != nil {
+		return nil, err
+	}
+	line.Reason(res, cfg.Rules)
+	a.Result = res
+	return a, nil
+}
+
+// prepare reads the configuration files and the inputs, says what the run will assume (notes)
+// and checks that every port has a profile: everything analyze does before judging. It returns
+// the analysis with DS and ReadErr set, and the Config to judge the ports with.
+func prepare(paths []string, jf judgeFlags, mapFile string, requireProfile bool, acc *diagnose.AcceptanceTest, pr *printer) (*analysis, diagnose.Config, error) {
 	boundHeap()
 	a := &analysis{}
+	cfg, pm, err := a.configure(jf, mapFile)
+	if err != nil {
+		return nil, cfg, err
+	}
+	if err := jf.checkSource(paths); err != nil {
+		return nil, cfg, err
+	}
+	if a.Plan != nil {
+		jf.storeFlags.ports = a.Plan.Ports // a store is asked for the plan's ports only
+	}
+	ds, readErr := readInputs(paths, jf, pr)
+	if ds == nil {
+		return nil, cfg, readErr
+	}
+	if cfg, err = a.screen(ds, readErr, cfg, pm, jf.Strict, requireProfile, acc, pr); err != nil {
+		return nil, cfg, err
+	}
+	a.DS, a.ReadErr = ds, readErr
+	return a, cfg, nil
+}
+
+// configure reads --profiles, --rules, --plan and the port map and gives the Config they make,
+// with the port map (nil without one).
+func (a *analysis) configure(jf judgeFlags, mapFile string) (diagnose.Config, *rules.PortMap, error) {
+	var cfg diagnose.Config
 	profiles, err := rules.BuiltinProfiles()
 	if jf.Profiles != "" {
 		var data []byte
@@ -113,7 +155,7 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		}
 	}
 	if err != nil {
-		return nil, err
+		return cfg, nil, err
 	}
 	rs, err := rules.DefaultRules()
 	if jf.Rules != "" {
@@ -123,17 +165,17 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		}
 	}
 	if err != nil {
-		return nil, err
+		return cfg, nil, err
 	}
 	var plan *rules.Plan
 	if jf.Plan != "" {
 		data, err := a.readConfig("link plan", jf.Plan)
 		if err != nil {
-			return nil, err
+			return cfg, nil, err
 		}
 		p, err := rules.ParsePlan(jf.Plan, data, profiles...)
 		if err != nil {
-			return nil, err
+			return cfg, nil, err
 		}
 		plan = &p
 		a.Configs[len(a.Configs)-1].Plan = plan
@@ -143,11 +185,11 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	if mapFile != "" {
 		data, err := a.readConfig("port map", mapFile)
 		if err != nil {
-			return nil, err
+			return cfg, nil, err
 		}
 		m, err := rules.ParsePortMap(mapFile, data, profiles...)
 		if err != nil {
-			return nil, err
+			return cfg, nil, err
 		}
 		pm = &m
 	}
@@ -161,30 +203,28 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 	}
 	defProf, err := rules.ProfileByID(profiles, defID)
 	if err != nil {
-		return nil, usageErrorf("--profile: %w", err)
+		return cfg, nil, usageErrorf("--profile: %w", err)
 	}
-	cfg := diagnose.Config{Version: version, Rules: rs, Default: diagnose.Setup{Profile: defProf, Plan: plan, ProfileSource: defSource},
+	cfg = diagnose.Config{Version: version, Rules: rs, Default: diagnose.Setup{Profile: defProf, Plan: plan, ProfileSource: defSource},
 		// Nothing the commands print uses a correlation no cause asked for.
 		CorrelationsOnDemand: true}
 	if pm != nil {
 		lk, err := a.portMapLookup(pm, profiles, jf.Profile, cfg.Default)
 		if err != nil {
-			return nil, err
+			return cfg, nil, err
 		}
 		cfg.Lookup = lk
 	}
 
-	if err := jf.checkSource(paths); err != nil {
-		return nil, err
-	}
-	if plan != nil {
-		jf.storeFlags.ports = plan.Ports // a store is asked for the plan's ports only
-	}
-	ds, readErr := readInputs(paths, jf, pr)
-	if ds == nil {
-		return nil, readErr
-	}
-	if jf.Strict && readErr != nil {
+	return cfg, pm, nil
+}
+
+// screen checks what was read before anything is judged — --strict's stops, nothing usable, the
+// profile of every port — and notes what was skipped, rejected and assumed; it gives cfg each
+// port's profile from its data where that names it, and the acceptance test (acc, when set) the
+// rejected rows.
+func (a *analysis) screen(ds *parse.Dataset, readErr error, cfg diagnose.Config, pm *rules.PortMap, strict, requireProfile bool, acc *diagnose.AcceptanceTest, pr *printer) (diagnose.Config, error) {
+	if strict && readErr != nil {
 		// Say exactly how far each stopped input was read, and why it stopped.
 		var errs []error
 		for _, in := range ds.Inputs {
@@ -196,7 +236,7 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		if errs == nil {
 			errs = append(errs, readErr)
 		}
-		return nil, errors.Join(errs...)
+		return cfg, errors.Join(errs...)
 	}
 	if countSamples(ds) == 0 {
 		for i, r := range ds.Rejected {
@@ -206,9 +246,9 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 			pr.Errorf("%s:%d: %s", r.File, r.Line, r.Reason)
 		}
 		if readErr != nil {
-			return nil, readErr
+			return cfg, readErr
 		}
-		return nil, errors.New("nothing usable was read: no row was accepted (try 'beatnote scan' to see why)")
+		return cfg, errors.New("nothing usable was read: no row was accepted (try 'beatnote scan' to see why)")
 	}
 	if n := len(ds.Skipped); n > 0 {
 		pr.Notef("%d files in folders skipped as not telemetry, e.g. %s (%s); 'beatnote scan' lists them", n, ds.Skipped[0].File, ds.Skipped[0].Reason)
@@ -221,33 +261,11 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		acc.Rejected, acc.RejectedByPort = rejected, rejectedByPort(ds)
 		cfg.Acceptance = acc
 	}
-	unmapped, assumed := 0, 0
+	ps := a.newProfileScreen(cfg, pm)
 	byColumn := map[string]diagnose.Setup{}
-	var mixed, overridden []string
 	for _, s := range ds.Series {
-		st, ok := cfg.Default, false
-		if cfg.Lookup != nil {
-			if st, ok = cfg.Lookup(s.Port); !ok {
-				st = cfg.Default
-			}
-		}
-		if pm != nil && !ok {
-			unmapped++
-		}
-		st, note, err := profileFromData(s, st, profiles)
-		if err != nil {
-			return nil, err
-		}
-		switch {
-		case st.ProfileSource == diagnose.ProfileFromColumn:
+		if st := ps.add(s); st.ProfileSource == diagnose.ProfileFromColumn {
 			byColumn[s.Port] = st
-		case len(s.Profiles) > 1 && st.ProfileSource == diagnose.ProfileAssumed:
-			mixed = append(mixed, note)
-		case note != "":
-			overridden = append(overridden, note)
-		}
-		if st.ProfileSource == diagnose.ProfileAssumed {
-			assumed++
 		}
 	}
 	if len(byColumn) > 0 {
@@ -262,33 +280,106 @@ func analyze(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 			return diagnose.Setup{}, false
 		}
 	}
-	if assumed > 0 && requireProfile {
-		why := ""
-		if len(mixed) > 0 {
-			why = fmt.Sprintf("; %d of them name two profiles in their rows, e.g. %s", len(mixed), mixed[0])
-		}
-		return nil, fmt.Errorf("%d of %d ports have no known profile (no --profile, --plan, port map entry or profile column names it%s): pass --profile ID or --map PORTMAP.yaml rather than judge them on an assumed %s", assumed, len(ds.Series), why, defProf.ID)
+	return cfg, ps.finish(requireProfile, pr)
+}
+
+// profileScreen places ports on their profiles one at a time (add) and then says what it had to
+// assume (finish). Of the notes and errors it keeps the one of the smallest port id, the first
+// in a Dataset's order, so the ports may come in any order.
+type profileScreen struct {
+	a        *analysis
+	cfg      diagnose.Config
+	pm       *rules.PortMap
+	ports    int
+	unmapped int
+	assumed  int
+	// mixed and overridden count the ports whose rows name two profiles (none chosen) or
+	// another than the one they are judged on, with the note of the smallest port.
+	mixed, overridden firstNote
+	err               firstNote
+	errValue          error
+}
+
+// firstNote counts notes and keeps the one of the smallest port.
+type firstNote struct {
+	n          int
+	port, note string
+}
+
+func (f *firstNote) add(port, note string) {
+	if f.n == 0 || port < f.port {
+		f.port, f.note = port, note
 	}
-	if unmapped > 0 {
-		pr.Notef("%d of %d ports are not in the port map %s: judged against profile %s%s", unmapped, len(ds.Series), pm.File, defProf.ID,
+	f.n++
+}
+
+func (a *analysis) newProfileScreen(cfg diagnose.Config, pm *rules.PortMap) *profileScreen {
+	return &profileScreen{a: a, cfg: cfg, pm: pm}
+}
+
+// add gives port s its setup: the port map's (or the default), with the profile its data names
+// when nothing stronger names one (profileFromData).
+func (ps *profileScreen) add(s *parse.Series) diagnose.Setup {
+	ps.ports++
+	st, ok := ps.cfg.Default, false
+	if ps.cfg.Lookup != nil {
+		if st, ok = ps.cfg.Lookup(s.Port); !ok {
+			st = ps.cfg.Default
+		}
+	}
+	if ps.pm != nil && !ok {
+		ps.unmapped++
+	}
+	st, note, err := profileFromData(s, st, ps.a.Profiles)
+	if err != nil {
+		if ps.err.n == 0 || s.Port < ps.err.port {
+			ps.errValue = err
+		}
+		ps.err.add(s.Port, "")
+		return st
+	}
+	switch {
+	case st.ProfileSource == diagnose.ProfileFromColumn:
+	case len(s.Profiles) > 1 && st.ProfileSource == diagnose.ProfileAssumed:
+		ps.mixed.add(s.Port, note)
+	case note != "":
+		ps.overridden.add(s.Port, note)
+	}
+	if st.ProfileSource == diagnose.ProfileAssumed {
+		ps.assumed++
+	}
+	return st
+}
+
+// finish returns the error of the smallest port whose data names an unknown profile, or with
+// requireProfile the refusal to judge ports on the assumed profile; else it notes what was
+// assumed.
+func (ps *profileScreen) finish(requireProfile bool, pr *printer) error {
+	if ps.errValue != nil {
+		return ps.errValue
+	}
+	defProf, plan := ps.cfg.Default.Profile, ps.a.Plan
+	if ps.assumed > 0 && requireProfile {
+		why := ""
+		if ps.mixed.n > 0 {
+			why = fmt.Sprintf("; %d of them name two profiles in their rows, e.g. %s", ps.mixed.n, ps.mixed.note)
+		}
+		return fmt.Errorf("%d of %d ports have no known profile (no --profile, --plan, port map entry or profile column names it%s): pass --profile ID or --map PORTMAP.yaml rather than judge them on an assumed %s", ps.assumed, ps.ports, why, defProf.ID)
+	}
+	if ps.unmapped > 0 {
+		pr.Notef("%d of %d ports are not in the port map %s: judged against profile %s%s", ps.unmapped, ps.ports, ps.pm.File, defProf.ID,
 			map[bool]string{true: " and the --plan given", false: " without a plan"}[plan != nil])
 	}
-	if len(mixed) > 0 {
-		pr.Notef("%s two profiles in their rows, so the data does not say which applies, e.g. %s", words.Plural(len(mixed), "port names", "ports name"), mixed[0])
+	if ps.mixed.n > 0 {
+		pr.Notef("%s two profiles in their rows, so the data does not say which applies, e.g. %s", words.Plural(ps.mixed.n, "port names", "ports name"), ps.mixed.note)
 	}
-	if len(overridden) > 0 {
-		pr.Notef("%s judged on another profile than their data names, e.g. %s", words.Plural(len(overridden), "port is", "ports are"), overridden[0])
+	if ps.overridden.n > 0 {
+		pr.Notef("%s judged on another profile than their data names, e.g. %s", words.Plural(ps.overridden.n, "port is", "ports are"), ps.overridden.note)
 	}
-	if assumed > 0 {
-		pr.Notef("%d of %d ports judged against the assumed default profile %s: nothing names theirs (pass --profile ID; see 'beatnote profiles')", assumed, len(ds.Series), defProf.ID)
+	if ps.assumed > 0 {
+		pr.Notef("%d of %d ports judged against the assumed default profile %s: nothing names theirs (pass --profile ID; see 'beatnote profiles')", ps.assumed, ps.ports, defProf.ID)
 	}
-	res, err := diagnose.Analyze(ds, cfg)
-	if err != nil {
-		return nil, err
-	}
-	line.Reason(res, rs)
-	a.DS, a.Result, a.ReadErr = ds, res, readErr
-	return a, nil
+	return nil
 }
 
 // rejectedByPort counts, for each port whose inputs are known, the rows rejected in the inputs
@@ -481,15 +572,23 @@ func readWithProgress(paths []string, opt parse.Options, pr *printer) (*parse.Da
 
 // exitFor maps a finished analysis to the exit status of the design contract: 2 when an input
 // could not be read completely, 1 when some port is marginal or failing — or could not be
-// judged at all (no-data is not a pass) — else 0.
-func exitFor(a *analysis, ports []diagnose.PortResult) error {
+// judged at all (no-data is not a pass) — else 0. allPass says whether every port passes.
+func exitFor(a *analysis, allPass bool) error {
 	if a.ReadErr != nil {
 		return &exitError{code: 2, err: a.ReadErr}
 	}
-	for _, p := range ports {
-		if p.Verdict != diagnose.Pass {
-			return errNotPassing
-		}
+	if !allPass {
+		return errNotPassing
 	}
 	return nil
+}
+
+// allPass reports whether every port passes.
+func allPass(ports []diagnose.PortResult) bool {
+	for i := range ports {
+		if ports[i].Verdict != diagnose.Pass {
+			return false
+		}
+	}
+	return true
 }

@@ -105,7 +105,7 @@ func (c *CheckCmd) Run(g *Globals, pr *printer) error {
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}
-	return exitFor(a, res.Ports)
+	return exitFor(a, allPass(res.Ports))
 }
 
 // directionPairs pairs the ports that are the two directions of one circuit: each port with the

@@ -55,13 +55,13 @@ func (c *TriageCmd) validate() error {
 	return nil
 }
 
-func (c *TriageCmd) keep(p *diagnose.PortResult) bool {
-	if len(c.Verdict) > 0 && !slices.Contains(c.Verdict, string(p.Verdict)) {
+func (c *TriageCmd) keep(r *report.TriageRow) bool {
+	if len(c.Verdict) > 0 && !slices.Contains(c.Verdict, string(r.Verdict)) {
 		return false
 	}
 	if len(c.Cause) > 0 {
-		for _, cs := range p.Causes {
-			if slices.Contains(c.Cause, string(cs.ID)) {
+		for _, id := range r.Causes() {
+			if slices.Contains(c.Cause, string(id)) {
 				return true
 			}
 		}
@@ -70,46 +70,39 @@ func (c *TriageCmd) keep(p *diagnose.PortResult) bool {
 	return true
 }
 
-// Run reads, judges, filters, ranks and prints.
+// Run reads, judges, filters, ranks and prints. Each port is kept only as its rank key and
+// table row while the others are judged, its JSON waiting in a temporary file (triageRun).
 func (c *TriageCmd) Run(g *Globals, pr *printer) error {
 	if err := c.validate(); err != nil {
 		return err
 	}
-	a, err := analyze(c.Paths, c.judgeFlags, c.Map, true, nil, pr)
+	a, cfg, err := prepare(c.Paths, c.judgeFlags, c.Map, true, nil, pr)
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}
-	res := a.Result
-	all := make([]diagnose.PortResult, 0, len(res.Ports))
-	for i := range res.Ports {
-		if c.keep(&res.Ports[i]) {
-			all = append(all, res.Ports[i])
-		}
-	}
-	switch c.Sort {
-	case "margin":
-		diagnose.SortByMargin(all)
-	case "port":
-		diagnose.SortByPort(all)
-	}
-	shown := all
-	if c.Top > 0 && len(shown) > c.Top {
-		shown = shown[:c.Top]
-	}
-	switch c.Format {
-	case "json":
-		out := *res
-		out.Ports = shown
-		err = report.WriteResultJSON(pr.Out(), &out)
-	case "csv":
-		err = report.WriteTriageCSV(pr.Out(), shown)
-	case "markdown":
-		err = report.WriteTriageMarkdown(pr.Out(), res.Lines, shown, all)
-	default:
-		err = report.WriteTriageText(pr.Out(), res, shown, all)
-	}
+	t := newTriageRun(cfg, c.Format == "json")
+	defer t.close()
+	ds := a.DS
+	ports := make([]triagePort, len(ds.Series))
+	err = diagnose.NewJudge(cfg).Each(ds.Series, func(i int, p *diagnose.PortResult) {
+		ports[i] = t.take(p)
+		ds.Series[i] = nil // judged: its series is not needed any more
+	})
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}
-	return exitFor(a, shown)
+	res := diagnose.NewResult(ds, cfg.Version)
+	a.DS = nil
+	if res.Lines, err = t.lines(ports); err != nil {
+		return &exitError{code: 2, err: err}
+	}
+	shown, err := c.write(pr.Out(), t, res, c.rank(ports))
+	if err != nil {
+		return &exitError{code: 2, err: err}
+	}
+	pass := true
+	for i := range shown {
+		pass = pass && shown[i].Verdict == diagnose.Pass
+	}
+	return exitFor(a, pass)
 }

@@ -181,7 +181,7 @@ func (c *WatchCmd) Run(g *Globals, pr *printer) error {
 	case ws.result == nil:
 		return &exitError{code: 2, err: fmt.Errorf("gNMI %s: no sample arrived", c.Target)}
 	}
-	return exitFor(ws.result, ws.result.Result.Ports)
+	return exitFor(ws.result, allPass(ws.result.Result.Ports))
 }
 
 // sample records one sample time, re-judges the whole session and redraws.

@@ -59,59 +59,100 @@ type onset struct {
 	hasOSNR  bool
 }
 
-// channel is one port of a line with what the line reasoning needs of it.
-type channel struct {
-	p        *diagnose.PortResult
-	s        *parse.Series
-	spanMs   int64
-	stepMs   int64
-	onsets   map[diagnose.LineFindingID][]onset
-	osnrHave bool
+// Channel is what the line reasoning needs of one port on a line, taken while the port's series
+// is at hand (NewChannel) so that the series need not be kept: its span and sample interval, its
+// onsets of every kind, and its DGD samples for the pooled mean.
+type Channel struct {
+	Port, Line string
+	firstMs    int64
+	lastMs     int64
+	spanMs     int64
+	stepMs     int64
+	onsets     map[diagnose.LineFindingID][]onset
+	osnrHave   bool
+	// DGD holds the port's DGD samples that are not negative (nor NaN), in time order; the
+	// caller may move them elsewhere and give them back through ReasonChannels' dgd.
+	DGD []float64
+	// tolerancePs is the DGD tolerance of the port's profile (0: none stated).
+	tolerancePs float64
+}
+
+// OnLine reports whether the line reasoning takes p: a port with a line and an analysed,
+// non-empty series.
+func OnLine(p *diagnose.PortResult) bool {
+	return p.Line != "" && p.Analysis != nil && p.Analysis.Series != nil && p.Analysis.Series.Len() > 0
 }
 
 // Reason groups res.Ports by their Line, finds each line's events and its pooled mean DGD,
 // sets res.Lines (lines by name) and points every affected port at its findings. Ports without
 // a line, or without an Analysis, are left alone. r gives the thresholds.
 func Reason(res *diagnose.Result, r rules.Rules) {
-	byLine := map[string][]*diagnose.PortResult{}
+	var chans []*Channel
+	byPort := map[string]*diagnose.PortResult{}
 	for i := range res.Ports {
 		p := &res.Ports[i]
-		if p.Line != "" && p.Analysis != nil && p.Analysis.Series != nil && p.Analysis.Series.Len() > 0 {
-			byLine[p.Line] = append(byLine[p.Line], p)
+		if OnLine(p) {
+			chans = append(chans, NewChannel(p, r))
+			byPort[p.Port] = p
 		}
+	}
+	res.Lines, _ = ReasonChannels(chans, r, nil) // without dgd there is no error
+	for port, refs := range Refs(res.Lines) {
+		if p := byPort[port]; p != nil {
+			p.LineFindings = append(p.LineFindings, refs...)
+		}
+	}
+}
+
+// ReasonChannels groups the channels by their Line and finds each line's events and its pooled
+// mean DGD: the lines by name. dgd, when set, gives a channel's DGD samples (those its DGD held
+// when taken; its error is returned); nil reads Channel.DGD. The samples are asked for one line
+// at a time.
+func ReasonChannels(chans []*Channel, r rules.Rules, dgd func(c *Channel) ([]float64, error)) ([]diagnose.LineResult, error) {
+	byLine := map[string][]*Channel{}
+	for _, c := range chans {
+		byLine[c.Line] = append(byLine[c.Line], c)
 	}
 	names := make([]string, 0, len(byLine))
 	for n := range byLine {
 		names = append(names, n)
 	}
 	sort.Strings(names)
-	res.Lines = nil
+	var out []diagnose.LineResult
 	for _, n := range names {
-		ports := byLine[n]
-		sort.Slice(ports, func(i, j int) bool { return ports[i].Port < ports[j].Port })
-		lr := analyzeLine(n, ports, r)
+		cs := byLine[n]
+		sort.Slice(cs, func(i, j int) bool { return cs[i].Port < cs[j].Port })
+		lr, err := analyzeLine(n, cs, r, dgd)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, lr)
+	}
+	return out, nil
+}
+
+// Refs gives, for every port a line finding affects, its pointers to the findings: by line, then
+// in the line's order of findings.
+func Refs(lines []diagnose.LineResult) map[string][]diagnose.LineRef {
+	out := map[string][]diagnose.LineRef{}
+	for _, lr := range lines {
 		for _, f := range lr.Findings {
-			for _, p := range ports {
-				if slices.Contains(f.PortsAffected, p.Port) {
-					p.LineFindings = append(p.LineFindings, diagnose.LineRef{Line: n, ID: f.ID, From: f.From, Explains: f.Explains})
-				}
+			for _, port := range f.PortsAffected {
+				out[port] = append(out[port], diagnose.LineRef{Line: lr.Line, ID: f.ID, From: f.From, Explains: f.Explains})
 			}
 		}
-		res.Lines = append(res.Lines, lr)
 	}
+	return out
 }
 
 // analyzeLine finds the events of one line.
-func analyzeLine(name string, ports []*diagnose.PortResult, r rules.Rules) diagnose.LineResult {
+func analyzeLine(name string, chans []*Channel, r rules.Rules, dgd func(c *Channel) ([]float64, error)) (diagnose.LineResult, error) {
 	lr := diagnose.LineResult{Line: name, Findings: []diagnose.LineFinding{}}
-	chans := make([]*channel, len(ports))
 	var fromMs, toMs int64 = math.MaxInt64, math.MinInt64
 	var steps []int64
-	for i, p := range ports {
-		lr.Ports = append(lr.Ports, p.Port)
-		c := newChannel(p, r)
-		chans[i] = c
-		fromMs, toMs = min(fromMs, c.s.TimesMs[0]), max(toMs, c.s.TimesMs[c.s.Len()-1])
+	for _, c := range chans {
+		lr.Ports = append(lr.Ports, c.Port)
+		fromMs, toMs = min(fromMs, c.firstMs), max(toMs, c.lastMs)
 		steps = append(steps, c.stepMs)
 	}
 	slices.Sort(steps)
@@ -139,16 +180,24 @@ func analyzeLine(name string, ports []*diagnose.PortResult, r rules.Rules) diagn
 		}
 	}
 	sort.SliceStable(lr.Findings, func(i, j int) bool { return lr.Findings[i].From < lr.Findings[j].From })
-	lr.PMD = pooledPMD(chans)
-	return lr
+	pmd, err := pooledPMD(chans, dgd)
+	lr.PMD = pmd
+	return lr, err
 }
 
-// newChannel collects a port's onsets of every kind.
-func newChannel(p *diagnose.PortResult, r rules.Rules) *channel {
+// NewChannel takes what the line reasoning needs of port p (OnLine(p) must hold): its onsets of
+// every kind, from its analysis and its series, and its DGD samples.
+func NewChannel(p *diagnose.PortResult, r rules.Rules) *Channel {
 	an := p.Analysis
 	s := an.Series.Decoded()
-	c := &channel{p: p, s: s, spanMs: max(s.TimesMs[s.Len()-1]-s.TimesMs[0], 1), stepMs: max(series.MedianStepMs(s.TimesMs), 1),
-		onsets: map[diagnose.LineFindingID][]onset{}}
+	c := &Channel{Port: p.Port, Line: p.Line, firstMs: s.TimesMs[0], lastMs: s.TimesMs[s.Len()-1],
+		spanMs: max(s.TimesMs[s.Len()-1]-s.TimesMs[0], 1), stepMs: max(series.MedianStepMs(s.TimesMs), 1),
+		onsets: map[diagnose.LineFindingID][]onset{}, tolerancePs: an.Profile.DGDTolerancePs}
+	for _, x := range s.Values[parse.DGDps] {
+		if x >= 0 { // NaN fails
+			c.DGD = append(c.DGD, x)
+		}
+	}
 	for _, d := range an.DarkRuns {
 		c.onsets[diagnose.LineOutage] = append(c.onsets[diagnose.LineOutage], onset{ms: d.FromMs, end: d.ToMs, size: float64(d.Samples)})
 	}
@@ -207,7 +256,7 @@ func (c cluster) k() int { return len(c.members) }
 
 // clusterOnsets groups the onsets of kind id: each cluster starts at the earliest onset not
 // yet grouped and takes, per channel, the first onset within windowMs of it.
-func clusterOnsets(chans []*channel, id diagnose.LineFindingID, windowMs int64) []cluster {
+func clusterOnsets(chans []*Channel, id diagnose.LineFindingID, windowMs int64) []cluster {
 	var all []onset
 	for i, c := range chans {
 		for _, o := range c.onsets[id] {
@@ -239,7 +288,7 @@ func clusterOnsets(chans []*channel, id diagnose.LineFindingID, windowMs int64) 
 // chance is the Bonferroni-bounded probability that k or more of the line's channels (those
 // that report the quantity) show an onset of kind id inside some window of windowMs by
 // chance, each at its own rate (see the package comment).
-func chance(chans []*channel, id diagnose.LineFindingID, k int, windowMs, spanMs int64) float64 {
+func chance(chans []*Channel, id diagnose.LineFindingID, k int, windowMs, spanMs int64) float64 {
 	var p []float64
 	for _, c := range chans {
 		if id == diagnose.LineOSNRDrop && !c.osnrHave {
@@ -278,7 +327,7 @@ func PoissonBinomialTail(p []float64, k int) float64 {
 }
 
 // finding turns the clusters of one kind into a line finding with its evidence.
-func finding(id diagnose.LineFindingID, chans []*channel, clusters []cluster, windowMs, spanMs, endMs int64) diagnose.LineFinding {
+func finding(id diagnose.LineFindingID, chans []*Channel, clusters []cluster, windowMs, spanMs, endMs int64) diagnose.LineFinding {
 	f := diagnose.LineFinding{ID: id, Explains: explains[id]}
 	affected := map[string]bool{}
 	best := 1.0
@@ -286,7 +335,7 @@ func finding(id diagnose.LineFindingID, chans []*channel, clusters []cluster, wi
 	for _, cl := range clusters {
 		best = math.Min(best, cl.chance)
 		for _, o := range cl.members {
-			affected[chans[o.ch].p.Port] = true
+			affected[chans[o.ch].Port] = true
 			fromMs, toMs = min(fromMs, o.ms), max(toMs, o.end)
 		}
 	}
@@ -375,14 +424,16 @@ func finding(id diagnose.LineFindingID, chans []*channel, clusters []cluster, wi
 
 // pooledPMD is the fibre's mean DGD from every DGD sample of every channel (the average over
 // time and wavelength of ITU-T G.650.2), and the Maxwellian tail at the smallest tolerance.
-func pooledPMD(chans []*channel) *diagnose.LinePMD {
+// dgd, when set, gives each channel's samples (else Channel.DGD).
+func pooledPMD(chans []*Channel, dgd func(c *Channel) ([]float64, error)) (*diagnose.LinePMD, error) {
 	var all []float64
 	out := &diagnose.LinePMD{ChannelMeanMinPs: math.Inf(1), ChannelMeanMaxPs: math.Inf(-1), TolerancePs: math.Inf(1)}
 	for _, c := range chans {
-		var v []float64
-		for _, x := range c.s.Values[parse.DGDps] {
-			if x >= 0 { // NaN fails
-				v = append(v, x)
+		v := c.DGD
+		if dgd != nil {
+			var err error
+			if v, err = dgd(c); err != nil {
+				return nil, err
 			}
 		}
 		if len(v) == 0 {
@@ -391,13 +442,13 @@ func pooledPMD(chans []*channel) *diagnose.LinePMD {
 		m := optics.MeanDGDFromSamples(v)
 		out.Channels++
 		out.ChannelMeanMinPs, out.ChannelMeanMaxPs = math.Min(out.ChannelMeanMinPs, m), math.Max(out.ChannelMeanMaxPs, m)
-		if tol := c.p.Analysis.Profile.DGDTolerancePs; tol > 0 {
+		if tol := c.tolerancePs; tol > 0 {
 			out.TolerancePs = math.Min(out.TolerancePs, tol)
 		}
 		all = append(all, v...)
 	}
 	if out.Channels == 0 {
-		return nil
+		return nil, nil
 	}
 	out.Samples = len(all)
 	out.MeanDGDPs = optics.MeanDGDFromSamples(all)
@@ -406,7 +457,7 @@ func pooledPMD(chans []*channel) *diagnose.LinePMD {
 	} else {
 		out.ExceedProbability = optics.MaxwellExceedProbability(out.TolerancePs, out.MeanDGDPs)
 	}
-	return out
+	return out, nil
 }
 
 func finiteMean(v []float64) float64 {
