@@ -7,7 +7,9 @@ import (
 	"fmt"
 	"github.com/beatnote/beatnote/report/words"
 	"os"
+	"runtime"
 	"runtime/debug"
+	"runtime/metrics"
 	"time"
 
 	"github.com/beatnote/beatnote/diagnose"
@@ -140,6 +142,7 @@ func prepare(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		return nil, cfg, err
 	}
 	a.DS, a.ReadErr = ds, readErr
+	tightenHeap()
 	return a, cfg, nil
 }
 
@@ -464,6 +467,29 @@ func boundHeap() {
 	if os.Getenv("GOGC") == "" {
 		debug.SetGCPercent(gcPercent)
 	}
+}
+
+// judgeHeadroomBytes is the heap growth allowed for the garbage of judging once the inputs
+// are read (see tightenHeap).
+const judgeHeadroomBytes = 48 << 20
+
+// tightenHeap sets the collector's target, once the inputs are read, to the live heap plus
+// judgeHeadroomBytes (at most gcPercent of it, at least 5 %), unless the user set GOGC. The live
+// heap is then almost all the dataset's pointer-free columns, which a collection does not scan,
+// so collecting more often costs little, while a percentage of a large dataset would let the
+// garbage of judging grow the process by hundreds of megabytes.
+func tightenHeap() {
+	if os.Getenv("GOGC") != "" {
+		return
+	}
+	sample := []metrics.Sample{{Name: "/gc/heap/live:bytes"}}
+	runtime.GC()
+	metrics.Read(sample)
+	live := sample[0].Value.Uint64()
+	if live == 0 {
+		return
+	}
+	debug.SetGCPercent(min(max(int(100*judgeHeadroomBytes/live), 5), gcPercent))
 }
 
 // portMapLookup gives each mapped port its plan and profile. Plans are read once each (and
