@@ -78,6 +78,12 @@ func readJSON(res *fileResult, r io.Reader, opt Options) {
 		jr.mode = jsonModeStream
 		f.cut = cutDocuments(false)
 	}
+	if jr.mode != jsonModeLines || len(firstLine(buf[start:])) >= bigDocument {
+		// Documents such as OpenConfig snapshots are large: blocks of several of them, so that
+		// a block's fixed costs (cutting off the rest, grouping and merging each port's rows)
+		// are shared by more rows.
+		f.block = 4 * chunkSize
+	}
 	runBlocks(res, r, opt, f, buf, line, eof, readErr)
 	if len(jr.unknown) > 0 {
 		names := make([]string, 0, len(jr.unknown))
@@ -98,6 +104,10 @@ func readJSON(res *fileResult, r io.Reader, opt Options) {
 	}
 }
 
+// bigDocument is the length of a JSON Lines line from which documents are read in larger
+// blocks (see readJSON).
+const bigDocument = 64 << 10
+
 func firstLine(b []byte) []byte {
 	if i := bytes.IndexByte(b, '\n'); i >= 0 {
 		return b[:i]
@@ -106,6 +116,9 @@ func firstLine(b []byte) []byte {
 }
 
 func skipSpace(b []byte, i int) int {
+	if i < len(b) && b[i] > ' ' {
+		return i
+	}
 	for i < len(b) && (b[i] == ' ' || b[i] == '\t' || b[i] == '\r' || b[i] == '\n') {
 		i++
 	}

@@ -99,6 +99,10 @@ var ocFECLeaves = []ocLeaf{
 	{"fec-uncorrectable-blocks", column{kind: colQuantity, q: UncorrectedBlocks}},
 }
 
+// ocStateLeaves are the leaves of an optical channel's state: the optical ones, then the FEC
+// ones a 400ZR-style optical channel carries itself.
+var ocStateLeaves = slices.Concat(ocOpticalLeaves, ocFECLeaves)
+
 // leafMembers sets out[i] to d.member(obj, leaves[i].name) for every leaf, in one pass over
 // the object's members.
 func (d *jdoc) leafMembers(obj int, leaves []ocLeaf, out []int) {
@@ -132,6 +136,15 @@ func (d *jdoc) leafMembers(obj int, leaves []ocLeaf, out []int) {
 			out[i] = -1
 		}
 	}
+}
+
+func lastColon(b []byte) int {
+	for i := len(b) - 1; i >= 0; i-- {
+		if b[i] == ':' {
+			return i
+		}
+	}
+	return -1
 }
 
 // statValue picks the chosen statistic out of an instant/avg/min/max container (falling back
@@ -256,8 +269,7 @@ func (jp *jsonParser) openConfig(lineNo int) {
 			}
 			state := d.memberObj(och, "state")
 			r := jp.ocRecord(e.key)
-			jp.ocLeaves(r, state, ocOpticalLeaves, lineNo, "components/component[", e.key, "]/optical-channel/state", true)
-			jp.ocLeaves(r, state, ocFECLeaves, lineNo, "components/component[", e.key, "]/optical-channel/state", true)
+			jp.ocLeaves(r, state, ocStateLeaves, lineNo, "components/component[", e.key, "]/optical-channel/state", true)
 			jp.ocLeaves(r, e.obj, ocFECLeaves[4:], lineNo, "components/component[", e.key, "]", false)
 			if a := d.member(state, "logical-channel-assignment"); a >= 0 {
 				if b, missing := d.scalar(a); !missing {

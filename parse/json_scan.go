@@ -193,12 +193,27 @@ func (d *jdoc) value(i int, k0, k1 int, keyEsc bool) (int, error) {
 	return i, nil
 }
 
+// strPlain marks the bytes a string can hold as they are: not the quote, the backslash, a
+// control character or a byte ≥ 0x80.
+var strPlain = func() (t [256]bool) {
+	for c := 0x20; c < 0x80; c++ {
+		t[c] = c != '"' && c != '\\'
+	}
+	return t
+}()
+
 // str scans the string starting with the quote at data[i]: s0:s1 is its raw text, esc says
 // whether it needs decoding (escapes or bytes ≥ 0x80), j is the offset after the closing quote.
 func (d *jdoc) str(i int) (s0, s1 int, esc bool, j int, err error) {
 	data := d.data
 	s0 = i + 1
 	for j = s0; j < len(data); j++ {
+		for j < len(data) && strPlain[data[j]] {
+			j++
+		}
+		if j >= len(data) {
+			break
+		}
 		c := data[j]
 		switch {
 		case c == '"':
@@ -302,7 +317,8 @@ func (d *jdoc) keyIs(n *jnode, name string) bool {
 
 // member finds the member name of object node obj (-1: none), also when the member name carries
 // a module prefix ("module:name"); of several members with the same name the last counts, as
-// when decoding into a map. A member whose value is null counts as absent (-1).
+// when decoding into a map. A member whose value is null counts as absent (-1). name holds no
+// colon.
 func (d *jdoc) member(obj int, name string) int {
 	if obj < 0 || d.nodes[obj].kind != jObject {
 		return -1
@@ -310,14 +326,20 @@ func (d *jdoc) member(obj int, name string) int {
 	exact, prefixed := -1, -1
 	for c := obj + 1; c < int(d.nodes[obj].end); c = int(d.nodes[c].end) {
 		n := &d.nodes[c]
-		if d.keyIs(n, name) {
-			exact = c
-			continue
+		var k []byte
+		if n.keyEsc {
+			k = []byte(d.keys[n.keyIndex])
+		} else {
+			k = d.data[n.k0:n.k1]
 		}
-		if prefixed < 0 {
-			k := d.key(n)
-			if len(k) > len(name) && k[len(k)-len(name)-1] == ':' && string(k[len(k)-len(name):]) == name &&
-				lastColon(k) == len(k)-len(name)-1 {
+		switch {
+		case len(k) == len(name):
+			if string(k) == name {
+				exact = c
+			}
+		case prefixed < 0 && len(k) > len(name):
+			// the last colon is just before name, which has none
+			if p := len(k) - len(name); k[p-1] == ':' && string(k[p:]) == name {
 				prefixed = c
 			}
 		}
@@ -330,15 +352,6 @@ func (d *jdoc) member(obj int, name string) int {
 		return -1
 	}
 	return m
-}
-
-func lastColon(b []byte) int {
-	for i := len(b) - 1; i >= 0; i-- {
-		if b[i] == ':' {
-			return i
-		}
-	}
-	return -1
 }
 
 // memberObj is member when its value is an object, else -1.
