@@ -19,11 +19,12 @@ type recycler struct {
 	size int // bytes of a new block buffer
 }
 
-// newRecycler keeps up to n blocks; size is the input's size when known (0: unknown), so that a
-// small file gets a block its size rather than a whole chunkSize to allocate and clear.
-func newRecycler(n int, size int64) *recycler {
-	r := &recycler{bufs: make(chan *[]byte, n), jobs: make(chan *csvJob, n), size: chunkSize}
-	if size > 0 && size < chunkSize {
+// newRecycler keeps up to n blocks of block bytes; size is the input's size when known (0:
+// unknown), so that a small file gets a block its size rather than a whole block to allocate and
+// clear.
+func newRecycler(n int, size int64, block int) *recycler {
+	r := &recycler{bufs: make(chan *[]byte, n), jobs: make(chan *csvJob, n), size: block}
+	if size > 0 && size < int64(block) {
 		r.size = int(size) + 1 // + 1: room to see the end of the input without growing
 	}
 	return r
@@ -237,6 +238,8 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 
 // blockFormat is what runBlocks needs to know of one input format.
 type blockFormat struct {
+	// block is the size of a block (0: chunkSize).
+	block int
 	// cut returns the length of the longest prefix of b made of whole records (0: none);
 	// final says that the input ends there (what follows is not read).
 	cut func(b []byte) (n int, final bool)
@@ -264,7 +267,10 @@ func cutLines(b []byte) (int, bool) { return bytes.LastIndexByte(b, '\n') + 1, f
 // row wins" stay exact.
 func runBlocks(res *fileResult, r io.Reader, opt Options, f blockFormat, carry []byte, line int, eof bool, readErr error) {
 	workers := opt.workers()
-	rec := newRecycler(4*workers+4, res.sizeHint)
+	if f.block == 0 {
+		f.block = chunkSize
+	}
+	rec := newRecycler(4*workers+4, res.sizeHint, f.block)
 	var stop atomic.Bool
 	order := make(chan *csvJob, workers)
 	jobs := make(chan *csvJob, workers)
