@@ -43,6 +43,10 @@ type csvLayout struct {
 	qmask        uint32
 	times        *timeReader // how the time column is read (nil: built-in formats, UTC)
 	bins         *binLayout  // bin companions (min/max columns, bin length); nil when none
+	// fast: rows may take csvParser.fastRow (no profile or bin columns); mark: the decimal
+	// mark besides '.' ('.' itself when there is no other)
+	fast bool
+	mark byte
 }
 
 // sniffDelimiter picks the most frequent of tab, semicolon and comma outside quotes; ties go to
@@ -139,6 +143,11 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 	if bl.any() {
 		notes = append(notes, bl.valueFallbacks(lay)...)
 		lay.bins = bl
+	}
+	lay.fast = lay.bins == nil && lay.profileCol < 0
+	lay.mark = '.'
+	if lay.decimalComma {
+		lay.mark = ','
 	}
 	var missing []string
 	if lay.timeCol < 0 {
@@ -258,6 +267,7 @@ type csvParser struct {
 	// the last time field parsed and its value: rows of one sample time usually follow each other
 	lastTime   []byte
 	lastTimeMs int64
+	days       dayCache
 	portIdx    map[string]int32 // port name → index into the current job's names
 }
 
@@ -321,6 +331,14 @@ func isBlank(b []byte) bool {
 
 // row parses one record into job, or says why it is rejected.
 func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
+	if cp.lay.fast && cp.fastRow(job, ln) {
+		return nil
+	}
+	return cp.splitRow(job, ln, lineNo)
+}
+
+// splitRow is row for any line: it splits the line into fields, then reads them.
+func (cp *csvParser) splitRow(job *csvJob, ln []byte, lineNo int) *ParseError {
 	lay := cp.lay
 	var err error
 	cp.fields, cp.scratch, err = splitFields(ln, lay.delim, cp.fields, cp.scratch)
@@ -341,7 +359,7 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 		t = cp.lastTimeMs
 	} else {
 		var ok bool
-		if t, ok = lay.times.parse(tf); !ok {
+		if t, ok = cp.days.parse(lay.times, tf); !ok {
 			return cp.fieldErr(lineNo, lay.timeCol, lay.times.badTime(tf))
 		}
 		cp.lastTime = append(cp.lastTime[:0], tf...)
@@ -365,7 +383,7 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 		prof = fields[fi]
 	}
 	for j, fi := range lay.qFields {
-		v, pe := cp.value(fields, lineNo, fi, lay.qs[j])
+		v, pe := cp.value(fields[fi], lineNo, fi, lay.qs[j])
 		if pe != nil {
 			return pe
 		}
@@ -390,6 +408,123 @@ func (cp *csvParser) row(job *csvJob, ln []byte, lineNo int) *ParseError {
 	return nil
 }
 
+// fastRow reads a row of the common shape in one pass over ln, finding the separators while it
+// reads the numbers: no field quoted or padded with blanks, and nothing to reject. It stores
+// the row and returns true, or stores nothing and returns false; row then reads the line and,
+// when it is to be rejected, says why. What it accepts it reads as splitRow does: the same time
+// reader and caches, value for any number outside scanFloat's fast path (missing, decimal comma,
+// long), the same unit conversion and range checks.
+func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
+	lay := cp.lay
+	delim := lay.delim
+	n := len(ln)
+	base := len(job.vals)
+	last := len(lay.cols) - 1
+	var t int64
+	var pf []byte
+	i := 0
+	for c := range lay.cols {
+		col := lay.cols[c]
+		var e int // end of the field: a delimiter, or n
+		switch col.kind {
+		case colQuantity:
+			v, m, ok := scanFloat(ln[i:], lay.mark)
+			e = i + m
+			if ok && (e == n || ln[e] == delim) {
+				if col.conv != convNone {
+					if v, ok = col.convert(v); !ok {
+						goto slow
+					}
+				}
+				if !(v >= plainLo[col.q] && v <= plainHi[col.q]) && checkRange(col.q, v) != nil {
+					goto slow
+				}
+			} else {
+				e = fieldEnd(ln, i, delim)
+				if !cp.plain(ln[i:e]) {
+					goto slow
+				}
+				var pe *ParseError
+				if v, pe = cp.value(ln[i:e], 0, c, col.q); pe != nil {
+					goto slow
+				}
+			}
+			job.vals = append(job.vals, v)
+		case colTime:
+			if lt := cp.lastTime; len(lt) > 0 && n-i >= len(lt) && bytesString(ln[i:i+len(lt)]) == bytesString(lt) &&
+				(i+len(lt) == n || ln[i+len(lt)] == delim) && cp.plain(lt) {
+				t, e = cp.lastTimeMs, i+len(lt)
+				break
+			}
+			e = fieldEnd(ln, i, delim)
+			tf := ln[i:e]
+			if !cp.plain(tf) || isMissing(tf) {
+				goto slow
+			}
+			var ok bool
+			if t, ok = cp.days.parse(lay.times, tf); !ok {
+				goto slow
+			}
+			cp.lastTime = append(cp.lastTime[:0], tf...)
+			cp.lastTimeMs = t
+		case colPort:
+			e = fieldEnd(ln, i, delim)
+			pf = ln[i:e]
+			if !cp.plain(pf) || isMissing(pf) {
+				goto slow
+			}
+		default: // an unknown column: only its end matters, unless it is quoted or padded
+			e = fieldEnd(ln, i, delim)
+			if e > i && (ln[i] == '"' || cp.isSpace(ln[i])) {
+				goto slow
+			}
+		}
+		if c < last {
+			if e == n { // fewer fields than the header
+				goto slow
+			}
+			i = e + 1
+		} else if e != n { // more fields than the header
+			goto slow
+		}
+	}
+	{
+		pi, known := cp.portIdx[bytesString(pf)]
+		if !known {
+			if CheckPortName(bytesString(pf)) != nil {
+				goto slow
+			}
+			pi = int32(len(job.names))
+			name := string(pf)
+			job.names = append(job.names, name)
+			cp.portIdx[name] = pi
+		}
+		job.rowPort = append(job.rowPort, pi)
+		job.times = append(job.times, t)
+		return true
+	}
+slow:
+	job.vals = job.vals[:base]
+	return false
+}
+
+// fieldEnd is the index of the first delim in ln from i on, or len(ln).
+func fieldEnd(ln []byte, i int, delim byte) int {
+	if j := bytes.IndexByte(ln[i:], delim); j >= 0 {
+		return i + j
+	}
+	return len(ln)
+}
+
+// isSpace says whether splitFields trims c from a field.
+func (cp *csvParser) isSpace(c byte) bool { return c == ' ' || c == '\t' && cp.lay.delim != '\t' }
+
+// plain says whether f, an unquoted field as it stands between delimiters, is read as it is by
+// splitFields: it neither starts with a quote nor starts or ends with a blank.
+func (cp *csvParser) plain(f []byte) bool {
+	return len(f) == 0 || f[0] != '"' && !cp.isSpace(f[0]) && !cp.isSpace(f[len(f)-1])
+}
+
 // thousandsLike reports whether the number f, with its first comma at c, could be read with
 // that comma as a thousands separator: one comma, no point, one to three digits before it (not
 // a lone 0) and exactly three after, e.g. "1,702" (1.702 or 1702?). "0,001", "-8,15" and
@@ -405,11 +540,11 @@ func thousandsLike(f []byte, c int) bool {
 	return bytes.IndexByte(frac, ',') < 0 && bytes.IndexByte(f, '.') < 0
 }
 
-// value reads field fi, a quantity q column, in the stored unit: NaN when missing, else a
+// value reads field (trimmed) of column fi, a quantity q column, in the stored unit: NaN when missing, else a
 // number converted and range-checked, or the reason the row is rejected.
-func (cp *csvParser) value(fields [][]byte, lineNo, fi int, q Quantity) (float64, *ParseError) {
+func (cp *csvParser) value(field []byte, lineNo, fi int, q Quantity) (float64, *ParseError) {
 	lay := cp.lay
-	f := fields[fi]
+	f := field
 	if isMissing(f) {
 		return math.NaN(), nil
 	}
@@ -425,7 +560,7 @@ func (cp *csvParser) value(fields [][]byte, lineNo, fi int, q Quantity) (float64
 	}
 	v, ok := parseFloat(f)
 	if !ok {
-		return 0, cp.fieldErr(lineNo, fi, fmt.Errorf("%w: %s", ErrNotNumber, quoteShort(fields[fi])))
+		return 0, cp.fieldErr(lineNo, fi, fmt.Errorf("%w: %s", ErrNotNumber, quoteShort(field)))
 	}
 	col := lay.cols[fi]
 	v, ok = col.convert(v)
@@ -446,7 +581,7 @@ func (cp *csvParser) binCompanions(job *csvJob, fields [][]byte, lineNo int) *Pa
 	b := cp.lay.bins
 	nLow, nHigh := len(job.binLow), len(job.binHigh)
 	for j, fi := range b.lowFields {
-		v, pe := cp.value(fields, lineNo, fi, b.lowQs[j])
+		v, pe := cp.value(fields[fi], lineNo, fi, b.lowQs[j])
 		if pe != nil {
 			job.binLow = job.binLow[:nLow]
 			return pe
@@ -454,7 +589,7 @@ func (cp *csvParser) binCompanions(job *csvJob, fields [][]byte, lineNo int) *Pa
 		job.binLow = append(job.binLow, v)
 	}
 	for j, fi := range b.highFields {
-		v, pe := cp.value(fields, lineNo, fi, b.highQs[j])
+		v, pe := cp.value(fields[fi], lineNo, fi, b.highQs[j])
 		if pe != nil {
 			job.binLow, job.binHigh = job.binLow[:nLow], job.binHigh[:nHigh]
 			return pe

@@ -21,77 +21,79 @@ var exactPow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 
 	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
 // parseFloat parses a decimal number ("-1.25", "1e-3", "+.5", "1.0E-03") from b without
-// allocating. It takes the exact fast path of Clinger (1990), also used by strconv: when the
-// decimal mantissa m < 2^53 and the decimal exponent e satisfies |e| ≤ 22, m·10^e (or m/10^-e)
-// is correctly rounded because both operands are exact. Anything else goes to strconv.ParseFloat,
-// so results are always correctly rounded. Only the characters 0-9 + - . e E are accepted:
-// "Inf", "NaN", hex floats and underscores are not numbers here. ok is false for non-numbers and
-// for values that overflow float64.
+// allocating. Only the characters 0-9 + - . e E are accepted: "Inf", "NaN", hex floats and
+// underscores are not numbers here. ok is false for non-numbers and for values that overflow
+// float64. Results are always correctly rounded: scanFloat's exact fast path, else
+// strconv.ParseFloat.
 func parseFloat(b []byte) (v float64, ok bool) {
-	i, n := 0, len(b)
-	if n == 0 {
-		return 0, false
+	if v, n, ok := scanFloat(b, '.'); ok && n == len(b) {
+		return v, true
 	}
+	return slowFloat(b)
+}
+
+// scanFloat reads the decimal number at the start of b — an optional sign, digits with at most
+// one decimal mark ('.' or mark), an optional exponent — and returns its value and length n; what
+// follows (b[n:]) is the caller's to judge. It takes the exact fast path of Clinger (1990), also
+// used by strconv: when the decimal mantissa m < 2^53 and the decimal exponent e satisfies
+// |e| ≤ 22, m·10^e (or m/10^-e) is correctly rounded because both operands are exact. ok is
+// false when b does not start with a number or the number is outside the fast path (more than
+// 19 digits, leading zeros included, or a larger exponent); slowFloat decides those.
+func scanFloat(b []byte, mark byte) (v float64, n int, ok bool) {
+	i := 0
 	neg := false
-	if b[0] == '+' || b[0] == '-' {
+	if len(b) > 0 && (b[0] == '+' || b[0] == '-') {
 		neg = b[0] == '-'
 		i++
 	}
+	// Integer digits, then the fraction's; every digit goes into the mantissa, leading zeros
+	// too, so more than 19 digits in all (which could overflow it) leave the fast path.
 	var mant uint64
-	digits, dexp := 0, 0
-	sawDigit, sawDot := false, false
-	for ; i < n; i++ {
-		c := b[i]
-		if c >= '0' && c <= '9' {
-			sawDigit = true
-			if mant == 0 && c == '0' {
-				if sawDot {
-					dexp--
-				}
-				continue
-			}
-			if digits < 19 {
-				mant = mant*10 + uint64(c-'0')
-				digits++
-				if sawDot {
-					dexp--
-				}
-			} else {
-				return slowFloat(b)
-			}
-			continue
+	start := i
+	for ; i < len(b); i++ {
+		d := b[i] - '0'
+		if d > 9 {
+			break
 		}
-		if c == '.' && !sawDot {
-			sawDot = true
-			continue
-		}
-		break
+		mant = mant*10 + uint64(d)
 	}
-	if !sawDigit {
-		return 0, false
-	}
-	if i < n {
-		if b[i] != 'e' && b[i] != 'E' {
-			return 0, false
+	nd := i - start
+	dexp := 0
+	if i < len(b) && (b[i] == '.' || b[i] == mark) {
+		i++
+		fs := i
+		for ; i < len(b); i++ {
+			d := b[i] - '0'
+			if d > 9 {
+				break
+			}
+			mant = mant*10 + uint64(d)
 		}
+		dexp = fs - i
+		nd -= dexp
+	}
+	if nd == 0 || nd > 19 {
+		return 0, i, false
+	}
+	if i < len(b) && b[i]|0x20 == 'e' {
 		i++
 		eneg := false
-		if i < n && (b[i] == '+' || b[i] == '-') {
+		if i < len(b) && (b[i] == '+' || b[i] == '-') {
 			eneg = b[i] == '-'
 			i++
 		}
-		if i == n {
-			return 0, false
-		}
-		e := 0
-		for ; i < n; i++ {
-			c := b[i]
-			if c < '0' || c > '9' {
-				return 0, false
+		e, es := 0, i
+		for ; i < len(b); i++ {
+			d := b[i] - '0'
+			if d > 9 {
+				break
 			}
 			if e < 100000 {
-				e = e*10 + int(c-'0')
+				e = e*10 + int(d)
 			}
+		}
+		if i == es {
+			return 0, i, false
 		}
 		if eneg {
 			e = -e
@@ -100,23 +102,23 @@ func parseFloat(b []byte) (v float64, ok bool) {
 	}
 	if mant == 0 {
 		if neg {
-			return math.Copysign(0, -1), true
+			return math.Copysign(0, -1), i, true
 		}
-		return 0, true
+		return 0, i, true
 	}
-	if mant < 1<<53 && dexp >= -22 && dexp <= 22 {
-		f := float64(mant)
-		if dexp < 0 {
-			f /= exactPow10[-dexp]
-		} else {
-			f *= exactPow10[dexp]
-		}
-		if neg {
-			f = -f
-		}
-		return f, true
+	if mant >= 1<<53 || dexp < -22 || dexp > 22 {
+		return 0, i, false
 	}
-	return slowFloat(b)
+	f := float64(mant)
+	if dexp < 0 {
+		f /= exactPow10[-dexp]
+	} else {
+		f *= exactPow10[dexp]
+	}
+	if neg {
+		f = -f
+	}
+	return f, i, true
 }
 
 // slowFloat is parseFloat's exact fallback; b has passed no validation yet.

@@ -3,6 +3,7 @@ package parse
 import (
 	"math"
 	"strconv"
+	"strings"
 	"testing"
 	"time"
 )
@@ -121,18 +122,38 @@ func TestBERSpellingsEqual(t *testing.T) {
 	}
 }
 
+// FuzzParseFloat checks parseFloat against strconv.ParseFloat both ways on its alphabet (every
+// number strconv reads finite is read alike, nothing else is read), and scanFloat, which reads a
+// number at the start of a field, on every prefix it takes, with '.' and with a decimal comma.
 func FuzzParseFloat(f *testing.F) {
-	for _, s := range []string{"1e-3", "0.001", "-9.5", "1234567890123456789012", "1e23", "+.5e-7"} {
+	for _, s := range []string{"1e-3", "0.001", "-9.5", "1234567890123456789012", "1e23", "+.5e-7", "0,00125;x", "00000000000000000001.5", "1e5e"} {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, s string) {
 		got, ok := parseFloat([]byte(s))
-		if !ok {
-			return
-		}
 		want, err := strconv.ParseFloat(s, 64)
-		if err != nil || math.Float64bits(got) != math.Float64bits(want) {
+		if ok && (err != nil || math.Float64bits(got) != math.Float64bits(want)) {
 			t.Fatalf("parseFloat(%q) = %v; strconv.ParseFloat gives %v, %v", s, got, want, err)
+		}
+		if !ok && err == nil && !math.IsInf(want, 0) && strings.Trim(s, "0123456789.eE+-") == "" {
+			t.Fatalf("parseFloat(%q) refused; strconv.ParseFloat gives %v", s, want)
+		}
+		for _, mark := range []byte{'.', ','} {
+			v, n, ok := scanFloat([]byte(s), mark)
+			if !ok {
+				continue
+			}
+			num := s[:n]
+			if mark == ',' {
+				if strings.Count(num, ",")+strings.Count(num, ".") > 1 {
+					t.Fatalf("scanFloat(%q, ',') took %q, two decimal marks", s, num)
+				}
+				num = strings.Replace(num, ",", ".", 1)
+			}
+			want, err := strconv.ParseFloat(num, 64)
+			if err != nil || math.Float64bits(v) != math.Float64bits(want) {
+				t.Fatalf("scanFloat(%q, %q) = %v after %d bytes; strconv.ParseFloat(%q) gives %v, %v", s, mark, v, n, num, want, err)
+			}
 		}
 	})
 }
