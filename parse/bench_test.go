@@ -245,10 +245,10 @@ func BenchmarkParseCSVRows(b *testing.B) {
 // its own so that an instruction-count profiler can count it alone.
 func parseRowsOnce(lay *csvLayout, job *csvJob, lines [][]byte) *ParseError {
 	const blockRows = 4096
-	cp := &csvParser{file: "bench.csv", lay: lay, portIdx: map[string]int32{}}
+	cp := &csvParser{file: "bench.csv", lay: lay}
 	for i, ln := range lines {
 		if i%blockRows == 0 {
-			clear(cp.portIdx)
+			cp.startBlock()
 			job.names, job.rowPort, job.times, job.vals = job.names[:0], job.rowPort[:0], job.times[:0], job.vals[:0]
 		}
 		if pe := cp.row(job, ln, i+2); pe != nil {

@@ -38,8 +38,10 @@ func checkFastRow(t *testing.T, h string, lines []string) int {
 	if !lay.fast {
 		t.Fatalf("header %q: not a fastRow layout", h)
 	}
-	a := &csvParser{file: "f.csv", lay: lay, portIdx: map[string]int32{}}
-	b := &csvParser{file: "f.csv", lay: lay, portIdx: map[string]int32{}}
+	a := &csvParser{file: "f.csv", lay: lay}
+	b := &csvParser{file: "f.csv", lay: lay}
+	a.startBlock()
+	b.startBlock()
 	ja, jb := &csvJob{}, &csvJob{}
 	fast := 0
 	for i, s := range lines {

@@ -269,13 +269,15 @@ type csvParser struct {
 	lastTimeMs int64
 	days       dayCache
 	portIdx    map[string]int32 // port name → index into the current job's names
+	// Rows of one sample time come in the same port order time after time (or a port's rows
+	// follow each other): next[p] is the port of the row that followed port p's last fast
+	// row, the guess checked before the map is asked; prev is the port of the last fast row.
+	next []int32
+	prev int32
 }
 
 func (cp *csvParser) parse(job *csvJob) {
-	if cp.portIdx == nil {
-		cp.portIdx = map[string]int32{}
-	}
-	clear(cp.portIdx)
+	cp.startBlock()
 	defer job.group(len(cp.lay.qs))
 	job.binLow, job.binHigh, job.binLen = job.binLow[:0], job.binHigh[:0], job.binLen[:0]
 	data := job.data
@@ -311,6 +313,15 @@ func (cp *csvParser) parse(job *csvJob) {
 			}
 		}
 	}
+}
+
+// startBlock forgets the port indexes of the previous block.
+func (cp *csvParser) startBlock() {
+	if cp.portIdx == nil {
+		cp.portIdx = map[string]int32{}
+	}
+	clear(cp.portIdx)
+	cp.next, cp.prev = cp.next[:0], -1
 }
 
 func (job *csvJob) reject(pe *ParseError) {
@@ -489,16 +500,28 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 		}
 	}
 	{
-		pi, known := cp.portIdx[bytesString(pf)]
-		if !known {
-			if CheckPortName(bytesString(pf)) != nil {
-				goto slow
+		var pi int32
+		if p := cp.prev; p >= 0 && int(p) < len(cp.next) && cp.next[p] >= 0 && job.names[cp.next[p]] == bytesString(pf) {
+			pi = cp.next[p]
+		} else {
+			var known bool
+			if pi, known = cp.portIdx[bytesString(pf)]; !known {
+				if CheckPortName(bytesString(pf)) != nil {
+					goto slow
+				}
+				pi = int32(len(job.names))
+				name := string(pf)
+				job.names = append(job.names, name)
+				cp.portIdx[name] = pi
 			}
-			pi = int32(len(job.names))
-			name := string(pf)
-			job.names = append(job.names, name)
-			cp.portIdx[name] = pi
+			if p >= 0 {
+				for int(p) >= len(cp.next) {
+					cp.next = append(cp.next, -1)
+				}
+				cp.next[p] = pi
+			}
 		}
+		cp.prev = pi
 		job.rowPort = append(job.rowPort, pi)
 		job.times = append(job.times, t)
 		return true

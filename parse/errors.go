@@ -83,6 +83,9 @@ const MaxPortNameBytes = 256
 // CheckPortName returns why name cannot name a port — longer than MaxPortNameBytes, or not
 // UTF-8 (wrapping ErrEncoding) — or nil. Every reader rejects such a row with this reason.
 func CheckPortName(name string) error {
+	if len(name) <= MaxPortNameBytes && utf8.ValidString(name) {
+		return nil // the message is built only for a rejection: readers call this per block
+	}
 	short := fmt.Sprintf("%q", name)
 	if len(name) > 40 {
 		short = fmt.Sprintf("%q…", name[:40])
