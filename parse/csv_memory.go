@@ -6,16 +6,16 @@ import "sync"
 // input's size is known: a port with c rows in a first block of b bytes is expected to have
 // about c·size/b rows in all. Regular telemetry (every port every interval) then fills exactly
 // one allocation per column, which finish hands over without copying; a wrong guess only
-// costs extra segments. All the hinted columns (value codes, see packValue) are cut from one
+// costs extra segments. All the hinted columns (narrow values, see colBuf) are cut from one
 // slab; times need none (see timeCol).
 //
 // Only ports whose rows are spread over most of the block are hinted: in a file sorted by
 // port the first block holds a few ports end to end, and scaling their counts up would
 // reserve far too much.
 type capacityHint struct {
-	rows  []int    // expected rows of each group (port) of the block; 0: not hinted
-	voff  []int    // first value of each group in codes
-	codes []uint32 // group g, column j: codes[voff[g] + j*rows[g] : … + rows[g]]
+	rows []int   // expected rows of each group (port) of the block; 0: not hinted
+	voff []int   // first value of each group in vals
+	vals []int16 // group g, column j: vals[voff[g] + j*rows[g] : … + rows[g]]
 }
 
 // newCapacityHint hints the groups of job; cols(g) is the number of columns of group g.
@@ -64,7 +64,7 @@ func newCapacityHint(job *csvJob, ratio float64, cols func(g int) int) *capacity
 	if total == 0 {
 		return nil
 	}
-	h.codes = make([]uint32, nvals)
+	h.vals = make([]int16, nvals)
 	return h
 }
 
@@ -83,7 +83,7 @@ func exactHint(job *csvJob, k int, arena *slabArena) *capacityHint {
 		total += h.rows[g]
 		start = end
 	}
-	h.codes = arena.codes(total * k)
+	h.vals = arena.values(total * k)
 	return h
 }
 
@@ -92,22 +92,22 @@ func exactHint(job *csvJob, k int, arena *slabArena) *capacityHint {
 // A nil arena allocates plainly. Safe for concurrent use.
 type slabArena struct {
 	mu sync.Mutex
-	c  []uint32
+	c  []int16
 }
 
-// arenaChunk is the number of codes in one chunk (4 MiB).
+// arenaChunk is the number of values in one chunk (2 MiB).
 const arenaChunk = 1 << 20
 
-// codes cuts n codes from the current chunk, starting a new chunk when it is full; requests
-// above a quarter chunk get their own allocation.
-func (a *slabArena) codes(n int) []uint32 {
+// values cuts n narrow values from the current chunk, starting a new chunk when it is full;
+// requests above a quarter chunk get their own allocation.
+func (a *slabArena) values(n int) []int16 {
 	if a == nil || n > arenaChunk/4 {
-		return make([]uint32, n)
+		return make([]int16, n)
 	}
 	a.mu.Lock()
 	defer a.mu.Unlock()
 	if cap(a.c)-len(a.c) < n {
-		a.c = make([]uint32, 0, arenaChunk)
+		a.c = make([]int16, 0, arenaChunk)
 	}
 	m := len(a.c)
 	a.c = a.c[:m+n]
@@ -123,7 +123,7 @@ func (h *capacityHint) apply(p *portBuf, g int, qs []Quantity) {
 	p.hint = n
 	for j, q := range qs {
 		a := h.voff[g] + j*n
-		p.vals[q] = &colBuf{codes: segs[uint32]{hint: n, s: [][]uint32{h.codes[a : a : a+n]}}}
+		p.vals[q] = &colBuf{narrow: segs[int16]{hint: n, s: [][]int16{h.vals[a : a : a+n]}}}
 		p.mask |= 1 << q
 	}
 }

@@ -35,12 +35,7 @@ func unpackValue(c uint32) float64 {
 	if kf == codeKSpecial {
 		return math.NaN()
 	}
-	m := float64(int32(c) >> 5)
-	k := int(kf) - codeKBias
-	if k >= 0 {
-		return m / exactPow10[k]
-	}
-	return m * exactPow10[-k]
+	return valueOf(codeParts(c))
 }
 
 // codeOf is the code of m·10^-k (|m| ≤ codeMaxMant, k in range).
@@ -78,10 +73,32 @@ func packValue(v float64, hint *int8) (uint32, bool) {
 		k--
 	}
 	c, ok := tryCode(v, k)
-	if ok {
-		*hint = int8(k)
+	if !ok {
+		return 0, false
 	}
-	return c, ok
+	// The fewest decimals: neighbouring values of a column then share their exponent, which
+	// the narrow column store needs (see colBuf).
+	m := int32(c) >> 5
+	for k > codeMinK && m%10 == 0 {
+		m /= 10
+		k--
+	}
+	*hint = int8(k)
+	return codeOf(m, k), true
+}
+
+// codeParts splits a code (not NaN) into its mantissa and exponent.
+func codeParts(c uint32) (m int64, k int) {
+	return int64(int32(c) >> 5), int(c&codeKMask) - codeKBias
+}
+
+// valueOf is m·10^-k, m and 10^|k| being exact in float64 (|m| < 2^53, |k| ≤ 22): the same
+// float64 as the code of any m'·10^-k' equal to it, one correctly rounded operation either way.
+func valueOf(m int64, k int) float64 {
+	if k >= 0 {
+		return float64(m) / exactPow10[k]
+	}
+	return float64(m) * exactPow10[-k]
 }
 
 // scale10 is a·10^k, rounded (for a comparison of magnitudes only).
@@ -116,7 +133,7 @@ func tryCode(v float64, k int) (uint32, bool) {
 // segs is a column growing in segments, so that appending never copies what is already
 // stored; flatten makes the one contiguous slice at the end. Segments start small (a port with
 // few rows costs little) and grow to maxSeg values; the first has hint values when hint > 0.
-type segs[T uint32 | float64] struct {
+type segs[T int16 | uint32 | float64] struct {
 	s    [][]T
 	n    int
 	hint int
@@ -194,38 +211,160 @@ func (c *segs[T]) flatten() []T {
 	return out
 }
 
-// colBuf is one quantity's column of a port while it is read: value codes, or plain float64
-// once a value without a code arrives (see packValue).
+// colBuf is one quantity's column of a port while it is read, in the narrowest of three forms
+// that holds every value exactly:
+//
+//   - narrow: 2 bytes a value, m = base + d at one exponent k (value m·10^-k), d an int16
+//     (narrowNaN for a missing value). A port's column of a day's samples stays within a few
+//     thousand units of its first value at the resolution the export writes (0.01 dB, 1 ps/nm,
+//     1e-6 of BER), so most columns are narrow. A value with more decimals than k multiplies
+//     every d by the power of ten between (when they still fit);
+//   - codes: 4 bytes a value (see packValue), once a value is too far from base;
+//   - wide: plain float64, once a value has no code.
 type colBuf struct {
-	codes segs[uint32]
-	wide  *segs[float64] // non-nil once the column is plain; codes is empty then
-	k     int8           // the exponent of the last value packed: the first one tried next
+	narrow segs[int16]
+	codes  segs[uint32]   // used once the column left narrow (narrow is empty then)
+	wide   *segs[float64] // non-nil once the column is plain (narrow and codes are empty)
+	tier   uint8          // tierNarrow, tierCodes or tierWide
+	base   int64          // narrow: the mantissa d is relative to
+	nk     int8           // narrow: the exponent
+	set0   bool           // narrow: base and nk are set (by the first value that is not NaN)
+	k      int8           // the exponent of the last value packed: the first one tried next
 }
 
-func newColBuf(hint int) *colBuf { return &colBuf{codes: segs[uint32]{hint: hint}} }
+const (
+	tierNarrow = iota
+	tierCodes
+	tierWide
+)
+
+// narrowNaN is the narrow form of a missing value.
+const narrowNaN = math.MinInt16
+
+func newColBuf(hint int) *colBuf { return &colBuf{narrow: segs[int16]{hint: hint}} }
 
 func (c *colBuf) len() int {
-	if c.wide != nil {
-		return c.wide.n
+	switch c.tier {
+	case tierNarrow:
+		return c.narrow.n
+	case tierCodes:
+		return c.codes.n
 	}
-	return c.codes.n
+	return c.wide.n
 }
 
-// widen turns the column into plain float64 values.
+// narrowCode returns the code of narrow value d.
+func (c *colBuf) narrowCode(d int16) uint32 {
+	if d == narrowNaN {
+		return nanCode
+	}
+	m, k := c.base+int64(d), int(c.nk)
+	for m > codeMaxMant || m < -codeMaxMant {
+		m /= 10 // trailing zeros a rescale appended: exact
+		k--
+	}
+	return codeOf(int32(m), k)
+}
+
+// toCodes moves a narrow column to codes.
+func (c *colBuf) toCodes() {
+	cs := segs[uint32]{hint: max(c.narrow.hint, c.narrow.n)}
+	for _, sg := range c.narrow.s {
+		for _, d := range sg {
+			cs.push(c.narrowCode(d))
+		}
+	}
+	c.codes, c.narrow, c.tier = cs, segs[int16]{}, tierCodes
+}
+
+// widen moves the column to plain float64 values.
 func (c *colBuf) widen() {
+	if c.tier == tierNarrow {
+		c.toCodes()
+	}
 	w := &segs[float64]{hint: max(c.codes.hint, c.codes.n)}
 	for _, sg := range c.codes.s {
 		for _, code := range sg {
 			w.push(unpackValue(code))
 		}
 	}
-	c.wide, c.codes = w, segs[uint32]{}
+	c.wide, c.codes, c.tier = w, segs[uint32]{}, tierWide
+}
+
+// narrowOf returns the narrow form of code cd, rescaling the column to a finer exponent when
+// cd needs it; ok is false when cd does not fit the narrow column.
+func (c *colBuf) narrowOf(cd uint32) (int16, bool) {
+	if cd == nanCode {
+		return narrowNaN, true
+	}
+	m, k := codeParts(cd)
+	if !c.set0 {
+		c.base, c.nk, c.set0 = m, int8(k), true
+		return 0, true
+	}
+	if k > int(c.nk) && !c.rescale(k) || int(c.nk)-k > 10 {
+		return 0, false
+	}
+	for k < int(c.nk) {
+		m *= 10
+		k++
+	}
+	d := m - c.base
+	if d < -math.MaxInt16 || d > math.MaxInt16 {
+		return 0, false
+	}
+	return int16(d), true
+}
+
+// rescale moves a narrow column to exponent k > nk (every d and base times 10^(k-nk)) when
+// every value still fits.
+func (c *colBuf) rescale(k int) bool {
+	f := int64(1)
+	for range k - int(c.nk) {
+		f *= 10
+	}
+	if k > codeMaxK || c.base*f/f != c.base || math.Abs(float64(c.base*f)) >= 1<<53 {
+		return false
+	}
+	for _, sg := range c.narrow.s {
+		for _, d := range sg {
+			if d != narrowNaN && (int64(d)*f < -math.MaxInt16 || int64(d)*f > math.MaxInt16) {
+				return false
+			}
+		}
+	}
+	for _, sg := range c.narrow.s {
+		for i, d := range sg {
+			if d != narrowNaN {
+				sg[i] = int16(int64(d) * f)
+			}
+		}
+	}
+	c.base, c.nk = c.base*f, int8(k)
+	return true
+}
+
+// pushCode appends a value given as its code.
+func (c *colBuf) pushCode(cd uint32) {
+	switch c.tier {
+	case tierNarrow:
+		if d, ok := c.narrowOf(cd); ok {
+			c.narrow.push(d)
+			return
+		}
+		c.toCodes()
+		fallthrough
+	case tierCodes:
+		c.codes.push(cd)
+	default:
+		c.wide.push(unpackValue(cd))
+	}
 }
 
 func (c *colBuf) push(v float64) {
-	if c.wide == nil {
+	if c.tier != tierWide {
 		if code, ok := packValue(v, &c.k); ok {
-			c.codes.push(code)
+			c.pushCode(code)
 			return
 		}
 		c.widen()
@@ -241,46 +380,58 @@ func (c *colBuf) pushSlice(vs []float64) {
 
 // pushCodes appends values given as codes.
 func (c *colBuf) pushCodes(cs []uint32) {
-	if c.wide == nil {
+	if c.tier == tierCodes {
 		c.codes.pushSlice(cs)
 		return
 	}
-	for _, code := range cs {
-		c.wide.push(unpackValue(code))
+	for _, cd := range cs {
+		c.pushCode(cd)
 	}
 }
 
 func (c *colBuf) pushNaN(n int) {
 	for range n {
-		if c.wide == nil {
-			c.codes.push(nanCode)
-		} else {
-			c.wide.push(math.NaN())
-		}
+		c.pushCode(nanCode)
 	}
 }
 
 // set overwrites value number i.
 func (c *colBuf) set(i int, v float64) {
-	if c.wide == nil {
-		if code, ok := packValue(v, &c.k); ok {
+	if c.tier != tierWide {
+		code, ok := packValue(v, &c.k)
+		if !ok {
+			c.widen()
+		} else if c.tier == tierNarrow {
+			if d, ok := c.narrowOf(code); ok {
+				c.narrow.set(i, d)
+				return
+			}
+			c.toCodes()
+		}
+		if ok {
 			c.codes.set(i, code)
 			return
 		}
-		c.widen()
 	}
 	c.wide.set(i, v)
 }
 
 // appendCol appends the values of o (emptied).
 func (c *colBuf) appendCol(o *colBuf) {
-	if o.wide != nil {
+	switch o.tier {
+	case tierWide:
 		for _, sg := range o.wide.s {
 			c.pushSlice(sg)
 		}
-	} else {
+	case tierCodes:
 		for _, sg := range o.codes.s {
 			c.pushCodes(sg)
+		}
+	default:
+		for _, sg := range o.narrow.s {
+			for _, d := range sg {
+				c.pushCode(o.narrowCode(d))
+			}
 		}
 	}
 	*o = colBuf{}
@@ -288,58 +439,85 @@ func (c *colBuf) appendCol(o *colBuf) {
 
 // finish returns the column as stored in a series, emptying c.
 func (c *colBuf) finish() packedCol {
-	if c.wide != nil {
+	switch c.tier {
+	case tierWide:
 		return packedCol{wide: c.wide.flatten()}
+	case tierCodes:
+		return packedCol{codes: c.codes.flatten()}
 	}
-	return packedCol{codes: c.codes.flatten()}
+	return packedCol{narrow: c.narrow.flatten(), base: c.base, nk: c.nk}
 }
 
-// packedCol is one quantity's column of a stored series: codes, or wide when nil.
+// packedCol is one quantity's column of a stored series, in one of colBuf's forms: narrow
+// (with base and nk), codes, or wide.
 type packedCol struct {
-	codes []uint32
-	wide  []float64
+	narrow []int16
+	base   int64
+	nk     int8
+	codes  []uint32
+	wide   []float64
 }
 
 // decode writes the column's values into dst (of the column's length).
 func (c packedCol) decode(dst []float64) {
-	if c.wide != nil {
+	switch {
+	case c.wide != nil:
 		copy(dst, c.wide)
-		return
-	}
-	for i, code := range c.codes {
-		dst[i] = unpackValue(code)
+	case c.codes != nil:
+		for i, code := range c.codes {
+			dst[i] = unpackValue(code)
+		}
+	default:
+		nan, k := math.NaN(), int(c.nk)
+		for i, d := range c.narrow {
+			if d == narrowNaN {
+				dst[i] = nan
+			} else {
+				dst[i] = valueOf(c.base+int64(d), k)
+			}
+		}
 	}
 }
 
 // pick returns the column holding rows rows of c, in that order.
 func (c packedCol) pick(rows []int32) packedCol {
-	if c.wide != nil {
-		out := make([]float64, len(rows))
-		for i, r := range rows {
-			out[i] = c.wide[r]
-		}
-		return packedCol{wide: out}
+	switch {
+	case c.wide != nil:
+		return packedCol{wide: pickRows(c.wide, rows)}
+	case c.codes != nil:
+		return packedCol{codes: pickRows(c.codes, rows)}
 	}
-	out := make([]uint32, len(rows))
+	return packedCol{narrow: pickRows(c.narrow, rows), base: c.base, nk: c.nk}
+}
+
+func pickRows[T any](xs []T, rows []int32) []T {
+	out := make([]T, len(rows))
 	for i, r := range rows {
-		out[i] = c.codes[r]
+		out[i] = xs[r]
 	}
-	return packedCol{codes: out}
+	return out
 }
 
 // anyFinite reports whether some value of the column is finite.
 func (c packedCol) anyFinite() bool {
-	if c.wide != nil {
+	switch {
+	case c.wide != nil:
 		for _, v := range c.wide {
 			if !math.IsNaN(v) {
 				return true
 			}
 		}
-		return false
-	}
-	for _, code := range c.codes {
-		if code != nanCode {
-			return true
+	case c.codes != nil:
+		for _, code := range c.codes {
+			if code != nanCode {
+				return true
+			}
+		}
+	default:
+		for _, d := range c.narrow {
+			if d != narrowNaN {
+				return true
+			}
 		}
 	}
 	return false

@@ -119,3 +119,78 @@ func TestTimeColumn(t *testing.T) {
 		t.Error("jittered times kept as runs")
 	}
 }
+
+// A column gives back every value it was given, bit for bit, whichever of its forms (narrow,
+// codes, plain) the values drive it through: values written with more decimals than the first,
+// jumps too large for the narrow form, missing values, values with no code; pushed one by one,
+// as codes, overwritten, and appended to another column. The values are strconv.ParseFloat
+// readings of decimal texts, the reference the reader's own parsing is checked against.
+func TestColumnFormsKeepEveryValue(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	gen := map[string]func(i int) float64{
+		"power 0.01 dB": func(i int) float64 { return parseText(fmt.Sprintf("%.2f", -5+rng.NormFloat64()*0.2)) },
+		"more decimals later": func(i int) float64 {
+			return parseText(fmt.Sprintf("%.*f", min(i/100, 6), 9.6+rng.Float64()*0.01))
+		},
+		"BER over decades": func(i int) float64 { return parseText(fmt.Sprintf("%.3g", math.Pow(10, -2-4*rng.Float64()))) },
+		"step of 15 dB":    func(i int) float64 { return parseText(fmt.Sprintf("%.2f", -5-15*float64(i/500)+rng.Float64())) },
+		"gaps":             func(i int) float64 { return [2]float64{math.NaN(), float64(rng.IntN(3000))}[rng.IntN(2)] },
+		"converted mW":     func(i int) float64 { return 10 * math.Log10(0.3+rng.Float64()) },
+		"late no-code":     func(i int) float64 { return [2]float64{1.25, math.Pi}[min(i/900, 1)] },
+	}
+	same := func(a, b float64) bool {
+		return math.Float64bits(a) == math.Float64bits(b) || math.IsNaN(a) && math.IsNaN(b)
+	}
+	for name, f := range gen {
+		want := make([]float64, 1000)
+		for i := range want {
+			want[i] = f(i)
+		}
+		var one, codes, tail colBuf
+		var hint int8
+		for i, v := range want {
+			one.push(v)
+			if c, ok := packValue(v, &hint); ok && i%3 != 0 {
+				codes.pushCodes([]uint32{c})
+			} else {
+				codes.push(v)
+			}
+		}
+		// Overwrite every tenth value with its neighbour, then put it back.
+		for i := 0; i+1 < len(want); i += 10 {
+			one.set(i, want[i+1])
+			one.set(i, want[i])
+		}
+		tail.pushSlice(want[:400])
+		rest := newColBuf(0)
+		rest.pushSlice(want[400:])
+		tail.appendCol(rest)
+		for form, c := range map[string]*colBuf{"pushed": &one, "codes": &codes, "appended": &tail} {
+			got := make([]float64, len(want))
+			if c.len() != len(want) {
+				t.Fatalf("%s, %s: %d values, want %d", name, form, c.len(), len(want))
+			}
+			c.finish().decode(got)
+			for i := range want {
+				if !same(got[i], want[i]) {
+					t.Fatalf("%s, %s: value %d is %v, want %v", name, form, i, got[i], want[i])
+				}
+			}
+		}
+	}
+	var narrow colBuf
+	for range 100 {
+		narrow.push(parseText(fmt.Sprintf("%.2f", -5+rng.Float64())))
+	}
+	if narrow.tier != tierNarrow {
+		t.Errorf("a power column within 1 dB left the narrow form (tier %d)", narrow.tier)
+	}
+}
+
+func parseText(s string) float64 {
+	v, err := strconv.ParseFloat(s, 64)
+	if err != nil {
+		panic(err)
+	}
+	return v
+}
