@@ -273,7 +273,7 @@ type keySlot struct {
 // column is the column of member n, the slot-th of its record.
 func (jp *jsonParser) column(d *jdoc, n *jnode, slot int) column {
 	if n.keyEsc {
-		return lookupColumn(d.keys[n.keyIndex])
+		return lookupColumn(d.keys[n.k0])
 	}
 	k := d.data[n.k0:n.k1]
 	if slot < len(jp.slots) && bytes.Equal(jp.slots[slot].key, k) {

@@ -3,6 +3,7 @@ package parse
 import (
 	"bytes"
 	"fmt"
+	"math/bits"
 	"slices"
 	"strconv"
 )
@@ -99,13 +100,32 @@ var ocFECLeaves = []ocLeaf{
 	{"fec-uncorrectable-blocks", column{kind: colQuantity, q: UncorrectedBlocks}},
 }
 
-// ocStateLeaves are the leaves of an optical channel's state: the optical ones, then the FEC
-// ones a 400ZR-style optical channel carries itself.
-var ocStateLeaves = slices.Concat(ocOpticalLeaves, ocFECLeaves)
+// ocLeafSet is a list of leaves indexed by the length of their names.
+type ocLeafSet struct {
+	leaves []ocLeaf
+	byLen  [32]uint16 // bit i set: leaves[i].name has that length
+}
 
-// leafMembers sets out[i] to d.member(obj, leaves[i].name) for every leaf, in one pass over
+func newLeafSet(leaves ...[]ocLeaf) *ocLeafSet {
+	s := &ocLeafSet{leaves: slices.Concat(leaves...)}
+	for i, l := range s.leaves {
+		s.byLen[len(l.name)] |= 1 << i
+	}
+	return s
+}
+
+var (
+	// the leaves of an optical channel's state: the optical ones, then the FEC ones a
+	// 400ZR-style optical channel carries itself
+	ocStateSet = newLeafSet(ocOpticalLeaves, ocFECLeaves)
+	ocFECSet   = newLeafSet(ocFECLeaves)
+	// the leaves read on a component itself
+	ocComponentSet = newLeafSet(ocFECLeaves[4:])
+)
+
+// leafMembers sets out[i] to d.member(obj, set.leaves[i].name) for every leaf, in one pass over
 // the object's members.
-func (d *jdoc) leafMembers(obj int, leaves []ocLeaf, out []int) {
+func (d *jdoc) leafMembers(obj int, set *ocLeafSet, out []int) {
 	var prefixed [16]int
 	for i := range out {
 		out[i], prefixed[i] = -1, -1
@@ -114,11 +134,15 @@ func (d *jdoc) leafMembers(obj int, leaves []ocLeaf, out []int) {
 		n := &d.nodes[c]
 		k := d.key(n)
 		base := k
-		if i := lastColon(k); i >= 0 {
-			base = k[i+1:]
+		if bytes.IndexByte(k, ':') >= 0 {
+			base = k[lastColon(k)+1:]
 		}
-		for i, l := range leaves {
-			if len(base) != len(l.name) || string(base) != l.name {
+		if len(base) >= len(set.byLen) {
+			continue
+		}
+		for m := set.byLen[len(base)]; m != 0; m &= m - 1 {
+			i := bits.TrailingZeros16(m)
+			if string(base) != set.leaves[i].name {
 				continue
 			}
 			if len(base) == len(k) {
@@ -218,14 +242,14 @@ func (jp *jsonParser) ocRecord(name []byte) int {
 // ocLeaves reads the leaves of object state (-1: none) into record r; the path of a bad leaf
 // is pre + key + post + "/" + the leaf's name. Without overwrite, a quantity the record has
 // already is kept.
-func (jp *jsonParser) ocLeaves(r int, state int, leaves []ocLeaf, lineNo int, pre string, key []byte, post string, overwrite bool) {
+func (jp *jsonParser) ocLeaves(r int, state int, set *ocLeafSet, lineNo int, pre string, key []byte, post string, overwrite bool) {
 	if state < 0 {
 		return
 	}
 	d := &jp.doc
 	var found [16]int
-	d.leafMembers(state, leaves, found[:len(leaves)])
-	for i, l := range leaves {
+	d.leafMembers(state, set, found[:len(set.leaves)])
+	for i, l := range set.leaves {
 		val := d.statValue(found[i], jp.stat)
 		if val < 0 {
 			continue
@@ -269,8 +293,8 @@ func (jp *jsonParser) openConfig(lineNo int) {
 			}
 			state := d.memberObj(och, "state")
 			r := jp.ocRecord(e.key)
-			jp.ocLeaves(r, state, ocStateLeaves, lineNo, "components/component[", e.key, "]/optical-channel/state", true)
-			jp.ocLeaves(r, e.obj, ocFECLeaves[4:], lineNo, "components/component[", e.key, "]", false)
+			jp.ocLeaves(r, state, ocStateSet, lineNo, "components/component[", e.key, "]/optical-channel/state", true)
+			jp.ocLeaves(r, e.obj, ocComponentSet, lineNo, "components/component[", e.key, "]", false)
 			if a := d.member(state, "logical-channel-assignment"); a >= 0 {
 				if b, missing := d.scalar(a); !missing {
 					if jp.ocLC == nil {
@@ -330,7 +354,7 @@ func (jp *jsonParser) openConfig(lineNo int) {
 				port = []byte(name)
 				jp.noteOnce(fmt.Sprintf("logical channel %s has OTN data but no optical-channel assignment; read as port %q", e.key, name))
 			}
-			jp.ocLeaves(jp.ocRecord(port), state, ocFECLeaves, lineNo, "terminal-device/logical-channels/channel[", e.key, "]/otn/state", false)
+			jp.ocLeaves(jp.ocRecord(port), state, ocFECSet, lineNo, "terminal-device/logical-channels/channel[", e.key, "]/otn/state", false)
 		}
 	}
 	job := jp.job

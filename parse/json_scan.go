@@ -25,13 +25,12 @@ const (
 // nodes[i].end. Spans are offsets into the document's bytes: for a string, the text between the
 // quotes; for a number or a literal, its text.
 type jnode struct {
-	kind     jsonKind
-	esc      bool // string value has escapes or non-ASCII bytes: decode it with text()
-	keyEsc   bool // the same for the member name
-	end      int32
-	k0, k1   int32 // member name, for members of an object
-	v0, v1   int32
-	keyIndex int32 // index into jdoc.keys of the decoded member name when keyEsc
+	kind   jsonKind
+	esc    bool // string value has escapes or non-ASCII bytes: decode it with text()
+	keyEsc bool // the same for the member name, whose decoded text is then jdoc.keys[k0]
+	end    int32
+	k0, k1 int32 // member name, for members of an object
+	v0, v1 int32
 }
 
 // maxJSONDepth bounds nesting, as encoding/json does (10000 levels).
@@ -79,10 +78,10 @@ func (d *jdoc) value(i int, k0, k1 int, keyEsc bool) (int, error) {
 		return i, d.syntaxErr(i, "")
 	}
 	idx := len(d.nodes)
-	d.nodes = append(d.nodes, jnode{k0: int32(k0), k1: int32(k1), keyEsc: keyEsc})
 	if keyEsc {
-		d.nodes[idx].keyIndex = int32(len(d.keys) - 1)
+		k0 = len(d.keys) - 1
 	}
+	d.nodes = append(d.nodes, jnode{k0: int32(k0), k1: int32(k1), keyEsc: keyEsc})
 	n := &d.nodes[idx]
 	switch c := data[i]; {
 	case c == '{':
@@ -302,7 +301,7 @@ func (d *jdoc) text(n *jnode) []byte {
 // key is the decoded member name of node n.
 func (d *jdoc) key(n *jnode) []byte {
 	if n.keyEsc {
-		return []byte(d.keys[n.keyIndex])
+		return []byte(d.keys[n.k0])
 	}
 	return d.data[n.k0:n.k1]
 }
@@ -310,7 +309,7 @@ func (d *jdoc) key(n *jnode) []byte {
 // keyIs reports whether node n's member name is name.
 func (d *jdoc) keyIs(n *jnode, name string) bool {
 	if n.keyEsc {
-		return d.keys[n.keyIndex] == name
+		return d.keys[n.k0] == name
 	}
 	return string(d.data[n.k0:n.k1]) == name
 }
@@ -328,7 +327,7 @@ func (d *jdoc) member(obj int, name string) int {
 		n := &d.nodes[c]
 		var k []byte
 		if n.keyEsc {
-			k = []byte(d.keys[n.keyIndex])
+			k = []byte(d.keys[n.k0])
 		} else {
 			k = d.data[n.k0:n.k1]
 		}
