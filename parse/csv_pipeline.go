@@ -276,6 +276,7 @@ func runBlocks(res *fileResult, r io.Reader, opt Options, f blockFormat, carry [
 	jobs := make(chan *csvJob, workers)
 	go func() { // producer: cut the stream into jobs of whole records
 		seq := 0
+		var spare []byte // the rest after a block's last record, until the next block takes it
 		defer close(order)
 		defer close(jobs)
 		for !stop.Load() {
@@ -316,7 +317,8 @@ func runBlocks(res *fileResult, r io.Reader, opt Options, f blockFormat, carry [
 			if final {
 				job.last, job.closed, job.broken, job.cutTail = true, true, false, false
 			} else if !eof {
-				carry = append([]byte(nil), b[n:]...)
+				spare = append(spare[:0], b[n:]...) // copied into the next block before reuse
+				carry = spare
 			}
 			lines := bytes.Count(job.data, []byte{'\n'})
 			line += lines
