@@ -182,6 +182,16 @@ func (c *segs[T]) pushSlice(vs []T) {
 	}
 }
 
+// room returns the last segment, with spare capacity (a new segment when it is full).
+func (c *segs[T]) room() []T {
+	k := len(c.s)
+	if k == 0 || len(c.s[k-1]) == cap(c.s[k-1]) {
+		c.s = append(c.s, make([]T, 0, c.segSize(k)))
+		k++
+	}
+	return c.s[k-1]
+}
+
 // set overwrites value number i, looking from the newest segment (a repeat is usually recent).
 func (c *segs[T]) set(i int, v T) {
 	end := c.n
@@ -378,14 +388,44 @@ func (c *colBuf) pushSlice(vs []float64) {
 	}
 }
 
-// pushCodes appends values given as codes.
+// pushCodes appends values given as codes. A narrow column converts them in one loop into
+// its last segment while they share its exponent (the common case), value by value otherwise.
 func (c *colBuf) pushCodes(cs []uint32) {
-	if c.tier == tierCodes {
-		c.codes.pushSlice(cs)
-		return
-	}
-	for _, cd := range cs {
-		c.pushCode(cd)
+	for len(cs) > 0 {
+		switch c.tier {
+		case tierCodes:
+			c.codes.pushSlice(cs)
+			return
+		case tierWide:
+			for _, cd := range cs {
+				c.wide.push(unpackValue(cd))
+			}
+			return
+		}
+		if !c.set0 {
+			c.pushCode(cs[0])
+			cs = cs[1:]
+			continue
+		}
+		seg := c.narrow.room()
+		kf, base := uint32(int(c.nk)+codeKBias), c.base
+		n := min(cap(seg)-len(seg), len(cs))
+		i := 0
+		for ; i < n; i++ {
+			cd := cs[i]
+			d := int64(int32(cd)>>5) - base
+			if cd&codeKMask != kf || d < -math.MaxInt16 || d > math.MaxInt16 {
+				break
+			}
+			seg = append(seg, int16(d))
+		}
+		c.narrow.s[len(c.narrow.s)-1] = seg
+		c.narrow.n += i
+		cs = cs[i:]
+		if i < n {
+			c.pushCode(cs[0]) // NaN, another exponent, or too far: the careful path
+			cs = cs[1:]
+		}
 	}
 }
 
