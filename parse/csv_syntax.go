@@ -43,10 +43,20 @@ type csvLayout struct {
 	qmask        uint32
 	times        *timeReader // how the time column is read (nil: built-in formats, UTC)
 	bins         *binLayout  // bin companions (min/max columns, bin length); nil when none
-	// fast: rows may take csvParser.fastRow (no profile or bin columns); mark: the decimal
-	// mark besides '.' ('.' itself when there is no other)
+	// fast: rows may take csvParser.fastRow (no profile or bin columns), which reads the
+	// columns as plan says; mark: the decimal mark besides '.' ('.' itself when none other)
 	fast bool
+	plan []fastCol
 	mark byte
+}
+
+// fastCol is what csvParser.fastRow needs of a column: its kind and, for a quantity, the unit
+// conversion and the bounds within which checkRange surely accepts the value.
+type fastCol struct {
+	lo, hi float64
+	kind   colKind
+	conv   unitConv
+	q      Quantity
 }
 
 // sniffDelimiter picks the most frequent of tab, semicolon and comma outside quotes; ties go to
@@ -145,6 +155,9 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 		lay.bins = bl
 	}
 	lay.fast = lay.bins == nil && lay.profileCol < 0
+	for _, c := range lay.cols {
+		lay.plan = append(lay.plan, fastCol{lo: plainLo[c.q], hi: plainHi[c.q], kind: c.kind, conv: c.conv, q: c.q})
+	}
 	lay.mark = '.'
 	if lay.decimalComma {
 		lay.mark = ','
@@ -429,38 +442,38 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 	lay := cp.lay
 	delim := lay.delim
 	n := len(ln)
-	base := len(job.vals)
-	last := len(lay.cols) - 1
+	vals := job.vals // job.vals keeps its length until the row is taken
+	last := len(lay.plan) - 1
 	var t int64
 	var pf []byte
 	i := 0
-	for c := range lay.cols {
-		col := lay.cols[c]
+	for c := range lay.plan {
+		fc := &lay.plan[c]
 		var e int // end of the field: a delimiter, or n
-		switch col.kind {
+		switch fc.kind {
 		case colQuantity:
-			v, m, ok := scanFloat(ln[i:], lay.mark)
-			e = i + m
+			v, end, ok := scanFloat(ln, i, lay.mark)
+			e = end
 			if ok && (e == n || ln[e] == delim) {
-				if col.conv != convNone {
-					if v, ok = col.convert(v); !ok {
-						goto slow
+				if fc.conv != convNone {
+					if v, ok = lay.cols[c].convert(v); !ok {
+						return false
 					}
 				}
-				if !(v >= plainLo[col.q] && v <= plainHi[col.q]) && checkRange(col.q, v) != nil {
-					goto slow
+				if !(v >= fc.lo && v <= fc.hi) && checkRange(fc.q, v) != nil {
+					return false
 				}
 			} else {
 				e = fieldEnd(ln, i, delim)
 				if !cp.plain(ln[i:e]) {
-					goto slow
+					return false
 				}
 				var pe *ParseError
-				if v, pe = cp.value(ln[i:e], 0, c, col.q); pe != nil {
-					goto slow
+				if v, pe = cp.value(ln[i:e], 0, c, fc.q); pe != nil {
+					return false
 				}
 			}
-			job.vals = append(job.vals, v)
+			vals = append(vals, v)
 		case colTime:
 			if lt := cp.lastTime; len(lt) > 0 && n-i >= len(lt) && bytesString(ln[i:i+len(lt)]) == bytesString(lt) &&
 				(i+len(lt) == n || ln[i+len(lt)] == delim) && cp.plain(lt) {
@@ -470,11 +483,11 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 			e = fieldEnd(ln, i, delim)
 			tf := ln[i:e]
 			if !cp.plain(tf) || isMissing(tf) {
-				goto slow
+				return false
 			}
 			var ok bool
 			if t, ok = cp.days.parse(lay.times, tf); !ok {
-				goto slow
+				return false
 			}
 			cp.lastTime = append(cp.lastTime[:0], tf...)
 			cp.lastTimeMs = t
@@ -482,53 +495,49 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 			e = fieldEnd(ln, i, delim)
 			pf = ln[i:e]
 			if !cp.plain(pf) || isMissing(pf) {
-				goto slow
+				return false
 			}
 		default: // an unknown column: only its end matters, unless it is quoted or padded
 			e = fieldEnd(ln, i, delim)
 			if e > i && (ln[i] == '"' || cp.isSpace(ln[i])) {
-				goto slow
+				return false
 			}
 		}
 		if c < last {
 			if e == n { // fewer fields than the header
-				goto slow
+				return false
 			}
 			i = e + 1
 		} else if e != n { // more fields than the header
-			goto slow
+			return false
 		}
 	}
-	{
-		var pi int32
-		if p := cp.prev; p >= 0 && int(p) < len(cp.next) && cp.next[p] >= 0 && job.names[cp.next[p]] == bytesString(pf) {
-			pi = cp.next[p]
-		} else {
-			var known bool
-			if pi, known = cp.portIdx[bytesString(pf)]; !known {
-				if CheckPortName(bytesString(pf)) != nil {
-					goto slow
-				}
-				pi = int32(len(job.names))
-				name := string(pf)
-				job.names = append(job.names, name)
-				cp.portIdx[name] = pi
+	var pi int32
+	if p := cp.prev; p >= 0 && int(p) < len(cp.next) && cp.next[p] >= 0 && job.names[cp.next[p]] == bytesString(pf) {
+		pi = cp.next[p]
+	} else {
+		var known bool
+		if pi, known = cp.portIdx[bytesString(pf)]; !known {
+			if CheckPortName(bytesString(pf)) != nil {
+				return false
 			}
-			if p >= 0 {
-				for int(p) >= len(cp.next) {
-					cp.next = append(cp.next, -1)
-				}
-				cp.next[p] = pi
-			}
+			pi = int32(len(job.names))
+			name := string(pf)
+			job.names = append(job.names, name)
+			cp.portIdx[name] = pi
 		}
-		cp.prev = pi
-		job.rowPort = append(job.rowPort, pi)
-		job.times = append(job.times, t)
-		return true
+		if p >= 0 {
+			for int(p) >= len(cp.next) {
+				cp.next = append(cp.next, -1)
+			}
+			cp.next[p] = pi
+		}
 	}
-slow:
-	job.vals = job.vals[:base]
-	return false
+	cp.prev = pi
+	job.vals = vals
+	job.rowPort = append(job.rowPort, pi)
+	job.times = append(job.times, t)
+	return true
 }
 
 // fieldEnd is the index of the first delim in ln from i on, or len(ln).

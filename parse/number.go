@@ -26,24 +26,23 @@ var exactPow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 
 // float64. Results are always correctly rounded: scanFloat's exact fast path, else
 // strconv.ParseFloat.
 func parseFloat(b []byte) (v float64, ok bool) {
-	if v, n, ok := scanFloat(b, '.'); ok && n == len(b) {
+	if v, n, ok := scanFloat(b, 0, '.'); ok && n == len(b) {
 		return v, true
 	}
 	return slowFloat(b)
 }
 
-// scanFloat reads the decimal number at the start of b — an optional sign, digits with at most
-// one decimal mark ('.' or mark), an optional exponent — and returns its value and length n; what
-// follows (b[n:]) is the caller's to judge. It takes the exact fast path of Clinger (1990), also
+// scanFloat reads the decimal number at b[i:] — an optional sign, digits with at most one
+// decimal mark ('.' or mark), an optional exponent — and returns its value and where it ends, n;
+// what follows (b[n:]) is the caller's to judge. It takes the exact fast path of Clinger (1990), also
 // used by strconv: when the decimal mantissa m < 2^53 and the decimal exponent e satisfies
 // |e| ≤ 22, m·10^e (or m/10^-e) is correctly rounded because both operands are exact. ok is
 // false when b does not start with a number or the number is outside the fast path (more than
 // 19 digits, leading zeros included, or a larger exponent); slowFloat decides those.
-func scanFloat(b []byte, mark byte) (v float64, n int, ok bool) {
-	i := 0
+func scanFloat(b []byte, i int, mark byte) (v float64, n int, ok bool) {
 	neg := false
-	if len(b) > 0 && (b[0] == '+' || b[0] == '-') {
-		neg = b[0] == '-'
+	if i < len(b) && (b[i] == '+' || b[i] == '-') {
+		neg = b[i] == '-'
 		i++
 	}
 	// Integer digits, then the fraction's; every digit goes into the mantissa, leading zeros

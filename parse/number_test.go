@@ -139,7 +139,7 @@ func FuzzParseFloat(f *testing.F) {
 			t.Fatalf("parseFloat(%q) refused; strconv.ParseFloat gives %v", s, want)
 		}
 		for _, mark := range []byte{'.', ','} {
-			v, n, ok := scanFloat([]byte(s), mark)
+			v, n, ok := scanFloat([]byte(s), 0, mark)
 			if !ok {
 				continue
 			}
