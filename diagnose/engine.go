@@ -54,7 +54,7 @@ type Config struct {
 func Analyze(ds *parse.Dataset, cfg Config) (*Result, error) {
 	res := NewResult(ds, cfg.Version)
 	res.Ports = make([]PortResult, len(ds.Series))
-	err := NewJudge(cfg).Each(ds.Series, func(i int, p *PortResult) { res.Ports[i] = *p })
+	err := NewJudge(cfg).Each(ds.Series, nil, func(i int, p *PortResult) { res.Ports[i] = *p })
 	if err != nil {
 		return nil, err
 	}
@@ -126,12 +126,17 @@ func (j *Judge) expect(p *rules.Plan, prof rules.Profile) (*optics.LinkExpectati
 
 // Each judges every port of series on Config.Workers goroutines and hands each result to fn
 // with the port's index, from the goroutine that judged it (fn must be safe for concurrent
-// use; the result is fn's to keep). The plans of all the ports are modelled first, in order:
-// the first that cannot be modelled is the error, and nothing is judged.
-func (j *Judge) Each(series []*parse.Series, fn func(i int, p *PortResult)) error {
-	setups := make([]Setup, len(series))
-	for i, s := range series {
-		setups[i] = j.Setup(s.Port)
+// use; the result is fn's to keep). setups[i], when setups is not nil, is series[i]'s setup;
+// else Setup gives it. The plans of all the ports are modelled first, in order: the first that
+// cannot be modelled is the error, and nothing is judged.
+func (j *Judge) Each(series []*parse.Series, setups []Setup, fn func(i int, p *PortResult)) error {
+	if setups == nil {
+		setups = make([]Setup, len(series))
+		for i, s := range series {
+			setups[i] = j.Setup(s.Port)
+		}
+	}
+	for i := range series {
 		if _, err := j.expect(setups[i].Plan, setups[i].Profile); err != nil {
 			return err
 		}

@@ -350,15 +350,32 @@ func (c countingReader) Read(p []byte) (int, error) {
 // with Options.Strict, at the first rejected row. A path that does not exist is an error before
 // anything is read.
 func ReadPaths(paths []string, opt Options) (*Dataset, error) {
+	var ds *Dataset
+	var err error
+	if perr := ReadEach(paths, opt, 0, func(d *Dataset, e error) error { ds, err = d, e; return nil }); perr != nil {
+		return nil, perr
+	}
+	return ds, err
+}
+
+// ReadEach reads the inputs of paths as ReadPaths does, but batch files at a time (all at once
+// when batch ≤ 0), handing each batch's Dataset to fn, in input order, before the next batch is
+// read: fn may drop it. A batch's Dataset holds the batch's inputs, rejections (at most
+// MaxRejectionsKept) and series (their Inputs index the batch's Inputs), and in Skipped the
+// batch's files found not to be telemetry, after (in the first batch) those the walk of the
+// folders skipped by name: joined in order, the batches' lists are ReadPaths'. err is the
+// batch's as ReadPaths gives it; the row limit is the whole run's. A port whose rows lie in two
+// batches has a series in each. fn's error stops the reading and is returned, as is an error of
+// the options or the paths (before anything is read).
+func ReadEach(paths []string, opt Options, batch int, fn func(ds *Dataset, err error) error) error {
 	if err := opt.prepare(); err != nil {
-		return nil, err
+		return err
 	}
 	files, walked, skipped, err := expandPaths(paths)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	meter := &progressMeter{fn: opt.Progress}
-	opt.arena = &slabArena{}
 	for _, f := range files {
 		if opt.Progress == nil {
 			break // the total only serves progress reports: no stat per file otherwise
@@ -371,31 +388,43 @@ func ReadPaths(paths []string, opt Options) (*Dataset, error) {
 			meter.total += fi.Size()
 		}
 	}
-	results := make([]*fileResult, len(files))
-	sem := make(chan struct{}, opt.workers())
-	var wg sync.WaitGroup
-	for i, f := range files {
-		wg.Add(1)
-		sem <- struct{}{}
-		go func() {
-			defer wg.Done()
-			defer func() { <-sem }()
-			results[i] = readNamed(f, opt, meter)
-		}()
+	if batch <= 0 {
+		batch = max(len(files), 1)
 	}
-	wg.Wait()
-	meter.add(0)
-	kept := results[:0]
-	for i, res := range results {
-		if why, skip := notTelemetry(res); skip && walked[i] {
-			skipped = append(skipped, Skip{files[i], why})
-			continue
+	for from := 0; from == 0 || from < len(files); from += batch {
+		to := min(from+batch, len(files))
+		opt.arena = &slabArena{} // a batch's small files' columns go with it
+		results := make([]*fileResult, to-from)
+		sem := make(chan struct{}, opt.workers())
+		var wg sync.WaitGroup
+		for i, f := range files[from:to] {
+			wg.Add(1)
+			sem <- struct{}{}
+			go func() {
+				defer wg.Done()
+				defer func() { <-sem }()
+				results[i] = readNamed(f, opt, meter)
+			}()
 		}
-		kept = append(kept, res)
+		wg.Wait()
+		if to == len(files) {
+			meter.add(0)
+		}
+		kept := results[:0]
+		for i, res := range results {
+			if why, skip := notTelemetry(res); skip && walked[from+i] {
+				skipped = append(skipped, Skip{files[from+i], why})
+				continue
+			}
+			kept = append(kept, res)
+		}
+		ds, err := assemble(kept, opt.workers())
+		ds.Skipped, skipped = skipped, nil
+		if err := fn(ds, err); err != nil {
+			return err
+		}
 	}
-	ds, err := assemble(kept, opt.workers())
-	ds.Skipped = skipped
-	return ds, err
+	return nil
 }
 
 // readNamed opens and reads one named input ("-" is standard input).

@@ -483,3 +483,68 @@ func TestStrictCountsExact(t *testing.T) {
 		})
 	}
 }
+
+// Read in batches, a folder gives what ReadPaths gives: the batches' inputs, rejections and
+// skipped files joined in order are ReadPaths', and each port's series is the same, in the
+// batch of its file (the ports here lie in one file each).
+func TestReadEachMatchesReadPaths(t *testing.T) {
+	dir := t.TempDir()
+	write := func(name, text string) {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	write("a.csv", "time,port,osnr_db,rx_power_dbm\n2026-03-14T08:00:00Z,p1,20,-9\n2026-03-14T08:01:00Z,p1,21,-9.5\n2026-03-14T08:01:00Z,p1,22,-9.25\n")
+	write("b.csv", "time,port,pre_fec_ber\n2026-03-14T08:00:00Z,p2,0.9\n2026-03-14T08:01:00Z,p2,1e-3\n")
+	write("c.txt", "")
+	write("d.jsonl", `{"time":"2026-03-14T08:00:00Z","port":"p3","dgd_ps":4.5}`+"\n")
+	write("e.pdf", "%PDF")
+	write("f.csv", "time,port,q_db,profile\n2026-03-14T08:00:00Z,p0,9.5,400ZR\nnot a time,p0,9.1,400ZR\n")
+	whole, werr := ReadPaths([]string{dir}, Options{})
+	for _, batch := range []int{1, 2, 3, 10} {
+		var got Dataset
+		var errs []string
+		series := map[string]*Series{}
+		err := ReadEach([]string{dir}, Options{}, batch, func(ds *Dataset, err error) error {
+			got.Inputs = append(got.Inputs, ds.Inputs...)
+			got.Rejected = append(got.Rejected, ds.Rejected...)
+			got.Skipped = append(got.Skipped, ds.Skipped...)
+			if err != nil {
+				errs = append(errs, err.Error())
+			}
+			for _, s := range ds.Series {
+				if series[s.Port] != nil {
+					t.Errorf("batch %d: port %s in two batches", batch, s.Port)
+				}
+				series[s.Port] = s
+			}
+			return nil
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !reflect.DeepEqual(got.Inputs, whole.Inputs) || !reflect.DeepEqual(got.Rejected, whole.Rejected) || !reflect.DeepEqual(got.Skipped, whole.Skipped) {
+			t.Errorf("batch %d: inputs %+v\nrejected %+v\nskipped %+v\nwant %+v\n%+v\n%+v", batch, got.Inputs, got.Rejected, got.Skipped, whole.Inputs, whole.Rejected, whole.Skipped)
+		}
+		if (werr == nil) != (len(errs) == 0) {
+			t.Errorf("batch %d: errors %q, ReadPaths %v", batch, errs, werr)
+		}
+		if len(series) != len(whole.Series) {
+			t.Errorf("batch %d: %d ports, want %d", batch, len(series), len(whole.Series))
+		}
+		for _, w := range whole.Series {
+			s := series[w.Port]
+			if s == nil {
+				t.Errorf("batch %d: port %s missing", batch, w.Port)
+				continue
+			}
+			ws, gs := w.Decoded(), s.Decoded()
+			if !reflect.DeepEqual(ws.TimesMs, gs.TimesMs) || !reflect.DeepEqual(fmt.Sprint(ws.Values), fmt.Sprint(gs.Values)) || !reflect.DeepEqual(ws.Profiles, gs.Profiles) {
+				t.Errorf("batch %d: port %s differs", batch, w.Port)
+			}
+		}
+	}
+	if len(whole.Skipped) != 2 || len(whole.Rejected) == 0 || len(whole.Series) != 4 {
+		t.Fatalf("the folder should have skipped files, rejections and four ports: %+v", whole)
+	}
+}

@@ -227,39 +227,10 @@ func (a *analysis) configure(jf judgeFlags, mapFile string) (diagnose.Config, *r
 // port's profile from its data where that names it, and the acceptance test (acc, when set) the
 // rejected rows.
 func (a *analysis) screen(ds *parse.Dataset, readErr error, cfg diagnose.Config, pm *rules.PortMap, strict, requireProfile bool, acc *diagnose.AcceptanceTest, pr *printer) (diagnose.Config, error) {
-	if strict && readErr != nil {
-		// Say exactly how far each stopped input was read, and why it stopped.
-		var errs []error
-		for _, in := range ds.Inputs {
-			if in.Error != "" {
-				errs = append(errs, fmt.Errorf("--strict: nothing judged: %s: %d rows read, %d used, %d rejected: %s",
-					in.File, in.RowsRead, in.RowsUsed, in.RowsRejected, in.Error))
-			}
-		}
-		if errs == nil {
-			errs = append(errs, readErr)
-		}
-		return cfg, errors.Join(errs...)
+	if err := screenRead(ds, countSamples(ds), readErr, strict, pr); err != nil {
+		return cfg, err
 	}
-	if countSamples(ds) == 0 {
-		for i, r := range ds.Rejected {
-			if i == 5 {
-				break
-			}
-			pr.Errorf("%s:%d: %s", r.File, r.Line, r.Reason)
-		}
-		if readErr != nil {
-			return cfg, readErr
-		}
-		return cfg, errors.New("nothing usable was read: no row was accepted (try 'beatnote scan' to see why)")
-	}
-	if n := len(ds.Skipped); n > 0 {
-		pr.Notef("%d files in folders skipped as not telemetry, e.g. %s (%s); 'beatnote scan' lists them", n, ds.Skipped[0].File, ds.Skipped[0].Reason)
-	}
-	read, rejected := rowCounts(ds)
-	if rejected > 0 {
-		pr.Notef("%d of %d rows were rejected and not judged; 'beatnote scan' lists every reason", rejected, read)
-	}
+	_, rejected := rowCounts(ds)
 	if acc != nil {
 		acc.Rejected, acc.RejectedByPort = rejected, rejectedByPort(ds)
 		cfg.Acceptance = acc
@@ -284,6 +255,45 @@ func (a *analysis) screen(ds *parse.Dataset, readErr error, cfg diagnose.Config,
 		}
 	}
 	return cfg, ps.finish(requireProfile, pr)
+}
+
+// screenRead checks what was read (ds's inputs, rejections and skipped files, samples the
+// samples of its ports) before anything is judged: --strict's stops and nothing usable are
+// errors; the files skipped and the rows rejected are noted.
+func screenRead(ds *parse.Dataset, samples int, readErr error, strict bool, pr *printer) error {
+	if strict && readErr != nil {
+		// Say exactly how far each stopped input was read, and why it stopped.
+		var errs []error
+		for _, in := range ds.Inputs {
+			if in.Error != "" {
+				errs = append(errs, fmt.Errorf("--strict: nothing judged: %s: %d rows read, %d used, %d rejected: %s",
+					in.File, in.RowsRead, in.RowsUsed, in.RowsRejected, in.Error))
+			}
+		}
+		if errs == nil {
+			errs = append(errs, readErr)
+		}
+		return errors.Join(errs...)
+	}
+	if samples == 0 {
+		for i, r := range ds.Rejected {
+			if i == 5 {
+				break
+			}
+			pr.Errorf("%s:%d: %s", r.File, r.Line, r.Reason)
+		}
+		if readErr != nil {
+			return readErr
+		}
+		return errors.New("nothing usable was read: no row was accepted (try 'beatnote scan' to see why)")
+	}
+	if n := len(ds.Skipped); n > 0 {
+		pr.Notef("%d files in folders skipped as not telemetry, e.g. %s (%s); 'beatnote scan' lists them", n, ds.Skipped[0].File, ds.Skipped[0].Reason)
+	}
+	if read, rejected := rowCounts(ds); rejected > 0 {
+		pr.Notef("%d of %d rows were rejected and not judged; 'beatnote scan' lists every reason", rejected, read)
+	}
+	return nil
 }
 
 // profileScreen places ports on their profiles one at a time (add) and then says what it had to
@@ -575,6 +585,18 @@ func readInputs(paths []string, jf judgeFlags, pr *printer) (*parse.Dataset, err
 // readWithProgress reads the inputs with opt, drawing a progress bar on stderr when it is a
 // terminal (and not --quiet).
 func readWithProgress(paths []string, opt parse.Options, pr *printer) (*parse.Dataset, error) {
+	done := withProgress(&opt, pr)
+	ds, err := parse.ReadPaths(paths, opt)
+	done()
+	if ds == nil && errors.Is(err, parse.ErrOption) {
+		return nil, usageErrorf("%v", err)
+	}
+	return ds, err
+}
+
+// withProgress sets opt's progress reports to draw a progress bar on stderr when it is a
+// terminal (and not --quiet); done finishes the bar.
+func withProgress(opt *parse.Options, pr *printer) (done func()) {
 	var bar *progressbar.ProgressBar
 	if pr.ShowProgress() {
 		opt.Progress = func(done, total int64) {
@@ -586,14 +608,11 @@ func readWithProgress(paths []string, opt parse.Options, pr *printer) (*parse.Da
 			_ = bar.Set64(done)
 		}
 	}
-	ds, err := parse.ReadPaths(paths, opt)
-	if bar != nil {
-		_ = bar.Finish()
+	return func() {
+		if bar != nil {
+			_ = bar.Finish()
+		}
 	}
-	if ds == nil && errors.Is(err, parse.ErrOption) {
-		return nil, usageErrorf("%v", err)
-	}
-	return ds, err
 }
 
 // exitFor maps a finished analysis to the exit status of the design contract: 2 when an input

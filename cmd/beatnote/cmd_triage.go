@@ -17,6 +17,8 @@ type TriageCmd struct {
 	Top     int      `help:"Show only the N first ports of that order (0: all)." placeholder:"N" default:"0"`
 	Verdict []string `help:"Show only ports with these verdicts (comma-separated: fail, marginal, pass, no-data)." placeholder:"LIST"`
 	Cause   []string `help:"Show only ports listing one of these cause ids (comma-separated)." placeholder:"LIST"`
+	// PortByPort: see triage_byport.go.
+	PortByPort string `name:"port-by-port" help:"Read and judge the files a batch at a time, each port's telemetry dropped once judged, so memory does not grow with the fleet: auto (the default) when the first batch shows each port in one file, always, or never (read every input, then judge). The output is the same." enum:"auto,always,never" default:"auto"`
 }
 
 // Help is the long help of the command.
@@ -71,32 +73,29 @@ func (c *TriageCmd) keep(r *report.TriageRow) bool {
 }
 
 // Run reads, judges, filters, ranks and prints. Each port is kept only as its rank key and
-// table row while the others are judged, its JSON waiting in a temporary file (triageRun).
+// table row while the others are judged, its JSON waiting in a temporary file (triageRun). Files
+// whose ports lie in one file each are read and judged port by port (byPort); other inputs are
+// read whole first (whole).
 func (c *TriageCmd) Run(g *Globals, pr *printer) error {
 	if err := c.validate(); err != nil {
 		return err
 	}
-	a, cfg, err := prepare(c.Paths, c.judgeFlags, c.Map, true, nil, pr)
+	var j *judged
+	var err error
+	if c.PortByPort != "never" && !c.active() && !slices.Contains(c.Paths, "-") {
+		j, err = c.byPort(pr)
+	}
+	if err == nil && j == nil {
+		j, err = c.whole(pr)
+	}
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}
-	t := newTriageRun(cfg, c.Format == "json")
-	defer t.close()
-	ds := a.DS
-	ports := make([]triagePort, len(ds.Series))
-	err = diagnose.NewJudge(cfg).Each(ds.Series, func(i int, p *diagnose.PortResult) {
-		ports[i] = t.take(p)
-		ds.Series[i] = nil // judged: its series is not needed any more
-	})
-	if err != nil {
+	defer j.t.close()
+	if j.res.Lines, err = j.t.lines(j.ports); err != nil {
 		return &exitError{code: 2, err: err}
 	}
-	res := diagnose.NewResult(ds, cfg.Version)
-	a.DS = nil
-	if res.Lines, err = t.lines(ports); err != nil {
-		return &exitError{code: 2, err: err}
-	}
-	shown, err := c.write(pr.Out(), t, res, c.rank(ports))
+	shown, err := c.write(pr.Out(), j.t, j.res, c.rank(j.ports))
 	if err != nil {
 		return &exitError{code: 2, err: err}
 	}
@@ -104,5 +103,36 @@ func (c *TriageCmd) Run(g *Globals, pr *printer) error {
 	for i := range shown {
 		pass = pass && shown[i].Verdict == diagnose.Pass
 	}
-	return exitFor(a, pass)
+	return exitFor(j.a, pass)
+}
+
+// judged is what a triage has judged: every port kept by t (in port-id order, as a Dataset's),
+// and the result without its ports and lines.
+type judged struct {
+	a     *analysis
+	t     *triageRun
+	ports []triagePort
+	res   *diagnose.Result
+}
+
+// whole reads every input, then judges the ports (as analyze does), each port's series
+// released once it is judged.
+func (c *TriageCmd) whole(pr *printer) (*judged, error) {
+	a, cfg, err := prepare(c.Paths, c.judgeFlags, c.Map, true, nil, pr)
+	if err != nil {
+		return nil, err
+	}
+	t := newTriageRun(cfg, c.Format == "json")
+	ds := a.DS
+	ports := make([]triagePort, len(ds.Series))
+	err = diagnose.NewJudge(cfg).Each(ds.Series, nil, func(i int, p *diagnose.PortResult) {
+		ports[i] = t.take(p)
+		ds.Series[i] = nil // judged: its series is not needed any more
+	})
+	if err != nil {
+		t.close()
+		return nil, err
+	}
+	a.DS = nil
+	return &judged{a: a, t: t, ports: ports, res: diagnose.NewResult(ds, cfg.Version)}, nil
 }
