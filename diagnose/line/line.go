@@ -3,9 +3,10 @@
 // changes — inside the coincidence window, that is one event of the line, not N unrelated port
 // causes. It also pools the channels' DGD samples into the fibre's mean DGD.
 //
-// The input is the per-port judgement of package diagnose (PortResult with its Analysis, the
-// port's line from the port map); the output is diagnose.LineResult and a pointer from each
-// affected port to the finding.
+// The input is a summary of each port taken from its judgement by package diagnose while its
+// series is at hand (NewChannel: the port's line from the port map, its onsets of each kind and
+// its DGD samples), so that neither the result nor the series need be kept; the output is
+// diagnose.LineResult and a pointer from each affected port to the finding (Refs).
 //
 // # How sure: the chance of a coincidence
 //
