@@ -104,8 +104,13 @@ func BenchmarkAnalyzeFleet(b *testing.B) { benchAnalyze(b, 0) }
 func BenchmarkAnalyzeFleetOneWorker(b *testing.B) { benchAnalyze(b, 1) }
 
 // BenchmarkAnalyzeSmallPorts judges 5,000-file-shaped ports: 200 samples each.
-func BenchmarkAnalyzeSmallPorts(b *testing.B) {
-	ds, cfg := fleetDataset(b, 200, 200, 0)
+func BenchmarkAnalyzeSmallPorts(b *testing.B) { benchSmall(b, 200) }
+
+// BenchmarkAnalyzeTinyPorts judges 20,000-file-shaped ports: 50 samples each.
+func BenchmarkAnalyzeTinyPorts(b *testing.B) { benchSmall(b, 50) }
+
+func benchSmall(b *testing.B, samples int) {
+	ds, cfg := fleetDataset(b, 200, samples, 0)
 	cfg.CorrelationsOnDemand = true // as the command line judges
 	b.ReportAllocs()
 	b.ResetTimer()

@@ -51,18 +51,22 @@ func binExtremes(b *parse.Bins, q parse.Quantity) (lo, hi float64) {
 }
 
 // widenWithBins widens the column summaries sum (and absSum, of |x|) with the bins' extremes.
-func widenWithBins(b *parse.Bins, sum, absSum map[parse.Quantity]series.Summary) {
+// cols has bit q set for each column summarised; absSum holds CD and LO offset when present.
+func widenWithBins(b *parse.Bins, sum, absSum *[parse.NumQuantities]series.Summary, cols uint32) {
 	if b == nil {
 		return
 	}
-	for q, s := range sum {
+	for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
+		if cols&(1<<q) == 0 {
+			continue
+		}
 		lo, hi := binExtremes(b, q)
+		s := &sum[q]
 		widen(&s.Min, &s.Max, lo, hi)
-		sum[q] = s
-		if a, ok := absSum[q]; ok {
+		if q == parse.CDpsPerNm || q == parse.LOOffsetMHz {
+			a := &absSum[q]
 			m := math.Max(math.Abs(lo), math.Abs(hi)) // NaN when neither is given
 			widen(&a.Min, &a.Max, a.Min, m)
-			absSum[q] = a
 		}
 	}
 }

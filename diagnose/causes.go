@@ -76,9 +76,22 @@ const (
 	coincidenceIntervals = 1.5
 )
 
+// item is one piece of evidence: its log-likelihood ratio and its words, either given (text)
+// or, for a column test, the format and arguments they are printed from when the cause is
+// listed (words): most causes of most ports are weighed but never listed.
 type item struct {
-	llr  float64
-	text string
+	llr    float64
+	text   string
+	format string
+	args   []any
+}
+
+// words is the item's text.
+func (it *item) words() string {
+	if it.format == "" {
+		return it.text
+	}
+	return fmt.Sprintf(it.format, it.args...)
 }
 
 type score struct {
@@ -86,8 +99,10 @@ type score struct {
 	items []item
 }
 
+// add is a column test's evidence, worded as fmt.Sprintf(format, a...) if it is ever shown.
+// The arguments are values, or Stringers over the port's read-only state (figure).
 func (s *score) add(llr float64, format string, a ...any) {
-	s.items = append(s.items, item{llr, fmt.Sprintf(format, a...)})
+	s.items = append(s.items, item{llr: llr, format: format, args: a})
 }
 
 // sum is Σ LLR of the cause's column tests.
@@ -170,7 +185,7 @@ func ownedBreaches(criteria []Criterion, owners []CauseID, scores map[CauseID]*s
 	return forced
 }
 
-func (pc *portCtx) has(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
+func (pc *portCtx) has(q parse.Quantity) bool { return pc.cols&(1<<q) != 0 }
 
 // present reports whether the log has q for the cause's test; when it has not, it adds to nj
 // that the cause is not judged for want of q.

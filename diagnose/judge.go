@@ -63,10 +63,10 @@ func (pc *portCtx) metrics() map[string]Metric {
 	m, p := map[string]Metric{}, pc.prof
 	nan := math.NaN()
 	for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
-		s, ok := pc.sum[q]
-		if !ok {
+		if !pc.has(q) {
 			continue
 		}
+		s := pc.sum[q]
 		limit, margin := nan, nan
 		switch q {
 		case parse.PreFECBER:
@@ -208,7 +208,7 @@ func (t *criteriaTable) append(c Criterion, owner CauseID) {
 func (pc *portCtx) criteria() criteriaTable {
 	var t criteriaTable
 	p, r := pc.prof, pc.r
-	has := func(q parse.Quantity) bool { _, ok := pc.sum[q]; return ok }
+	has := pc.has
 
 	if pc.qdb != nil && p.FECThresholdBER > 0 {
 		s := pc.qSummary()
@@ -352,7 +352,7 @@ func (pc *portCtx) planVsMeasured() (rows []PlanComparison) {
 		}
 		rows = append(rows, PlanComparison{Quantity: q, Expected: exp, Measured: meas, Unit: unit, Note: note})
 	}
-	if s, ok := pc.sum[parse.CDpsPerNm]; ok {
+	if s := pc.sum[parse.CDpsPerNm]; pc.has(parse.CDpsPerNm) {
 		note := "median of the DSP estimate"
 		if s.P50*e.CDPsNm < 0 {
 			note += "; reported with the opposite sign to the plan (compared by magnitude)"
@@ -368,7 +368,7 @@ func (pc *portCtx) planVsMeasured() (rows []PlanComparison) {
 	if countFinite(pc.litPower) > 0 {
 		add(parse.RxPowerDBm.Column(), e.RxPowerDBm, pc.litPowerSummary().P50, "dBm", "median while the signal was present")
 	}
-	if s, ok := pc.sum[parse.OSNRdB]; ok {
+	if s := pc.sum[parse.OSNRdB]; pc.has(parse.OSNRdB) {
 		add(parse.OSNRdB.Column(), e.ASEOSNRdB, s.P50, "dB", "median reported OSNR vs the ASE OSNR of the amplifier chain")
 	}
 	if v := pc.impliedOSNRp50(); finite(v) {
@@ -378,7 +378,7 @@ func (pc *portCtx) planVsMeasured() (rows []PlanComparison) {
 		}
 		add(PlanImpliedOSNRdB, ref, v, "dB", "OSNR implied by the median eSNR (after the transceiver ceiling) vs the plan's generalized OSNR")
 	}
-	if s, ok := pc.sum[parse.FrequencyTHz]; ok {
+	if s := pc.sum[parse.FrequencyTHz]; pc.has(parse.FrequencyTHz) {
 		note := ""
 		// A DWDM channel is placed on the ITU-T G.694.1 flexible grid, whose centre frequencies
 		// step by 6.25 GHz: a transceiver tuned further than one step from the plan's frequency
@@ -388,7 +388,7 @@ func (pc *portCtx) planVsMeasured() (rows []PlanComparison) {
 		}
 		add(parse.FrequencyTHz.Column(), e.FrequencyTHz, s.P50, "THz", note)
 	}
-	if s, ok := pc.sum[parse.TxPowerDBm]; ok && pc.plan.TxPowerDBm != 0 {
+	if s := pc.sum[parse.TxPowerDBm]; pc.has(parse.TxPowerDBm) && pc.plan.TxPowerDBm != 0 {
 		add(parse.TxPowerDBm.Column(), pc.plan.TxPowerDBm, s.P50, "dBm", "")
 	}
 	return rows

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
 
 	"github.com/beatnote/beatnote/diagnose/optics"
 	"github.com/beatnote/beatnote/diagnose/series"
@@ -37,7 +38,6 @@ const (
 type portCtx struct {
 	s    *parse.Series
 	prof rules.Profile
-	mod  optics.Modulation
 	plan *rules.Plan
 	exp  *optics.LinkExpectation
 	r    rules.Rules
@@ -46,10 +46,11 @@ type portCtx struct {
 
 	n          int
 	intervalMs int64
-	derived    // the derive stage's value (derive); read, never written, by the later stages
-	sum        map[parse.Quantity]series.Summary
-	absSum     map[parse.Quantity]series.Summary // of |x|, for CD and LO offset
-	stat       statChoice                        // the statistic each criterion judges (chooseStatistics); read-only
+	derived                                        // the derive stage's value (derive); read, never written, by the later stages
+	cols       uint32                              // bit q: the port has column q (a finite sample)
+	sum        [parse.NumQuantities]series.Summary // of each column the port has (cols)
+	absSum     [parse.NumQuantities]series.Summary // of |x|, for CD and LO offset
+	stat       statChoice                          // the statistic each criterion judges (chooseStatistics); read-only
 
 	scratch []float64 // working copy for summaries
 
@@ -66,12 +67,75 @@ type portCtx struct {
 		tx                  *txChangeInfo
 	}
 
-	// Model figures of the profile.
-	qLimitDB      float64 // Q (dB) at the FEC threshold
-	snrThDB       float64 // theoretical Es/N0 at the FEC threshold
-	snrTrxDB      float64 // transceiver SNR ceiling
+	profileFigures // the model figures of the profile (figuresOf); read-only
+}
+
+// profileFigures are the model figures of a profile, the same for every port of the profile.
+type profileFigures struct {
+	mod           optics.Modulation // zero (not Valid) when the profile's modulation is unknown
+	qLimitDB      float64           // Q (dB) at the FEC threshold
+	snrThDB       float64           // theoretical Es/N0 at the FEC threshold
+	snrTrxDB      float64           // transceiver SNR ceiling
 	reqOSNRdB     float64
 	trxAssumption string
+}
+
+// computeFigures computes the model figures of prof.
+func computeFigures(prof rules.Profile) profileFigures {
+	var f profileFigures
+	if m, err := optics.ParseModulation(prof.Modulation); err == nil {
+		f.mod = m
+	}
+	f.qLimitDB = optics.QdBFromBER(prof.FECThresholdBER)
+	f.snrThDB, f.snrTrxDB, f.reqOSNRdB = math.NaN(), math.Inf(1), prof.RequiredOSNRdB
+	if f.mod.Valid() && prof.FECThresholdBER > 0 {
+		f.snrThDB = optics.SNRdBFromBER(f.mod, prof.FECThresholdBER)
+		f.snrTrxDB, f.trxAssumption = transceiverSNRdB(prof, f.snrThDB)
+		if !(f.reqOSNRdB > 0) && prof.BaudGBd > 0 {
+			f.reqOSNRdB = optics.RequiredOSNRdB(f.mod, prof.BaudGBd, prof.PolarizationCount(), prof.FECThresholdBER, prof.ImplementationPenaltyDB)
+		}
+	}
+	return f
+}
+
+// figureKey is every profile field computeFigures reads (floats by their bits, so that −0 and
+// +0, or two NaNs, are told apart and alike as computeFigures would).
+type figureKey struct {
+	modulation                       string
+	fec, b2b, penalty, reqOSNR, baud uint64
+	pols                             int
+}
+
+// figureMemo keeps computeFigures per profile: the root finding behind the eSNR at the FEC
+// threshold would otherwise be paid on every port. Bounded: profiles come from files.
+var figureMemo struct {
+	sync.Mutex
+	m map[figureKey]profileFigures
+}
+
+const figureMemoMax = 256
+
+// figuresOf is computeFigures(prof), computed once per profile.
+func figuresOf(prof rules.Profile) profileFigures {
+	k := figureKey{prof.Modulation, math.Float64bits(prof.FECThresholdBER), math.Float64bits(prof.BackToBackSNRdB),
+		math.Float64bits(prof.ImplementationPenaltyDB), math.Float64bits(prof.RequiredOSNRdB), math.Float64bits(prof.BaudGBd),
+		prof.PolarizationCount()}
+	figureMemo.Lock()
+	f, ok := figureMemo.m[k]
+	figureMemo.Unlock()
+	if ok {
+		return f
+	}
+	f = computeFigures(prof)
+	figureMemo.Lock()
+	if figureMemo.m == nil {
+		figureMemo.m = map[figureKey]profileFigures{}
+	}
+	if len(figureMemo.m) < figureMemoMax {
+		figureMemo.m[k] = f
+	}
+	figureMemo.Unlock()
+	return f
 }
 
 func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *optics.LinkExpectation, r rules.Rules, lazyCorr bool) *portCtx {
@@ -88,19 +152,7 @@ func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opti
 	}
 	pc.intervalMs = medianInterval(s.TimesMs)
 
-	m, err := optics.ParseModulation(prof.Modulation)
-	if err == nil {
-		pc.mod = m
-	}
-	pc.qLimitDB = optics.QdBFromBER(prof.FECThresholdBER)
-	pc.snrThDB, pc.snrTrxDB, pc.reqOSNRdB = math.NaN(), math.Inf(1), prof.RequiredOSNRdB
-	if pc.mod.Valid() && prof.FECThresholdBER > 0 {
-		pc.snrThDB = optics.SNRdBFromBER(pc.mod, prof.FECThresholdBER)
-		pc.snrTrxDB, pc.trxAssumption = transceiverSNRdB(prof, pc.snrThDB)
-		if !(pc.reqOSNRdB > 0) && prof.BaudGBd > 0 {
-			pc.reqOSNRdB = optics.RequiredOSNRdB(pc.mod, prof.BaudGBd, prof.PolarizationCount(), prof.FECThresholdBER, prof.ImplementationPenaltyDB)
-		}
-	}
+	pc.profileFigures = figuresOf(prof)
 	pc.summarizeColumns()
 	pc.stat = chooseStatistics(s, r)
 	pc.derived = derive(s, pc.mod, r.SignalLossFloorDBm)
@@ -115,10 +167,8 @@ func newPortCtx(s *parse.Series, prof rules.Profile, plan *rules.Plan, exp *opti
 // summaryOf is the summary of v: when v is the port's own column q (not a derived copy), the
 // one summarizeColumns already computed.
 func (pc *portCtx) summaryOf(v []float64, q parse.Quantity) series.Summary {
-	if col := pc.s.Values[q]; len(v) > 0 && len(col) == len(v) && &col[0] == &v[0] {
-		if s, ok := pc.sum[q]; ok {
-			return s
-		}
+	if col := pc.s.Values[q]; len(v) > 0 && len(col) == len(v) && &col[0] == &v[0] && pc.has(q) {
+		return pc.sum[q]
 	}
 	return pc.summarize(v)
 }
@@ -213,15 +263,14 @@ func nanSlice(n int) []float64 {
 // to the extremes of binned samples (widenWithBins).
 func (pc *portCtx) summarizeColumns() {
 	s, n := pc.s, pc.n
-	pc.sum = map[parse.Quantity]series.Summary{}
-	pc.absSum = map[parse.Quantity]series.Summary{}
 	for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
 		if s.Has(q) {
+			pc.cols |= 1 << q
 			pc.sum[q] = pc.summarize(s.Values[q])
 		}
 	}
-	for _, q := range []parse.Quantity{parse.CDpsPerNm, parse.LOOffsetMHz} {
-		if s.Has(q) {
+	for _, q := range [...]parse.Quantity{parse.CDpsPerNm, parse.LOOffsetMHz} {
+		if pc.has(q) {
 			// All finite values positive (or none): |x| is x itself, bit for bit, so the
 			// summary of |x| is the one already made.
 			if sq := pc.sum[q]; sq.N == 0 || sq.Min > 0 {
@@ -235,7 +284,7 @@ func (pc *portCtx) summarizeColumns() {
 			pc.absSum[q] = pc.summarize(a)
 		}
 	}
-	widenWithBins(s.Bins, pc.sum, pc.absSum)
+	widenWithBins(s.Bins, &pc.sum, &pc.absSum, pc.cols)
 }
 
 // derived is the value of the derive stage: per-sample BER, Q and eSNR from whichever the port

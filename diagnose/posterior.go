@@ -397,7 +397,7 @@ func (pc *portCtx) symptomEvidence(id CauseID, o observables) []item {
 	var out []item
 	add := func(pc4 float64, ph float64, text string) {
 		if l := math.Log(pc4 / ph); math.Abs(l) >= minEvidenceLLR {
-			out = append(out, item{l, text})
+			out = append(out, item{llr: l, text: text})
 		}
 	}
 	qm, lp := pc.qMarginP50(), pc.litPowerSummary()
@@ -462,18 +462,18 @@ func (pc *portCtx) list(o observables, criteria []Criterion, scores map[CauseID]
 			items = append(items, s.items...)
 		} else if q, owned := ownColumn[id]; owned && !pc.has(q) {
 			prior, _ := pc.r.Priors.Of(string(id))
-			items = append(items, item{0, fmt.Sprintf("The log has no %s, so %s is weighed on its prior (%.1f %%) and the pattern of the other columns alone.", q.Column(), id, 100*prior)})
+			items = append(items, item{text: fmt.Sprintf("The log has no %s, so %s is weighed on its prior (%.1f %%) and the pattern of the other columns alone.", q.Column(), id, 100*prior)})
 		}
 		items = append(items, pc.symptomEvidence(id, o)...)
 		if s := scores[id]; (s == nil || !s.supported()) && noiseFamily[id] {
-			items = append(items, item{0, fmt.Sprintf("Named from the pattern alone (median Q margin %.2f dB): a loss of signal quality with the light arriving normally is what amplifier noise (osnr-low), fibre nonlinearity (nonlinear), a transceiver fault (transceiver) and filtering give; the next test below tells them apart.", pc.qMarginP50())})
+			items = append(items, item{text: fmt.Sprintf("Named from the pattern alone (median Q margin %.2f dB): a loss of signal quality with the light arriving normally is what amplifier noise (osnr-low), fibre nonlinearity (nonlinear), a transceiver fault (transceiver) and filtering give; the next test below tells them apart.", pc.qMarginP50())})
 		}
 		sort.SliceStable(items, func(i, j int) bool { return items[i].llr > items[j].llr })
-		for _, it := range items {
-			if it.llr < 0 {
-				c.Evidence = append(c.Evidence, "Against: "+it.text)
+		for i := range items {
+			if items[i].llr < 0 {
+				c.Evidence = append(c.Evidence, "Against: "+items[i].words())
 			} else {
-				c.Evidence = append(c.Evidence, it.text)
+				c.Evidence = append(c.Evidence, items[i].words())
 			}
 		}
 		out = append(out, c)
@@ -497,6 +497,14 @@ var ownColumn = map[CauseID]parse.Quantity{
 	CauseFrequencyMismatch: parse.FrequencyTHz,
 }
 
+// figure prints as strings.TrimSpace(pc.columnFigure(q)), when it is printed.
+type figure struct {
+	pc *portCtx
+	q  parse.Quantity
+}
+
+func (f figure) String() string { return strings.TrimSpace(f.pc.columnFigure(f.q)) }
+
 // exonerate adds the "its own estimate is normal" evidence to every cause whose column is in
 // the log and whose tests found nothing (cd-mismatch and frequency-mismatch only with a plan).
 func (pc *portCtx) exonerate(scores map[CauseID]*score) {
@@ -513,7 +521,7 @@ func (pc *portCtx) exonerate(scores map[CauseID]*score) {
 			scores[id] = s
 		}
 		if !s.supported() {
-			s.add(llrExonerated, "The module's own %s estimate is in the log and normal (%s).", q.Column(), strings.TrimSpace(pc.columnFigure(q)))
+			s.add(llrExonerated, "The module's own %s estimate is in the log and normal (%s).", q.Column(), figure{pc, q})
 		}
 	}
 }

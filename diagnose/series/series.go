@@ -12,6 +12,7 @@ import (
 	"math"
 	"slices"
 	"sort"
+	"sync"
 )
 
 // Finite returns the finite values of v in order (a new slice).
@@ -249,7 +250,10 @@ func noiseSigmaFinite(f []float64) float64 {
 	if len(f) < 3 {
 		return math.NaN()
 	}
-	d := make([]float64, len(f)-1)
+	dp := diffPool.Get().(*[]float64)
+	defer diffPool.Put(dp)
+	*dp = slices.Grow((*dp)[:0], len(f)-1)[:len(f)-1]
+	d := *dp
 	for i := 1; i < len(f); i++ {
 		d[i-1] = f[i] - f[i-1]
 	}
@@ -259,6 +263,10 @@ func noiseSigmaFinite(f []float64) float64 {
 	}
 	return 1.4826 * selectMedian(d) / math.Sqrt2
 }
+
+// diffPool holds the differences noiseSigmaFinite works on: the change-point search estimates
+// the noise of several series of every port.
+var diffPool = sync.Pool{New: func() any { return new([]float64) }}
 
 // selectMedian is Quantile(sorted v, 0.5) found by selection instead of a sort; v (no NaN, not
 // empty) is left in another order.
