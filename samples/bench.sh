@@ -15,7 +15,7 @@
 #   - triage of the same rows as JSON Lines / as CSV, and as OpenConfig-shaped JSON / as CSV
 #   - triage of 20,000 files × 50 rows / the bare read loop over them
 #   - triage / a pandas read plus per-port quantiles at 1M rows (samples/pandas_summary.py;
-#     skipped when pandas is not installed)
+#     skipped when pandas is not installed: apt-get install -y python3-pandas, or pip)
 # Wall time and peak RSS come from /usr/bin/time (apt-get install -y time if it is missing).
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -101,10 +101,19 @@ if [ "$BIG" != 0 ]; then
 	CMD_B=("$BIN/baseline" out/fleet-10m.csv)
 	pair tri10m base10m
 fi
+# pandas: the first of $PYTHON, python3 and the system's /usr/bin/python3 (where Debian's
+# python3-pandas installs) that imports it.
 pandas=skipped
-if python3 -c 'import pandas' 2>/dev/null; then
+py=
+for p in ${PYTHON:-} python3 /usr/bin/python3; do
+	if "$p" -c 'import pandas' 2>/dev/null; then
+		py=$p
+		break
+	fi
+done
+if [ -n "$py" ]; then
 	CMD_A=($(triage out/fleet.csv))
-	CMD_B=(python3 samples/pandas_summary.py out/fleet.csv)
+	CMD_B=("$py" samples/pandas_summary.py out/fleet.csv)
 	pair tripd pandas
 	pandas=ran
 fi
@@ -126,7 +135,7 @@ show "triage / bare loop, out/fleet-20k-files ($(rows out/fleet-20k-files) rows)
 if [ "$pandas" = ran ]; then
 	show "triage / pandas read + per-port quantiles, out/fleet.csv" tripd pandas "<= 0.1"
 else
-	echo "triage / pandas summary: skipped (pandas is not installed; python3 samples/pandas_summary.py)"
+	echo "triage / pandas summary: skipped (pandas is not installed: apt-get install -y python3-pandas)"
 fi
 echo
 perrow() { # label peak_kb rows
