@@ -671,6 +671,15 @@ func (s *Series) Decoded() *Series {
 	return d
 }
 
+// Times returns the sample times (Unix ms): TimesMs, or the times decoded from the compact
+// store without its values.
+func (s *Series) Times() []int64 {
+	if s.packed == nil {
+		return s.TimesMs
+	}
+	return s.packed.times.decode(make([]int64, 0, s.packed.times.n))
+}
+
 func popcount(m uint32) int {
 	n := 0
 	for ; m != 0; m &= m - 1 {

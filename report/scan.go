@@ -45,16 +45,16 @@ type ScanPort struct {
 func SummarizePorts(ds *parse.Dataset) []ScanPort {
 	out := make([]ScanPort, 0, len(ds.Series))
 	for _, s := range ds.Series {
-		s := s.Decoded()
-		sp := ScanPort{Port: s.Port, Samples: s.Len(), Quantities: []string{}, Profiles: s.Profiles}
-		if s.Len() > 0 {
-			sp.From = fmtTime(s.TimesMs[0])
-			sp.To = fmtTime(s.TimesMs[s.Len()-1])
+		times := s.Times()
+		sp := ScanPort{Port: s.Port, Samples: len(times), Quantities: []string{}, Profiles: s.Profiles}
+		if len(times) > 0 {
+			sp.From = fmtTime(times[0])
+			sp.To = fmtTime(times[len(times)-1])
 		}
-		if s.Len() > 1 {
-			d := make([]int64, s.Len()-1)
+		if len(times) > 1 {
+			d := make([]int64, len(times)-1)
 			for i := range d {
-				d[i] = s.TimesMs[i+1] - s.TimesMs[i]
+				d[i] = times[i+1] - times[i]
 			}
 			slices.Sort(d)
 			v := float64(d[len(d)/2]) / 1000
