@@ -50,8 +50,9 @@ type csvLayout struct {
 	mark byte
 }
 
-// fastCol is what csvParser.fastRow needs of a column: its kind and, for a quantity, the unit
-// conversion and the bounds within which checkRange surely accepts the value.
+// fastCol is what csvParser.fastRow needs of a column: its kind (colTime, colPort, colQuantity
+// for a value column, colUnknown for one the row's values do not come from) and, for a value,
+// the unit conversion and the bounds within which checkRange surely accepts it.
 type fastCol struct {
 	lo, hi float64
 	kind   colKind
@@ -154,14 +155,6 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 		notes = append(notes, bl.valueFallbacks(lay)...)
 		lay.bins = bl
 	}
-	lay.fast = lay.bins == nil && lay.profileCol < 0
-	for _, c := range lay.cols {
-		lay.plan = append(lay.plan, fastCol{lo: plainLo[c.q], hi: plainHi[c.q], kind: c.kind, conv: c.conv, q: c.q})
-	}
-	lay.mark = '.'
-	if lay.decimalComma {
-		lay.mark = ','
-	}
 	var missing []string
 	if lay.timeCol < 0 {
 		missing = append(missing, "time")
@@ -174,6 +167,17 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 	}
 	if len(missing) > 0 {
 		return nil, nil, &ParseError{File: file, Line: lineNo, Err: fmt.Errorf("%w: header has no %s column (docs/formats.md lists the column names)", ErrMissingColumn, strings.Join(missing, ", no "))}
+	}
+	lay.fast = lay.bins == nil && lay.profileCol < 0
+	lay.plan = make([]fastCol, len(lay.cols)) // colUnknown: a column fastRow skips
+	lay.plan[lay.timeCol].kind, lay.plan[lay.portCol].kind = colTime, colPort
+	for j, fi := range lay.qFields {
+		c := lay.cols[fi]
+		lay.plan[fi] = fastCol{lo: plainLo[c.q], hi: plainHi[c.q], kind: colQuantity, conv: c.conv, q: lay.qs[j]}
+	}
+	lay.mark = '.'
+	if lay.decimalComma {
+		lay.mark = ','
 	}
 	return lay, notes, nil
 }
@@ -433,7 +437,8 @@ func (cp *csvParser) splitRow(job *csvJob, ln []byte, lineNo int) *ParseError {
 }
 
 // fastRow reads a row of the common shape in one pass over ln, finding the separators while it
-// reads the numbers: no field quoted or padded with blanks, and nothing to reject. It stores
+// reads the numbers: every field as cut finds it (no blank padding, no escaped quote), and
+// nothing to reject. It stores
 // the row and returns true, or stores nothing and returns false; row then reads the line and,
 // when it is to be rejected, says why. What it accepts it reads as splitRow does: the same time
 // reader and caches, value for any number outside scanFloat's fast path (missing, decimal comma,
@@ -464,12 +469,13 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 					return false
 				}
 			} else {
-				e = fieldEnd(ln, i, delim)
-				if !cp.plain(ln[i:e]) {
+				f, fe, ok := cp.cut(ln, i)
+				if !ok {
 					return false
 				}
+				e = fe
 				var pe *ParseError
-				if v, pe = cp.value(ln[i:e], 0, c, fc.q); pe != nil {
+				if v, pe = cp.value(f, 0, c, fc.q); pe != nil {
 					return false
 				}
 			}
@@ -480,26 +486,32 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 				t, e = cp.lastTimeMs, i+len(lt)
 				break
 			}
-			e = fieldEnd(ln, i, delim)
-			tf := ln[i:e]
-			if !cp.plain(tf) || isMissing(tf) {
+			tf, fe, ok := cp.cut(ln, i)
+			if !ok || isMissing(tf) {
 				return false
 			}
-			var ok bool
+			e = fe
+			if len(cp.lastTime) > 0 && bytesString(tf) == bytesString(cp.lastTime) { // a quoted time
+				t = cp.lastTimeMs
+				break
+			}
 			if t, ok = cp.days.parse(lay.times, tf); !ok {
 				return false
 			}
 			cp.lastTime = append(cp.lastTime[:0], tf...)
 			cp.lastTimeMs = t
 		case colPort:
-			e = fieldEnd(ln, i, delim)
-			pf = ln[i:e]
-			if !cp.plain(pf) || isMissing(pf) {
+			var ok bool
+			if pf, e, ok = cp.cut(ln, i); !ok || isMissing(pf) {
 				return false
 			}
-		default: // an unknown column: only its end matters, unless it is quoted or padded
-			e = fieldEnd(ln, i, delim)
-			if e > i && (ln[i] == '"' || cp.isSpace(ln[i])) {
+		default: // a column no value comes from: only its end matters
+			if i < n && ln[i] == '"' {
+				var ok bool
+				if _, e, ok = cp.cut(ln, i); !ok {
+					return false
+				}
+			} else if e = fieldEnd(ln, i, delim); e > i && cp.isSpace(ln[i]) {
 				return false
 			}
 		}
@@ -538,6 +550,27 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 	job.rowPort = append(job.rowPort, pi)
 	job.times = append(job.times, t)
 	return true
+}
+
+// cut returns the field at ln[i:] as splitFields reads it, its text f, and the index e of the
+// delimiter after it (or len(ln)), when reading it needs no trimming and no unescaping: an
+// unquoted field that neither starts with a quote nor starts or ends with a blank, or a quoted
+// one that holds no quote and has the delimiter (or the end) right after its closing quote. ok
+// is false for any other field; the split path reads it.
+func (cp *csvParser) cut(ln []byte, i int) (f []byte, e int, ok bool) {
+	if i < len(ln) && ln[i] == '"' {
+		j := bytes.IndexByte(ln[i+1:], '"')
+		if j < 0 {
+			return nil, 0, false
+		}
+		e = i + 2 + j
+		if e < len(ln) && ln[e] != cp.lay.delim {
+			return nil, 0, false
+		}
+		return ln[i+1 : e-1], e, true
+	}
+	e = fieldEnd(ln, i, cp.lay.delim)
+	return ln[i:e], e, cp.plain(ln[i:e])
 }
 
 // fieldEnd is the index of the first delim in ln from i on, or len(ln).
