@@ -65,7 +65,7 @@ func packValue(v float64, hint *int8) (uint32, bool) {
 	a := math.Abs(v)
 	// a is in [2^e, 2^(e+1)): a·10^k ≤ 2^26 - 1 for k about (25 - e)·log10(2).
 	e := int(math.Float64bits(a)>>52&0x7ff) - 1023
-	k := min(max(int(math.Floor(float64(25-e)*math.Log10(2))), codeMinK), codeMaxK)
+	k := min(max(int(math.Floor(float64(25-e)*log10Of2)), codeMinK), codeMaxK)
 	for k < codeMaxK && scale10(a, k+1) <= codeMaxMant {
 		k++
 	}
@@ -101,6 +101,9 @@ func valueOf(m int64, k int) float64 {
 	return float64(m) * exactPow10[-k]
 }
 
+// log10Of2 is log10(2).
+const log10Of2 = 0.301029995663981195213738894724493026768189881462108541310
+
 // scale10 is a·10^k, rounded (for a comparison of magnitudes only).
 func scale10(a float64, k int) float64 {
 	if k >= 0 {
@@ -114,20 +117,15 @@ func tryCode(v float64, k int) (uint32, bool) {
 	if k < codeMinK || k > codeMaxK {
 		return 0, false
 	}
-	var m float64
-	if k >= 0 {
-		m = math.Round(v * exactPow10[k])
-	} else {
-		m = math.Round(v / exactPow10[-k])
-	}
-	if !(math.Abs(m) <= codeMaxMant) {
+	x := scale10(v, k)
+	if !(x > -codeMaxMant-0.5 && x < codeMaxMant+0.5) { // NaN fails too
 		return 0, false
 	}
-	c := codeOf(int32(m), k)
-	if unpackValue(c) != v {
+	m := int64(x + math.Copysign(0.5, x)) // rounded half away from zero; checked below
+	if valueOf(m, k) != v {
 		return 0, false
 	}
-	return c, true
+	return codeOf(int32(m), k), true
 }
 
 // segs is a column growing in segments, so that appending never copies what is already

@@ -194,3 +194,23 @@ func parseText(s string) float64 {
 	}
 	return v
 }
+
+// BenchmarkPackValue packs a day of a port's fourteen columns as the fleet generator writes them.
+func BenchmarkPackValue(b *testing.B) {
+	rng := rand.New(rand.NewPCG(9, 10))
+	texts := []string{"%.3g", "%.2f", "%.1f", "%.0f", "%.4f"}
+	vals := make([]float64, 14*1440)
+	for i := range vals {
+		vals[i] = parseText(fmt.Sprintf(texts[i%len(texts)], math.Pow(10, float64(i%7-4))*(1+rng.Float64())))
+	}
+	b.SetBytes(int64(len(vals)))
+	b.ResetTimer()
+	for range b.N {
+		var hint [5]int8
+		for i, v := range vals {
+			if _, ok := packValue(v, &hint[i%len(texts)]); !ok {
+				b.Fatal(v)
+			}
+		}
+	}
+}
