@@ -121,3 +121,39 @@ func TestTriagePortByPortMatchesWhole(t *testing.T) {
 		t.Errorf("port in two files: exit %d, %d bytes, stderr %q; whole exit %d, %d bytes, stderr %q", code, len(got), gotErr, wantCode, len(want), wantErr)
 	}
 }
+
+// The lines triage finds from the ports' summaries, their DGD samples read back from the
+// temporary file, are those line.Reason finds from the whole results (as check and report do),
+// on the demo network, both ways of reading.
+func TestTriageLinesMatchWholeResults(t *testing.T) {
+	root := filepath.Join("..", "..", "samples", "network")
+	var errw bytes.Buffer
+	a, err := analyze([]string{filepath.Join(root, "logs")}, judgeFlags{readFlags: readFlags{MaxRows: parse.DefaultMaxRows}},
+		filepath.Join(root, "portmap.yaml"), true, nil, newPrinter(&bytes.Buffer{}, &errw, true))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := json.Marshal(a.Result.Lines)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(a.Result.Lines) == 0 || !bytes.Contains(want, []byte(`"mean_dgd_ps"`)) {
+		t.Fatalf("the demo network should have lines with a pooled DGD: %s", want)
+	}
+	for _, mode := range []string{"always", "never"} {
+		_, out, _ := runCLI(t, "triage", filepath.Join(root, "logs"), "--map", filepath.Join(root, "portmap.yaml"), "--format", "json", "--port-by-port", mode)
+		var res struct {
+			Lines json.RawMessage `json:"lines"`
+		}
+		if err := json.Unmarshal([]byte(out), &res); err != nil {
+			t.Fatal(err)
+		}
+		var got bytes.Buffer
+		if err := json.Compact(&got, res.Lines); err != nil {
+			t.Fatal(err)
+		}
+		if !bytes.Equal(got.Bytes(), want) {
+			t.Errorf("--port-by-port %s: lines differ from line.Reason's:\n%s\nwant\n%s", mode, got.Bytes(), want)
+		}
+	}
+}
