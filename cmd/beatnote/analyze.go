@@ -526,7 +526,16 @@ func (a *analysis) portMapLookup(pm *rules.PortMap, profiles []rules.Profile, fl
 		plans[e.PlanPath] = &p
 		a.Configs[len(a.Configs)-1].Plan = &p
 	}
-	setups := make([]diagnose.Setup, len(pm.Entries))
+	// The entries share a few setups (plan, profile and what chose it): each entry keeps the
+	// index of its own, and its line, peer and module are taken from the entry when looked up,
+	// so a fleet's map does not hold a profile per port.
+	type shared struct {
+		plan    *rules.Plan
+		id, src string
+	}
+	var setups []diagnose.Setup
+	index := map[shared]int32{}
+	of := make([]int32, len(pm.Entries))
 	for i, e := range pm.Entries {
 		st := def
 		if e.PlanPath != "" {
@@ -542,24 +551,33 @@ func (a *analysis) portMapLookup(pm *rules.PortMap, profiles []rules.Profile, fl
 				src = diagnose.ProfileFromMap
 			}
 		}
-		if id != "" {
-			p, err := rules.ProfileByID(profiles, id)
-			if err != nil {
-				return nil, fmt.Errorf("port map %s line %d: %w", pm.File, e.Line, err)
+		key := shared{st.Plan, id, src}
+		k, ok := index[key]
+		if !ok {
+			if id != "" {
+				p, err := rules.ProfileByID(profiles, id)
+				if err != nil {
+					return nil, fmt.Errorf("port map %s line %d: %w", pm.File, e.Line, err)
+				}
+				st.Profile, st.ProfileSource = p, src
 			}
-			st.Profile, st.ProfileSource = p, src
+			k = int32(len(setups))
+			index[key] = k
+			setups = append(setups, st)
 		}
+		of[i] = k
+	}
+	return func(port string) (diagnose.Setup, bool) {
+		i, ok := pm.Index(port)
+		if !ok {
+			return diagnose.Setup{}, false
+		}
+		st, e := setups[of[i]], &pm.Entries[i]
 		st.Line, st.Peer = e.FibreLine, e.Peer
 		if e.PartNumber != "" || e.Serial != "" || e.Firmware != "" {
 			st.Module = &diagnose.ModuleID{PartNumber: e.PartNumber, Serial: e.Serial, Firmware: e.Firmware}
 		}
-		setups[i] = st
-	}
-	return func(port string) (diagnose.Setup, bool) {
-		if i, ok := pm.Index(port); ok {
-			return setups[i], true
-		}
-		return diagnose.Setup{}, false
+		return st, true
 	}, nil
 }
 
