@@ -3,6 +3,7 @@ package diagnose
 import (
 	"fmt"
 	"math"
+	"sync"
 
 	"github.com/beatnote/beatnote/diagnose/optics"
 	"github.com/beatnote/beatnote/diagnose/series"
@@ -48,19 +49,36 @@ func ptr(x float64) *float64 {
 	return &x
 }
 
-// putMetric sets m[key] to the summary s with its limit and margin; nothing when s is empty.
-func putMetric(m map[string]Metric, key, unit string, s series.Summary, derived bool, limit, margin float64) {
+// metricSet is the port's metrics being built, with one backing array for the limits and
+// margins they point to (instead of an allocation each).
+type metricSet struct {
+	m    map[string]Metric
+	vals []float64 // cap fixed: pointers into it stay valid
+}
+
+// ptr is ptr(x) pointing into ms.vals.
+func (ms *metricSet) ptr(x float64) *float64 {
+	if !finite(x) || len(ms.vals) == cap(ms.vals) {
+		return ptr(x)
+	}
+	ms.vals = append(ms.vals, x)
+	return &ms.vals[len(ms.vals)-1]
+}
+
+// put sets m[key] to the summary s with its limit and margin; nothing when s is empty.
+func (ms *metricSet) put(key, unit string, s series.Summary, derived bool, limit, margin float64) {
 	if s.N == 0 {
 		return
 	}
-	m[key] = Metric{Min: s.Min, P50: s.P50, P99: s.P99, Max: s.Max,
-		Limit: ptr(limit), Margin: ptr(margin), Unit: unit, Derived: derived}
+	ms.m[key] = Metric{Min: s.Min, P50: s.P50, P99: s.P99, Max: s.Max,
+		Limit: ms.ptr(limit), Margin: ms.ptr(margin), Unit: unit, Derived: derived}
 }
 
 // metrics summarises every quantity the port has, measured or derived, with limit and margin
 // where a limit applies (margin positive inside the limit).
 func (pc *portCtx) metrics() map[string]Metric {
-	m, p := map[string]Metric{}, pc.prof
+	ms := metricSet{m: map[string]Metric{}, vals: make([]float64, 0, 2*(parse.NumQuantities+3))}
+	p := pc.prof
 	nan := math.NaN()
 	for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
 		if !pc.has(q) {
@@ -111,22 +129,22 @@ func (pc *portCtx) metrics() map[string]Metric {
 		if limit == 0 && q != parse.UncorrectedBlocks && q != parse.RxPowerDBm && q != parse.TxPowerDBm {
 			limit, margin = nan, nan // the profile does not give this limit (a 0 dBm power edge is a real limit)
 		}
-		putMetric(m, q.Column(), q.Unit(), s, false, limit, margin)
+		ms.put(q.Column(), q.Unit(), s, false, limit, margin)
 	}
 	if pc.berDerived {
 		s := pc.summarize(pc.ber)
 		pc.widenDerived(&s, false)
-		putMetric(m, parse.PreFECBER.Column(), "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, pc.stat.q))
+		ms.put(parse.PreFECBER.Column(), "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, pc.stat.q))
 	}
 	if pc.qDerived {
 		s := pc.qSummary()
-		putMetric(m, parse.QdB.Column(), "dB", s, true, pc.qLimitDB, pick(s, pc.stat.q)-pc.qLimitDB)
+		ms.put(parse.QdB.Column(), "dB", s, true, pc.qLimitDB, pick(s, pc.stat.q)-pc.qLimitDB)
 	}
 	if pc.esnrDerived {
 		s := pc.summarize(pc.esnr)
-		putMetric(m, parse.ESNRdB.Column(), "dB", s, true, pc.snrThDB, pick(s, pc.stat.q)-pc.snrThDB)
+		ms.put(parse.ESNRdB.Column(), "dB", s, true, pc.snrThDB, pick(s, pc.stat.q)-pc.snrThDB)
 	}
-	return m
+	return ms.m
 }
 
 // qSummary is the summary of the Q series (measured or derived) over the samples with signal,
@@ -158,7 +176,7 @@ func windowMargin(s series.Summary, lo, hi float64, stLo, stHi rules.Statistic) 
 
 func (pc *portCtx) source(key string) string {
 	if s, ok := pc.prof.Sources[key]; ok && s != "" {
-		return fmt.Sprintf("profile %s: %s", pc.prof.ID, s)
+		return "profile " + pc.prof.ID + ": " + s
 	}
 	return "profile " + pc.prof.ID
 }
@@ -256,17 +274,11 @@ func (pc *portCtx) criteria() criteriaTable {
 	if has(parse.DGDps) {
 		upper("DGD inside the instantaneous tolerance", parse.DGDps, pc.sum[parse.DGDps], pc.stat.dgd, p.DGDTolerancePs, r.DGDMarginalFraction, "ps", "dgd_tolerance_ps", CausePMD)
 		if f := pc.an.DGDFit; f != nil && p.DGDTolerancePs > 0 && r.PMDOutageProbability > 0 {
-			ratio := optics.MaxwellQuantile(r.PMDOutageProbability, 1)
-			allowed := p.DGDTolerancePs / ratio
-			src := fmt.Sprintf("limit %.1f ps = the module's %.0f ps instantaneous DGD tolerance / %.2f, the Maxwellian ratio of the DGD exceeded with probability %.2g to the mean DGD (M. Karlsson, J. Lightwave Technol. 19(3), 2001; rules pmd_outage_probability)",
-				allowed, p.DGDTolerancePs, ratio, r.PMDOutageProbability)
-			if p.MeanDGDTolerancePs > 0 {
-				src += fmt.Sprintf("; the profile's own mean-DGD figure is %.3g ps, which allows a slightly higher outage probability", p.MeanDGDTolerancePs)
-			}
-			t.add(Criterion{Name: fmt.Sprintf("Mean DGD for outage ≤ %.2g (from the %.0f ps tolerance)", r.PMDOutageProbability, p.DGDTolerancePs), Metric: parse.DGDps.Column(), Statistic: "mean",
-				Measured: f.MeanPs, Limit: allowed, Margin: allowed - f.MeanPs, Unit: "ps",
-				Source: pc.source("dgd_tolerance_ps") + "; " + src},
-				(1-r.DGDMarginalFraction)*allowed, CausePMD)
+			md := meanDGDCriterionOf(p.DGDTolerancePs, p.MeanDGDTolerancePs, r.PMDOutageProbability)
+			t.add(Criterion{Name: md.name, Metric: parse.DGDps.Column(), Statistic: "mean",
+				Measured: f.MeanPs, Limit: md.allowed, Margin: md.allowed - f.MeanPs, Unit: "ps",
+				Source: pc.source("dgd_tolerance_ps") + "; " + md.src},
+				(1-r.DGDMarginalFraction)*md.allowed, CausePMD)
 		}
 	}
 	if has(parse.PDLdB) {
@@ -326,6 +338,52 @@ func (pc *portCtx) criteria() criteriaTable {
 	}
 	noteBinCriteria(t.rows, pc.stat.binJudged)
 	return t
+}
+
+// meanDGDCriterion is the limit and the words of the mean-DGD criterion, which depend only on
+// the profile's DGD tolerances and the rules' outage probability.
+type meanDGDCriterion struct {
+	allowed   float64
+	name, src string
+}
+
+func computeMeanDGDCriterion(tol, meanTol, outage float64) meanDGDCriterion {
+	ratio := optics.MaxwellQuantile(outage, 1)
+	allowed := tol / ratio
+	src := fmt.Sprintf("limit %.1f ps = the module's %.0f ps instantaneous DGD tolerance / %.2f, the Maxwellian ratio of the DGD exceeded with probability %.2g to the mean DGD (M. Karlsson, J. Lightwave Technol. 19(3), 2001; rules pmd_outage_probability)",
+		allowed, tol, ratio, outage)
+	if meanTol > 0 {
+		src += fmt.Sprintf("; the profile's own mean-DGD figure is %.3g ps, which allows a slightly higher outage probability", meanTol)
+	}
+	return meanDGDCriterion{allowed: allowed, src: src,
+		name: fmt.Sprintf("Mean DGD for outage ≤ %.2g (from the %.0f ps tolerance)", outage, tol)}
+}
+
+// meanDGDMemo keeps computeMeanDGDCriterion per (tolerance, mean tolerance, outage
+// probability), by the bits of each: the Maxwellian quantile is a root search. Bounded.
+var meanDGDMemo struct {
+	sync.Mutex
+	m map[[3]uint64]meanDGDCriterion
+}
+
+func meanDGDCriterionOf(tol, meanTol, outage float64) meanDGDCriterion {
+	k := [3]uint64{math.Float64bits(tol), math.Float64bits(meanTol), math.Float64bits(outage)}
+	meanDGDMemo.Lock()
+	c, ok := meanDGDMemo.m[k]
+	meanDGDMemo.Unlock()
+	if ok {
+		return c
+	}
+	c = computeMeanDGDCriterion(tol, meanTol, outage)
+	meanDGDMemo.Lock()
+	if meanDGDMemo.m == nil {
+		meanDGDMemo.m = map[[3]uint64]meanDGDCriterion{}
+	}
+	if len(meanDGDMemo.m) < figureMemoMax {
+		meanDGDMemo.m[k] = c
+	}
+	meanDGDMemo.Unlock()
+	return c
 }
 
 func (pc *portCtx) trendSignificant(t *Trend) bool {

@@ -6,8 +6,10 @@ import (
 	"math"
 	"sort"
 	"strings"
+	"sync"
 
 	"github.com/beatnote/beatnote/parse"
+	"github.com/beatnote/beatnote/rules"
 )
 
 // The posterior stage. Every port is weighed against a set of hypotheses: healthy, each cause
@@ -217,6 +219,110 @@ func (o observables) symptomLogLik(h CauseID) float64 {
 	return ll
 }
 
+// stateLogs holds a natural log for every state of every observable (a cause's state
+// probabilities, or a pair's even mixture of them).
+type stateLogs struct {
+	noise, power   [4]float64
+	osnr, tx, dark [2]float64
+}
+
+// sumLogs is Σ_k of the logs of the observed states over the known observables, in the order of
+// stateProbs: the same sum as adding math.Log of each of stateProbs' probabilities.
+func (o observables) sumLogs(l *stateLogs) float64 {
+	s := 0.0
+	if o.noise != noiseUnknown {
+		s += l.noise[o.noise]
+	}
+	if o.power != powerUnknown {
+		s += l.power[o.power]
+	}
+	if o.osnr != osnrUnknown {
+		s += l.osnr[o.osnr]
+	}
+	if o.tx != txUnknown {
+		s += l.tx[o.tx]
+	}
+	return s + l.dark[o.dark]
+}
+
+// causeLogs are the likelihood tables as logs per cause (AllCauses order) and per pair of
+// causes (a < b: ln((P(s|a)+P(s|b))/2)), taken once from the tables: the posterior of every
+// port weighs every pair.
+type causeLogs struct {
+	single [numCauses]stateLogs
+	pair   [numCauses][numCauses]stateLogs
+}
+
+var likLogs = sync.OnceValue(func() *causeLogs {
+	var c causeLogs
+	mix := func(x, y float64) float64 { return (x + y) / 2 }
+	one := func(x, _ float64) float64 { return x }
+	fill := func(out *stateLogs, a, b CauseID, f func(x, y float64) float64) {
+		na, nb := row4(noiseLik, a), row4(noiseLik, b)
+		pa, pb := row4(powerLik, a), row4(powerLik, b)
+		for s := range 4 {
+			out.noise[s] = math.Log(f(na[s], nb[s]))
+			out.power[s] = math.Log(f(pa[s], pb[s]))
+		}
+		oa, ob := row2(osnrLik, a), row2(osnrLik, b)
+		ta, tb := row2(txLik, a), row2(txLik, b)
+		da, db := row2(darkLik, a), row2(darkLik, b)
+		for s := range 2 {
+			out.osnr[s] = math.Log(f(oa[s], ob[s]))
+			out.tx[s] = math.Log(f(ta[s], tb[s]))
+			out.dark[s] = math.Log(f(da[s], db[s]))
+		}
+	}
+	for a, ia := range AllCauses {
+		fill(&c.single[a], ia, ia, one)
+		for b := a + 1; b < numCauses; b++ {
+			fill(&c.pair[a][b], ia, AllCauses[b], mix)
+		}
+	}
+	return &c
+})
+
+// lnPriors are the natural logs of the priors of the causes (AllCauses order), of healthy
+// and of unexplained; a prior that is not positive, or not named, counts as unknownPrior.
+type lnPriors struct {
+	causes               [numCauses]float64
+	healthy, unexplained float64
+}
+
+// lnPriorMemo keeps lnPriors per rules' priors (read by reflection, so not per port). Bounded.
+var lnPriorMemo struct {
+	sync.Mutex
+	m map[rules.Priors]*lnPriors
+}
+
+func lnPriorsOf(p rules.Priors) *lnPriors {
+	lnPriorMemo.Lock()
+	l := lnPriorMemo.m[p]
+	lnPriorMemo.Unlock()
+	if l != nil {
+		return l
+	}
+	ln := func(id CauseID) float64 {
+		if v, ok := p.Of(string(id)); ok && v > 0 {
+			return math.Log(v)
+		}
+		return math.Log(unknownPrior)
+	}
+	l = &lnPriors{healthy: ln(HypHealthy), unexplained: ln(HypUnexplained)}
+	for i, id := range AllCauses {
+		l.causes[i] = ln(id)
+	}
+	lnPriorMemo.Lock()
+	if lnPriorMemo.m == nil {
+		lnPriorMemo.m = map[rules.Priors]*lnPriors{}
+	}
+	if len(lnPriorMemo.m) < figureMemoMax {
+		lnPriorMemo.m[p] = l
+	}
+	lnPriorMemo.Unlock()
+	return l
+}
+
 // observe reads the port's observables from its derived series and findings.
 func (pc *portCtx) observe() observables {
 	o := observables{noise: noiseUnknown, power: powerUnknown, osnr: osnrUnknown, tx: txUnknown}
@@ -302,48 +408,30 @@ func (pc *portCtx) posterior(o observables, scores map[CauseID]*score) (causes m
 	if !(T > 0) {
 		T = 1
 	}
-	lnPrior := func(id CauseID) float64 {
-		if v, ok := pc.r.Priors.Of(string(id)); ok && v > 0 {
-			return math.Log(v)
-		}
-		return math.Log(unknownPrior)
-	}
-	// Per cause: ln prior, Σ LLR, and the probability of each observed state, so that a pair's
-	// mixture is arithmetic on these (no table look-ups in the pair loop).
+	pr := lnPriorsOf(pc.r.Priors)
+	// Per cause: ln prior, Σ LLR, and the logs of the probability of each observed state and
+	// of each pair's mixture, looked up in the tables of logs (likLogs).
 	const n = numCauses
-	var lp, llr [n]float64
-	var q [n][numObservables]float64
-	k := 0
+	lp := &pr.causes
+	var llr [n]float64
 	for i, id := range AllCauses {
-		lp[i] = lnPrior(id)
 		if s := scores[id]; s != nil {
 			llr[i] = s.sum()
 		}
-		q[i], k = o.stateProbs(id)
 	}
-	pairLL := func(a, b int) float64 {
-		ll := 0.0
-		for j := 0; j < k; j++ {
-			ll += math.Log((q[a][j] + q[b][j]) / 2)
-		}
-		return ll
-	}
+	ll := likLogs()
 	type hyp struct {
 		a, b int // cause indices; b < 0 for a single cause; a < 0: healthy (−1) or unexplained (−2)
 		logw float64
 	}
 	hs := make([]hyp, 0, 2+n+n*(n-1)/2) // one allocation per port
 	hs = append(hs,
-		hyp{-1, -1, lnPrior(HypHealthy) + o.symptomLogLik(HypHealthy)/T},
-		hyp{-2, -1, lnPrior(HypUnexplained) + o.symptomLogLik(HypUnexplained)/T})
+		hyp{-1, -1, pr.healthy + o.symptomLogLik(HypHealthy)/T},
+		hyp{-2, -1, pr.unexplained + o.symptomLogLik(HypUnexplained)/T})
 	for a := 0; a < n; a++ {
-		single := 0.0
-		for _, p := range q[a][:k] {
-			single += math.Log(p)
-		}
-		hs = append(hs, hyp{a, -1, lp[a] + (single+llr[a])/T})
+		hs = append(hs, hyp{a, -1, lp[a] + (o.sumLogs(&ll.single[a])+llr[a])/T})
 		for b := a + 1; b < n; b++ {
-			hs = append(hs, hyp{a, b, math.Log(pairWeight) + lp[a] + lp[b] + (pairLL(a, b)+llr[a]+llr[b])/T})
+			hs = append(hs, hyp{a, b, math.Log(pairWeight) + lp[a] + lp[b] + (o.sumLogs(&ll.pair[a][b])+llr[a]+llr[b])/T})
 		}
 	}
 	top := math.Inf(-1)
@@ -446,11 +534,22 @@ func (pc *portCtx) symptomEvidence(id CauseID, o observables) []item {
 // differential. Confidence is the marginal posterior.
 func (pc *portCtx) list(o observables, criteria []Criterion, scores map[CauseID]*score, post map[CauseID]float64, forced map[CauseID]bool) []Cause {
 	out := []Cause{}
-	ranked := append([]CauseID(nil), AllCauses...)
-	sort.SliceStable(ranked, func(i, j int) bool { return post[ranked[i]] > post[ranked[j]] })
+	// The causes by descending posterior, ties in AllCauses order: the insertion sort that
+	// sort.SliceStable runs on fewer than 20 elements, on the posteriors read once.
+	var ranked [numCauses]CauseID
+	var pr [numCauses]float64
+	for i, id := range AllCauses {
+		ranked[i], pr[i] = id, post[id]
+	}
+	for i := 1; i < numCauses; i++ {
+		for j := i; j > 0 && pr[j] > pr[j-1]; j-- {
+			ranked[j], ranked[j-1] = ranked[j-1], ranked[j]
+			pr[j], pr[j-1] = pr[j-1], pr[j]
+		}
+	}
 	trouble := pc.inTrouble(o, criteria)
 	for rank, id := range ranked {
-		p := post[id]
+		p := pr[rank]
 		ok := p >= listFloor || forced[id] ||
 			(trouble && ((rank < differentialSize && p >= differentialFloor) || rank == 0))
 		if !ok {
