@@ -253,14 +253,15 @@ type jsonParser struct {
 	seenU   map[string]bool
 	// OpenConfig documents (see openConfig): the port names met, the current document's number
 	// and records, the logical channels components name, and the lists being read.
-	ocPorts  map[string]*ocPort
-	ocDoc    uint32
-	ocRecs   []ocRecord
-	ocLC     map[string][]byte
-	ocList   []listEntry
-	ocAssign []listEntry
-	job      *csvJob
-	stopped  bool
+	ocPorts     map[string]*ocPort
+	ocNameBytes int // bytes of the names in ocPorts
+	ocDoc       uint32
+	ocRecs      []ocRecord
+	ocLC        map[string][]byte
+	ocList      []listEntry
+	ocAssign    []listEntry
+	job         *csvJob
+	stopped     bool
 }
 
 // keySlot remembers the member name met at one position of the previous record and its

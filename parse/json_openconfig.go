@@ -211,8 +211,12 @@ type ocPort struct {
 	rec  int32
 }
 
-// maxOCPorts bounds the port names a worker keeps between documents.
-const maxOCPorts = 1 << 16
+// maxOCPorts and maxOCNameBytes bound the port names a worker keeps between documents (their
+// number and their bytes), so that names made up by a hostile input are not kept without bound.
+const (
+	maxOCPorts     = 1 << 16
+	maxOCNameBytes = 4 << 20
+)
 
 // ocRecord is one port's values from one document, with the first bad leaf if any.
 type ocRecord struct {
@@ -231,6 +235,7 @@ func (jp *jsonParser) ocRecord(name []byte) int {
 			p.err = CheckPortName(p.name)
 		}
 		jp.ocPorts[p.name] = p
+		jp.ocNameBytes += len(name)
 	}
 	if p.doc != jp.ocDoc {
 		p.doc, p.rec = jp.ocDoc, int32(len(jp.ocRecs))
@@ -274,13 +279,13 @@ func (jp *jsonParser) ocLeaves(r int, state int, set *ocLeafSet, lineNo int, pre
 func (jp *jsonParser) openConfig(lineNo int) {
 	d := &jp.doc
 	file := jp.file
-	if jp.ocPorts == nil || len(jp.ocPorts) > maxOCPorts {
-		jp.ocPorts = map[string]*ocPort{}
+	if jp.ocPorts == nil || len(jp.ocPorts) > maxOCPorts || jp.ocNameBytes > maxOCNameBytes {
+		jp.ocPorts, jp.ocNameBytes = map[string]*ocPort{}, 0
 	}
 	jp.ocDoc++
 	if jp.ocDoc == 0 { // wrapped: no port may think it has a record in this document
 		clear(jp.ocPorts)
-		jp.ocDoc = 1
+		jp.ocDoc, jp.ocNameBytes = 1, 0
 	}
 	jp.ocRecs = jp.ocRecs[:0]
 	clear(jp.ocLC)

@@ -2,7 +2,9 @@ package parse
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -206,5 +208,43 @@ func TestJSONLinesCanonical(t *testing.T) {
 	// the OpenConfig sample is valid JSON: sanity check of the test input itself
 	if !json.Valid([]byte(ocSample)) {
 		t.Fatal("ocSample is not valid JSON")
+	}
+}
+
+// Port names are kept from document to document within bounds (maxOCNameBytes): documents that
+// name ports longer than the port-name limit, more bytes of them than the bound, reject those
+// rows and still read the other port of every document, before and after the names are dropped.
+func TestOpenConfigManyLongNames(t *testing.T) {
+	var b strings.Builder
+	docs := maxOCNameBytes/(1<<20) + 2
+	for i := range docs {
+		long := strings.Repeat("x", 1<<20) + strconv.Itoa(i)
+		fmt.Fprintf(&b, `{"timestamp": %d, "components": {"component": [`+
+			`{"name": %q, "optical-channel": {"state": {"osnr": {"instant": 20}}}},`+
+			`{"name": "och1", "optical-channel": {"state": {"osnr": {"instant": %d}}}},`+
+			`{"name": %q, "optical-channel": {"state": {"input-power": {"instant": -3}}}}]}}`+"\n",
+			1773477000+60*i, long, 20+i, long)
+	}
+	ds, err := ReadFile("long.json", strings.NewReader(b.String()), Options{Workers: 1}) // one worker meets every name
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkAccounting(t, ds)
+	in := ds.Inputs[0]
+	// per document: the long name once (its two mentions are one record), and och1
+	if in.RowsRead != 2*docs || in.RowsUsed != docs || in.RowsRejected != docs {
+		t.Fatalf("accounting %+v", in)
+	}
+	if len(ds.Series) != 1 || ds.Series[0].Port != "och1" {
+		t.Fatalf("series %d", len(ds.Series))
+	}
+	s := ds.Series[0].Decoded()
+	if len(s.TimesMs) != docs {
+		t.Fatalf("%d samples, want %d", len(s.TimesMs), docs)
+	}
+	for i, v := range s.Values[OSNRdB] {
+		if v != float64(20+i) {
+			t.Fatalf("OSNR sample %d = %v, want %d", i, v, 20+i)
+		}
 	}
 }
