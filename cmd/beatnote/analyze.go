@@ -142,7 +142,7 @@ func prepare(paths []string, jf judgeFlags, mapFile string, requireProfile bool,
 		return nil, cfg, err
 	}
 	a.DS, a.ReadErr = ds, readErr
-	tightenHeap()
+	tightenHeap(true)
 	return a, cfg, nil
 }
 
@@ -481,25 +481,27 @@ func boundHeap() {
 
 // judgeHeadroomBytes is the heap growth allowed for the garbage of judging once the inputs
 // are read (see tightenHeap).
-const judgeHeadroomBytes = 48 << 20
+const judgeHeadroomBytes = 32 << 20
 
-// tightenHeap sets the collector's target, once the inputs are read, to the live heap plus
-// judgeHeadroomBytes (at most gcPercent of it, at least 5 %), unless the user set GOGC. The live
-// heap is then almost all the dataset's pointer-free columns, which a collection does not scan,
-// so collecting more often costs little, while a percentage of a large dataset would let the
-// garbage of judging grow the process by hundreds of megabytes.
-func tightenHeap() {
+// tightenHeap sets the collector's target to the live heap plus judgeHeadroomBytes (between 5 %
+// and 800 % of it), unless the user set GOGC: once the inputs are read (collect first says to
+// measure the live heap with a collection), and after each batch of a port-by-port run (the live
+// heap as the last collection found it). A large live heap is then almost all the dataset's pointer-free
+// columns, which a collection does not scan, so collecting more often costs little, while a
+// percentage of it would let the garbage of judging grow the process by hundreds of megabytes;
+// a small one (a batch of small files) is collected every judgeHeadroomBytes of garbage rather
+// than every few megabytes.
+func tightenHeap(collect bool) {
 	if os.Getenv("GOGC") != "" {
 		return
 	}
 	sample := []metrics.Sample{{Name: "/gc/heap/live:bytes"}}
-	runtime.GC()
-	metrics.Read(sample)
-	live := sample[0].Value.Uint64()
-	if live == 0 {
-		return
+	if collect {
+		runtime.GC()
 	}
-	debug.SetGCPercent(min(max(int(100*judgeHeadroomBytes/live), 5), gcPercent))
+	metrics.Read(sample)
+	live := max(sample[0].Value.Uint64(), 1)
+	debug.SetGCPercent(int(min(max(100*judgeHeadroomBytes/live, 5), 800)))
 }
 
 // portMapLookup gives each mapped port its plan and profile. Plans are read once each (and

@@ -82,6 +82,7 @@ func (c *TriageCmd) byPort(pr *printer) (*judged, error) {
 		if err != nil {
 			return errReadWhole
 		}
+		tightenHeap(false)
 		return nil
 	})
 	done()
