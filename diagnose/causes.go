@@ -84,11 +84,16 @@ type item struct {
 	text   string
 	format string
 	args   []any
+	normal *portCtx       // set: the "own estimate is normal" words of column q (exonerate)
+	q      parse.Quantity // with normal
 }
 
 // words is the item's text.
 func (it *item) words() string {
-	if it.format == "" {
+	switch {
+	case it.normal != nil:
+		return fmt.Sprintf("The module's own %s estimate is in the log and normal (%s).", it.q.Column(), strings.TrimSpace(it.normal.columnFigure(it.q)))
+	case it.format == "":
 		return it.text
 	}
 	return fmt.Sprintf(it.format, it.args...)
@@ -100,7 +105,7 @@ type score struct {
 }
 
 // add is a column test's evidence, worded as fmt.Sprintf(format, a...) if it is ever shown.
-// The arguments are values, or Stringers over the port's read-only state (figure).
+// The arguments are values.
 func (s *score) add(llr float64, format string, a ...any) {
 	s.items = append(s.items, item{llr: llr, format: format, args: a})
 }

@@ -175,10 +175,39 @@ func windowMargin(s series.Summary, lo, hi float64, stLo, stHi rules.Statistic) 
 }
 
 func (pc *portCtx) source(key string) string {
-	if s, ok := pc.prof.Sources[key]; ok && s != "" {
-		return "profile " + pc.prof.ID + ": " + s
+	s := pc.prof.Sources[key]
+	k := sourceKey{pc.prof.ID, key, s}
+	sourceMemo.Lock()
+	v, ok := sourceMemo.m[k]
+	sourceMemo.Unlock()
+	if ok {
+		return v
 	}
-	return "profile " + pc.prof.ID
+	if s != "" {
+		v = "profile " + pc.prof.ID + ": " + s
+	} else {
+		v = "profile " + pc.prof.ID
+	}
+	sourceMemo.Lock()
+	if sourceMemo.m == nil {
+		sourceMemo.m = map[sourceKey]string{}
+	}
+	if len(sourceMemo.m) < 16*figureMemoMax {
+		sourceMemo.m[k] = v
+	}
+	sourceMemo.Unlock()
+	return v
+}
+
+// sourceKey is what source's words depend on: the profile's id, the figure's key and the
+// profile's source for it.
+type sourceKey struct{ id, key, src string }
+
+// sourceMemo keeps source's words, one string shared by every port of a profile instead of
+// one made (and held in the result) per row and port. Bounded: profiles come from files.
+var sourceMemo struct {
+	sync.Mutex
+	m map[sourceKey]string
 }
 
 // notes are "not judged" notes: what a stage could not judge and why. Each stage that has some
@@ -224,7 +253,7 @@ func (t *criteriaTable) append(c Criterion, owner CauseID) {
 // criteria builds the criteria table from the module limits and the rules' marginal bands,
 // with the bin note in the source of each row judged on bin extremes.
 func (pc *portCtx) criteria() criteriaTable {
-	var t criteriaTable
+	t := criteriaTable{rows: make([]Criterion, 0, maxCriteria), owners: make([]CauseID, 0, maxCriteria)}
 	p, r := pc.prof, pc.r
 	has := pc.has
 
@@ -337,8 +366,15 @@ func (pc *portCtx) criteria() criteriaTable {
 		}
 	}
 	noteBinCriteria(t.rows, pc.stat.binJudged)
+	if len(t.rows) == 0 {
+		t.rows, t.owners = nil, nil // as before the rows were made room for
+	}
 	return t
 }
+
+// maxCriteria is the most rows criteria adds (each limit of the profile and rules, the plan's
+// CD), the room made for them at once.
+const maxCriteria = 17
 
 // meanDGDCriterion is the limit and the words of the mean-DGD criterion, which depend only on
 // the profile's DGD tolerances and the rules' outage probability.

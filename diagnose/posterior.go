@@ -5,7 +5,6 @@ import (
 	"github.com/beatnote/beatnote/report/words"
 	"math"
 	"sort"
-	"strings"
 	"sync"
 
 	"github.com/beatnote/beatnote/parse"
@@ -596,14 +595,6 @@ var ownColumn = map[CauseID]parse.Quantity{
 	CauseFrequencyMismatch: parse.FrequencyTHz,
 }
 
-// figure prints as strings.TrimSpace(pc.columnFigure(q)), when it is printed.
-type figure struct {
-	pc *portCtx
-	q  parse.Quantity
-}
-
-func (f figure) String() string { return strings.TrimSpace(f.pc.columnFigure(f.q)) }
-
 // exonerate adds the "its own estimate is normal" evidence to every cause whose column is in
 // the log and whose tests found nothing (cd-mismatch and frequency-mismatch only with a plan).
 func (pc *portCtx) exonerate(scores map[CauseID]*score) {
@@ -620,7 +611,7 @@ func (pc *portCtx) exonerate(scores map[CauseID]*score) {
 			scores[id] = s
 		}
 		if !s.supported() {
-			s.add(llrExonerated, "The module's own %s estimate is in the log and normal (%s).", q.Column(), figure{pc, q})
+			s.items = append(s.items, item{llr: llrExonerated, normal: pc, q: q})
 		}
 	}
 }

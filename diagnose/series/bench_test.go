@@ -35,3 +35,22 @@ func BenchmarkSortQuantiles(b *testing.B) {
 		_ = Quantile(f, 0.5) + Quantile(f, 0.01) + Quantile(f, 0.99)
 	}
 }
+
+// BenchmarkSummarize50: the 50 samples of a port in a folder of small files.
+func BenchmarkSummarize50(b *testing.B) {
+	v := benchData()[:50]
+	var scratch []float64
+	b.ReportAllocs()
+	for b.Loop() {
+		_, scratch = SummarizeInto(v, scratch)
+	}
+}
+
+// BenchmarkNoiseSigma: the change-point search's noise estimate on a day of samples.
+func BenchmarkNoiseSigma(b *testing.B) {
+	v := benchData()
+	b.ReportAllocs()
+	for b.Loop() {
+		noiseSigmaFinite(v)
+	}
+}
