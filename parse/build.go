@@ -298,10 +298,10 @@ func (db *datasetBuilder) finish(inputs []InputStats, workers int) []*Series {
 				}
 				p := ports[i]
 				s := &Series{Port: p.name, Inputs: fileOf[inputsAt[i]:inputsAt[i+1]:inputsAt[i+1]]}
-				ps := &packedSeries{times: p.times, has: p.mask}
+				ps := &packedSeries{times: p.times, has: p.mask, cols: make([]packedCol, 0, popcount(p.mask))}
 				for q := Quantity(0); q < NumQuantities; q++ {
 					if p.mask&(1<<q) != 0 {
-						ps.cols[q] = p.vals[q].finish()
+						ps.cols = append(ps.cols, p.vals[q].finish())
 						p.vals[q] = nil
 					}
 				}
@@ -315,7 +315,7 @@ func (db *datasetBuilder) finish(inputs []InputStats, workers int) []*Series {
 					mu.Unlock()
 				}
 				for q := Quantity(0); q < NumQuantities; q++ {
-					if p.mask&(1<<q) != 0 && ps.cols[q].anyFinite() {
+					if p.mask&(1<<q) != 0 && ps.col(q).anyFinite() {
 						ps.finite |= 1 << q
 					}
 				}
@@ -373,10 +373,8 @@ func sortDedupe(s *packedSeries, runs []fileRun, unsorted bool) (dupsByFile map[
 		kept[i] = times[r]
 	}
 	s.times = timesOf(kept)
-	for q := Quantity(0); q < NumQuantities; q++ {
-		if s.has&(1<<q) != 0 {
-			s.cols[q] = s.cols[q].pick(keep)
-		}
+	for i := range s.cols {
+		s.cols[i] = s.cols[i].pick(keep)
 	}
 	return dupsByFile
 }

@@ -639,9 +639,14 @@ func timesOf(xs []int64) timeCol {
 // packedSeries is the compact store of a series read by this package (see Series.Decoded).
 type packedSeries struct {
 	times  timeCol
-	cols   [NumQuantities]packedCol
-	has    uint32 // bit q: the port has a column for q
-	finite uint32 // bit q: the column has a finite value
+	cols   []packedCol // the port's columns, in quantity order (see col)
+	has    uint32      // bit q: the port has a column for q
+	finite uint32      // bit q: the column has a finite value
+}
+
+// col is the column of q, which the port has.
+func (p *packedSeries) col(q Quantity) *packedCol {
+	return &p.cols[popcount(p.has&(1<<q-1))]
 }
 
 // Decoded returns the series with its times and values in TimesMs and Values: s itself when
@@ -663,7 +668,7 @@ func (s *Series) Decoded() *Series {
 		}
 		col := vals[:n:n]
 		vals = vals[n:]
-		p.cols[q].decode(col)
+		p.col(q).decode(col)
 		d.Values[q] = col
 	}
 	return d
