@@ -168,7 +168,8 @@ func parseHeader(file string, lineNo int, line []byte) (*csvLayout, []string, er
 	if len(missing) > 0 {
 		return nil, nil, &ParseError{File: file, Line: lineNo, Err: fmt.Errorf("%w: header has no %s column (docs/formats.md lists the column names)", ErrMissingColumn, strings.Join(missing, ", no "))}
 	}
-	lay.fast = lay.bins == nil && lay.profileCol < 0
+	// fastRow appends a row's values in column order, which must be the order of lay.qs.
+	lay.fast = lay.bins == nil && lay.profileCol < 0 && slices.IsSorted(lay.qFields)
 	lay.plan = make([]fastCol, len(lay.cols)) // colUnknown: a column fastRow skips
 	lay.plan[lay.timeCol].kind, lay.plan[lay.portCol].kind = colTime, colPort
 	for j, fi := range lay.qFields {
@@ -284,13 +285,7 @@ type csvParser struct {
 	// the last time field parsed and its value: rows of one sample time usually follow each other
 	lastTime   []byte
 	lastTimeMs int64
-	days       dayCache
 	portIdx    map[string]int32 // port name → index into the current job's names
-	// Rows of one sample time come in the same port order time after time (or a port's rows
-	// follow each other): next[p] is the port of the row that followed port p's last fast
-	// row, the guess checked before the map is asked; prev is the port of the last fast row.
-	next []int32
-	prev int32
 }
 
 func (cp *csvParser) parse(job *csvJob) {
@@ -338,7 +333,6 @@ func (cp *csvParser) startBlock() {
 		cp.portIdx = map[string]int32{}
 	}
 	clear(cp.portIdx)
-	cp.next, cp.prev = cp.next[:0], -1
 }
 
 func (job *csvJob) reject(pe *ParseError) {
@@ -387,7 +381,7 @@ func (cp *csvParser) splitRow(job *csvJob, ln []byte, lineNo int) *ParseError {
 		t = cp.lastTimeMs
 	} else {
 		var ok bool
-		if t, ok = cp.days.parse(lay.times, tf); !ok {
+		if t, ok = lay.times.parse(tf); !ok {
 			return cp.fieldErr(lineNo, lay.timeCol, lay.times.badTime(tf))
 		}
 		cp.lastTime = append(cp.lastTime[:0], tf...)
@@ -495,7 +489,7 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 				t = cp.lastTimeMs
 				break
 			}
-			if t, ok = cp.days.parse(lay.times, tf); !ok {
+			if t, ok = lay.times.parse(tf); !ok {
 				return false
 			}
 			cp.lastTime = append(cp.lastTime[:0], tf...)
@@ -524,28 +518,16 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 			return false
 		}
 	}
-	var pi int32
-	if p := cp.prev; p >= 0 && int(p) < len(cp.next) && cp.next[p] >= 0 && job.names[cp.next[p]] == bytesString(pf) {
-		pi = cp.next[p]
-	} else {
-		var known bool
-		if pi, known = cp.portIdx[bytesString(pf)]; !known {
-			if CheckPortName(bytesString(pf)) != nil {
-				return false
-			}
-			pi = int32(len(job.names))
-			name := string(pf)
-			job.names = append(job.names, name)
-			cp.portIdx[name] = pi
+	pi, known := cp.portIdx[bytesString(pf)]
+	if !known {
+		if CheckPortName(bytesString(pf)) != nil {
+			return false
 		}
-		if p >= 0 {
-			for int(p) >= len(cp.next) {
-				cp.next = append(cp.next, -1)
-			}
-			cp.next[p] = pi
-		}
+		pi = int32(len(job.names))
+		name := string(pf)
+		job.names = append(job.names, name)
+		cp.portIdx[name] = pi
 	}
-	cp.prev = pi
 	job.vals = vals
 	job.rowPort = append(job.rowPort, pi)
 	job.times = append(job.times, t)

@@ -146,59 +146,6 @@ func (tr *timeReader) location() *time.Location {
 	return tr.loc
 }
 
-// dayCache reads sample times as timeReader.parse does, faster for the two commonest
-// spellings, "YYYY-MM-DDTHH:MM:SSZ" and (when read as UTC) "YYYY-MM-DD HH:MM:SS": it keeps the
-// date of the last such time, which every row of a day of samples repeats, so that only the
-// clock is read. The zero value is ready; one per goroutine.
-type dayCache struct {
-	date [10]byte // the date as written
-	ms   int64    // Unix milliseconds of its midnight, in the accepted range
-	set  bool
-}
-
-// parse returns what tr.parse(b) returns.
-func (dc *dayCache) parse(tr *timeReader, b []byte) (int64, bool) {
-	if (len(b) == 20 && b[10] == 'T' && b[19] == 'Z' || len(b) == 19 && b[10] == ' ' && (tr == nil || tr.loc == nil)) &&
-		(tr == nil || tr.layout == "") {
-		if ms, ok := dc.clock(b); ok {
-			return ms, true
-		}
-	}
-	return tr.parse(b)
-}
-
-// clock reads b[:19], "YYYY-MM-DD?HH:MM:SS" with "/" or "-" in the date, checked as
-// parseDateTime checks it. ok false says nothing: the general path decides.
-func (dc *dayCache) clock(b []byte) (int64, bool) {
-	h1, h2, m1, m2, s1, s2 := b[11]-'0', b[12]-'0', b[14]-'0', b[15]-'0', b[17]-'0', b[18]-'0'
-	if h1 > 9 || h2 > 9 || m1 > 9 || m2 > 9 || s1 > 9 || s2 > 9 || b[13] != ':' || b[16] != ':' {
-		return 0, false
-	}
-	hour, minute, sec := int(h1)*10+int(h2), int(m1)*10+int(m2), int(s1)*10+int(s2)
-	if hour > 23 || minute > 59 || sec > 59 {
-		return 0, false
-	}
-	if !dc.set || [10]byte(b[:10]) != dc.date {
-		sep := b[4]
-		if sep != '-' && sep != '/' || b[7] != sep {
-			return 0, false
-		}
-		year, ok1 := digits(b[0:4])
-		month, ok2 := digits(b[5:7])
-		day, ok3 := digits(b[8:10])
-		if !(ok1 && ok2 && ok3) || month < 1 || month > 12 || day < 1 || day > daysIn(year, month) {
-			return 0, false
-		}
-		// The accepted range starts and ends at midnight, so the day decides it.
-		ms := daysFromCivil(year, month, day) * 86400000
-		if ms < minTimeMs || ms >= maxTimeMs {
-			return 0, false
-		}
-		dc.date, dc.ms, dc.set = [10]byte(b[:10]), ms, true
-	}
-	return dc.ms + int64(hour*3600+minute*60+sec)*1000, true
-}
-
 // parseTime reads b with the built-in formats in UTC.
 func parseTime(b []byte) (int64, bool) { return (*timeReader)(nil).parse(b) }
 

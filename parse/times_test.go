@@ -170,19 +170,6 @@ func FuzzTimeAgainstStdlib(f *testing.F) {
 		if !ok || got != want.UnixMilli() {
 			t.Fatalf("layout %q: parse(%q) = %d, %v; time.Parse gives %d", lf.layout, s, got, ok, want.UnixMilli())
 		}
-		// dayCache reads as tr.parse does, with its date just read, with another date, and
-		// with none; the last text takes the date of the first.
-		var dc dayCache
-		texts := []string{s, text, s}
-		if len(text) >= 10 && len(s) >= 10 {
-			texts = append(texts, text[:10]+s[10:], s[:10]+text[10:])
-		}
-		for _, x := range texts {
-			want, wantOK := tr.parse([]byte(x))
-			if got, ok := dc.parse(tr, []byte(x)); ok != wantOK || got != want {
-				t.Fatalf("dayCache.parse(%q) = %d, %v; parse gives %d, %v", x, got, ok, want, wantOK)
-			}
-		}
 
 		// Direction 2: any text we accept in a date-time shape, time.Parse reads alike.
 		ms, ok := tr.parse([]byte(text))
