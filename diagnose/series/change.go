@@ -2,7 +2,7 @@ package series
 
 import (
 	"math"
-	"sort"
+	"slices"
 )
 
 // Step is a change point in the mean of a series: the samples from Index on have mean After,
@@ -87,14 +87,22 @@ func ChangePoints(v []float64, opt ChangePointOptions) []Step {
 	if floor := 1e-9 * math.Max(scale, 1); !(sigma > floor) {
 		sigma = floor
 	}
-	prefix := make([]float64, n+1)
+	pp := diffPool.Get().(*[]float64)
+	defer diffPool.Put(pp)
+	*pp = slices.Grow((*pp)[:0], n+1)[:n+1]
+	prefix := *pp
+	prefix[0] = 0
 	for i, y := range x {
 		prefix[i+1] = prefix[i] + y
 	}
 	mean := func(a, b int) float64 { return (prefix[b] - prefix[a]) / float64(b-a) }
 
-	var splits []int
-	var stats = map[int]float64{}
+	// The accepted splits with their statistics (at most MaxSteps: a list, not a map).
+	type split struct {
+		k int
+		t float64
+	}
+	var splits []split
 	var search func(lo, hi int)
 	search = func(lo, hi int) {
 		if len(splits) >= opt.MaxSteps || hi-lo < 2*opt.MinSegment {
@@ -115,21 +123,24 @@ func ChangePoints(v []float64, opt ChangePointOptions) []Step {
 		if math.Abs(mean(best, hi)-mean(lo, best)) < opt.MinStep {
 			return
 		}
-		splits = append(splits, best)
-		stats[best] = bestT
+		splits = append(splits, split{best, bestT})
 		search(lo, best)
 		search(best, hi)
 	}
 	search(0, n)
-	sort.Ints(splits)
+	if len(splits) == 0 {
+		return []Step{}
+	}
+	slices.SortFunc(splits, func(a, b split) int { return a.k - b.k }) // distinct indexes
 	steps := make([]Step, 0, len(splits))
-	for i, k := range splits {
+	for i, sp := range splits {
+		k := sp.k
 		lo, hi := 0, n
 		if i > 0 {
-			lo = splits[i-1]
+			lo = splits[i-1].k
 		}
 		if i+1 < len(splits) {
-			hi = splits[i+1]
+			hi = splits[i+1].k
 		}
 		before, after := mean(lo, k), mean(k, hi)
 		if math.Abs(after-before) < opt.MinStep {
@@ -139,7 +150,7 @@ func ChangePoints(v []float64, opt ChangePointOptions) []Step {
 		if idx != nil {
 			at = idx[k]
 		}
-		steps = append(steps, Step{Index: at, Before: before, After: after, Stat: stats[k]})
+		steps = append(steps, Step{Index: at, Before: before, After: after, Stat: sp.t})
 	}
 	return steps
 }

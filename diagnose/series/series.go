@@ -264,8 +264,8 @@ func noiseSigmaFinite(f []float64) float64 {
 	return 1.4826 * selectMedian(d) / math.Sqrt2
 }
 
-// diffPool holds the differences noiseSigmaFinite works on: the change-point search estimates
-// the noise of several series of every port.
+// diffPool holds the differences noiseSigmaFinite works on and the prefix sums of
+// ChangePoints: the change-point search runs on several series of every port.
 var diffPool = sync.Pool{New: func() any { return new([]float64) }}
 
 // selectMedian is Quantile(sorted v, 0.5) found by selection instead of a sort; v (no NaN, not
