@@ -41,6 +41,7 @@ func (c *ScanCmd) Run(g *Globals, pr *printer) error {
 	if err := c.checkSource(c.Paths); err != nil {
 		return &exitError{code: 2, err: err}
 	}
+	boundHeap()
 	var ds *parse.Dataset
 	var readErr error
 	if c.active() {
@@ -51,6 +52,7 @@ func (c *ScanCmd) Run(g *Globals, pr *printer) error {
 	if ds == nil {
 		return &exitError{code: 2, err: readErr}
 	}
+	tightenHeap(true)
 	ports := report.SummarizePorts(ds)
 	var err error
 	if c.Format == "json" {
