@@ -495,11 +495,14 @@ func tightenHeap(collect bool) {
 	if os.Getenv("GOGC") != "" {
 		return
 	}
-	sample := []metrics.Sample{{Name: "/gc/heap/live:bytes"}}
-	if collect {
-		runtime.GC()
-	}
+	sample := []metrics.Sample{{Name: "/gc/heap/live:bytes"}, {Name: "/memory/classes/heap/objects:bytes"}}
 	metrics.Read(sample)
+	if collect && sample[1].Value.Uint64() > judgeHeadroomBytes {
+		// A small heap (watch re-judging a short recording at every sample) needs no exact
+		// figure; a large one is measured by a collection.
+		runtime.GC()
+		metrics.Read(sample)
+	}
 	live := max(sample[0].Value.Uint64(), 1)
 	debug.SetGCPercent(int(min(max(100*judgeHeadroomBytes/live, 5), 800)))
 }
