@@ -86,10 +86,11 @@ func (o *Options) prepare() error {
 }
 
 // PortRows is what one port costs against the row limit beyond its rows: a port's own state
-// (buffers, series, summary, judgement) takes about as much memory as 40 rows. Measured with
-// triage on 100 000 one-row ports: 8.5 KB a port, against about 205 bytes a row. Without it a
-// file of one row per port would pass the memory ceiling forty times over.
-const PortRows = 40
+// (buffers, series, summary, judgement) takes about as much memory as 64 rows. Measured with
+// triage (/usr/bin/time -f %M) on 100 000 one-row ports: 298 MB, about 3 KB a port, against
+// about 45 bytes a row of all fourteen quantities (10,080,000 rows: 476 MB). Without it a file
+// of one row per port would pass the memory ceiling sixty times over.
+const PortRows = 64
 
 // readBudget is what is left of the run's row and byte limits, shared by concurrent readers.
 type readBudget struct {
