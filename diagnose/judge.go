@@ -3,6 +3,7 @@ package diagnose
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sync"
 
 	"github.com/beatnote/beatnote/diagnose/optics"
@@ -49,36 +50,19 @@ func ptr(x float64) *float64 {
 	return &x
 }
 
-// metricSet is the port's metrics being built, with one backing array for the limits and
-// margins they point to (instead of an allocation each).
-type metricSet struct {
-	m    map[string]Metric
-	vals []float64 // cap fixed: pointers into it stay valid
-}
-
-// ptr is ptr(x) pointing into ms.vals.
-func (ms *metricSet) ptr(x float64) *float64 {
-	if !finite(x) || len(ms.vals) == cap(ms.vals) {
-		return ptr(x)
-	}
-	ms.vals = append(ms.vals, x)
-	return &ms.vals[len(ms.vals)-1]
-}
-
-// put sets m[key] to the summary s with its limit and margin; nothing when s is empty.
-func (ms *metricSet) put(key, unit string, s series.Summary, derived bool, limit, margin float64) {
+// putMetric sets m[key] to the summary s with its limit and margin; nothing when s is empty.
+func putMetric(m map[string]Metric, key, unit string, s series.Summary, derived bool, limit, margin float64) {
 	if s.N == 0 {
 		return
 	}
-	ms.m[key] = Metric{Min: s.Min, P50: s.P50, P99: s.P99, Max: s.Max,
-		Limit: ms.ptr(limit), Margin: ms.ptr(margin), Unit: unit, Derived: derived}
+	m[key] = Metric{Min: s.Min, P50: s.P50, P99: s.P99, Max: s.Max,
+		Limit: ptr(limit), Margin: ptr(margin), Unit: unit, Derived: derived}
 }
 
 // metrics summarises every quantity the port has, measured or derived, with limit and margin
 // where a limit applies (margin positive inside the limit).
 func (pc *portCtx) metrics() map[string]Metric {
-	ms := metricSet{m: map[string]Metric{}, vals: make([]float64, 0, 2*(parse.NumQuantities+3))}
-	p := pc.prof
+	m, p := map[string]Metric{}, pc.prof
 	nan := math.NaN()
 	for q := parse.Quantity(0); q < parse.NumQuantities; q++ {
 		if !pc.has(q) {
@@ -129,22 +113,22 @@ func (pc *portCtx) metrics() map[string]Metric {
 		if limit == 0 && q != parse.UncorrectedBlocks && q != parse.RxPowerDBm && q != parse.TxPowerDBm {
 			limit, margin = nan, nan // the profile does not give this limit (a 0 dBm power edge is a real limit)
 		}
-		ms.put(q.Column(), q.Unit(), s, false, limit, margin)
+		putMetric(m, q.Column(), q.Unit(), s, false, limit, margin)
 	}
 	if pc.berDerived {
 		s := pc.summarize(pc.ber)
 		pc.widenDerived(&s, false)
-		ms.put(parse.PreFECBER.Column(), "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, pc.stat.q))
+		putMetric(m, parse.PreFECBER.Column(), "", s, true, p.FECThresholdBER, p.FECThresholdBER-mirror(s, pc.stat.q))
 	}
 	if pc.qDerived {
 		s := pc.qSummary()
-		ms.put(parse.QdB.Column(), "dB", s, true, pc.qLimitDB, pick(s, pc.stat.q)-pc.qLimitDB)
+		putMetric(m, parse.QdB.Column(), "dB", s, true, pc.qLimitDB, pick(s, pc.stat.q)-pc.qLimitDB)
 	}
 	if pc.esnrDerived {
 		s := pc.summarize(pc.esnr)
-		ms.put(parse.ESNRdB.Column(), "dB", s, true, pc.snrThDB, pick(s, pc.stat.q)-pc.snrThDB)
+		putMetric(m, parse.ESNRdB.Column(), "dB", s, true, pc.snrThDB, pick(s, pc.stat.q)-pc.snrThDB)
 	}
-	return ms.m
+	return m
 }
 
 // qSummary is the summary of the Q series (measured or derived) over the samples with signal,
@@ -368,12 +352,14 @@ func (pc *portCtx) criteria() criteriaTable {
 	noteBinCriteria(t.rows, pc.stat.binJudged)
 	if len(t.rows) == 0 {
 		t.rows, t.owners = nil, nil // as before the rows were made room for
+	} else {
+		t.rows = slices.Clone(t.rows) // the result holds the rows: no spare room
 	}
 	return t
 }
 
 // maxCriteria is the most rows criteria adds (each limit of the profile and rules, the plan's
-// CD), the room made for them at once.
+// CD), the room made for them at once while they are judged.
 const maxCriteria = 17
 
 // meanDGDCriterion is the limit and the words of the mean-DGD criterion, which depend only on
