@@ -392,6 +392,7 @@ func TestPrometheusBatchesAndChunksMatchFiles(t *testing.T) {
 		t.Fatalf("%d ports, want %d", len(got.Series), len(want.Series))
 	}
 	for i, g := range got.Series {
+		g := g.Decoded()
 		w := want.Series[i].Decoded()
 		n := 0
 		for n < w.Len() && w.TimesMs[n] <= end.UnixMilli() {
