@@ -251,16 +251,6 @@ const narrowNaN = math.MinInt16
 
 func newColBuf(hint int) *colBuf { return &colBuf{narrow: segs[int16]{hint: hint}} }
 
-func (c *colBuf) len() int {
-	switch c.tier {
-	case tierNarrow:
-		return c.narrow.n
-	case tierCodes:
-		return c.codes.n
-	}
-	return c.wide.n
-}
-
 // narrowCode returns the code of narrow value d.
 func (c *colBuf) narrowCode(d int16) uint32 {
 	if d == narrowNaN {
@@ -618,15 +608,6 @@ func (t *timeCol) decode(dst []int64) []int64 {
 		}
 	}
 	return dst
-}
-
-// last is the newest time; t must not be empty.
-func (t *timeCol) last() int64 {
-	if t.raw != nil {
-		return t.raw[len(t.raw)-1]
-	}
-	r := t.runs[len(t.runs)-1]
-	return r.start + int64(r.n-1)*r.step
 }
 
 // timesOf is a time column holding xs.
