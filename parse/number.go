@@ -32,6 +32,19 @@ func parseFloat(b []byte) (v float64, ok bool) {
 	return slowFloat(b)
 }
 
+// scanDigits reads the decimal digits of b from i on into mant (mant·10 + digit each) and
+// returns where they end.
+func scanDigits(b []byte, i int, mant uint64) (int, uint64) {
+	for ; i < len(b); i++ {
+		d := b[i] - '0'
+		if d > 9 {
+			break
+		}
+		mant = mant*10 + uint64(d)
+	}
+	return i, mant
+}
+
 // scanFloat reads the decimal number at b[i:] — an optional sign, digits with at most one
 // decimal mark ('.' or mark), an optional exponent — and returns its value and where it ends, n;
 // what follows (b[n:]) is the caller's to judge. It takes the exact fast path of Clinger (1990), also
@@ -47,27 +60,14 @@ func scanFloat(b []byte, i int, mark byte) (v float64, n int, ok bool) {
 	}
 	// Integer digits, then the fraction's; every digit goes into the mantissa, leading zeros
 	// too, so more than 19 digits in all (which could overflow it) leave the fast path.
-	var mant uint64
 	start := i
-	for ; i < len(b); i++ {
-		d := b[i] - '0'
-		if d > 9 {
-			break
-		}
-		mant = mant*10 + uint64(d)
-	}
+	i, mant := scanDigits(b, i, 0)
 	nd := i - start
 	dexp := 0
 	if i < len(b) && (b[i] == '.' || b[i] == mark) {
 		i++
 		fs := i
-		for ; i < len(b); i++ {
-			d := b[i] - '0'
-			if d > 9 {
-				break
-			}
-			mant = mant*10 + uint64(d)
-		}
+		i, mant = scanDigits(b, i, mant)
 		dexp = fs - i
 		nd -= dexp
 	}
