@@ -184,8 +184,27 @@ func (c *WatchCmd) Run(g *Globals, pr *printer) error {
 	return exitFor(ws.result, allPass(ws.result.Result.Ports))
 }
 
-// sample records one sample time, re-judges the whole session and redraws.
-func (ws *watchSession) sample(s gnmisub.Sample) error {
+// sample records one sample time, re-judges the whole session and redraws. Judging the whole
+// session costs more as it grows: while the last judgement took more than a quarter of the time
+// since it, the sample is put off, and Follow calls back (a Sample without a Document) when that
+// time is up, unless the next sample comes first and is judged with it.
+func (ws *watchSession) sample(s gnmisub.Sample) (time.Duration, error) {
+	if s.Document != nil {
+		if err := ws.record(s); err != nil {
+			return 0, err
+		}
+	}
+	if !ws.pending {
+		return 0, nil
+	}
+	if wait := 4*ws.judgeTook - time.Since(ws.judgedAt); ws.rows > 0 && wait > 0 {
+		return wait, nil
+	}
+	return 0, ws.judge()
+}
+
+// record appends one sample time's rows to the recording.
+func (ws *watchSession) record(s gnmisub.Sample) error {
 	ds, _ := parse.ReadFile(fmt.Sprintf("gNMI %s", ws.c.Target), bytes.NewReader(s.Document), parse.Options{})
 	for _, in := range ds.Inputs {
 		ws.rejected += in.RowsRejected
@@ -210,12 +229,7 @@ func (ws *watchSession) sample(s gnmisub.Sample) error {
 		return fmt.Errorf("--record: %w", err)
 	}
 	ws.pending = true
-	// Judging the whole session costs more as it grows: when the last judgement took more than
-	// a quarter of the time since it, this sample waits for the next (the end judges it).
-	if ws.rows > 0 && time.Since(ws.judgedAt) < 4*ws.judgeTook {
-		return nil
-	}
-	return ws.judge()
+	return nil
 }
 
 // judge re-judges the whole recording and redraws.

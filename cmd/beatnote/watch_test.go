@@ -470,3 +470,40 @@ func viewSamples(view string) int {
 	}
 	return v
 }
+
+// A sample that the consumer puts off (Follow's again > 0) is handed back without its document
+// once that time is up, before the next sample arrives: a slow judgement delays a view by its
+// own cost, not by a whole sample interval.
+func TestFollowCallsBackAPutOffSample(t *testing.T) {
+	dir := t.TempDir()
+	caFile, cert := testPKI(t, dir)
+	const interval = 800 * time.Millisecond
+	tt := &testTarget{series: healthyCircuit(t, 3), interval: interval, faultAt: 1000, user: "tech", pass: "s3cret"}
+	addr := startTarget(t, tt, cert)
+	opts := gnmisub.Options{Target: addr, CAFile: caFile, Username: "tech", Password: "s3cret", Interval: interval}
+	conn, err := gnmisub.Dial(opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer conn.Close()
+	ctx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
+	defer cancel()
+	var got []string // "sample" or "callback", in the order Follow handed them over
+	err = gnmisub.Follow(ctx, conn, opts, func(s gnmisub.Sample) (time.Duration, error) {
+		if s.Document == nil {
+			got = append(got, "callback")
+			return 0, nil
+		}
+		got = append(got, "sample")
+		if len(got) == 1 {
+			return 50 * time.Millisecond, nil // put the first sample off
+		}
+		return 0, nil
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := "sample callback sample sample"; strings.Join(got, " ") != want {
+		t.Fatalf("Follow handed over %q, want %q", strings.Join(got, " "), want)
+	}
+}

@@ -118,7 +118,12 @@ type Sample struct {
 // sample is complete when an update of a later sample time arrives, when the target says it
 // has sent the initial state (sync_response), or after a quiet spell of a quarter of the
 // interval (at most 1 s) — so it is handed on within a fraction of the interval.
-func Follow(ctx context.Context, conn *grpc.ClientConn, o Options, onSample func(Sample) error) error {
+//
+// onSample may ask to be called back: a positive again makes Follow call it with a Sample
+// without a Document after that long, unless a sample arrives first (onSample then decides
+// anew). A consumer that cannot keep up with every sample can so put one off without it
+// waiting for the next.
+func Follow(ctx context.Context, conn *grpc.ClientConn, o Options, onSample func(Sample) (again time.Duration, err error)) error {
 	if o.Interval <= 0 {
 		o.Interval = 10 * time.Second
 	}
@@ -166,6 +171,16 @@ func Follow(ctx context.Context, conn *grpc.ClientConn, o Options, onSample func
 	quiet := min(o.Interval/4, time.Second)
 	timer := time.NewTimer(time.Hour)
 	timer.Stop()
+	callback := time.NewTimer(time.Hour)
+	callback.Stop()
+	deliver := func(s Sample) error {
+		again, err := onSample(s)
+		callback.Stop()
+		if again > 0 {
+			callback.Reset(again)
+		}
+		return err
+	}
 	var cur *docBuilder
 	flush := func() error {
 		if cur == nil || cur.leaves == 0 {
@@ -178,12 +193,16 @@ func Follow(ctx context.Context, conn *grpc.ClientConn, o Options, onSample func
 		if err != nil {
 			return err
 		}
-		return onSample(Sample{TimeNs: ts, Document: doc})
+		return deliver(Sample{TimeNs: ts, Document: doc})
 	}
 	for {
 		select {
 		case <-ctx.Done():
 			return flush()
+		case <-callback.C:
+			if err := deliver(Sample{}); err != nil {
+				return err
+			}
 		case <-timer.C:
 			if err := flush(); err != nil {
 				return err
