@@ -1,10 +1,9 @@
 package rules
 
 import (
-	"bytes"
+	"encoding"
 	"errors"
 	"fmt"
-	"io"
 	"math"
 	"reflect"
 	"regexp"
@@ -121,6 +120,12 @@ func (ix lineIndex) toFileError(file string, err error) error {
 // duplicate keys and values of the wrong type fail with a FileError carrying the line and the
 // field. Fields out already holds and the document does not mention are kept, so decoding onto
 // defaults overrides individual values. It returns the document's root node and line index.
+//
+// The document is parsed once, into nodes: a walker checks them against out's type (unknown
+// and duplicate keys, values that do not fit, every key's line), then the same nodes are decoded
+// into out. The walk reaches every mapping that becomes a struct (the rules types have no
+// custom unmarshalers or interface fields), so it is the unknown-key check a strict decoder
+// would make; decoding is the safety net for any wrong type it let through.
 func decodeStrict(file string, data []byte, out any) (*yaml.Node, lineIndex, error) {
 	var doc yaml.Node
 	if err := yaml.Unmarshal(data, &doc); err != nil {
@@ -131,14 +136,11 @@ func decodeStrict(file string, data []byte, out any) (*yaml.Node, lineIndex, err
 	}
 	root := doc.Content[0]
 	ix := lineIndex{"": root.Line}
-	if err := checkNode(file, root, reflect.TypeOf(out).Elem(), "", ix); err != nil {
+	w := walker{file: file, ix: ix, fields: map[reflect.Type]map[string]reflect.Type{}}
+	if err := w.check(root, reflect.TypeOf(out).Elem(), ""); err != nil {
 		return nil, nil, err
 	}
-	// The walk above gives precise errors; the strict decoder is the safety net for anything it
-	// let through.
-	dec := yaml.NewDecoder(bytes.NewReader(data))
-	dec.KnownFields(true)
-	if err := dec.Decode(out); err != nil && !errors.Is(err, io.EOF) {
+	if err := doc.Decode(out); err != nil {
 		return nil, nil, &FileError{File: file, Line: yamlErrLine(err), Err: errors.New(stripYAMLPrefix(err))}
 	}
 	return root, ix, nil
@@ -181,15 +183,25 @@ func yamlFields(t reflect.Type) map[string]reflect.Type {
 	return m
 }
 
-// checkNode walks n against the Go type t, recording lines and failing on unknown or duplicate
-// keys and on values that do not fit their type.
-func checkNode(file string, n *yaml.Node, t reflect.Type, path string, ix lineIndex) error {
+// walker is the state of that walk: the file named in errors, the line index it fills, and each
+// struct type's fields (yamlFields), found once per type.
+type walker struct {
+	file   string
+	ix     lineIndex
+	fields map[reflect.Type]map[string]reflect.Type
+}
+
+var textUnmarshalerType = reflect.TypeFor[encoding.TextUnmarshaler]()
+
+// check walks n against the Go type t, recording lines and failing on unknown or duplicate keys
+// and on values that do not fit their type.
+func (w *walker) check(n *yaml.Node, t reflect.Type, path string) error {
 	if n.Kind == yaml.AliasNode && n.Alias != nil {
 		n = n.Alias
 	}
-	ix[path] = n.Line
+	w.ix[path] = n.Line
 	bad := func(format string, a ...any) error {
-		return &FileError{File: file, Line: n.Line, Field: path, Err: fmt.Errorf("%w: %s", ErrType, fmt.Sprintf(format, a...))}
+		return &FileError{File: w.file, Line: n.Line, Field: path, Err: fmt.Errorf("%w: %s", ErrType, fmt.Sprintf(format, a...))}
 	}
 	if t.Kind() == reflect.Pointer {
 		if n.Kind == yaml.ScalarNode && n.Tag == "!!null" {
@@ -202,23 +214,28 @@ func checkNode(file string, n *yaml.Node, t reflect.Type, path string, ix lineIn
 		if n.Kind != yaml.MappingNode {
 			return bad("expected a mapping of keys to values")
 		}
-		fields := yamlFields(t)
-		seen := map[string]int{}
+		fields, ok := w.fields[t]
+		if !ok {
+			fields = yamlFields(t)
+			w.fields[t] = fields
+		}
 		for i := 0; i+1 < len(n.Content); i += 2 {
 			k, v := n.Content[i], n.Content[i+1]
 			p := joinPath(path, k.Value)
 			ft, ok := fields[k.Value]
 			if !ok {
-				return &FileError{File: file, Line: k.Line, Field: p, Err: fmt.Errorf("%w (known: %s)", ErrUnknownField, knownKeys(fields))}
+				return &FileError{File: w.file, Line: k.Line, Field: p, Err: fmt.Errorf("%w (known: %s)", ErrUnknownField, knownKeys(fields))}
 			}
-			if first, dup := seen[k.Value]; dup {
-				return &FileError{File: file, Line: k.Line, Field: p, Err: fmt.Errorf("%w key, first given on line %d", ErrDuplicate, first)}
+			// A struct has few fields: the keys before this one are searched for a duplicate.
+			for j := 0; j < i; j += 2 {
+				if first := n.Content[j]; first.Value == k.Value {
+					return &FileError{File: w.file, Line: k.Line, Field: p, Err: fmt.Errorf("%w key, first given on line %d", ErrDuplicate, first.Line)}
+				}
 			}
-			seen[k.Value] = k.Line
-			if err := checkNode(file, v, ft, p, ix); err != nil {
+			if err := w.check(v, ft, p); err != nil {
 				return err
 			}
-			ix[p] = k.Line
+			w.ix[p] = k.Line
 		}
 	case reflect.Slice:
 		if n.Kind == yaml.ScalarNode && n.Tag == "!!null" {
@@ -228,7 +245,7 @@ func checkNode(file string, n *yaml.Node, t reflect.Type, path string, ix lineIn
 			return bad("expected a list")
 		}
 		for i, item := range n.Content {
-			if err := checkNode(file, item, t.Elem(), fmt.Sprintf("%s[%d]", path, i), ix); err != nil {
+			if err := w.check(item, t.Elem(), path+"["+strconv.Itoa(i)+"]"); err != nil {
 				return err
 			}
 		}
@@ -244,24 +261,27 @@ func checkNode(file string, n *yaml.Node, t reflect.Type, path string, ix lineIn
 			k, v := n.Content[i], n.Content[i+1]
 			p := joinPath(path, k.Value)
 			if first, dup := seen[k.Value]; dup {
-				return &FileError{File: file, Line: k.Line, Field: p, Err: fmt.Errorf("%w key, first given on line %d", ErrDuplicate, first)}
+				return &FileError{File: w.file, Line: k.Line, Field: p, Err: fmt.Errorf("%w key, first given on line %d", ErrDuplicate, first)}
 			}
 			seen[k.Value] = k.Line
-			if err := checkNode(file, v, t.Elem(), p, ix); err != nil {
+			if err := w.check(v, t.Elem(), p); err != nil {
 				return err
 			}
-			ix[p] = k.Line
+			w.ix[p] = k.Line
 		}
 	default:
 		if n.Kind != yaml.ScalarNode {
 			return bad("expected a single value")
+		}
+		if t.Kind() == reflect.String && n.Tag == "!!str" && !reflect.PointerTo(t).Implements(textUnmarshalerType) {
+			return nil // a plain string scalar always decodes into a string
 		}
 		v := reflect.New(t)
 		if err := n.Decode(v.Interface()); err != nil {
 			return bad("%q is not %s", n.Value, kindName(t))
 		}
 		if t.Kind() == reflect.Float64 && (math.IsNaN(v.Elem().Float()) || math.IsInf(v.Elem().Float(), 0)) {
-			return &FileError{File: file, Line: n.Line, Field: path, Err: fmt.Errorf("%w: %q is not a finite number", ErrRange, n.Value)}
+			return &FileError{File: w.file, Line: n.Line, Field: path, Err: fmt.Errorf("%w: %q is not a finite number", ErrRange, n.Value)}
 		}
 	}
 	return nil

@@ -5,6 +5,7 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
+	"strconv"
 	"strings"
 	"unicode/utf8"
 )
@@ -113,11 +114,11 @@ func checkName(field, v string) error {
 // ports other than the entry's own and, when both are listed, point back at each other. Its
 // error is a *FieldError naming the field at fault.
 func (m *PortMap) Validate() error {
-	seen := map[string]int{}
-	m.exact = map[string]int{}
+	seen := make(map[string]int, len(m.Entries))
+	m.exact = make(map[string]int, len(m.Entries))
 	for i := range m.Entries {
 		e := &m.Entries[i]
-		pre := fmt.Sprintf("ports[%d]", i)
+		pre := "ports[" + strconv.Itoa(i) + "]"
 		if strings.TrimSpace(e.Port) == "" {
 			return fieldErr(pre+".port", ErrMissing, "give a port id or pattern")
 		}
@@ -222,7 +223,7 @@ func ParsePortMap(path string, data []byte, profiles ...Profile) (PortMap, error
 	dir := filepath.Dir(path)
 	for i := range m.Entries {
 		e := &m.Entries[i]
-		pre := fmt.Sprintf("ports[%d]", i)
+		pre := "ports[" + strconv.Itoa(i) + "]"
 		e.Line = ix.lineOf(pre)
 		if e.Profile != "" {
 			if _, err := ProfileByID(profiles, e.Profile); err != nil {
