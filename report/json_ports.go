@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"bytes"
 	"encoding/json"
+	"errors"
 	"io"
 
 	"github.com/beatnote/beatnote/diagnose"
@@ -24,18 +25,27 @@ func WriteResultJSON(w io.Writer, res *diagnose.Result) error {
 	return writeResultJSON(w, res, func(jw *jsonStream) { writeList(jw, "ports", res.Ports, false) })
 }
 
-// PortJSON is port p as json.Marshal encodes it, but without its line findings: what
-// WriteResultJSONPorts takes back, with the line findings found later.
+// PortJSON is port p as it stands among the ports of the indented document (json.MarshalIndent
+// with the prefix of depth 2), but without its line findings: what WriteResultJSONPorts takes
+// back, with the line findings found later. Encoding and indenting here lets the callers do it
+// on all cores while the ports are judged; writing then only copies.
 func PortJSON(p *diagnose.PortResult) ([]byte, error) {
 	q := *p
 	q.LineFindings = nil
-	return json.Marshal(&q)
+	compact, err := json.Marshal(&q)
+	if err != nil {
+		return nil, err
+	}
+	return appendIndent(make([]byte, 0, len(compact)*2), compact, portPrefix, "  "), nil
 }
+
+// portPrefix is the indentation of a port, an element of the document's "ports" (depth 2).
+const portPrefix = "    "
 
 // WriteResultJSONPorts writes what WriteResultJSON writes for res with n ports (res.Ports is not
 // read): the i-th port (i < n) is given by port as its PortJSON bytes and its line findings.
 // Each port is held only while it is written.
-func WriteResultJSONPorts(w io.Writer, res *diagnose.Result, n int, port func(i int) (compact []byte, lf []diagnose.LineRef, err error)) error {
+func WriteResultJSONPorts(w io.Writer, res *diagnose.Result, n int, port func(i int) (indented []byte, lf []diagnose.LineRef, err error)) error {
 	return writeResultJSON(w, res, func(j *jsonStream) {
 		j.key("ports")
 		if n == 0 {
@@ -44,22 +54,11 @@ func WriteResultJSONPorts(w io.Writer, res *diagnose.Result, n int, port func(i 
 			return
 		}
 		j.bw.WriteString("[\n")
-		var spliced []byte
+		const closing = "\n" + portPrefix + "}"
 		for i := 0; i < n; i++ {
-			compact, lf, err := port(i)
-			if err == nil && len(lf) > 0 {
-				// line_findings is the last member of a port (PortResult's last field):
-				// json.Marshal of the port with them is the port without them, less its
-				// closing brace, then the member.
-				var js []byte
-				if js, err = json.Marshal(lf); err == nil && len(compact) > 0 && compact[len(compact)-1] == '}' {
-					spliced = append(append(append(spliced[:0], compact[:len(compact)-1]...), `,"line_findings":`...), js...)
-					compact = append(spliced, '}')
-				}
-			}
-			if err == nil {
-				j.buf.Reset()
-				err = json.Indent(&j.buf, compact, "    ", "  ")
+			js, lf, err := port(i)
+			if err == nil && !bytes.HasSuffix(js, []byte(closing)) {
+				err = errors.New("report: a port's JSON is not an indented object")
 			}
 			if err != nil {
 				j.err = err
@@ -68,13 +67,87 @@ func WriteResultJSONPorts(w io.Writer, res *diagnose.Result, n int, port func(i 
 			if i > 0 {
 				j.bw.WriteString(",\n")
 			}
-			j.bw.WriteString("    ")
-			j.bw.Write(j.buf.Bytes())
+			j.bw.WriteString(portPrefix)
+			if len(lf) == 0 {
+				j.bw.Write(js)
+				continue
+			}
+			// line_findings is the last member of a port (PortResult's last field): the port
+			// with them is the port without them up to its closing brace, then the member.
+			var lfs []byte
+			if lfs, err = json.MarshalIndent(lf, portPrefix+"  ", "  "); err != nil {
+				j.err = err
+				return
+			}
+			j.bw.Write(js[:len(js)-len(closing)])
+			j.bw.WriteString(",\n" + portPrefix + `  "line_findings": `)
+			j.bw.Write(lfs)
+			j.bw.WriteString(closing)
 		}
 		j.bw.WriteString("\n  ]")
 		j.end(false)
 	})
 }
+
+// appendIndent appends src, compact JSON as json.Marshal writes it (no white space outside
+// strings), indented as json.Indent(dst, src, prefix, indent) indents it: a newline, the
+// prefix and one indent per depth after an opening bracket (unless the list or object is
+// empty), after a comma and before a closing bracket, and a space after a colon. Unlike
+// json.Indent it does not validate src, which it trusts: it only steps over strings.
+func appendIndent(dst, src []byte, prefix, indent string) []byte {
+	depth := 0
+	newline := func() {
+		dst = append(dst, '\n')
+		dst = append(dst, prefix...)
+		for range depth {
+			dst = append(dst, indent...)
+		}
+	}
+	for i := 0; i < len(src); i++ {
+		switch c := src[i]; c {
+		case '"':
+			j := i + 1
+			for j < len(src) && src[j] != '"' {
+				if src[j] == '\\' {
+					j++
+				}
+				j++
+			}
+			j = min(j+1, len(src))
+			dst = append(dst, src[i:j]...)
+			i = j - 1
+		case '{', '[':
+			dst = append(dst, c)
+			if i+1 < len(src) && (src[i+1] == '}' || src[i+1] == ']') {
+				dst = append(dst, src[i+1])
+				i++
+				continue
+			}
+			depth++
+			newline()
+		case '}', ']':
+			depth--
+			newline()
+			dst = append(dst, c)
+		case ',':
+			dst = append(dst, c)
+			newline()
+		case ':':
+			dst = append(dst, ':', ' ')
+		default:
+			j := i + 1
+			for j < len(src) && !structural[src[j]] {
+				j++
+			}
+			dst = append(dst, src[i:j]...)
+			i = j - 1
+		}
+	}
+	return dst
+}
+
+// structural are the bytes that end a run of a number or literal in compact JSON.
+var structural = [256]bool{'"': true, '{': true, '[': true, '}': true, ']': true, ',': true, ':': true}
 
 // writeResultJSON writes the members of res in order, the ports by ports.
 func writeResultJSON(w io.Writer, res *diagnose.Result, ports func(*jsonStream)) error {

@@ -147,3 +147,47 @@ func TestWriteResultJSONPortsMatchesEncoder(t *testing.T) {
 		}
 	}
 }
+
+// appendIndent indents compact JSON byte for byte as the standard library's json.Indent does:
+// checked on the encoded results of manyPorts and on hand-made documents (empty lists and
+// objects, escaped quotes and backslashes, nesting, literals).
+func TestAppendIndentMatchesIndent(t *testing.T) {
+	docs := []string{`{}`, `[]`, `{"a":[]}`, `[{},[],{"b":{}}]`, `"x"`, `1.5e-7`, `null`, `[true,false,null]`,
+		`{"q\"uote":"back\\slash\\","":"\u003c\u0026\u003e","e":[[[1]],-0.1]}`, `{"a":"[{,:}]","b":{"c":[1,2,{"d":"\\\""}]}}`}
+	for _, n := range []int{1, 7} {
+		b, err := json.Marshal(manyPorts(n))
+		if err != nil {
+			t.Fatal(err)
+		}
+		docs = append(docs, string(b))
+	}
+	for _, doc := range docs {
+		for _, pre := range []string{"", "    "} {
+			var want bytes.Buffer
+			if err := json.Indent(&want, []byte(doc), pre, "  "); err != nil {
+				t.Fatalf("%s: %v", doc, err)
+			}
+			if got := appendIndent([]byte("x"), []byte(doc), pre, "  "); !bytes.Equal(got, append([]byte("x"), want.Bytes()...)) {
+				t.Errorf("%s with prefix %q:\ngot  %s\nwant %s", doc, pre, got[1:], want.Bytes())
+			}
+		}
+	}
+}
+
+// FuzzAppendIndent: for any valid JSON, made compact by json.Compact, appendIndent gives what
+// json.Indent gives.
+func FuzzAppendIndent(f *testing.F) {
+	f.Add([]byte(`{"a": [1, {"b": "c\"]"}], "d": {}}`))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		var compact, want bytes.Buffer
+		if json.Compact(&compact, data) != nil {
+			return
+		}
+		if err := json.Indent(&want, compact.Bytes(), "  ", "\t"); err != nil {
+			t.Fatal(err)
+		}
+		if got := appendIndent(nil, compact.Bytes(), "  ", "\t"); !bytes.Equal(got, want.Bytes()) {
+			t.Fatalf("%q:\ngot  %q\nwant %q", compact.Bytes(), got, want.Bytes())
+		}
+	})
+}
