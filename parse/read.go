@@ -489,20 +489,28 @@ func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult 
 		times: opt.times, budget: opt.budget}
 	h := sha256.New()
 	br := readerPool.Get().(*bufio.Reader)
-	var limited io.Reader = raw
+	src := &endReader{r: raw}
+	var limited io.Reader = src
 	if opt.budget != nil {
-		limited = budgetReader{raw, opt.budget}
+		limited = budgetReader{src, opt.budget}
 	}
 	br.Reset(io.TeeReader(limited, h))
 	defer func() {
 		// Hash what is left so the digest covers the whole input even after an early stop:
 		// the rest of a regular file, at most maxDrain bytes of a stream (a device such as
-		// /dev/zero never ends). What br buffered is hashed already.
+		// /dev/zero never ends). What br buffered is hashed already; an input read to its
+		// end has nothing left.
 		limit := int64(maxDrain)
 		if size > 0 {
 			limit = math.MaxInt64 - 1
 		}
-		if n, _ := io.Copy(h, io.LimitReader(raw, limit+1)); n > limit {
+		var n int64
+		if !src.ended {
+			bp := getBytes(32 << 10)
+			n, _ = io.CopyBuffer(h, io.LimitReader(src, limit+1), (*bp)[:cap(*bp)])
+			bytesPool.Put(bp)
+		}
+		if n > limit {
 			res.stats.Notes = append(res.stats.Notes, fmt.Sprintf("no SHA-256: the stream went on for more than %d MiB after reading stopped", maxDrain>>20))
 		} else {
 			res.stats.SHA256 = hex.EncodeToString(h.Sum(nil))
@@ -558,6 +566,20 @@ func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult 
 		readCSV(res, cr, opt)
 	}
 	return res
+}
+
+// endReader tells whether its reader has said that it ended (io.EOF).
+type endReader struct {
+	r     io.Reader
+	ended bool
+}
+
+func (e *endReader) Read(p []byte) (int, error) {
+	n, err := e.r.Read(p)
+	if err == io.EOF {
+		e.ended = true
+	}
+	return n, err
 }
 
 // maxDrain bounds what is read of a stream of unknown size, only to hash it, after reading
