@@ -25,25 +25,37 @@ func WriteResultJSON(w io.Writer, res *diagnose.Result) error {
 	return writeResultJSON(w, res, func(jw *jsonStream) { writeList(jw, "ports", res.Ports, false) })
 }
 
-// PortJSON is port p as it stands among the ports of the indented document (json.MarshalIndent
-// with the prefix of depth 2), but without its line findings: what WriteResultJSONPorts takes
-// back, with the line findings found later. Encoding and indenting here lets the callers do it
-// on all cores while the ports are judged; writing then only copies.
-func PortJSON(p *diagnose.PortResult) ([]byte, error) {
+// PortEncoder encodes ports as they stand among the ports of the indented document
+// (json.MarshalIndent with the prefix of depth 2), but without their line findings: what
+// WriteResultJSONPorts takes back, with the line findings found later. Encoding and indenting
+// there lets the callers do it on all cores while the ports are judged; writing then only
+// copies. An encoder reuses its memory from port to port; it is not safe for concurrent use.
+type PortEncoder struct {
+	compact bytes.Buffer
+	enc     *json.Encoder
+	out     []byte
+}
+
+// Encode gives port p's JSON, valid until the next call.
+func (e *PortEncoder) Encode(p *diagnose.PortResult) ([]byte, error) {
+	if e.enc == nil {
+		e.enc = json.NewEncoder(&e.compact) // json.Marshal's bytes, and a newline
+	}
 	q := *p
 	q.LineFindings = nil
-	compact, err := json.Marshal(&q)
-	if err != nil {
+	e.compact.Reset()
+	if err := e.enc.Encode(&q); err != nil {
 		return nil, err
 	}
-	return appendIndent(make([]byte, 0, len(compact)*2), compact, portPrefix, "  "), nil
+	e.out = appendIndent(e.out[:0], bytes.TrimSuffix(e.compact.Bytes(), []byte("\n")), portPrefix, "  ")
+	return e.out, nil
 }
 
 // portPrefix is the indentation of a port, an element of the document's "ports" (depth 2).
 const portPrefix = "    "
 
 // WriteResultJSONPorts writes what WriteResultJSON writes for res with n ports (res.Ports is not
-// read): the i-th port (i < n) is given by port as its PortJSON bytes and its line findings.
+// read): the i-th port (i < n) is given by port as its PortEncoder bytes and its line findings.
 // Each port is held only while it is written.
 func WriteResultJSONPorts(w io.Writer, res *diagnose.Result, n int, port func(i int) (indented []byte, lf []diagnose.LineRef, err error)) error {
 	return writeResultJSON(w, res, func(j *jsonStream) {

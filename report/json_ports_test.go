@@ -109,7 +109,7 @@ func TestWriteResultJSONError(t *testing.T) {
 	}
 }
 
-// The ports given back as their PortJSON bytes and line findings give the Encoder's bytes of the
+// The ports given back as their PortEncoder bytes and line findings give the Encoder's bytes of the
 // whole result: with no ports, and with ports with and without line findings (the splice of the
 // line findings holds only while they are a port's last member).
 func TestWriteResultJSONPortsMatchesEncoder(t *testing.T) {
@@ -134,9 +134,10 @@ func TestWriteResultJSONPortsMatchesEncoder(t *testing.T) {
 			t.Fatal(err)
 		}
 		var got bytes.Buffer
+		var enc PortEncoder
 		err = WriteResultJSONPorts(&got, &diagnose.Result{Tool: res.Tool, Version: res.Version, Inputs: res.Inputs, Rejected: res.Rejected, Lines: res.Lines},
 			len(res.Ports), func(i int) ([]byte, []diagnose.LineRef, error) {
-				js, err := PortJSON(&res.Ports[i])
+				js, err := enc.Encode(&res.Ports[i])
 				return js, res.Ports[i].LineFindings, err
 			})
 		if err != nil {

@@ -45,15 +45,20 @@ func newTriageRun(cfg diagnose.Config, json bool) *triageRun {
 // close removes the spill.
 func (t *triageRun) close() { t.spill.close() }
 
+// portEncoders are the JSON encoders of the goroutines that judge ports.
+var portEncoders = sync.Pool{New: func() any { return new(report.PortEncoder) }}
+
 // take keeps what triage needs of a judged port; safe for concurrent use.
 func (t *triageRun) take(p *diagnose.PortResult) triagePort {
 	tp := triagePort{key: diagnose.RankKeyOf(p), row: report.TriageRowOf(p)}
 	var err error
 	if t.json {
+		enc := portEncoders.Get().(*report.PortEncoder)
 		var js []byte
-		if js, err = report.PortJSON(p); err == nil {
+		if js, err = enc.Encode(p); err == nil {
 			tp.js, err = t.spill.put(js)
 		}
+		portEncoders.Put(enc)
 	}
 	if err == nil && line.OnLine(p) {
 		tp.ch = line.NewChannel(p, t.cfg.Rules)
