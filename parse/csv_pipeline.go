@@ -354,7 +354,12 @@ func runBlocks(res *fileResult, r io.Reader, opt Options, f blockFormat, carry [
 	go func() {
 		defer close(merged)
 		for job := range merge {
-			f.apply(res.fb, job)
+			switch {
+			case res.part == nil:
+				f.apply(res.fb, job)
+			case res.part.err == nil && !res.part.take(res, job, f.apply):
+				stop.Store(true)
+			}
 			rec.putJob(job)
 		}
 	}()
@@ -363,7 +368,7 @@ func runBlocks(res *fileResult, r io.Reader, opt Options, f blockFormat, carry [
 		if stop.Load() {
 			continue
 		}
-		if !f.account(job) {
+		if !res.accountLocked(f.account, job) {
 			stop.Store(true)
 		}
 		merge <- job
@@ -374,6 +379,17 @@ func runBlocks(res *fileResult, r io.Reader, opt Options, f blockFormat, carry [
 	if readErr != nil {
 		res.fail(&ParseError{File: res.stats.File, Line: line, Err: truncated(readErr)}, nil)
 	}
+}
+
+// accountLocked runs account on job, holding the part reader's lock when the input is read in
+// parts (a part takes its share of the accounting on the merge goroutine).
+func (res *fileResult) accountLocked(account func(*csvJob) bool, job *csvJob) bool {
+	if res.part == nil {
+		return account(job)
+	}
+	res.part.mu.Lock()
+	defer res.part.mu.Unlock()
+	return account(job)
 }
 
 // readMore reads into the spare capacity of b and returns b extended by what was read. At the end

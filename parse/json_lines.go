@@ -78,6 +78,9 @@ func readJSON(res *fileResult, r io.Reader, opt Options) {
 		jr.mode = jsonModeStream
 		f.cut = cutDocuments(false)
 	}
+	if jr.mode != jsonModeLines {
+		res.part = nil // documents of many ports each: read whole
+	}
 	if jr.mode != jsonModeLines || len(firstLine(buf[start:])) >= bigDocument {
 		// Documents such as OpenConfig snapshots are large: blocks of several of them, so that
 		// a block's fixed costs (cutting off the rest, grouping and merging each port's rows)

@@ -159,6 +159,10 @@ type Dataset struct {
 	// that does not look like telemetry, or content that is not (empty, not text, no header
 	// naming time, port and a quantity). See docs/formats.md.
 	Skipped []Skip
+	// Continued says that Inputs[0] is the input last handed over, read in parts (see
+	// Options.PortParts and ReadEach): its accounting here, the input's so far, replaces that
+	// of the Dataset before, and the Series and Rejected here follow that Dataset's.
+	Continued bool
 }
 
 // Skip is a file found in a folder that was not taken as telemetry, and why.

@@ -49,9 +49,18 @@ type Options struct {
 	// or "+01:00"); "" is UTC. Times that carry a zone keep it.
 	TimeZone string
 
+	// PortParts makes ReadEach hand a large CSV or JSON Lines input (4 MiB or more, named, not
+	// standard input) over in parts as its ports complete, assuming its rows come grouped by
+	// port (each port's rows together, ports in any order), so that only a part's telemetry is
+	// held: see partReader. Such an input is read alone, not in a batch with others. Where its
+	// first blocks show it is not grouped it is read whole; where a later block does, after
+	// parts were handed over, ReadEach stops with ErrNotGrouped.
+	PortParts bool
+
 	arena  *slabArena  // set by ReadPaths: where small files' columns are cut from
 	times  *timeReader // from TimeFormat, DayFirst and TimeZone (nil: the built-in formats in UTC)
 	budget *readBudget // rows and bytes left for the run
+	part   *partReader // set by ReadEach for an input read in parts
 }
 
 // DefaultMaxRows is the row limit when Options.MaxRows is 0: ten million rows, about 2 GB of
@@ -185,10 +194,12 @@ type fileResult struct {
 	profiles  map[string][]ProfileMention // profiles the accepted rows name, by port (nil: none)
 	strictErr error                       // first bad row in strict mode, or the row limit reached
 	fileErr   error                       // input not read completely
+	part      *partReader                 // hands the input over in parts (nil: read whole)
+	rejTaken  int                         // rejections handed over with parts already
 }
 
 func (res *fileResult) addRejection(r Rejection) {
-	if len(res.rejects) < MaxRejectionsKept {
+	if len(res.rejects)+res.rejTaken < MaxRejectionsKept {
 		res.rejects = append(res.rejects, r)
 	}
 }
@@ -365,9 +376,13 @@ func ReadPaths(paths []string, opt Options) (*Dataset, error) {
 // MaxRejectionsKept) and series (their Inputs index the batch's Inputs), and in Skipped the
 // batch's files found not to be telemetry, after (in the first batch) those the walk of the
 // folders skipped by name: joined in order, the batches' lists are ReadPaths'. err is the
-// batch's as ReadPaths gives it; the row limit is the whole run's. A port whose rows lie in two
-// batches has a series in each. fn's error stops the reading and is returned, as is an error of
-// the options or the paths (before anything is read).
+// batch's as ReadPaths gives it (so far, for a part); the row limit is the whole run's. A port
+// whose rows lie in two batches has a series in each.
+//
+// With Options.PortParts a large input is a batch of its own, handed over in parts as its ports
+// complete (Dataset.Continued): the joined parts are that batch's Dataset, but for the
+// accounting, which the last part gives whole. fn's error stops the reading and is returned, as
+// are ErrNotGrouped and an error of the options or the paths (before anything is read).
 func ReadEach(paths []string, opt Options, batch int, fn func(ds *Dataset, err error) error) error {
 	if err := opt.prepare(); err != nil {
 		return err
@@ -377,37 +392,68 @@ func ReadEach(paths []string, opt Options, batch int, fn func(ds *Dataset, err e
 		return err
 	}
 	meter := &progressMeter{fn: opt.Progress}
-	for _, f := range files {
-		if opt.Progress == nil {
-			break // the total only serves progress reports: no stat per file otherwise
-		}
-		if f == "-" {
-			meter.total = -1
-			break
-		}
-		if fi, err := os.Stat(f); err == nil && meter.total >= 0 {
-			meter.total += fi.Size()
+	var sizes []int64 // of the named files, when needed: -1 for standard input or unknown
+	if opt.Progress != nil || opt.PortParts {
+		sizes = make([]int64, len(files))
+		for i, f := range files {
+			sizes[i] = -1
+			if f == "-" {
+				meter.total = -1
+			} else if fi, err := os.Stat(f); err == nil {
+				sizes[i] = fi.Size()
+			}
+			if meter.total >= 0 && sizes[i] > 0 {
+				meter.total += sizes[i]
+			}
 		}
 	}
 	if batch <= 0 {
 		batch = max(len(files), 1)
 	}
-	for from := 0; from == 0 || from < len(files); from += batch {
+	// hand gives fn a Dataset with the skipped files not given yet.
+	hand := func(ds *Dataset, err error) error {
+		ds.Skipped, skipped = skipped, nil
+		return fn(ds, err)
+	}
+	for from := 0; ; {
 		to := min(from+batch, len(files))
+		var part *partReader
+		if opt.PortParts {
+			// A large input is read alone, in parts; the inputs before it make a batch.
+			for i := from; i < to; i++ {
+				if readInParts(files[i], sizes[i]) {
+					if i == from {
+						to, part = from+1, newPartReader(hand, opt.workers())
+					} else {
+						to = i
+					}
+					break
+				}
+			}
+		}
 		opt.arena = &slabArena{} // a batch's small files' columns go with it
 		results := make([]*fileResult, to-from)
-		sem := make(chan struct{}, opt.workers())
-		var wg sync.WaitGroup
-		for i, f := range files[from:to] {
-			wg.Add(1)
-			sem <- struct{}{}
-			go func() {
-				defer wg.Done()
-				defer func() { <-sem }()
-				results[i] = readNamed(f, opt, meter)
-			}()
+		if part != nil {
+			o := opt
+			o.part = part
+			results[0] = readNamed(files[from], o, meter)
+			if part.err != nil {
+				return part.err
+			}
+		} else {
+			sem := make(chan struct{}, opt.workers())
+			var wg sync.WaitGroup
+			for i, f := range files[from:to] {
+				wg.Add(1)
+				sem <- struct{}{}
+				go func() {
+					defer wg.Done()
+					defer func() { <-sem }()
+					results[i] = readNamed(f, opt, meter)
+				}()
+			}
+			wg.Wait()
 		}
-		wg.Wait()
 		if to == len(files) {
 			meter.add(0)
 		}
@@ -420,12 +466,17 @@ func ReadEach(paths []string, opt Options, batch int, fn func(ds *Dataset, err e
 			kept = append(kept, res)
 		}
 		ds, err := assemble(kept, opt.workers())
-		ds.Skipped, skipped = skipped, nil
-		if err := fn(ds, err); err != nil {
+		if part != nil && part.parts > 0 {
+			ds.Continued = true
+			ds.Inputs[0].Duplicates += part.dups
+		}
+		if err := hand(ds, err); err != nil {
 			return err
 		}
+		if from = to; from >= len(files) {
+			return nil
+		}
 	}
-	return nil
 }
 
 // readNamed opens and reads one named input ("-" is standard input).
@@ -486,7 +537,7 @@ var gzipMagic = []byte{0x1f, 0x8b}
 // readInput hashes the raw bytes, unpacks gzip, drops a BOM and dispatches on content.
 func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult {
 	res := &fileResult{stats: InputStats{File: name}, fb: newFileBuilder(), sizeHint: size,
-		times: opt.times, budget: opt.budget}
+		times: opt.times, budget: opt.budget, part: opt.part}
 	h := sha256.New()
 	br := readerPool.Get().(*bufio.Reader)
 	src := &endReader{r: raw}
@@ -499,7 +550,13 @@ func readInput(name string, raw io.Reader, opt Options, size int64) *fileResult 
 		// Hash what is left so the digest covers the whole input even after an early stop:
 		// the rest of a regular file, at most maxDrain bytes of a stream (a device such as
 		// /dev/zero never ends). What br buffered is hashed already; an input read to its
-		// end has nothing left.
+		// end has nothing left. An input whose reading in parts was stopped is dropped: not
+		// hashed.
+		if res.part != nil && res.part.err != nil {
+			br.Reset(nil)
+			readerPool.Put(br)
+			return
+		}
 		limit := int64(maxDrain)
 		if size > 0 {
 			limit = math.MaxInt64 - 1

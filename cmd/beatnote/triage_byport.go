@@ -14,8 +14,9 @@ import (
 // rows each) takes some tens of MB. (A variable for the tests.)
 var byPortBatch = 256
 
-// byPortRuns counts the triages judged port by port (for the tests).
-var byPortRuns atomic.Int64
+// byPortRuns counts the triages judged port by port, byPortParts the parts of large inputs
+// they judged (for the tests).
+var byPortRuns, byPortParts atomic.Int64
 
 // errReadWhole stops a port-by-port reading that cannot give the same result as reading whole.
 var errReadWhole = errors.New("the inputs are read whole")
@@ -54,6 +55,7 @@ func (c *TriageCmd) byPort(pr *printer) (*judged, error) {
 	)
 	opt := c.options()
 	opt.Strict = c.Strict
+	opt.PortParts = true
 	done := withProgress(&opt, pr)
 	err = parse.ReadEach(c.Paths, opt, byPortBatch, func(ds *parse.Dataset, readErr error) error {
 		if readErr != nil {
@@ -69,6 +71,10 @@ func (c *TriageCmd) byPort(pr *printer) (*judged, error) {
 			setups[i] = ps.add(s)
 		}
 		first = false
+		if ds.Continued { // a part of a large input: its accounting so far replaces the last
+			all.Inputs = all.Inputs[:len(all.Inputs)-1]
+			byPortParts.Add(1)
+		}
 		all.Inputs = append(all.Inputs, ds.Inputs...)
 		for _, r := range ds.Rejected {
 			if len(all.Rejected) < parse.MaxRejectionsKept {
@@ -89,7 +95,7 @@ func (c *TriageCmd) byPort(pr *printer) (*judged, error) {
 	if err != nil {
 		t.close()
 		switch {
-		case errors.Is(err, errReadWhole):
+		case errors.Is(err, errReadWhole), errors.Is(err, parse.ErrNotGrouped):
 			return nil, nil
 		case errors.Is(err, parse.ErrOption):
 			return nil, usageErrorf("%v", err)

@@ -2,7 +2,9 @@ package main
 
 import (
 	"bytes"
+	"compress/gzip"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -154,6 +156,99 @@ func TestTriageLinesMatchWholeResults(t *testing.T) {
 		}
 		if !bytes.Equal(got.Bytes(), want) {
 			t.Errorf("--port-by-port %s: lines differ from line.Reason's:\n%s\nwant\n%s", mode, got.Bytes(), want)
+		}
+	}
+}
+
+// fleetRows writes ports × rows canonical CSV rows after a title line and the header, the rows
+// grouped by port (port after port) or time after time, with a rejected row (a Q that is not
+// a number) every 997 rows. The values are invented, for the comparison only.
+func fleetRows(ports, rows int, grouped bool) string {
+	var b strings.Builder
+	b.WriteString("Telemetry export\ntime,port,pre_fec_ber,post_fec_ber,uncorrected_blocks,q_db,osnr_db,cd_ps_nm,dgd_ps,rx_power_dbm,tx_power_dbm,frequency_thz\n")
+	n := 0
+	row := func(p, i int) {
+		q := fmt.Sprintf("%.2f", 8.5+float64((p*7+i*3)%40)/20)
+		if n++; n%997 == 0 {
+			q = "n/a"
+		}
+		fmt.Fprintf(&b, "2026-03-14T%02d:%02d:00Z,NE%04d-1/1/C1,%.3g,0,0,%s,%.1f,%d,%.1f,%.2f,-1.5,%.4f\n",
+			i/60, i%60, p, 1e-3+float64((p+i)%13)*1e-4, q, 28+float64(p%9), 1000+p%700, 1+float64(i%5)/10,
+			-6-float64(p%11)/4+float64(i%3)/100, 191.7+float64(p%40)*0.05)
+	}
+	for a := range ports * rows {
+		if grouped {
+			row(a/rows, a%rows)
+		} else {
+			row(a%ports, a/ports)
+		}
+	}
+	return b.String()
+}
+
+// A large input grouped by port (4 MiB or more, 256 KiB of gzip) is judged in parts, printing
+// what reading it whole prints, as CSV with a title line and rejected rows, gzip and JSON
+// Lines, in JSON and text (CSV); the same rows
+// time after time, or with a port back at the end after parts were judged, are read whole with
+// the same output.
+func TestTriageInPartsMatchesWhole(t *testing.T) {
+	dir := t.TempDir()
+	csv := fleetRows(1100, 48, true)
+	var gz bytes.Buffer
+	zw := gzip.NewWriter(&gz)
+	zw.Write([]byte(csv))
+	zw.Close()
+	lines := strings.Split(strings.TrimSuffix(csv, "\n"), "\n")
+	cols := strings.Split(lines[1], ",")
+	var jl strings.Builder
+	for _, l := range lines[2:] {
+		f := strings.Split(l, ",")
+		fmt.Fprintf(&jl, `{"time":%q,"port":%q`, f[0], f[1])
+		for i := 2; i < len(f); i++ {
+			v := f[i]
+			if v == "n/a" {
+				v = `"n/a"`
+			}
+			fmt.Fprintf(&jl, `,%q:%s`, cols[i], v)
+		}
+		jl.WriteString("}\n")
+	}
+	inputs := map[string]string{
+		"grouped.csv":    csv,
+		"grouped.csv.gz": gz.String(),
+		"grouped.jsonl":  jl.String(),
+		"time-major.csv": fleetRows(1100, 48, false),
+		"late.csv":       csv + lines[2] + "\n",
+	}
+	for name, content := range inputs {
+		path := filepath.Join(dir, name)
+		if err := os.WriteFile(path, []byte(content), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		inParts := strings.HasPrefix(name, "grouped")
+		formats, modes := []string{"json"}, []string{"auto"}
+		if name == "grouped.csv" {
+			formats, modes = []string{"json", "text"}, []string{"auto", "always"}
+		}
+		for _, format := range formats {
+			args := []string{"triage", path, "--profile", "400g-dp-16qam-cfec", "--format", format}
+			wantCode, want, wantErr := runCLI(t, append(args, "--port-by-port", "never")...)
+			if !strings.Contains(want, "NE1099-1/1/C1") {
+				t.Fatalf("%s: the whole reading shows no last port:\n%.500s\n%.500s", name, want, wantErr)
+			}
+			for _, mode := range modes {
+				runs, parts := byPortRuns.Load(), byPortParts.Load()
+				code, got, gotErr := runCLI(t, append(args, "--port-by-port", mode)...)
+				if code != wantCode || got != want || gotErr != wantErr {
+					t.Errorf("%s %s %s: exit %d, %d bytes, stderr %q; whole exit %d, %d bytes, stderr %q",
+						name, format, mode, code, len(got), gotErr, wantCode, len(want), wantErr)
+				}
+				byParts := byPortParts.Load() > parts
+				byPort := byPortRuns.Load() > runs
+				if byParts != inParts || byPort != (name != "late.csv") {
+					t.Errorf("%s %s %s: judged in parts %v, port by port %v", name, format, mode, byParts, byPort)
+				}
+			}
 		}
 	}
 }

@@ -53,10 +53,11 @@ func main() {
 	filesDir := flag.String("files-dir", "", "also write the many-small-files shape into this folder")
 	files := flag.Int("files", 5000, "files in the many-small-files shape")
 	rows := flag.Int("rows", 200, "rows (samples of one port) per small file")
+	byPort := flag.Bool("by-port", false, "write the fleet file's rows port after port (grouped by port) instead of sample time after sample time; CSV and JSON Lines")
 	flag.Parse()
 	start := time.Now()
 	if *out != "" {
-		if err := writeFleet(*out, *ports, *samples, *trouble, *seed); err != nil {
+		if err := writeFleet(*out, *ports, *samples, *trouble, *seed, *byPort); err != nil {
 			fmt.Fprintln(os.Stderr, "fleetgen:", err)
 			os.Exit(1)
 		}
@@ -176,7 +177,10 @@ func writeTruth(path string, t []truth) error {
 	return os.WriteFile(path, append(js, '\n'), 0o644)
 }
 
-func writeFleet(path string, ports, samples int, trouble float64, seed int64) error {
+func writeFleet(path string, ports, samples int, trouble float64, seed int64, byPort bool) error {
+	if byPort && filepath.Ext(path) == ".json" {
+		return fmt.Errorf("-by-port writes CSV or JSON Lines, not OpenConfig JSON (%s)", path)
+	}
 	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
 		return err
 	}
@@ -190,7 +194,15 @@ func writeFleet(path string, ports, samples int, trouble float64, seed int64) er
 	}
 	switch filepath.Ext(path) {
 	case ".jsonl":
-		err = synth.WriteJSONLines(f, series)
+		if !byPort {
+			err = synth.WriteJSONLines(f, series)
+			break
+		}
+		for _, s := range series {
+			if err = synth.WriteJSONLines(f, []*parse.Series{s}); err != nil {
+				break
+			}
+		}
 	case ".json":
 		ports := make([]synth.OpenConfigPort, len(series))
 		for k, s := range series {
@@ -198,7 +210,7 @@ func writeFleet(path string, ports, samples int, trouble float64, seed int64) er
 		}
 		err = synth.WriteOpenConfig(f, ports)
 	default:
-		err = synth.WriteCSV(f, series, synth.CSVStyle{})
+		err = synth.WriteCSV(f, series, synth.CSVStyle{ByPort: byPort})
 	}
 	if err != nil {
 		f.Close()

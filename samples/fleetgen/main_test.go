@@ -17,7 +17,7 @@ func TestDeterministicAndComplete(t *testing.T) {
 	dir := t.TempDir()
 	a, b := filepath.Join(dir, "a.csv"), filepath.Join(dir, "b.csv")
 	for _, p := range []string{a, b} {
-		if err := writeFleet(p, 40, 60, 0.2, 9); err != nil {
+		if err := writeFleet(p, 40, 60, 0.2, 9, false); err != nil {
 			t.Fatal(err)
 		}
 	}
@@ -26,7 +26,7 @@ func TestDeterministicAndComplete(t *testing.T) {
 	if !bytes.Equal(da, db) {
 		t.Fatal("same seed, different bytes")
 	}
-	if err := writeFleet(b, 40, 60, 0.2, 10); err != nil {
+	if err := writeFleet(b, 40, 60, 0.2, 10, false); err != nil {
 		t.Fatal(err)
 	}
 	if db, _ = os.ReadFile(b); bytes.Equal(da, db) {

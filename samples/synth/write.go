@@ -82,6 +82,8 @@ type CSVStyle struct {
 	CRLF, BOM    bool
 	// Missing is written for a missing value (default empty).
 	Missing string
+	// ByPort writes each series' rows together, series after series, instead of in time order.
+	ByPort bool
 }
 
 // formatTime appends t (Unix ms) in style ts.
@@ -150,7 +152,11 @@ func WriteCSV(w io.Writer, series []*parse.Series, st CSVStyle) error {
 	}
 	line = append(line, eol...)
 	bw.Write(line)
-	forEachRow(series, func(s *parse.Series, i int) {
+	visit := forEachRow
+	if st.ByPort {
+		visit = forEachPortRow
+	}
+	visit(series, func(s *parse.Series, i int) {
 		line = formatTime(line[:0], s.TimesMs[i], st.Time)
 		line = append(line, st.Delimiter)
 		line = append(line, s.Port...)
@@ -167,6 +173,15 @@ func WriteCSV(w io.Writer, series []*parse.Series, st CSVStyle) error {
 		bw.Write(line)
 	})
 	return bw.Flush()
+}
+
+// forEachPortRow visits every (series, index) series after series.
+func forEachPortRow(series []*parse.Series, fn func(*parse.Series, int)) {
+	for _, s := range series {
+		for i := range s.Len() {
+			fn(s, i)
+		}
+	}
 }
 
 // forEachRow visits every (series, index) in time order, series order at equal times.
