@@ -49,8 +49,8 @@ type Options struct {
 	// or "+01:00"); "" is UTC. Times that carry a zone keep it.
 	TimeZone string
 
-	// PortParts makes ReadEach hand a large CSV or JSON Lines input (4 MiB or more, named, not
-	// standard input) over in parts as its ports complete, assuming its rows come grouped by
+	// PortParts makes ReadEach hand a large CSV or JSON Lines input (a named file of 4 MiB or
+	// more, 256 KiB when named .gz) over in parts as its ports complete, assuming its rows come grouped by
 	// port (each port's rows together, ports in any order), so that only a part's telemetry is
 	// held: see partReader. Such an input is read alone, not in a batch with others. Where its
 	// first blocks show it is not grouped it is read whole; where a later block does, after
@@ -195,6 +195,7 @@ type fileResult struct {
 	strictErr error                       // first bad row in strict mode, or the row limit reached
 	fileErr   error                       // input not read completely
 	part      *partReader                 // hands the input over in parts (nil: read whole)
+	inParts   bool                        // not read yet: to be read alone, in parts (see readNamed)
 	rejTaken  int                         // rejections handed over with parts already
 }
 
@@ -392,71 +393,24 @@ func ReadEach(paths []string, opt Options, batch int, fn func(ds *Dataset, err e
 		return err
 	}
 	meter := &progressMeter{fn: opt.Progress}
-	var sizes []int64 // of the named files, when needed: -1 for standard input or unknown
-	if opt.Progress != nil || opt.PortParts {
-		sizes = make([]int64, len(files))
-		for i, f := range files {
-			sizes[i] = -1
-			if f == "-" {
-				meter.total = -1
-			} else if fi, err := os.Stat(f); err == nil {
-				sizes[i] = fi.Size()
-			}
-			if meter.total >= 0 && sizes[i] > 0 {
-				meter.total += sizes[i]
-			}
+	for _, f := range files {
+		if opt.Progress == nil {
+			break // the total only serves progress reports: no stat per file otherwise
+		}
+		if f == "-" {
+			meter.total = -1
+			break
+		}
+		if fi, err := os.Stat(f); err == nil && meter.total >= 0 {
+			meter.total += fi.Size()
 		}
 	}
 	if batch <= 0 {
 		batch = max(len(files), 1)
 	}
-	// hand gives fn a Dataset with the skipped files not given yet.
-	hand := func(ds *Dataset, err error) error {
-		ds.Skipped, skipped = skipped, nil
-		return fn(ds, err)
-	}
-	for from := 0; ; {
-		to := min(from+batch, len(files))
-		var part *partReader
-		if opt.PortParts {
-			// A large input is read alone, in parts; the inputs before it make a batch.
-			for i := from; i < to; i++ {
-				if readInParts(files[i], sizes[i]) {
-					if i == from {
-						to, part = from+1, newPartReader(hand, opt.workers())
-					} else {
-						to = i
-					}
-					break
-				}
-			}
-		}
-		opt.arena = &slabArena{} // a batch's small files' columns go with it
-		results := make([]*fileResult, to-from)
-		if part != nil {
-			o := opt
-			o.part = part
-			results[0] = readNamed(files[from], o, meter)
-			if part.err != nil {
-				return part.err
-			}
-		} else {
-			sem := make(chan struct{}, opt.workers())
-			var wg sync.WaitGroup
-			for i, f := range files[from:to] {
-				wg.Add(1)
-				sem <- struct{}{}
-				go func() {
-					defer wg.Done()
-					defer func() { <-sem }()
-					results[i] = readNamed(f, opt, meter)
-				}()
-			}
-			wg.Wait()
-		}
-		if to == len(files) {
-			meter.add(0)
-		}
+	// hand gives fn the Dataset of results (inputs from on), with the skipped files not
+	// given yet; part is the reader of the one input in results when it was read in parts.
+	hand := func(results []*fileResult, from int, part *partReader) error {
 		kept := results[:0]
 		for i, res := range results {
 			if why, skip := notTelemetry(res); skip && walked[from+i] {
@@ -470,16 +424,62 @@ func ReadEach(paths []string, opt Options, batch int, fn func(ds *Dataset, err e
 			ds.Continued = true
 			ds.Inputs[0].Duplicates += part.dups
 		}
-		if err := hand(ds, err); err != nil {
-			return err
+		ds.Skipped, skipped = skipped, nil
+		return fn(ds, err)
+	}
+	handPart := func(ds *Dataset, err error) error {
+		ds.Skipped, skipped = skipped, nil
+		return fn(ds, err)
+	}
+	for from := 0; ; from += batch {
+		to := min(from+batch, len(files))
+		opt.arena = &slabArena{} // a batch's small files' columns go with it
+		results := make([]*fileResult, to-from)
+		sem := make(chan struct{}, opt.workers())
+		var wg sync.WaitGroup
+		for i, f := range files[from:to] {
+			wg.Add(1)
+			sem <- struct{}{}
+			go func() {
+				defer wg.Done()
+				defer func() { <-sem }()
+				results[i] = readNamed(f, opt, meter)
+			}()
 		}
-		if from = to; from >= len(files) {
+		wg.Wait()
+		// The results in order; an input left for reading in parts is read alone, in its place.
+		start := 0
+		for i := 0; i <= len(results); i++ {
+			if i < len(results) && !results[i].inParts {
+				continue
+			}
+			if i > start || len(results) == 0 {
+				if err := hand(results[start:i], from+start, nil); err != nil {
+					return err
+				}
+			}
+			if i < len(results) {
+				o := opt
+				o.part = newPartReader(handPart, opt.workers())
+				res := readNamed(files[from+i], o, meter)
+				if o.part.err != nil {
+					return o.part.err
+				}
+				if err := hand([]*fileResult{res}, from+i, o.part); err != nil {
+					return err
+				}
+			}
+			start = i + 1
+		}
+		if to == len(files) {
+			meter.add(0)
 			return nil
 		}
 	}
 }
 
-// readNamed opens and reads one named input ("-" is standard input).
+// readNamed opens and reads one named input ("-" is standard input). With Options.PortParts,
+// a large file met in a batch (opt.part nil) is left unread, marked inParts.
 func readNamed(name string, opt Options, meter *progressMeter) *fileResult {
 	if name == "-" {
 		return readInput(name, countingReader{os.Stdin, meter}, opt, sizeOf(os.Stdin))
@@ -491,7 +491,11 @@ func readNamed(name string, opt Options, meter *progressMeter) *fileResult {
 		return res
 	}
 	defer f.Close()
-	return readInput(name, countingReader{f, meter}, opt, sizeOf(f))
+	size := sizeOf(f)
+	if opt.PortParts && opt.part == nil && readInParts(name, size) {
+		return &fileResult{inParts: true}
+	}
+	return readInput(name, countingReader{f, meter}, opt, size)
 }
 
 // ReadFile reads one input from r; name is used in messages and in the accounting. Gzip is
