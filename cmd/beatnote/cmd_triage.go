@@ -18,7 +18,7 @@ type TriageCmd struct {
 	Verdict []string `help:"Show only ports with these verdicts (comma-separated: fail, marginal, pass, no-data)." placeholder:"LIST"`
 	Cause   []string `help:"Show only ports listing one of these cause ids (comma-separated)." placeholder:"LIST"`
 	// PortByPort: see triage_byport.go.
-	PortByPort string `name:"port-by-port" help:"Read and judge the files a batch at a time, each port's telemetry dropped once judged, so memory does not grow with the fleet: auto (the default) when the first batch shows each port in one file, always, or never (read every input, then judge). The output is the same." enum:"auto,always,never" default:"auto"`
+	PortByPort string `name:"port-by-port" help:"Read and judge a part of the fleet at a time, each port's telemetry dropped once judged, so memory does not grow with the fleet: files of one port each 256 at a time, and a large CSV or JSON Lines file (4 MiB or more, gzip 256 KiB) whose rows are grouped by port about 1,000 ports at a time. auto (the default): so unless the first batch shows a port in two files; always: so; either reads the inputs whole instead, having printed nothing, when a port turns up in two batches or parts. never: read every input, then judge. Standard input is read whole. The output is the same." enum:"auto,always,never" default:"auto"`
 }
 
 // Help is the long help of the command.
@@ -74,8 +74,8 @@ func (c *TriageCmd) keep(r *report.TriageRow) bool {
 
 // Run reads, judges, filters, ranks and prints. Each port is kept only as its rank key and
 // table row while the others are judged, its JSON waiting in a temporary file (triageRun). Files
-// whose ports lie in one file each are read and judged port by port (byPort); other inputs are
-// read whole first (whole).
+// whose ports lie in one file each, and large files whose rows are grouped by port, are read and
+// judged port by port (byPort); other inputs are read whole first (whole).
 func (c *TriageCmd) Run(g *Globals, pr *printer) error {
 	if err := c.validate(); err != nil {
 		return err

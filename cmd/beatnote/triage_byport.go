@@ -22,15 +22,16 @@ var byPortRuns, byPortParts atomic.Int64
 var errReadWhole = errors.New("the inputs are read whole")
 
 // byPort reads and judges the inputs port by port: a batch of files at a time (parse.ReadEach),
-// each batch's ports judged as soon as it is read and its series dropped before the next batch
+// and a large file grouped by port a part of its ports at a time (parse.Options.PortParts), each
+// batch's or part's ports judged as soon as it is read and its series dropped before the next
 // is read, so that what is held between batches is only what the output needs (triageRun: a
 // few hundred bytes a port, and each input's accounting). The accounting, rejections, notes,
 // errors and exit status are those of reading whole: the notes and checks of prepare are made
 // on the batches' joined accounting once all are read.
 //
 // It gives nil and no error, having printed nothing, when reading whole is needed to give the
-// same result: a port's rows lie in two batches (or, with --port-by-port auto, in two files of
-// the first batch), an input could not be read completely (an unreadable or damaged file,
+// same result: a port's rows lie in two batches or parts (or, with --port-by-port auto, in two
+// files of the first batch), an input could not be read completely (an unreadable or damaged file,
 // --strict's stop, the row limit), or a link plan cannot be modelled (whose error names the
 // first plan in port order).
 func (c *TriageCmd) byPort(pr *printer) (*judged, error) {
