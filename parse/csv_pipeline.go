@@ -11,6 +11,9 @@ import (
 // chunkSize is the size of the blocks a CSV input is cut into (at line ends) for parallel parsing.
 const chunkSize = 1 << 20
 
+// blockSize is chunkSize, but for the tests, which cut inputs of a few lines into many blocks.
+var blockSize = chunkSize
+
 // recycler hands back the blocks and jobs of one input once merged, so that a long input
 // allocates them only for the few blocks in flight (a sync.Pool would drop them at every GC).
 type recycler struct {
@@ -210,7 +213,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 	}
 	lay := res.lay
 	carry, line, eof, readErr := st.carry, st.line, st.eof, st.readErr
-	if res.sizeHint > 0 && res.sizeHint <= chunkSize {
+	if res.sizeHint > 0 && res.sizeHint <= int64(blockSize) {
 		readCSVWhole(res, r, opt, carry, line, eof, readErr)
 		return
 	}
@@ -238,7 +241,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 
 // blockFormat is what runBlocks needs to know of one input format.
 type blockFormat struct {
-	// block is the size of a block (0: chunkSize).
+	// block is the size of a block (0: blockSize).
 	block int
 	// cut returns the length of the longest prefix of b made of whole records (0: none);
 	// final says that the input ends there (what follows is not read).
@@ -268,7 +271,7 @@ func cutLines(b []byte) (int, bool) { return bytes.LastIndexByte(b, '\n') + 1, f
 func runBlocks(res *fileResult, r io.Reader, opt Options, f blockFormat, carry []byte, line int, eof bool, readErr error) {
 	workers := opt.workers()
 	if f.block == 0 {
-		f.block = chunkSize
+		f.block = blockSize
 	}
 	rec := newRecycler(4*workers+4, res.sizeHint, f.block)
 	var stop atomic.Bool
