@@ -130,7 +130,7 @@ func (p *portBuf) addBlock(times []int64, qs []Quantity, vals []float64, codes [
 	for i, t := range times {
 		if have && t <= prev || p.rowOf != nil {
 			// A row repeats or goes back in time: merge row by row from here on.
-			p.addBlockRows(times, i, qs, vals, qmask)
+			p.addBlockRows(times, i, qs, vals, codes, wide, qmask)
 			return
 		}
 		prev, have = t, true
@@ -167,20 +167,28 @@ func (p *portBuf) addBlock(times []int64, qs []Quantity, vals []float64, codes [
 
 // addBlockRows is addBlock's careful path, for a run whose row i repeats or precedes a time
 // before it: rows before i are appended as a block, the rest one by one with addDense, which
-// merges each repeat into the row it repeats.
-func (p *portBuf) addBlockRows(times []int64, i int, qs []Quantity, vals []float64, qmask uint32) {
+// merges each repeat into the row it repeats. vals, codes and wide are addBlock's.
+func (p *portBuf) addBlockRows(times []int64, i int, qs []Quantity, vals []float64, codes []uint32, wide uint32, qmask uint32) {
 	n := len(times)
+	value := func(j, r int) float64 {
+		if codes != nil && wide&(1<<j) == 0 {
+			return unpackValue(codes[j*n+r])
+		}
+		return vals[j*n+r]
+	}
 	if i > 0 {
 		head := make([]float64, i*len(qs))
 		for j := range qs {
-			copy(head[j*i:(j+1)*i], vals[j*n:j*n+i])
+			for r := range i {
+				head[j*i+r] = value(j, r)
+			}
 		}
 		p.addBlock(times[:i], qs, head, nil, 0, qmask)
 	}
 	row := make([]float64, len(qs))
 	for ; i < n; i++ {
 		for j := range qs {
-			row[j] = vals[j*n+i]
+			row[j] = value(j, i)
 		}
 		p.addDense(times[i], qs, row, qmask)
 	}

@@ -46,25 +46,41 @@ func checkFastRow(t *testing.T, h string, lines []string) int {
 	fast := 0
 	for i, s := range lines {
 		ln := []byte(s)
-		before := len(ja.vals)
+		before, wbefore := len(ja.codes), len(ja.wideAt)
 		if a.fastRow(ja, ln) {
 			fast++
-		} else if len(ja.vals) != before || len(ja.times) != len(jb.times) {
+		} else if len(ja.codes) != before || len(ja.wideAt) != wbefore || len(ja.times) != len(jb.times) {
 			t.Fatalf("%q: fastRow refused the row but kept part of it", s)
 		} else if pe := a.splitRow(ja, ln, i+2); pe != nil {
-			ja.vals = ja.vals[:before]
+			ja.codes, ja.wideAt, ja.wideVals = ja.codes[:before], ja.wideAt[:wbefore], ja.wideVals[:wbefore]
 		}
-		base := len(jb.vals)
+		base, wbase := len(jb.codes), len(jb.wideAt)
 		if pe := b.splitRow(jb, ln, i+2); pe != nil {
-			jb.vals = jb.vals[:base]
+			jb.codes, jb.wideAt, jb.wideVals = jb.codes[:base], jb.wideAt[:wbase], jb.wideVals[:wbase]
 		}
+		va, vb := jobValues(ja), jobValues(jb)
 		if !slices.Equal(ja.names, jb.names) || !slices.Equal(ja.rowPort, jb.rowPort) || !slices.Equal(ja.times, jb.times) ||
-			!slices.EqualFunc(ja.vals, jb.vals, func(x, y float64) bool { return math.Float64bits(x) == math.Float64bits(y) }) {
+			!slices.EqualFunc(va, vb, func(x, y float64) bool { return math.Float64bits(x) == math.Float64bits(y) }) {
 			t.Fatalf("header %q, line %q: fast path %v %v %v %v, split path %v %v %v %v", h, s,
-				ja.names, ja.rowPort, ja.times, ja.vals, jb.names, jb.rowPort, jb.times, jb.vals)
+				ja.names, ja.rowPort, ja.times, va, jb.names, jb.rowPort, jb.times, vb)
 		}
 	}
 	return fast
+}
+
+// jobValues decodes the values a parser stored in a CSV job (codes, and the values without one).
+func jobValues(j *csvJob) []float64 {
+	vs := make([]float64, len(j.codes))
+	w := 0
+	for i, c := range j.codes {
+		if w < len(j.wideAt) && int(j.wideAt[w]) == i {
+			vs[i] = j.wideVals[w]
+			w++
+			continue
+		}
+		vs[i] = unpackValue(c)
+	}
+	return vs
 }
 
 // fastRow reads every row exactly as splitRow does, on rows mutated at random from good and bad

@@ -3,6 +3,7 @@ package parse
 import (
 	"bytes"
 	"io"
+	"math/bits"
 	"slices"
 	"sync"
 	"sync/atomic"
@@ -60,6 +61,7 @@ func (r *recycler) job(bp *[]byte, firstLine int) *csvJob {
 	}
 	*j = csvJob{buf: bp, firstLine: firstLine, done: make(chan struct{}),
 		names: j.names[:0], rowPort: j.rowPort[:0], times: j.times[:0], vals: j.vals[:0],
+		codes: j.codes[:0], wideAt: j.wideAt[:0], wideVals: j.wideVals[:0],
 		groupEnd: j.groupEnd[:0], spread: j.spread[:0], gTimes: j.gTimes[:0], gVals: j.gVals[:0],
 		gCodes: j.gCodes[:0], gWide: j.gWide[:0],
 		rowMask: j.rowMask[:0], gMask: j.gMask[:0], gOff: j.gOff[:0]}
@@ -92,7 +94,12 @@ type csvJob struct {
 	names    []string  // the job's distinct port names, in order of first sight
 	rowPort  []int32   // index into names of each accepted row
 	times    []int64   // time of each accepted row
-	vals     []float64 // len(qs) values per accepted row, row after row
+	vals     []float64 // JSON: NumQuantities values per accepted row, row after row
+	// CSV: len(qs) value codes per accepted row, row after row (see packValue); a value
+	// without a code is wideMark there, its index in wideAt and its value in wideVals.
+	codes    []uint32
+	wideAt   []int32
+	wideVals []float64
 	rejects  []*ParseError
 	nReject  int
 
@@ -102,7 +109,7 @@ type csvJob struct {
 	gTimes   []int64   // times, port group after port group, arrival order inside a group
 	gVals    []float64 // per group: len(qs) columns of the group's length, one after the other
 	gCodes   []uint32  // gVals as value codes (see packValue), but for the columns in gWide
-	gWide    []uint32  // per group: bit j set when column j has a value without a code
+	gWide    []uint32  // per group: bit j set when column j has a value without a code (CSV: only those columns are in gVals)
 
 	// Profile names of the accepted rows (see markProfile); empty without a profile column.
 	profMarks []profileMark
@@ -124,8 +131,10 @@ type csvJob struct {
 	stopStrict bool        // stopErr is a strict rejection
 }
 
-// group reorders the accepted rows by port, stably, with each port's values column by column:
-// the merge can then append a port's run of each quantity in one copy. It runs on the worker.
+// group reorders the accepted rows of a CSV block by port, stably, with each port's value
+// codes column by column: the merge can then append a port's run of each quantity in one copy.
+// A group's column holding a value without a code is also laid out as float64 in gVals, and
+// its bit set in gWide. It runs on the worker.
 func (job *csvJob) group(k int) {
 	np := len(job.names)
 	n := len(job.times)
@@ -144,7 +153,7 @@ func (job *csvJob) group(k int) {
 		counts[i] = 0
 	}
 	job.gTimes = slices.Grow(job.gTimes[:0], n)[:n]
-	job.gVals = slices.Grow(job.gVals[:0], n*k)[:n*k]
+	job.gCodes = slices.Grow(job.gCodes[:0], n*k)[:n*k]
 	sizes := make([]int32, np)
 	job.spread = slices.Grow(job.spread[:0], np)[:np]
 	first := make([]int32, np)
@@ -161,19 +170,53 @@ func (job *csvJob) group(k int) {
 		base := int(starts[pi]) * k
 		cnt := int(sizes[pi])
 		off := int(counts[pi])
-		row := job.vals[r*k : (r+1)*k]
-		for j, v := range row {
-			job.gVals[base+j*cnt+off] = v
+		row := job.codes[r*k : (r+1)*k]
+		for j, c := range row {
+			job.gCodes[base+j*cnt+off] = c
 		}
 		counts[pi]++
+	}
+	job.gWide = slices.Grow(job.gWide[:0], np)[:np]
+	clear(job.gWide)
+	job.gVals = job.gVals[:0]
+	if len(job.wideAt) > 0 {
+		job.groupWide(k, starts, sizes)
 	}
 	for i := range counts {
 		counts[i] = starts[i] + sizes[i]
 	}
-	job.packGroups(func(g int) int { return k })
 }
 
-// packGroups fills gCodes and gWide from gVals, on the worker, so that the merge copies codes;
+// groupWide lays out as float64 in gVals every group's column that holds a value without a
+// code (group's helper; starts and sizes are each group's first row and rows).
+func (job *csvJob) groupWide(k int, starts, sizes []int32) {
+	for _, at := range job.wideAt {
+		job.gWide[job.rowPort[int(at)/k]] |= 1 << (int(at) % k)
+	}
+	n := len(job.gCodes)
+	job.gVals = slices.Grow(job.gVals[:0], n)[:n]
+	for g, wide := range job.gWide {
+		for ; wide != 0; wide &= wide - 1 {
+			j := bits.TrailingZeros32(wide)
+			a := int(starts[g])*k + j*int(sizes[g])
+			for i := a; i < a+int(sizes[g]); i++ {
+				job.gVals[i] = unpackValue(job.gCodes[i]) // the wideMarks are set below
+			}
+		}
+	}
+	cur := make([]int32, len(sizes))
+	w := 0
+	for r, pi := range job.rowPort {
+		off := cur[pi]
+		cur[pi]++
+		for ; w < len(job.wideAt) && int(job.wideAt[w])/k == r; w++ {
+			j := int(job.wideAt[w]) % k
+			job.gVals[int(starts[pi])*k+j*int(sizes[pi])+int(off)] = job.wideVals[w]
+		}
+	}
+}
+
+// packGroups fills gCodes and gWide from gVals (JSON blocks), on the worker, so that the merge copies codes;
 // cols(g) is the number of columns of group g.
 func (job *csvJob) packGroups(cols func(g int) int) {
 	np := len(job.names)
@@ -229,7 +272,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		reserve: func(job *csvJob, rows int) {
 			job.rowPort = slices.Grow(job.rowPort, rows)
 			job.times = slices.Grow(job.times, rows)
-			job.vals = slices.Grow(job.vals, rows*len(lay.qs))
+			job.codes = slices.Grow(job.codes, rows*len(lay.qs))
 		},
 		account: func(job *csvJob) bool {
 			res.accountCSV(job, opt.Strict)
@@ -429,7 +472,7 @@ func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line 
 	job := &w.job
 	*job = csvJob{data: b, firstLine: line,
 		names: job.names[:0], groupEnd: job.groupEnd[:0], spread: job.spread[:0], gTimes: job.gTimes[:0], gVals: job.gVals[:0],
-		gCodes: job.gCodes[:0], gWide: job.gWide[:0]}
+		gCodes: job.gCodes[:0], gWide: job.gWide[:0], wideAt: job.wideAt[:0], wideVals: job.wideVals[:0]}
 	job.cutTail = readErr != nil && len(b) > 0 && b[len(b)-1] != '\n'
 	lines := bytes.Count(b, []byte{'\n'})
 	line += lines
@@ -437,8 +480,8 @@ func readCSVWhole(res *fileResult, r io.Reader, opt Options, carry []byte, line 
 	rows := lines + 1 // at most
 	job.rowPort = slices.Grow(w.rowPort[:0], rows)
 	job.times = slices.Grow(w.times[:0], rows)
-	job.vals = slices.Grow(w.vals[:0], rows*k)
-	defer func() { w.rowPort, w.times, w.vals = job.rowPort, job.times, job.vals }()
+	job.codes = slices.Grow(w.codes[:0], rows*k)
+	defer func() { w.rowPort, w.times, w.codes = job.rowPort, job.times, job.codes }()
 	cp := &w.cp
 	cp.file, cp.lay, cp.strict, cp.lastTime = res.stats.File, res.lay, opt.Strict, cp.lastTime[:0]
 	cp.parse(job)
@@ -496,7 +539,7 @@ type wholeScratch struct {
 	cp      csvParser
 	rowPort []int32
 	times   []int64
-	vals    []float64
+	codes   []uint32
 }
 
 var wholePool = sync.Pool{New: func() any { return new(wholeScratch) }}
@@ -512,7 +555,11 @@ func applyCSV(fb *fileBuilder, lay *csvLayout, job *csvJob) {
 			job.hint.apply(p, g, lay.qs)
 		}
 		a, b := int(start)*k, int(end)*k
-		p.addBlock(job.gTimes[start:end], lay.qs, job.gVals[a:b], job.gCodes[a:b], job.gWide[g], lay.qmask)
+		var vals []float64
+		if job.gWide[g] != 0 {
+			vals = job.gVals[a:b]
+		}
+		p.addBlock(job.gTimes[start:end], lay.qs, vals, job.gCodes[a:b], job.gWide[g], lay.qmask)
 		start = end
 	}
 }

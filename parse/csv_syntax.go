@@ -286,6 +286,7 @@ type csvParser struct {
 	lastTime   []byte
 	lastTimeMs int64
 	portIdx    map[string]int32 // port name → index into the current job's names
+	hints      []int8           // per column: the exponent packValue tries first (see pack)
 }
 
 func (cp *csvParser) parse(job *csvJob) {
@@ -316,9 +317,9 @@ func (cp *csvParser) parse(job *csvJob) {
 			job.reject(&ParseError{File: cp.file, Line: lineNo, Err: fmt.Errorf("%w: last line cut short", ErrTruncated)})
 			return
 		}
-		base := len(job.vals)
+		base, wbase := len(job.codes), len(job.wideAt)
 		if pe := cp.row(job, ln, lineNo); pe != nil {
-			job.vals = job.vals[:base]
+			job.codes, job.wideAt, job.wideVals = job.codes[:base], job.wideAt[:wbase], job.wideVals[:wbase]
 			job.reject(pe)
 			if cp.strict {
 				return // the rows before it are kept and counted; none after it is read
@@ -409,7 +410,7 @@ func (cp *csvParser) splitRow(job *csvJob, ln []byte, lineNo int) *ParseError {
 		if pe != nil {
 			return pe
 		}
-		job.vals = append(job.vals, v)
+		job.codes, job.wideAt, job.wideVals = cp.pack(job.codes, job.wideAt, job.wideVals, v, fi)
 	}
 	if lay.bins != nil {
 		if pe := cp.binCompanions(job, fields, lineNo); pe != nil {
@@ -441,7 +442,8 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 	lay := cp.lay
 	delim := lay.delim
 	n := len(ln)
-	vals := job.vals // job.vals keeps its length until the row is taken
+	// The job's values keep their length until the row is taken.
+	codes, wideAt, wideVals := job.codes, job.wideAt, job.wideVals
 	last := len(lay.plan) - 1
 	var t int64
 	var pf []byte
@@ -451,16 +453,26 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 		var e int // end of the field: a delimiter, or n
 		switch fc.kind {
 		case colQuantity:
-			v, end, ok := scanFloat(ln, i, lay.mark)
+			d, end, ok := scanDecimal(ln, i, lay.mark)
 			e = end
+			var v float64
 			if ok && (e == n || ln[e] == delim) {
-				if fc.conv != convNone {
+				v = d.value()
+				if fc.conv == convNone {
+					if !(v >= fc.lo && v <= fc.hi) && checkRange(fc.q, v) != nil {
+						return false
+					}
+					if code, ok := d.code(); ok { // the code straight from the digits
+						codes = append(codes, code)
+						break
+					}
+				} else {
 					if v, ok = lay.cols[c].convert(v); !ok {
 						return false
 					}
-				}
-				if !(v >= fc.lo && v <= fc.hi) && checkRange(fc.q, v) != nil {
-					return false
+					if !(v >= fc.lo && v <= fc.hi) && checkRange(fc.q, v) != nil {
+						return false
+					}
 				}
 			} else {
 				f, fe, ok := cp.cut(ln, i)
@@ -473,7 +485,7 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 					return false
 				}
 			}
-			vals = append(vals, v)
+			codes, wideAt, wideVals = cp.pack(codes, wideAt, wideVals, v, c)
 		case colTime:
 			if lt := cp.lastTime; len(lt) > 0 && n-i >= len(lt) && bytesString(ln[i:i+len(lt)]) == bytesString(lt) &&
 				(i+len(lt) == n || ln[i+len(lt)] == delim) && cp.plain(lt) {
@@ -528,10 +540,22 @@ func (cp *csvParser) fastRow(job *csvJob, ln []byte) bool {
 		job.names = append(job.names, name)
 		cp.portIdx[name] = pi
 	}
-	job.vals = vals
+	job.codes, job.wideAt, job.wideVals = codes, wideAt, wideVals
 	job.rowPort = append(job.rowPort, pi)
 	job.times = append(job.times, t)
 	return true
+}
+
+// pack appends value v of column c to a job's codes (see csvJob.codes): its code (packValue),
+// or wideMark with v kept in wideVals.
+func (cp *csvParser) pack(codes []uint32, wideAt []int32, wideVals []float64, v float64, c int) ([]uint32, []int32, []float64) {
+	if c >= len(cp.hints) { // a new parser, or one reused for another layout
+		cp.hints = make([]int8, len(cp.lay.cols))
+	}
+	if code, ok := packValue(v, &cp.hints[c]); ok {
+		return append(codes, code), wideAt, wideVals
+	}
+	return append(codes, wideMark), append(wideAt, int32(len(codes))), append(wideVals, v)
 }
 
 // cut returns the field at ln[i:] as splitFields reads it, its text f, and the index e of the

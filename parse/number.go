@@ -53,9 +53,68 @@ func scanDigits(b []byte, i int, mant uint64) (int, uint64) {
 // false when b does not start with a number or the number is outside the fast path (more than
 // 19 digits, leading zeros included, or a larger exponent); slowFloat decides those.
 func scanFloat(b []byte, i int, mark byte) (v float64, n int, ok bool) {
-	neg := false
+	d, n, ok := scanDecimal(b, i, mark)
+	if !ok {
+		return 0, n, false
+	}
+	return d.value(), n, true
+}
+
+// decimal is a number as written: (-1)^neg · mant · 10^exp.
+type decimal struct {
+	mant uint64
+	exp  int
+	neg  bool
+}
+
+// value is the float64 of d, which scanDecimal accepted: one correctly rounded operation.
+func (d decimal) value() float64 {
+	if d.mant == 0 {
+		if d.neg {
+			return math.Copysign(0, -1)
+		}
+		return 0
+	}
+	f := float64(d.mant)
+	if d.exp < 0 {
+		f /= exactPow10[-d.exp]
+	} else {
+		f *= exactPow10[d.exp]
+	}
+	if d.neg {
+		f = -f
+	}
+	return f
+}
+
+// code returns the value code of d (see packValue) when the digits give it at once: d fits a
+// code after dropping the mantissa's trailing zeros. The code is m·10^-k with the fewest
+// decimals, which decodes, like d.value(), to the correctly rounded value of the same decimal:
+// the same float64. ok is false for -0 and for numbers outside the code's range; packValue
+// decides those from the value.
+func (d decimal) code() (uint32, bool) {
+	m, k := d.mant, -d.exp
+	if m == 0 {
+		return codeOf(0, 0), !d.neg
+	}
+	for m%10 == 0 && k > codeMinK {
+		m /= 10
+		k--
+	}
+	if m > codeMaxMant || k < codeMinK || k > codeMaxK {
+		return 0, false
+	}
+	if d.neg {
+		return codeOf(-int32(m), k), true
+	}
+	return codeOf(int32(m), k), true
+}
+
+// scanDecimal is scanFloat's reader: it returns the number's digits and exponent, which
+// scanFloat's fast path accepts when ok.
+func scanDecimal(b []byte, i int, mark byte) (d decimal, n int, ok bool) {
 	if i < len(b) && (b[i] == '+' || b[i] == '-') {
-		neg = b[i] == '-'
+		d.neg = b[i] == '-'
 		i++
 	}
 	// Integer digits, then the fraction's; every digit goes into the mantissa, leading zeros
@@ -72,7 +131,7 @@ func scanFloat(b []byte, i int, mark byte) (v float64, n int, ok bool) {
 		nd -= dexp
 	}
 	if nd == 0 || nd > 19 {
-		return 0, i, false
+		return d, i, false
 	}
 	if i < len(b) && b[i]|0x20 == 'e' {
 		i++
@@ -92,32 +151,18 @@ func scanFloat(b []byte, i int, mark byte) (v float64, n int, ok bool) {
 			}
 		}
 		if i == es {
-			return 0, i, false
+			return d, i, false
 		}
 		if eneg {
 			e = -e
 		}
 		dexp += e
 	}
-	if mant == 0 {
-		if neg {
-			return math.Copysign(0, -1), i, true
-		}
-		return 0, i, true
+	d.mant, d.exp = mant, dexp
+	if mant != 0 && (mant >= 1<<53 || dexp < -22 || dexp > 22) {
+		return d, i, false
 	}
-	if mant >= 1<<53 || dexp < -22 || dexp > 22 {
-		return 0, i, false
-	}
-	f := float64(mant)
-	if dexp < 0 {
-		f /= exactPow10[-dexp]
-	} else {
-		f *= exactPow10[dexp]
-	}
-	if neg {
-		f = -f
-	}
-	return f, i, true
+	return d, i, true
 }
 
 // slowFloat is parseFloat's exact fallback; b has passed no validation yet.

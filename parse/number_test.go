@@ -124,7 +124,8 @@ func TestBERSpellingsEqual(t *testing.T) {
 
 // FuzzParseFloat checks parseFloat against strconv.ParseFloat both ways on its alphabet (every
 // number strconv reads finite is read alike, nothing else is read), and scanFloat, which reads a
-// number at the start of a field, on every prefix it takes, with '.' and with a decimal comma.
+// number at the start of a field, on every prefix it takes, with '.' and with a decimal comma,
+// as well as the value code scanDecimal's digits give (see decimal.code).
 func FuzzParseFloat(f *testing.F) {
 	for _, s := range []string{"1e-3", "0.001", "-9.5", "1234567890123456789012", "1e23", "+.5e-7", "0,00125;x", "00000000000000000001.5", "1e5e"} {
 		f.Add(s)
@@ -153,6 +154,11 @@ func FuzzParseFloat(f *testing.F) {
 			want, err := strconv.ParseFloat(num, 64)
 			if err != nil || math.Float64bits(v) != math.Float64bits(want) {
 				t.Fatalf("scanFloat(%q, %q) = %v after %d bytes; strconv.ParseFloat(%q) gives %v, %v", s, mark, v, n, num, want, err)
+			}
+			// The code taken from the digits, when they give one, is the same float64.
+			d, _, _ := scanDecimal([]byte(s), 0, mark)
+			if c, ok := d.code(); ok && math.Float64bits(unpackValue(c)) != math.Float64bits(want) {
+				t.Fatalf("scanDecimal(%q, %q).code() decodes to %v; strconv.ParseFloat(%q) gives %v", s, mark, unpackValue(c), num, want)
 			}
 		}
 	})

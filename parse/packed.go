@@ -27,6 +27,9 @@ const (
 	codeMaxK     = 22        // 10^22 is the largest power of ten exact in float64
 	codeMinK     = -codeKBias
 	nanCode      = uint32(codeKSpecial) // the code of NaN (a missing value)
+	// wideMark stands for a value without a code in a CSV block's codes (csvJob.codes); it
+	// is never stored.
+	wideMark = uint32(1<<5 | codeKSpecial)
 )
 
 // unpackValue decodes a value code.
@@ -246,6 +249,13 @@ const (
 	tierWide
 )
 
+// narrowMaxShift bounds the decimals a narrow column's exponent may have above a value's own
+// (so that m·10^shift cannot overflow: |m| < 2^26, 10^10 < 2^34).
+const narrowMaxShift = 10
+
+// exactPow10Int is 10^i for i ≤ narrowMaxShift.
+var exactPow10Int = [narrowMaxShift + 1]int64{1, 10, 100, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10}
+
 // narrowNaN is the narrow form of a missing value.
 const narrowNaN = math.MinInt16
 
@@ -300,13 +310,10 @@ func (c *colBuf) narrowOf(cd uint32) (int16, bool) {
 		c.base, c.nk, c.set0 = m, int8(k), true
 		return 0, true
 	}
-	if k > int(c.nk) && !c.rescale(k) || int(c.nk)-k > 10 {
+	if k > int(c.nk) && !c.rescale(k) || int(c.nk)-k > narrowMaxShift {
 		return 0, false
 	}
-	for k < int(c.nk) {
-		m *= 10
-		k++
-	}
+	m *= exactPow10Int[int(c.nk)-k]
 	d := m - c.base
 	if d < -math.MaxInt16 || d > math.MaxInt16 {
 		return 0, false
@@ -401,8 +408,17 @@ func (c *colBuf) pushCodes(cs []uint32) {
 		i := 0
 		for ; i < n; i++ {
 			cd := cs[i]
-			d := int64(int32(cd)>>5) - base
-			if cd&codeKMask != kf || d < -math.MaxInt16 || d > math.MaxInt16 {
+			m := int64(int32(cd) >> 5)
+			if kc := cd & codeKMask; kc != kf {
+				// Fewer decimals than the column's (a code has the fewest): m at the
+				// column's exponent, as narrowOf does.
+				if kc > kf || kf-kc > narrowMaxShift {
+					break
+				}
+				m *= exactPow10Int[kf-kc]
+			}
+			d := m - base
+			if d < -math.MaxInt16 || d > math.MaxInt16 {
 				break
 			}
 			seg = append(seg, int16(d))

@@ -6,12 +6,14 @@ import (
 	"math/rand/v2"
 	"slices"
 	"strconv"
+	"strings"
 	"testing"
 )
 
 // Every decimal of at most 7 significant digits that telemetry writes (BER, dB, dBm, ps/nm, …)
 // has a code, and the code decodes to the same float64 as strconv.ParseFloat (the correctly
-// rounded reading, IEEE 754 round to nearest) of its text, bit for bit.
+// rounded reading, IEEE 754 round to nearest) of its text, bit for bit: the code packValue
+// finds from the value, and the one the CSV reader takes from the digits as written.
 func TestPackedValuesMatchStrconv(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 2))
 	for range 200000 {
@@ -39,6 +41,26 @@ func TestPackedValuesMatchStrconv(t *testing.T) {
 		}
 		if got := unpackValue(c); math.Float64bits(got) != math.Float64bits(v) {
 			t.Fatalf("%s: decoded %v, want %v", text, got, v)
+		}
+		// The CSV reader takes the code from the digits as written (trailing zeros too).
+		written := text
+		if f := strconv.FormatFloat(v, 'f', -1, 64); rng.IntN(2) == 0 && len(f) < 18 {
+			// as plain decimals, within the reader's 19 digits (leading zeros count)
+			if !strings.Contains(f, ".") {
+				f += "."
+			}
+			written = f + strings.Repeat("0", rng.IntN(3))
+		}
+		d, n, ok := scanDecimal([]byte(written), 0, '.')
+		if !ok || n != len(written) {
+			t.Fatalf("%s: scanDecimal refused it", written)
+		}
+		c, ok = d.code()
+		if !ok {
+			t.Fatalf("%s (%v): no code from its digits", written, v)
+		}
+		if got := unpackValue(c); math.Float64bits(got) != math.Float64bits(v) {
+			t.Fatalf("%s: the code from its digits decodes to %v, want %v", written, got, v)
 		}
 	}
 }
