@@ -262,6 +262,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 	}
 
 	runBlocks(res, r, opt, blockFormat{
+		block:     csvBlockSize(res.sizeHint),
 		cut:       cutLines,
 		maxRecord: maxLineBytes,
 		tooLong:   lineTooLong,
@@ -281,6 +282,22 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		apply: func(fb *fileBuilder, job *csvJob) { applyCSV(fb, lay, job) },
 	}, carry, line, eof, readErr)
 }
+
+// csvBlockSize is the block size for a CSV input of size bytes (0: unknown): chunkSize, or
+// larger for a large input, so that it is cut into about largeBlocks blocks, up to
+// maxBlockSize. The merge takes each block's rows port by port, and each port of a block costs
+// a look-up and a visit to each of its columns; a large fleet exported one sample time after
+// another (7,000 ports, 10 million rows) has only one or two rows of each port in a block of
+// chunkSize, and these visits then take most of the merge's time. The blocks in flight grow
+// with the block size, by a small share of the input's own size.
+func csvBlockSize(size int64) int {
+	return int(min(max(size/largeBlocks, chunkSize), maxBlockSize))
+}
+
+const (
+	largeBlocks  = 256
+	maxBlockSize = 4 * chunkSize
+)
 
 // blockFormat is what runBlocks needs to know of one input format.
 type blockFormat struct {
