@@ -109,7 +109,7 @@ func (pr *partReader) take(res *fileResult, job *csvJob, apply func(*fileBuilder
 	pr.pending += len(job.times)
 	pr.open = fb.ports[job.names[len(job.names)-1]]
 	closed := len(fb.order) - 1 // the open port is the last seen
-	if closed < partPorts && pr.pending-pr.open.times.n < partRows {
+	if closed == 0 || closed < partPorts && pr.pending-pr.open.times.n < partRows {
 		return true
 	}
 	ports := slices.Clone(fb.order[:closed])
