@@ -187,13 +187,17 @@ func benchOpenConfig(docs, ports int) []byte {
 var benchOCData = sync.OnceValue(func() []byte { return benchOpenConfig(50, 700) })
 
 // BenchmarkParseOpenConfig is one worker's parse of a block of OpenConfig documents (no
-// reading, hashing or merging): the scanner and the OpenConfig reading alone. cpu-ns/op is the
-// process's CPU time per parse, steadier than the wall time on a shared machine.
-func BenchmarkParseOpenConfig(b *testing.B) {
+// reading, hashing or merging): the one-pass reader and the OpenConfig records alone.
+// cpu-ns/op is the process's CPU time per parse, steadier than the wall time on a shared
+// machine. BenchmarkParseOpenConfigTree is the same with the tree reader.
+func BenchmarkParseOpenConfig(b *testing.B)     { benchParseOpenConfig(b, true) }
+func BenchmarkParseOpenConfigTree(b *testing.B) { benchParseOpenConfig(b, false) }
+
+func benchParseOpenConfig(b *testing.B, onePass bool) {
 	data := benchOCData()
 	b.SetBytes(int64(len(data)))
 	b.ReportAllocs()
-	jp := &jsonParser{file: "bench.json", stat: "instant", mode: jsonModeLines}
+	jp := &jsonParser{file: "bench.json", stat: "instant", mode: jsonModeLines, onePass: onePass}
 	job := new(csvJob)
 	cpu0 := cpuTime()
 	for b.Loop() {

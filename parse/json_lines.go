@@ -46,7 +46,7 @@ func readJSON(res *fileResult, r io.Reader, opt Options) {
 	start := skipSpace(buf, 0)
 	f := blockFormat{
 		parser: func() func(*csvJob) {
-			p := &jsonParser{file: res.stats.File, stat: stat, strict: opt.Strict, mode: jr.mode, times: opt.times}
+			p := &jsonParser{file: res.stats.File, stat: stat, strict: opt.Strict, mode: jr.mode, times: opt.times, onePass: !opt.treeOnly}
 			return p.parse
 		},
 		reserve: func(job *csvJob, rows int) {
@@ -263,8 +263,13 @@ type jsonParser struct {
 	ocLC        map[string][]byte
 	ocList      []listEntry
 	ocAssign    []listEntry
+	oc          ocDoc
+	scan        ocScan
 	job         *csvJob
 	stopped     bool
+	// onePass: OpenConfig documents are first tried with the one-pass reader (ocOnePass);
+	// canonical: the last document was a canonical record (then the next is not tried).
+	onePass, canonical bool
 }
 
 // keySlot remembers the member name met at one position of the previous record and its
@@ -336,6 +341,12 @@ func (jp *jsonParser) parseLines(job *csvJob) {
 		if len(ln) == 0 || bytes.Equal(ln, []byte{0xef, 0xbb, 0xbf}) {
 			continue
 		}
+		if jp.onePass && !jp.canonical {
+			if end, ok := jp.ocOnePass(ln, 0); ok && end == len(ln) {
+				jp.ocApply(lineNo)
+				continue
+			}
+		}
 		end, err := jp.doc.parseValue(ln, 0)
 		if err == nil {
 			// As json.Decoder.More: a closing bracket after the value ends the line quietly.
@@ -392,6 +403,13 @@ func (jp *jsonParser) parseDocuments(job *csvJob) {
 		}
 		first = false
 		lineNo := lc.at(i)
+		if jp.onePass && !jp.canonical {
+			if end, ok := jp.ocOnePass(data, i); ok {
+				jp.ocApply(lineNo)
+				i = end
+				continue
+			}
+		}
 		end, err := jp.doc.parseValue(data, i)
 		if err != nil {
 			if !job.broken {
@@ -488,11 +506,13 @@ func (jp *jsonParser) document(lineNo int) {
 		return
 	}
 	if d.isOpenConfig() {
-		jp.job.sawOC = true
-		jp.openConfig(lineNo)
+		jp.canonical = false
+		jp.ocFromTree()
+		jp.ocApply(lineNo)
 		return
 	}
-	jp.canonical(lineNo)
+	jp.canonical = true
+	jp.canonicalRecord(lineNo)
 }
 
 // isOpenConfig reports whether the object d holds has a terminal-device or components member
@@ -510,11 +530,11 @@ func (d *jdoc) isOpenConfig() bool {
 	return false
 }
 
-// canonical reads a flat record with CSV field names. The members are taken in document order;
+// canonicalRecord reads a flat record with CSV field names. The members are taken in document order;
 // a record with a duplicate or a bad field is read again in the order of its sorted member
 // names (as decoded into a map, the last of equal names winning), which decides the one
 // reason it is rejected for.
-func (jp *jsonParser) canonical(lineNo int) {
+func (jp *jsonParser) canonicalRecord(lineNo int) {
 	jp.job.rowsRead++
 	d := &jp.doc
 	var rec record
@@ -703,6 +723,11 @@ func (d *jdoc) profile(v int) ([]byte, error) {
 // missing.
 func (d *jdoc) quantity(v int, c column) (float64, error) {
 	b, missing := d.scalar(v)
+	return quantityOf(b, missing, c)
+}
+
+// quantityOf is quantity of a value's text b (missing: a missing-value spelling).
+func quantityOf(b []byte, missing bool, c column) (float64, error) {
 	if missing {
 		return math.NaN(), nil
 	}

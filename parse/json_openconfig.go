@@ -123,6 +123,24 @@ var (
 	ocComponentSet = newLeafSet(ocFECLeaves[4:])
 )
 
+// index is the position in the set of the leaf named name, -1 when none is.
+func (s *ocLeafSet) index(name []byte) int {
+	if len(name) >= len(s.byLen) {
+		return -1
+	}
+	for m := s.byLen[len(name)]; m != 0; m &= m - 1 {
+		if i := bits.TrailingZeros16(m); string(name) == s.leaves[i].name {
+			return i
+		}
+	}
+	return -1
+}
+
+// baseName is a member name without its module prefix (what follows the last colon).
+func baseName(k []byte) []byte {
+	return k[lastColon(k)+1:]
+}
+
 // leafMembers sets out[i] to d.member(obj, set.leaves[i].name) for every leaf, in one pass over
 // the object's members.
 func (d *jdoc) leafMembers(obj int, set *ocLeafSet, out []int) {
@@ -131,25 +149,16 @@ func (d *jdoc) leafMembers(obj int, set *ocLeafSet, out []int) {
 		out[i], prefixed[i] = -1, -1
 	}
 	for c := obj + 1; c < int(d.nodes[obj].end); c = int(d.nodes[c].end) {
-		n := &d.nodes[c]
-		k := d.key(n)
-		base := k
-		if bytes.IndexByte(k, ':') >= 0 {
-			base = k[lastColon(k)+1:]
-		}
-		if len(base) >= len(set.byLen) {
+		k := d.key(&d.nodes[c])
+		base := baseName(k)
+		i := set.index(base)
+		if i < 0 {
 			continue
 		}
-		for m := set.byLen[len(base)]; m != 0; m &= m - 1 {
-			i := bits.TrailingZeros16(m)
-			if string(base) != set.leaves[i].name {
-				continue
-			}
-			if len(base) == len(k) {
-				out[i] = c // the last of equal names counts
-			} else if prefixed[i] < 0 {
-				prefixed[i] = c
-			}
+		if len(base) == len(k) {
+			out[i] = c // the last of equal names counts
+		} else if prefixed[i] < 0 {
+			prefixed[i] = c
 		}
 	}
 	for i := range out {
@@ -225,7 +234,7 @@ type ocRecord struct {
 	bad  *ParseError
 }
 
-// ocPort returns the record of port name in the current document, added (in order of first
+// ocRecord returns the record of port name in the current document, added (in order of first
 // mention) when it has none yet.
 func (jp *jsonParser) ocRecord(name []byte) int {
 	p := jp.ocPorts[bytesString(name)]
@@ -244,51 +253,73 @@ func (jp *jsonParser) ocRecord(name []byte) int {
 	return int(p.rec)
 }
 
-// ocLeaves reads the leaves of object state (-1: none) into record r; the path of a bad leaf
-// is pre + key + post + "/" + the leaf's name. Without overwrite, a quantity the record has
-// already is kept.
-func (jp *jsonParser) ocLeaves(r int, state int, set *ocLeafSet, lineNo int, pre string, key []byte, post string, overwrite bool) {
-	if state < 0 {
-		return
-	}
-	d := &jp.doc
-	var found [16]int
-	d.leafMembers(state, set, found[:len(set.leaves)])
-	for i, l := range set.leaves {
-		val := d.statValue(found[i], jp.stat)
-		if val < 0 {
-			continue
-		}
-		rec := &jp.ocRecs[r]
-		if !overwrite && rec.rec.mask&(1<<l.col.q) != 0 {
-			continue
-		}
-		v, err := d.quantity(val, l.col)
-		if err != nil {
-			if rec.bad == nil {
-				rec.bad = &ParseError{File: jp.file, Line: lineNo, Field: pre + string(key) + post + "/" + l.name, Err: err}
-			}
-			continue
-		}
-		rec.rec.set(l.col.q, v)
-	}
+// ocVal is one leaf of a document as the reader takes it: the text of the chosen statistic
+// (see jdoc.scalar), or nothing.
+type ocVal struct {
+	b       []byte
+	set     bool // the leaf has a value: present, not null
+	missing bool // the value is a missing-value spelling
 }
 
-// openConfig reads the OpenConfig-shaped document in jp.doc: one record per optical channel
-// (port), in order of first mention.
-func (jp *jsonParser) openConfig(lineNo int) {
+// The number of leaves of ocStateSet and ocFECSet.
+const (
+	nOCState = 14
+	nOCFEC   = 5
+)
+
+// ocComponent is what a document says of one component that has an optical channel.
+type ocComponent struct {
+	key   []byte
+	state [nOCState]ocVal // ocStateSet's leaves in optical-channel/state
+	own   [1]ocVal        // fec-uncorrectable-blocks of the component itself
+	lc    []byte          // state/logical-channel-assignment, when lcSet
+	lcSet bool
+}
+
+// ocChannel is what a document says of one logical channel that has an OTN state.
+type ocChannel struct {
+	key     []byte
+	port    []byte // the optical channel its assignments name (empty: none)
+	fec     [nOCFEC]ocVal
+	hasData bool // some FEC leaf is present, whichever statistics it has
+}
+
+// ocDoc is what the reader takes from one OpenConfig document, in document order. Both the
+// tree reader (ocFromTree) and the one-pass reader (ocScan) fill it; ocApply makes the records.
+type ocDoc struct {
+	comps    []ocComponent
+	chans    []ocChannel
+	tb       []byte // the time's text
+	tMissing bool   // no time, or a missing-value spelling
+	tname    string // the member the time was read from
+}
+
+// leafVals fills out with the leaves of set in object obj (-1: none), each as its chosen
+// statistic; some says whether any leaf is present (not null), whatever its statistics.
+func (d *jdoc) leafVals(obj int, set *ocLeafSet, stat string, out []ocVal) (some bool) {
+	clear(out)
+	if obj < 0 {
+		return false
+	}
+	var found [16]int
+	d.leafMembers(obj, set, found[:len(set.leaves)])
+	for i := range out {
+		if found[i] >= 0 {
+			some = true
+		}
+		if v := d.statValue(found[i], stat); v >= 0 {
+			b, missing := d.scalar(v)
+			out[i] = ocVal{b: b, set: true, missing: missing}
+		}
+	}
+	return some
+}
+
+// ocFromTree takes the OpenConfig document in jp.doc into jp.oc.
+func (jp *jsonParser) ocFromTree() {
 	d := &jp.doc
-	file := jp.file
-	if jp.ocPorts == nil || len(jp.ocPorts) > maxOCPorts || jp.ocNameBytes > maxOCNameBytes {
-		jp.ocPorts, jp.ocNameBytes = map[string]*ocPort{}, 0
-	}
-	jp.ocDoc++
-	if jp.ocDoc == 0 { // wrapped: no port may think it has a record in this document
-		clear(jp.ocPorts)
-		jp.ocDoc, jp.ocNameBytes = 1, 0
-	}
-	jp.ocRecs = jp.ocRecs[:0]
-	clear(jp.ocLC)
+	oc := &jp.oc
+	oc.comps, oc.chans = oc.comps[:0], oc.chans[:0]
 	if comps := d.memberObj(0, "components"); comps >= 0 {
 		jp.ocList = d.listEntries(d.member(comps, "component"), "name", jp.ocList[:0])
 		for _, e := range jp.ocList {
@@ -297,16 +328,13 @@ func (jp *jsonParser) openConfig(lineNo int) {
 				continue
 			}
 			state := d.memberObj(och, "state")
-			r := jp.ocRecord(e.key)
-			jp.ocLeaves(r, state, ocStateSet, lineNo, "components/component[", e.key, "]/optical-channel/state", true)
-			jp.ocLeaves(r, e.obj, ocComponentSet, lineNo, "components/component[", e.key, "]", false)
+			oc.comps = append(oc.comps, ocComponent{key: e.key})
+			c := &oc.comps[len(oc.comps)-1]
+			d.leafVals(state, ocStateSet, jp.stat, c.state[:])
+			d.leafVals(e.obj, ocComponentSet, jp.stat, c.own[:])
 			if a := d.member(state, "logical-channel-assignment"); a >= 0 {
-				if b, missing := d.scalar(a); !missing {
-					if jp.ocLC == nil {
-						jp.ocLC = map[string][]byte{}
-					}
-					jp.ocLC[string(b)] = e.key
-				}
+				b, missing := d.scalar(a)
+				c.lc, c.lcSet = b, !missing
 			}
 		}
 	}
@@ -335,32 +363,101 @@ func (jp *jsonParser) openConfig(lineNo int) {
 					if n := d.member(src, "assignment-type"); n >= 0 && d.nodes[n].kind == jString {
 						at = d.text(&d.nodes[n])
 					}
-					if och := d.member(src, "optical-channel"); och >= 0 && (len(at) == 0 || bytes.HasSuffix(at, []byte("OPTICAL_CHANNEL"))) {
+					if och := d.member(src, "optical-channel"); och >= 0 {
 						if b, missing := d.scalar(och); !missing {
-							port = b
+							port = assignedPort(port, at, b)
 						}
 					}
 				}
 			}
-			if len(port) == 0 {
-				port = jp.ocLC[bytesString(e.key)]
-			}
-			if len(port) == 0 {
-				hasData := false
-				for _, l := range ocFECLeaves {
-					if d.member(state, l.name) >= 0 {
-						hasData = true
-					}
-				}
-				if !hasData {
-					continue
-				}
-				name := "logical-channel-" + string(e.key)
-				port = []byte(name)
-				jp.noteOnce(fmt.Sprintf("logical channel %s has OTN data but no optical-channel assignment; read as port %q", e.key, name))
-			}
-			jp.ocLeaves(jp.ocRecord(port), state, ocFECSet, lineNo, "terminal-device/logical-channels/channel[", e.key, "]/otn/state", false)
+			oc.chans = append(oc.chans, ocChannel{key: e.key, port: port})
+			ch := &oc.chans[len(oc.chans)-1]
+			ch.hasData = d.leafVals(state, ocFECSet, jp.stat, ch.fec[:])
 		}
+	}
+	tv, tname := d.member(0, "timestamp"), "timestamp"
+	if tv < 0 {
+		tv, tname = d.member(0, "time"), "time"
+	}
+	oc.tb, oc.tMissing = d.scalar(tv)
+	oc.tname = tname
+}
+
+// assignedPort is the port an assignment of type at (empty: not given) naming optical channel
+// och gives, when no earlier assignment gave one (port empty).
+func assignedPort(port, at, och []byte) []byte {
+	if len(port) == 0 && (len(at) == 0 || bytes.HasSuffix(at, []byte("OPTICAL_CHANNEL"))) {
+		return och
+	}
+	return port
+}
+
+// ocLeaves reads the leaves vals of set into record r; the path of a bad leaf is pre + key +
+// post + "/" + the leaf's name. Without overwrite, a quantity the record has already is kept.
+func (jp *jsonParser) ocLeaves(r int, vals []ocVal, set *ocLeafSet, lineNo int, pre string, key []byte, post string, overwrite bool) {
+	for i, l := range set.leaves {
+		val := &vals[i]
+		if !val.set {
+			continue
+		}
+		rec := &jp.ocRecs[r]
+		if !overwrite && rec.rec.mask&(1<<l.col.q) != 0 {
+			continue
+		}
+		v, err := quantityOf(val.b, val.missing, l.col)
+		if err != nil {
+			if rec.bad == nil {
+				rec.bad = &ParseError{File: jp.file, Line: lineNo, Field: pre + string(key) + post + "/" + l.name, Err: err}
+			}
+			continue
+		}
+		rec.rec.set(l.col.q, v)
+	}
+}
+
+// ocApply makes the records of the OpenConfig document in jp.oc, which begins on line lineNo:
+// one record per optical channel (port), in order of first mention.
+func (jp *jsonParser) ocApply(lineNo int) {
+	oc := &jp.oc
+	file := jp.file
+	jp.job.sawOC = true
+	if jp.ocPorts == nil || len(jp.ocPorts) > maxOCPorts || jp.ocNameBytes > maxOCNameBytes {
+		jp.ocPorts, jp.ocNameBytes = map[string]*ocPort{}, 0
+	}
+	jp.ocDoc++
+	if jp.ocDoc == 0 { // wrapped: no port may think it has a record in this document
+		clear(jp.ocPorts)
+		jp.ocDoc, jp.ocNameBytes = 1, 0
+	}
+	jp.ocRecs = jp.ocRecs[:0]
+	clear(jp.ocLC)
+	for i := range oc.comps {
+		c := &oc.comps[i]
+		r := jp.ocRecord(c.key)
+		jp.ocLeaves(r, c.state[:], ocStateSet, lineNo, "components/component[", c.key, "]/optical-channel/state", true)
+		jp.ocLeaves(r, c.own[:], ocComponentSet, lineNo, "components/component[", c.key, "]", false)
+		if c.lcSet {
+			if jp.ocLC == nil {
+				jp.ocLC = map[string][]byte{}
+			}
+			jp.ocLC[string(c.lc)] = c.key
+		}
+	}
+	for i := range oc.chans {
+		ch := &oc.chans[i]
+		port := ch.port
+		if len(port) == 0 {
+			port = jp.ocLC[bytesString(ch.key)]
+		}
+		if len(port) == 0 {
+			if !ch.hasData {
+				continue
+			}
+			name := "logical-channel-" + string(ch.key)
+			port = []byte(name)
+			jp.noteOnce(fmt.Sprintf("logical channel %s has OTN data but no optical-channel assignment; read as port %q", ch.key, name))
+		}
+		jp.ocLeaves(jp.ocRecord(port), ch.fec[:], ocFECSet, lineNo, "terminal-device/logical-channels/channel[", ch.key, "]/otn/state", false)
 	}
 	job := jp.job
 	if len(jp.ocRecs) == 0 {
@@ -370,14 +467,10 @@ func (jp *jsonParser) openConfig(lineNo int) {
 	}
 	var t int64
 	var timeErr *ParseError
-	tv, tname := d.member(0, "timestamp"), "timestamp"
-	if tv < 0 {
-		tv, tname = d.member(0, "time"), "time"
-	}
-	if b, missing := d.scalar(tv); missing {
+	if oc.tMissing {
 		timeErr = &ParseError{File: file, Line: lineNo, Field: "timestamp", Err: ErrMissingValue}
-	} else if ms, ok := jp.times.parse(b); !ok {
-		timeErr = &ParseError{File: file, Line: lineNo, Field: tname, Err: jp.times.badTime(b)}
+	} else if ms, ok := jp.times.parse(oc.tb); !ok {
+		timeErr = &ParseError{File: file, Line: lineNo, Field: oc.tname, Err: jp.times.badTime(oc.tb)}
 	} else {
 		t = ms
 	}

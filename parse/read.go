@@ -61,6 +61,9 @@ type Options struct {
 	times  *timeReader // from TimeFormat, DayFirst and TimeZone (nil: the built-in formats in UTC)
 	budget *readBudget // rows and bytes left for the run
 	part   *partReader // set by ReadEach for an input read in parts
+	// treeOnly reads every OpenConfig document with the tree reader (tests compare it with the
+	// one-pass reader)
+	treeOnly bool
 }
 
 // DefaultMaxRows is the row limit when Options.MaxRows is 0: ten million rows, about 2 GB of
