@@ -1,9 +1,6 @@
 package parse
 
-import (
-	"bytes"
-	"encoding/binary"
-)
+import "bytes"
 
 // ocScan is the one-pass reader of OpenConfig documents of the regular exported shape (as
 // docs/formats.md shows it and exporters write it): it walks a document's bytes once, without
@@ -123,22 +120,8 @@ func (s *ocScan) str(i int) (b []byte, j int, ok bool) {
 }
 
 // plainRun is the offset of the first byte from i on that is not strPlain (or, with high, not
-// strSkip), len(data) when there is none. It tests eight bytes at a time (Anderson, "Bit
-// Twiddling Hacks": "Determine if a word has a byte less than n", "… has a zero byte").
+// strSkip), len(data) when there is none.
 func plainRun(data []byte, i int, high bool) int {
-	const ones, highs = 0x0101010101010101, 0x8080808080808080
-	for i+8 <= len(data) {
-		w := binary.LittleEndian.Uint64(data[i:])
-		q, bs := w^(ones*'"'), w^(ones*'\\')
-		bad := (w-ones*0x20)&^w | (q-ones)&^q | (bs-ones)&^bs
-		if !high {
-			bad |= w
-		}
-		if bad&highs != 0 {
-			break
-		}
-		i += 8
-	}
 	t := &strPlain
 	if high {
 		t = &strSkip
