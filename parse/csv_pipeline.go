@@ -12,7 +12,8 @@ import (
 // chunkSize is the size of the blocks a CSV input is cut into (at line ends) for parallel parsing.
 const chunkSize = 1 << 20
 
-// blockSize is chunkSize, but for the tests, which cut inputs of a few lines into many blocks.
+// blockSize is the smallest block: chunkSize, but for the tests, which cut inputs of a few lines
+// into many blocks.
 var blockSize = chunkSize
 
 // recycler hands back the blocks and jobs of one input once merged, so that a long input
@@ -37,11 +38,13 @@ func newRecycler(n int, size int64, block int) *recycler {
 func (r *recycler) buf() *[]byte {
 	select {
 	case b := <-r.bufs:
-		return b
+		if cap(*b) >= r.size {
+			return b
+		}
 	default:
-		b := make([]byte, r.size)
-		return &b
 	}
+	b := make([]byte, r.size)
+	return &b
 }
 
 func (r *recycler) putBuf(b *[]byte) {
@@ -261,8 +264,15 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 		return
 	}
 
+	block, whole := csvBlockSize(res.sizeHint), 0
+	if res.part != nil && block > blockSize {
+		// Grouped by port, a block holds a few ports end to end and larger blocks save
+		// nothing but hold more in flight; the large blocks once the input is read whole.
+		block, whole = blockSize, block
+	}
 	runBlocks(res, r, opt, blockFormat{
-		block:     csvBlockSize(res.sizeHint),
+		block:     block,
+		whole:     whole,
 		cut:       cutLines,
 		maxRecord: maxLineBytes,
 		tooLong:   lineTooLong,
@@ -291,7 +301,7 @@ func readCSV(res *fileResult, r io.Reader, opt Options) {
 // chunkSize, and these visits then take most of the merge's time. The blocks in flight grow
 // with the block size, by a small share of the input's own size.
 func csvBlockSize(size int64) int {
-	return int(min(max(size/largeBlocks, chunkSize), maxBlockSize))
+	return int(min(max(size/largeBlocks, int64(blockSize)), maxBlockSize))
 }
 
 const (
@@ -301,8 +311,9 @@ const (
 
 // blockFormat is what runBlocks needs to know of one input format.
 type blockFormat struct {
-	// block is the size of a block (0: blockSize).
-	block int
+	// block is the size of a block (0: blockSize); whole, when not 0, that of the blocks cut
+	// once an input read in parts is found not grouped by port, and read whole.
+	block, whole int
 	// cut returns the length of the longest prefix of b made of whole records (0: none);
 	// final says that the input ends there (what follows is not read).
 	cut func(b []byte) (n int, final bool)
@@ -343,6 +354,9 @@ func runBlocks(res *fileResult, r io.Reader, opt Options, f blockFormat, carry [
 		defer close(order)
 		defer close(jobs)
 		for !stop.Load() {
+			if f.whole > 0 && res.part.off.Load() {
+				rec.size, f.whole = f.whole, 0
+			}
 			bp := rec.buf()
 			b := (*bp)[:0]
 			if len(carry) > cap(b) {

@@ -5,6 +5,7 @@ import (
 	"slices"
 	"strings"
 	"sync"
+	"sync/atomic"
 )
 
 // ErrNotGrouped stops a reading in parts (Options.PortParts) when a port's rows turn out not to
@@ -51,8 +52,11 @@ type partReader struct {
 	// errors), which the blocks' accounting updates while a part takes its share.
 	mu sync.Mutex
 
+	// off: not grouped, found before any part was handed over: read whole (set by the merge
+	// goroutine, read by the one that cuts the blocks).
+	off atomic.Bool
+
 	// Used by the merge goroutine only:
-	off     bool                // not grouped, found before any part was handed over: read whole
 	handed  map[string]struct{} // the ports handed over
 	open    *portBuf            // the port whose run the last block ended in
 	pending int                 // rows applied to the ports not handed over yet
@@ -89,7 +93,7 @@ func (pr *partReader) grouped(fb *fileBuilder, job *csvJob) bool {
 // complete; false stops the input (pr.err says why).
 func (pr *partReader) take(res *fileResult, job *csvJob, apply func(*fileBuilder, *csvJob)) bool {
 	fb := res.fb
-	if pr.off {
+	if pr.off.Load() {
 		apply(fb, job)
 		return true
 	}
@@ -98,7 +102,7 @@ func (pr *partReader) take(res *fileResult, job *csvJob, apply func(*fileBuilder
 			pr.err = ErrNotGrouped
 			return false
 		}
-		pr.off = true
+		pr.off.Store(true)
 		apply(fb, job)
 		return true
 	}

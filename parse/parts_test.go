@@ -5,6 +5,7 @@ import (
 	"compress/gzip"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -113,10 +114,13 @@ func TestReadInPartsMatchesWhole(t *testing.T) {
 	zw := gzip.NewWriter(&gz)
 	zw.Write([]byte(csv))
 	zw.Close()
+	// Received power in mW, converted to dBm: values computed by a conversion.
+	mixed := strings.Replace(strings.ReplaceAll(csv, ",-9.75,", ",0.125,"), "rx_power_dbm", "Rx power [mW]", 1)
 	inputs := map[string][]byte{
-		"grouped.csv":    []byte(csv),
-		"grouped.csv.gz": gz.Bytes(),
-		"grouped.jsonl":  []byte(jsonLinesOf(csv, 2)),
+		"grouped.csv":     []byte(csv),
+		"grouped.csv.gz":  gz.Bytes(),
+		"grouped.jsonl":   []byte(jsonLinesOf(csv, 2)),
+		"mixed-units.csv": []byte(mixed),
 	}
 	for name, content := range inputs {
 		path := filepath.Join(dir, name)
@@ -125,6 +129,10 @@ func TestReadInPartsMatchesWhole(t *testing.T) {
 		}
 		want, wantErr := ReadPaths([]string{path}, Options{})
 		checkAccounting(t, want)
+		// 0.125 mW is −9.03 dBm (10·log10 of the power in mW).
+		if rx := want.Series[0].Decoded().Values[RxPowerDBm][0]; strings.HasPrefix(name, "mixed") != (math.Abs(rx+9.031) < 0.001) {
+			t.Fatalf("%s: received power %v dBm", name, rx)
+		}
 		if len(want.Rejected) != len(bad) || want.Inputs[0].Duplicates == 0 {
 			t.Fatalf("%s: %d rejections (want %d), %d duplicates: the input does not test what it should", name, len(want.Rejected), len(bad), want.Inputs[0].Duplicates)
 		}
@@ -282,7 +290,8 @@ func FuzzReadInParts(f *testing.F) {
 
 // A folder of a few large inputs grouped by port (CSV, JSON Lines), small files between them and
 // a file that is not telemetry: each large input is read alone, in parts, in its place, and
-// the Datasets joined are the folder read whole, its skipped files in the same order.
+// the Datasets joined are the folder read whole, its skipped files in the same order; the
+// progress reports end at the folder's size.
 func TestReadInPartsFolder(t *testing.T) {
 	setPartSizes(t, 5000, 40)
 	partMinBytes = 200_000
@@ -308,7 +317,9 @@ func TestReadInPartsFolder(t *testing.T) {
 	for _, batch := range []int{1, 2, 0} {
 		got := &Dataset{}
 		n := 0
-		err := ReadEach([]string{dir}, Options{PortParts: true}, batch, func(ds *Dataset, err error) error {
+		var read, size int64
+		progress := func(done, total int64) { read, size = done, total }
+		err := ReadEach([]string{dir}, Options{PortParts: true, Progress: progress}, batch, func(ds *Dataset, err error) error {
 			n++
 			if ds.Continued {
 				got.Inputs = got.Inputs[:len(got.Inputs)-1]
@@ -323,6 +334,9 @@ func TestReadInPartsFolder(t *testing.T) {
 			return nil
 		})
 		slices.SortFunc(got.Series, func(a, b *Series) int { return strings.Compare(a.Port, b.Port) })
+		if read != size || size < 2*200_000 {
+			t.Errorf("batch %d: the last progress report: %d of %d bytes", batch, read, size)
+		}
 		if err != nil || n < 6 || !sameDataset(got, want) || !slices.Equal(got.Skipped, want.Skipped) {
 			t.Errorf("batch %d: ReadEach %v, %d Datasets, same as whole %v, skipped %v (want %v)", batch, err, n, sameDataset(got, want), got.Skipped, want.Skipped)
 		}
