@@ -4,7 +4,6 @@ import (
 	"bufio"
 	"bytes"
 	"encoding/json"
-	"errors"
 	"io"
 
 	"github.com/beatnote/beatnote/diagnose"
@@ -25,15 +24,12 @@ func WriteResultJSON(w io.Writer, res *diagnose.Result) error {
 	return writeResultJSON(w, res, func(jw *jsonStream) { writeList(jw, "ports", res.Ports, false) })
 }
 
-// PortEncoder encodes ports as they stand among the ports of the indented document
-// (json.MarshalIndent with the prefix of depth 2), but without their line findings: what
-// WriteResultJSONPorts takes back, with the line findings found later. Encoding and indenting
-// there lets the callers do it on all cores while the ports are judged; writing then only
-// copies. An encoder reuses its memory from port to port; it is not safe for concurrent use.
+// PortEncoder encodes ports as json.Marshal does, but without their line findings: what
+// WriteResultJSONPorts takes back, with the line findings found later. An encoder reuses its
+// memory from port to port; it is not safe for concurrent use.
 type PortEncoder struct {
 	compact bytes.Buffer
 	enc     *json.Encoder
-	out     []byte
 }
 
 // Encode gives port p's JSON, valid until the next call.
@@ -47,17 +43,13 @@ func (e *PortEncoder) Encode(p *diagnose.PortResult) ([]byte, error) {
 	if err := e.enc.Encode(&q); err != nil {
 		return nil, err
 	}
-	e.out = appendIndent(e.out[:0], bytes.TrimSuffix(e.compact.Bytes(), []byte("\n")), portPrefix, "  ")
-	return e.out, nil
+	return bytes.TrimSuffix(e.compact.Bytes(), []byte("\n")), nil
 }
-
-// portPrefix is the indentation of a port, an element of the document's "ports" (depth 2).
-const portPrefix = "    "
 
 // WriteResultJSONPorts writes what WriteResultJSON writes for res with n ports (res.Ports is not
 // read): the i-th port (i < n) is given by port as its PortEncoder bytes and its line findings.
 // Each port is held only while it is written.
-func WriteResultJSONPorts(w io.Writer, res *diagnose.Result, n int, port func(i int) (indented []byte, lf []diagnose.LineRef, err error)) error {
+func WriteResultJSONPorts(w io.Writer, res *diagnose.Result, n int, port func(i int) (compact []byte, lf []diagnose.LineRef, err error)) error {
 	return writeResultJSON(w, res, func(j *jsonStream) {
 		j.key("ports")
 		if n == 0 {
@@ -66,11 +58,18 @@ func WriteResultJSONPorts(w io.Writer, res *diagnose.Result, n int, port func(i 
 			return
 		}
 		j.bw.WriteString("[\n")
-		const closing = "\n" + portPrefix + "}"
+		var spliced, indented []byte
 		for i := 0; i < n; i++ {
-			js, lf, err := port(i)
-			if err == nil && !bytes.HasSuffix(js, []byte(closing)) {
-				err = errors.New("report: a port's JSON is not an indented object")
+			compact, lf, err := port(i)
+			if err == nil && len(lf) > 0 {
+				// line_findings is the last member of a port (PortResult's last field):
+				// json.Marshal of the port with them is the port without them, less its
+				// closing brace, then the member.
+				var js []byte
+				if js, err = json.Marshal(lf); err == nil && len(compact) > 0 && compact[len(compact)-1] == '}' {
+					spliced = append(append(append(spliced[:0], compact[:len(compact)-1]...), `,"line_findings":`...), js...)
+					compact = append(spliced, '}')
+				}
 			}
 			if err != nil {
 				j.err = err
@@ -79,22 +78,9 @@ func WriteResultJSONPorts(w io.Writer, res *diagnose.Result, n int, port func(i 
 			if i > 0 {
 				j.bw.WriteString(",\n")
 			}
-			j.bw.WriteString(portPrefix)
-			if len(lf) == 0 {
-				j.bw.Write(js)
-				continue
-			}
-			// line_findings is the last member of a port (PortResult's last field): the port
-			// with them is the port without them up to its closing brace, then the member.
-			var lfs []byte
-			if lfs, err = json.MarshalIndent(lf, portPrefix+"  ", "  "); err != nil {
-				j.err = err
-				return
-			}
-			j.bw.Write(js[:len(js)-len(closing)])
-			j.bw.WriteString(",\n" + portPrefix + `  "line_findings": `)
-			j.bw.Write(lfs)
-			j.bw.WriteString(closing)
+			j.bw.WriteString("    ")
+			indented = appendIndent(indented[:0], compact, "    ", "  ")
+			j.bw.Write(indented)
 		}
 		j.bw.WriteString("\n  ]")
 		j.end(false)
