@@ -130,7 +130,7 @@ if [ "$BIG" != 0 ]; then
 	show "triage / bare read, out/fleet-10m.csv ($(rows out/fleet-10m.csv) rows, 7000 ports)" tri10m base10m "<= 0.8"
 fi
 show "triage JSON Lines / CSV, the same $r1m rows" trijsonl tricsv "<= 2"
-show "triage OpenConfig JSON / CSV, the same rows" trioc tricsv2 "(none)"
+show "triage OpenConfig JSON / CSV, the same rows" trioc tricsv2 "<= 2"
 show "triage / bare loop, out/fleet-20k-files ($(rows out/fleet-20k-files) rows)" trifiles basefiles "<= 1.5"
 if [ "$pandas" = ran ]; then
 	show "triage / pandas read + per-port quantiles, out/fleet.csv" tripd pandas "<= 0.1"
