@@ -333,3 +333,25 @@ func TestRandomPortsNeverPanic(t *testing.T) {
 		}
 	}
 }
+
+// The eSNR derived per sample from the BER is, bit for bit, optics.SNRdBFromBER of that sample's
+// BER, whether the value was met before in the port, in another port, or not at all (the
+// inversion is memoised per value and format). BER values of 3 significant digits, as exports
+// write them (common practice), with repeats inside and across ports.
+func TestDerivedESNRIsTheInversionOfEachSample(t *testing.T) {
+	for _, id := range []string{"400g-dp-16qam-cfec", "100g-dp-qpsk"} {
+		p, r := testSetup(t, id)
+		for port := range 3 {
+			s := newSeries(300, 60_000, map[parse.Quantity]func(int) float64{
+				parse.PreFECBER:  func(i int) float64 { return float64(100+(i*7+port*13)%250) * 1e-5 },
+				parse.RxPowerDBm: func(int) float64 { return -6 },
+			})
+			d := derive(s, figuresOf(p).mod, r.SignalLossFloorDBm)
+			for i, b := range s.Values[parse.PreFECBER] {
+				if want := optics.SNRdBFromBER(figuresOf(p).mod, b); math.Float64bits(d.esnr[i]) != math.Float64bits(want) {
+					t.Fatalf("%s port %d sample %d: eSNR %v from BER %v, want %v", id, port, i, d.esnr[i], b, want)
+				}
+			}
+		}
+	}
+}

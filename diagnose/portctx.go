@@ -334,9 +334,15 @@ func derive(s *parse.Series, mod optics.Modulation, lossFloorDBm float64) derive
 		d.esnr = s.Values[parse.ESNRdB]
 	case d.ber != nil && mod.Valid():
 		d.esnr, d.esnrDerived = nanSlice(n), true
+		seen := make(map[float64]float64, 64) // this port's BER values already inverted
 		for i, b := range d.ber {
 			if b > 0 && b < noLockBER {
-				d.esnr[i] = optics.SNRdBFromBER(mod, b)
+				v, ok := seen[b]
+				if !ok {
+					v = esnrOfBER(mod, b)
+					seen[b] = v
+				}
+				d.esnr[i] = v
 			}
 		}
 	}
@@ -359,6 +365,45 @@ func derive(s *parse.Series, mod optics.Modulation, lossFloorDBm float64) derive
 		}
 	}
 	return d
+}
+
+// esnrMemo keeps the eSNR inverted from each pre-FEC BER value met (optics.SNRdBFromBER, a root
+// search of some twenty BER evaluations, each a sum of erfc terms): exports write the BER to a
+// few significant digits, so a fleet's millions of samples repeat a few thousand values (8,120
+// over the 1,008,000 rows of samples/fleetgen's fleet). The same value and format give the same
+// float64, so the memo changes no result.
+var esnrMemo struct {
+	sync.RWMutex
+	m map[esnrKey]float64
+}
+
+type esnrKey struct {
+	mod optics.Modulation
+	ber uint64 // math.Float64bits
+}
+
+// esnrMemoMax bounds the memo (some 2 MB); values met beyond it are inverted each time.
+const esnrMemoMax = 1 << 16
+
+// esnrOfBER is optics.SNRdBFromBER(mod, ber), inverted once per value and format.
+func esnrOfBER(mod optics.Modulation, ber float64) float64 {
+	k := esnrKey{mod, math.Float64bits(ber)}
+	esnrMemo.RLock()
+	v, ok := esnrMemo.m[k]
+	esnrMemo.RUnlock()
+	if ok {
+		return v
+	}
+	v = optics.SNRdBFromBER(mod, ber)
+	esnrMemo.Lock()
+	if esnrMemo.m == nil {
+		esnrMemo.m = map[esnrKey]float64{}
+	}
+	if len(esnrMemo.m) < esnrMemoMax {
+		esnrMemo.m[k] = v
+	}
+	esnrMemo.Unlock()
+	return v
 }
 
 // qdBClamped is Q in dB from BER, with BER 0 (no errors counted) mapped to the Q of BER 1e-15
