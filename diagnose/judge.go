@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"slices"
-	"sync"
 
 	"github.com/beatnote/beatnote/diagnose/optics"
 	"github.com/beatnote/beatnote/diagnose/series"
@@ -161,25 +160,14 @@ func windowMargin(s series.Summary, lo, hi float64, stLo, stHi rules.Statistic) 
 func (pc *portCtx) source(key string) string {
 	s := pc.prof.Sources[key]
 	k := sourceKey{pc.prof.ID, key, s}
-	sourceMemo.Lock()
-	v, ok := sourceMemo.m[k]
-	sourceMemo.Unlock()
-	if ok {
+	if v, ok := sourceMemo.load(k); ok {
 		return v
 	}
+	v := "profile " + pc.prof.ID
 	if s != "" {
-		v = "profile " + pc.prof.ID + ": " + s
-	} else {
-		v = "profile " + pc.prof.ID
+		v += ": " + s
 	}
-	sourceMemo.Lock()
-	if sourceMemo.m == nil {
-		sourceMemo.m = map[sourceKey]string{}
-	}
-	if len(sourceMemo.m) < 16*figureMemoMax {
-		sourceMemo.m[k] = v
-	}
-	sourceMemo.Unlock()
+	sourceMemo.store(k, v)
 	return v
 }
 
@@ -189,10 +177,7 @@ type sourceKey struct{ id, key, src string }
 
 // sourceMemo keeps source's words, one string shared by every port of a profile instead of
 // one made (and held in the result) per row and port. Bounded: profiles come from files.
-var sourceMemo struct {
-	sync.Mutex
-	m map[sourceKey]string
-}
+var sourceMemo = memo[sourceKey, string]{max: 4096}
 
 // notes are "not judged" notes: what a stage could not judge and why. Each stage that has some
 // returns them as part of its value, and analyzePort puts them into the result in stage order.
@@ -383,28 +368,15 @@ func computeMeanDGDCriterion(tol, meanTol, outage float64) meanDGDCriterion {
 
 // meanDGDMemo keeps computeMeanDGDCriterion per (tolerance, mean tolerance, outage
 // probability), by the bits of each: the Maxwellian quantile is a root search. Bounded.
-var meanDGDMemo struct {
-	sync.Mutex
-	m map[[3]uint64]meanDGDCriterion
-}
+var meanDGDMemo = memo[[3]uint64, meanDGDCriterion]{max: 256}
 
 func meanDGDCriterionOf(tol, meanTol, outage float64) meanDGDCriterion {
 	k := [3]uint64{math.Float64bits(tol), math.Float64bits(meanTol), math.Float64bits(outage)}
-	meanDGDMemo.Lock()
-	c, ok := meanDGDMemo.m[k]
-	meanDGDMemo.Unlock()
-	if ok {
+	if c, ok := meanDGDMemo.load(k); ok {
 		return c
 	}
-	c = computeMeanDGDCriterion(tol, meanTol, outage)
-	meanDGDMemo.Lock()
-	if meanDGDMemo.m == nil {
-		meanDGDMemo.m = map[[3]uint64]meanDGDCriterion{}
-	}
-	if len(meanDGDMemo.m) < figureMemoMax {
-		meanDGDMemo.m[k] = c
-	}
-	meanDGDMemo.Unlock()
+	c := computeMeanDGDCriterion(tol, meanTol, outage)
+	meanDGDMemo.store(k, c)
 	return c
 }
 

@@ -106,35 +106,46 @@ type figureKey struct {
 	pols                             int
 }
 
-// figureMemo keeps computeFigures per profile: the root finding behind the eSNR at the FEC
-// threshold would otherwise be paid on every port. Bounded: profiles come from files.
-var figureMemo struct {
-	sync.Mutex
-	m map[figureKey]profileFigures
+// memo is a bounded map shared by the judging goroutines, of values that cost a root search and
+// are fixed by their key: once full, further keys are computed each time.
+type memo[K comparable, V any] struct {
+	mu  sync.RWMutex
+	m   map[K]V
+	max int
 }
 
-const figureMemoMax = 256
+func (c *memo[K, V]) load(k K) (V, bool) {
+	c.mu.RLock()
+	v, ok := c.m[k]
+	c.mu.RUnlock()
+	return v, ok
+}
+
+func (c *memo[K, V]) store(k K, v V) {
+	c.mu.Lock()
+	if c.m == nil {
+		c.m = map[K]V{}
+	}
+	if len(c.m) < c.max {
+		c.m[k] = v
+	}
+	c.mu.Unlock()
+}
+
+// figureMemo keeps computeFigures per profile: the root finding behind the eSNR at the FEC
+// threshold would otherwise be paid on every port. Bounded: profiles come from files.
+var figureMemo = memo[figureKey, profileFigures]{max: 256}
 
 // figuresOf is computeFigures(prof), computed once per profile.
 func figuresOf(prof rules.Profile) profileFigures {
 	k := figureKey{prof.Modulation, math.Float64bits(prof.FECThresholdBER), math.Float64bits(prof.BackToBackSNRdB),
 		math.Float64bits(prof.ImplementationPenaltyDB), math.Float64bits(prof.RequiredOSNRdB), math.Float64bits(prof.BaudGBd),
 		prof.PolarizationCount()}
-	figureMemo.Lock()
-	f, ok := figureMemo.m[k]
-	figureMemo.Unlock()
-	if ok {
+	if f, ok := figureMemo.load(k); ok {
 		return f
 	}
-	f = computeFigures(prof)
-	figureMemo.Lock()
-	if figureMemo.m == nil {
-		figureMemo.m = map[figureKey]profileFigures{}
-	}
-	if len(figureMemo.m) < figureMemoMax {
-		figureMemo.m[k] = f
-	}
-	figureMemo.Unlock()
+	f := computeFigures(prof)
+	figureMemo.store(k, f)
 	return f
 }
 
@@ -372,37 +383,21 @@ func derive(s *parse.Series, mod optics.Modulation, lossFloorDBm float64) derive
 // few significant digits, so a fleet's millions of samples repeat a few thousand values (8,120
 // over the 1,008,000 rows of samples/fleetgen's fleet). The same value and format give the same
 // float64, so the memo changes no result.
-var esnrMemo struct {
-	sync.RWMutex
-	m map[esnrKey]float64
-}
+var esnrMemo = memo[esnrKey, float64]{max: 1 << 16} // some 2 MB at most
 
 type esnrKey struct {
 	mod optics.Modulation
 	ber uint64 // math.Float64bits
 }
 
-// esnrMemoMax bounds the memo (some 2 MB); values met beyond it are inverted each time.
-const esnrMemoMax = 1 << 16
-
 // esnrOfBER is optics.SNRdBFromBER(mod, ber), inverted once per value and format.
 func esnrOfBER(mod optics.Modulation, ber float64) float64 {
 	k := esnrKey{mod, math.Float64bits(ber)}
-	esnrMemo.RLock()
-	v, ok := esnrMemo.m[k]
-	esnrMemo.RUnlock()
-	if ok {
+	if v, ok := esnrMemo.load(k); ok {
 		return v
 	}
-	v = optics.SNRdBFromBER(mod, ber)
-	esnrMemo.Lock()
-	if esnrMemo.m == nil {
-		esnrMemo.m = map[esnrKey]float64{}
-	}
-	if len(esnrMemo.m) < esnrMemoMax {
-		esnrMemo.m[k] = v
-	}
-	esnrMemo.Unlock()
+	v := optics.SNRdBFromBER(mod, ber)
+	esnrMemo.store(k, v)
 	return v
 }
 

@@ -289,16 +289,10 @@ type lnPriors struct {
 }
 
 // lnPriorMemo keeps lnPriors per rules' priors (read by reflection, so not per port). Bounded.
-var lnPriorMemo struct {
-	sync.Mutex
-	m map[rules.Priors]*lnPriors
-}
+var lnPriorMemo = memo[rules.Priors, *lnPriors]{max: 256}
 
 func lnPriorsOf(p rules.Priors) *lnPriors {
-	lnPriorMemo.Lock()
-	l := lnPriorMemo.m[p]
-	lnPriorMemo.Unlock()
-	if l != nil {
+	if l, ok := lnPriorMemo.load(p); ok {
 		return l
 	}
 	ln := func(id CauseID) float64 {
@@ -307,18 +301,11 @@ func lnPriorsOf(p rules.Priors) *lnPriors {
 		}
 		return math.Log(unknownPrior)
 	}
-	l = &lnPriors{healthy: ln(HypHealthy), unexplained: ln(HypUnexplained)}
+	l := &lnPriors{healthy: ln(HypHealthy), unexplained: ln(HypUnexplained)}
 	for i, id := range AllCauses {
 		l.causes[i] = ln(id)
 	}
-	lnPriorMemo.Lock()
-	if lnPriorMemo.m == nil {
-		lnPriorMemo.m = map[rules.Priors]*lnPriors{}
-	}
-	if len(lnPriorMemo.m) < figureMemoMax {
-		lnPriorMemo.m[p] = l
-	}
-	lnPriorMemo.Unlock()
+	lnPriorMemo.store(p, l)
 	return l
 }
 
