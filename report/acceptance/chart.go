@@ -6,6 +6,7 @@ import (
 	"github.com/beatnote/beatnote/report/words"
 	"image/color"
 	"math"
+	"slices"
 	"time"
 
 	"gonum.org/v1/plot"
@@ -196,17 +197,31 @@ func newTimePlot(title, yLabel string, spanMs int64) *plot.Plot {
 	p.Y.Label.Text = yLabel
 	p.X.Label.Text = "time (UTC)"
 	format := "15:04"
-	if spanMs > 20*3600*1000 {
+	switch {
+	case spanMs > 60*86400*1000:
+		format = "2006-01-02"
+	case spanMs > 20*3600*1000:
 		format = "Jan 02 15:04"
 	}
 	p.X.Tick.Marker = timeTicker{format: format}
 	return p
 }
 
+// chartBuckets is how many equal slices of time a long trace is drawn from: about one a pixel
+// column of the plotting area (a chart is 180 mm wide at 150 dpi, 1,063 pixels).
+const chartBuckets = 1024
+
 // addSeries draws a telemetry trace, broken wherever the samples stop for more than three
-// typical intervals, so that a gap in the log is not drawn as data.
+// typical intervals, so that a gap in the log is not drawn as data. A stretch of more than four
+// samples per bucket (a year of one-minute samples, say) is drawn from the first, smallest,
+// largest and last sample of each bucket (m4), which rasterizes to nearly the same pixels as
+// every sample and keeps every excursion; drawn whole, a year took minutes to rasterize.
 func addSeries(p *plot.Plot, ts []int64, vs []float64, label string) error {
+	if len(ts) == 0 {
+		return nil
+	}
 	gap := 3 * max(series.MedianStepMs(ts), 1)
+	t0, span := ts[0], max(ts[len(ts)-1]-ts[0], 1)
 	start := 0
 	for i := 1; i <= len(ts); i++ {
 		if i < len(ts) && ts[i]-ts[i-1] <= gap {
@@ -216,7 +231,16 @@ func addSeries(p *plot.Plot, ts []int64, vs []float64, label string) error {
 		if start == 0 {
 			l = label
 		}
-		xy := timeXY(ts[start:i], vs[start:i])
+		segT, segV := ts[start:i], vs[start:i]
+		chunk := len(segT)
+		if len(segT) > 4*chartBuckets {
+			// Stroked as lines of 64 points (sharing their ends): the rasterizer's cost grows
+			// with the square of the cells one stroke puts on a pixel row, and an m4 trace puts
+			// one or more in every column.
+			segT, segV = m4(segT, segV, t0, span, chartBuckets)
+			chunk = 64
+		}
+		xy := timeXY(segT, segV)
 		if len(xy) == 1 { // a lone sample between gaps: draw it as a dot
 			sc, err := plotter.NewScatter(xy)
 			if err != nil {
@@ -224,19 +248,24 @@ func addSeries(p *plot.Plot, ts []int64, vs []float64, label string) error {
 			}
 			sc.GlyphStyle.Color, sc.GlyphStyle.Radius, sc.GlyphStyle.Shape = colData, vg.Points(1.2), draw.CircleGlyph{}
 			p.Add(sc)
-		} else if err := addLine(p, xy, colData, vg.Points(1), nil, l); err != nil {
-			return err
+		}
+		for c := 0; c < len(xy)-1; c += chunk {
+			if err := addLine(p, xy[c:min(c+chunk+1, len(xy))], colData, vg.Points(1), nil, l); err != nil {
+				return err
+			}
+			l = ""
 		}
 		start = i
 	}
 	return nil
 }
 
-// timeTicker puts ticks on round UTC times: a step from one minute to a week chosen to give
-// four to eight major ticks.
+// timeTicker puts ticks on round UTC times: a step from one minute to a year (of 365 days)
+// chosen to give four to eight major ticks.
 type timeTicker struct{ format string }
 
-var tickStepsS = []int64{60, 120, 300, 600, 900, 1800, 3600, 7200, 10800, 21600, 43200, 86400, 172800, 604800}
+var tickStepsS = []int64{60, 120, 300, 600, 900, 1800, 3600, 7200, 10800, 21600, 43200, 86400, 172800, 604800,
+	14 * 86400, 28 * 86400, 91 * 86400, 182 * 86400, 365 * 86400}
 
 // Ticks implements plot.Ticker.
 func (tt timeTicker) Ticks(min, max float64) []plot.Tick {
@@ -262,6 +291,37 @@ func (tt timeTicker) Ticks(min, max float64) []plot.Tick {
 		ticks = append(ticks, tk)
 	}
 	return ticks
+}
+
+// m4 keeps, of the samples in each of n equal slices of the time span [t0, t0+span], the first,
+// the smallest, the largest and the last, in time order: the M4 aggregation of Jugel, Jerzak,
+// Hackenbroich and Markl, "M4: A Visualization-Oriented Time Series Data Aggregation", PVLDB
+// 7(10), 2014, which draws the same line pixels as all samples when a slice is one pixel column.
+func m4(ts []int64, vs []float64, t0, span int64, n int) ([]int64, []float64) {
+	ot, ov := make([]int64, 0, 4*n), make([]float64, 0, 4*n)
+	bucket := func(t int64) int64 { return min((t-t0)*int64(n)/span, int64(n-1)) }
+	for i := 0; i < len(ts); {
+		b := bucket(ts[i])
+		j, lo, hi := i, i, i
+		for j < len(ts) && bucket(ts[j]) == b {
+			if vs[j] < vs[lo] {
+				lo = j
+			}
+			if vs[j] > vs[hi] {
+				hi = j
+			}
+			j++
+		}
+		keep := [4]int{i, lo, hi, j - 1}
+		slices.Sort(keep[:])
+		for k, x := range keep {
+			if k == 0 || x != keep[k-1] {
+				ot, ov = append(ot, ts[x]), append(ov, vs[x])
+			}
+		}
+		i = j
+	}
+	return ot, ov
 }
 
 func timeXY(ts []int64, vs []float64) plotter.XYs {

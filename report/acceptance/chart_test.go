@@ -140,3 +140,57 @@ func TestChartTextIsOneVisibleLine(t *testing.T) {
 		}
 	}
 }
+
+// m4 keeps, per slice of time, the first, smallest, largest and last sample in time order
+// (Jugel et al., "M4: A Visualization-Oriented Time Series Data Aggregation", PVLDB 7(10), 2014):
+// a one-sample spike and a one-sample dip in a year of one-minute samples both survive, the
+// trace's ends are kept, and no slice gives more than four points.
+func TestM4KeepsEveryExcursion(t *testing.T) {
+	const n = 525_600
+	ts, vs := make([]int64, n), make([]float64, n)
+	for i := range ts {
+		ts[i] = int64(i) * 60_000
+		vs[i] = float64(i%7) * 0.01 // a small saw
+	}
+	vs[123_457], vs[400_001] = 30, -30
+	ot, ov := m4(ts, vs, ts[0], ts[n-1]-ts[0], chartBuckets)
+	if len(ot) > 4*chartBuckets || len(ot) < 2*chartBuckets {
+		t.Fatalf("%d points for %d slices", len(ot), chartBuckets)
+	}
+	if ot[0] != ts[0] || ot[len(ot)-1] != ts[n-1] || ov[0] != vs[0] || ov[len(ov)-1] != vs[n-1] {
+		t.Errorf("ends not kept: %d %v … %d %v", ot[0], ov[0], ot[len(ot)-1], ov[len(ov)-1])
+	}
+	lo, hi := minMax(ov)
+	if lo != -30 || hi != 30 {
+		t.Errorf("range drawn %v…%v, want the dip -30 and the spike 30", lo, hi)
+	}
+	for i := 1; i < len(ot); i++ {
+		if ot[i] <= ot[i-1] {
+			t.Fatalf("point %d at %d after %d: not in time order", i, ot[i], ot[i-1])
+		}
+	}
+	for i, x := range ot { // every point kept is a sample, with its own value
+		if k := x / 60_000; vs[k] != ov[i] {
+			t.Fatalf("point %d (%d ms) drawn at %v, the sample is %v", i, x, ov[i], vs[k])
+		}
+	}
+}
+
+// A year of one-minute samples drawn as one chart (the acceptance report of a year-long log).
+func BenchmarkChartYearTrace(b *testing.B) {
+	const n = 525_600
+	ts, vs := make([]int64, n), make([]float64, n)
+	for i := range ts {
+		ts[i] = int64(i) * 60_000
+		vs[i] = float64((i*7919)%1000) / 100 // a noisy trace over the whole height
+	}
+	for b.Loop() {
+		p := newTimePlot("t", "y", ts[n-1])
+		if err := addSeries(p, ts, vs, "y"); err != nil {
+			b.Fatal(err)
+		}
+		if _, err := (&Report{}).renderChart(p, "t", ""); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
