@@ -165,6 +165,19 @@ type Dataset struct {
 	Continued bool
 }
 
+// JoinAccounting adds the accounting of next, a Dataset ReadEach handed over after those joined
+// into d so far, to d: its inputs (a Continued one replacing d's last), its rejections (while d
+// keeps fewer than MaxRejectionsKept) and its skipped files. Series are the caller's to keep
+// or drop.
+func (d *Dataset) JoinAccounting(next *Dataset) {
+	if next.Continued && len(d.Inputs) > 0 {
+		d.Inputs = d.Inputs[:len(d.Inputs)-1]
+	}
+	d.Inputs = append(d.Inputs, next.Inputs...)
+	d.Rejected = append(d.Rejected, next.Rejected[:min(len(next.Rejected), max(MaxRejectionsKept-len(d.Rejected), 0))]...)
+	d.Skipped = append(d.Skipped, next.Skipped...)
+}
+
 // Skip is a file found in a folder that was not taken as telemetry, and why.
 type Skip struct {
 	File   string `json:"file"`

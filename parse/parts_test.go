@@ -58,8 +58,8 @@ func jsonLinesOf(csv string, skip int) string {
 	return b.String()
 }
 
-// readParts reads paths with ReadEach in parts and joins what it hands over as the caller of
-// parts does: a Continued Dataset's accounting replaces the last input's. It returns the joined
+// readParts reads paths with ReadEach in parts and joins what it hands over as triage does
+// (Dataset.JoinAccounting: a Continued Dataset's accounting replaces the last input's). It returns the joined
 // Dataset, the error handed over with each Dataset, and ReadEach's error.
 func readParts(t *testing.T, paths []string, opt Options) (*Dataset, []error, error) {
 	t.Helper()
@@ -67,13 +67,8 @@ func readParts(t *testing.T, paths []string, opt Options) (*Dataset, []error, er
 	all := &Dataset{}
 	var errs []error
 	err := ReadEach(paths, opt, 0, func(ds *Dataset, err error) error {
-		if ds.Continued {
-			all.Inputs = all.Inputs[:len(all.Inputs)-1]
-		}
-		all.Inputs = append(all.Inputs, ds.Inputs...)
+		all.JoinAccounting(ds)
 		all.Series = append(all.Series, ds.Series...)
-		all.Rejected = append(all.Rejected, ds.Rejected...)
-		all.Skipped = append(all.Skipped, ds.Skipped...)
 		errs = append(errs, err)
 		return nil
 	})
@@ -321,13 +316,8 @@ func TestReadInPartsFolder(t *testing.T) {
 		progress := func(done, total int64) { read, size = done, total }
 		err := ReadEach([]string{dir}, Options{PortParts: true, Progress: progress}, batch, func(ds *Dataset, err error) error {
 			n++
-			if ds.Continued {
-				got.Inputs = got.Inputs[:len(got.Inputs)-1]
-			}
-			got.Inputs = append(got.Inputs, ds.Inputs...)
+			got.JoinAccounting(ds)
 			got.Series = append(got.Series, ds.Series...)
-			got.Rejected = append(got.Rejected, ds.Rejected...)
-			got.Skipped = append(got.Skipped, ds.Skipped...)
 			if fmt.Sprint(err) != fmt.Sprint(wantErr) && err != nil {
 				t.Errorf("batch %d: error %v", batch, err)
 			}

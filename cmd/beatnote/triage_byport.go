@@ -72,17 +72,10 @@ func (c *TriageCmd) byPort(pr *printer) (*judged, error) {
 			setups[i] = ps.add(s)
 		}
 		first = false
-		if ds.Continued { // a part of a large input: its accounting so far replaces the last
-			all.Inputs = all.Inputs[:len(all.Inputs)-1]
+		if ds.Continued { // a part of a large input
 			byPortParts.Add(1)
 		}
-		all.Inputs = append(all.Inputs, ds.Inputs...)
-		for _, r := range ds.Rejected {
-			if len(all.Rejected) < parse.MaxRejectionsKept {
-				all.Rejected = append(all.Rejected, r)
-			}
-		}
-		all.Skipped = append(all.Skipped, ds.Skipped...)
+		all.JoinAccounting(ds)
 		from := len(ports)
 		ports = append(ports, make([]triagePort, len(ds.Series))...)
 		err := judge.Each(ds.Series, setups, func(i int, p *diagnose.PortResult) { ports[from+i] = t.take(p) })
